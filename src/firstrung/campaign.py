@@ -1,0 +1,670 @@
+"""The campaign file: sites, their gnomons, surveyed baselines and where the logs are.
+
+A campaign is one TOML file (see the design's "Files" contract)::
+
+    [campaign]
+    name = "Autumn shadow exchange"
+
+    [[site]]
+    id = "ridge"
+    name = "Ridge outreach dome"
+    latitude_deg = 46.2
+    longitude_deg = 7.4
+    elevation_m = 620
+    timezone = "Europe/Zurich"
+
+    [site.gnomon]
+    height_m = 1.0
+
+    [logs]
+    shadows = ["logs/shadows.csv"]
+
+:func:`read_campaign` reads and checks it. Every problem is one
+:class:`~firstrung.errors.InputError` whose text names the file and the TOML
+key, e.g. ``campaign.toml:site[2].latitude_deg: expected ...``. Sites and
+baselines are counted from 1 in these keys, in the order of the file.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from zoneinfo import ZoneInfo
+
+from .errors import InputError
+from .times import check_zone
+
+__all__ = [
+    "DEFAULT_HEIGHT_SIGMA_M",
+    "DEFAULT_SHADOW_SIGMA_M",
+    "EDGES",
+    "LOG_KINDS",
+    "Baseline",
+    "Campaign",
+    "EclipseSettings",
+    "Gnomon",
+    "Site",
+    "parse_campaign",
+    "read_campaign",
+]
+
+#: Reading error of the gnomon's height when the campaign does not give one [m].
+DEFAULT_HEIGHT_SIGMA_M = 0.001
+#: Reading error of one shadow length when the campaign does not give one [m].
+DEFAULT_SHADOW_SIGMA_M = 0.002
+#: Which tip of the shadow is marked: the sharp umbra edge (the Sun's upper
+#: limb), the middle of the penumbra (the Sun's centre) or the faint outer edge
+#: (the Sun's lower limb).
+EDGES = ("umbra", "middle", "outer")
+#: The kinds of log a campaign lists under ``[logs]``.
+LOG_KINDS = ("shadows", "eclipse", "phases")
+
+#: Site ids: letters, digits, ``-`` and ``_``.
+SITE_ID_PATTERN = re.compile(r"^[A-Za-z0-9_-]+$")
+
+#: Lowest and highest accepted site elevation [m]: the Dead Sea shore to above Everest's summit.
+ELEVATION_RANGE_M = (-500.0, 9000.0)
+#: Gnomon heights must be below this [m].
+GNOMON_HEIGHT_LIMIT_M = 100.0
+
+_TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse")
+_CAMPAIGN_KEYS = ("name",)
+_SITE_KEYS = ("id", "name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "gnomon")
+_GNOMON_KEYS = ("height_m", "height_sigma_m", "shadow_sigma_m", "edge")
+_BASELINE_KEYS = ("sites", "distance_km", "sigma_km", "bearing_deg")
+_ECLIPSE_KEYS = (
+    "moon_diameter_arcmin",
+    "moon_diameter_sigma_arcmin",
+    "moon_rate_deg_per_h",
+    "moon_rate_sigma_deg_per_h",
+    "moon_sky_rate_deg_per_h",
+    "moon_sky_rate_sigma_deg_per_h",
+)
+
+_TOML_POSITION_RE = re.compile(r"^(?P<message>.*?)\s*\(at line (?P<line>\d+), column (?P<column>\d+)\)$")
+
+
+@dataclass(frozen=True)
+class Gnomon:
+    """A vertical gnomon: its height above the shadow plane and how it is read.
+
+    Parameters
+    ----------
+    height_m : float
+        Vertical height of the tip above the plane the shadow falls on [m].
+    height_sigma_m : float
+        One-sigma error of that height [m].
+    shadow_sigma_m : float
+        One-sigma reading error of one shadow length [m].
+    edge : str
+        Which tip of the shadow is marked: ``"umbra"``, ``"middle"`` or ``"outer"``.
+    """
+
+    height_m: float
+    height_sigma_m: float = DEFAULT_HEIGHT_SIGMA_M
+    shadow_sigma_m: float = DEFAULT_SHADOW_SIGMA_M
+    edge: str = "umbra"
+
+
+@dataclass(frozen=True)
+class Site:
+    """One observing site of a campaign.
+
+    Parameters
+    ----------
+    id : str
+        Short id used in the logs (letters, digits, ``-``, ``_``).
+    name : str
+        Free text shown in reports (the id when the file gives none).
+    latitude_deg : float
+        Geodetic WGS84 latitude, + north [deg].
+    longitude_deg : float
+        Longitude, + east [deg].
+    elevation_m : float
+        Height above the ellipsoid or sea level [m] (0 when not given).
+    timezone : str or None
+        IANA zone of the site's clocks; without it, local times are refused.
+    gnomon : Gnomon or None
+        The site's gnomon, when it does shadow work.
+    """
+
+    id: str
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float = 0.0
+    timezone: str | None = None
+    gnomon: Gnomon | None = None
+
+    @property
+    def zone(self) -> ZoneInfo | None:
+        """The site's time zone, or ``None`` when the campaign gives none."""
+        return None if self.timezone is None else check_zone(self.timezone)
+
+
+@dataclass(frozen=True)
+class Baseline:
+    """A surveyed distance between two sites that replaces the map distance.
+
+    Parameters
+    ----------
+    sites : tuple of str
+        The two site ids.
+    distance_km : float
+        The distance between them [km].
+    sigma_km : float
+        Its one-sigma uncertainty [km].
+    bearing_deg : float or None
+        Bearing from the first site to the second, from north through east
+        [deg], when known; the north-south component is then used.
+    """
+
+    sites: tuple[str, str]
+    distance_km: float
+    sigma_km: float
+    bearing_deg: float | None = None
+
+
+@dataclass(frozen=True)
+class EclipseSettings:
+    """Observer-measured Moon data for the purely observational eclipse reduction.
+
+    Every field is ``None`` when the campaign does not give it; the ephemeris
+    then supplies the value.
+
+    Parameters
+    ----------
+    moon_diameter_arcmin, moon_diameter_sigma_arcmin : float or None
+        The Moon's apparent diameter and its one-sigma error [arcmin].
+    moon_rate_deg_per_h, moon_rate_sigma_deg_per_h : float or None
+        The Moon's angular rate relative to the Earth's shadow, and its
+        error [deg/h].
+    moon_sky_rate_deg_per_h, moon_sky_rate_sigma_deg_per_h : float or None
+        The Moon's angular rate against the stars, and its error [deg/h].
+    """
+
+    moon_diameter_arcmin: float | None = None
+    moon_diameter_sigma_arcmin: float | None = None
+    moon_rate_deg_per_h: float | None = None
+    moon_rate_sigma_deg_per_h: float | None = None
+    moon_sky_rate_deg_per_h: float | None = None
+    moon_sky_rate_sigma_deg_per_h: float | None = None
+
+
+def _empty_logs() -> dict[str, tuple[Path, ...]]:
+    return {kind: () for kind in LOG_KINDS}
+
+
+@dataclass(frozen=True)
+class Campaign:
+    """A measurement campaign as read from its TOML file.
+
+    Parameters
+    ----------
+    name : str
+        The campaign's name (the file's stem when ``[campaign] name`` is absent).
+    path : pathlib.Path or None
+        The campaign file, as given; ``None`` when parsed from text.
+    sites : tuple of Site
+        In the order of the file.
+    baselines : tuple of Baseline
+        Surveyed distances.
+    logs : dict of str to tuple of pathlib.Path
+        Log files by kind (``"shadows"``, ``"eclipse"``, ``"phases"``; every
+        key present), joined to the campaign file's folder.
+    eclipse : EclipseSettings
+        Observer-measured Moon data.
+    """
+
+    name: str
+    path: Path | None = None
+    sites: tuple[Site, ...] = ()
+    baselines: tuple[Baseline, ...] = ()
+    logs: dict[str, tuple[Path, ...]] = field(default_factory=_empty_logs)
+    eclipse: EclipseSettings = field(default_factory=EclipseSettings)
+
+    @property
+    def site_ids(self) -> tuple[str, ...]:
+        """The site ids, in the order of the file."""
+        return tuple(site.id for site in self.sites)
+
+    @property
+    def folder(self) -> Path:
+        """The folder log paths are relative to (the current one when parsed from text)."""
+        return Path(".") if self.path is None else self.path.parent
+
+    def site(self, site_id: str) -> Site:
+        """Return the site with that id.
+
+        Raises
+        ------
+        InputError
+            When the campaign has no such site.
+        """
+        for site in self.sites:
+            if site.id == site_id:
+                return site
+        raise InputError(f"unknown site {site_id!r} (known: {', '.join(self.site_ids)})")
+
+    def baseline(self, site_a: str, site_b: str) -> Baseline | None:
+        """The surveyed baseline between two sites (in either order), or ``None``."""
+        wanted = {site_a, site_b}
+        for baseline in self.baselines:
+            if set(baseline.sites) == wanted:
+                return baseline
+        return None
+
+
+# --- reading -----------------------------------------------------------------
+
+
+def read_campaign(path: str | os.PathLike[str]) -> Campaign:
+    """Read and check a campaign file.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The campaign's TOML file (UTF-8; a BOM is accepted).
+
+    Returns
+    -------
+    Campaign
+        With log paths joined to the file's folder. Log files are not opened
+        here; a missing one is reported when the logs are read.
+
+    Raises
+    ------
+    InputError
+        When the file is missing or unreadable, is not TOML, or breaks a rule
+        of the campaign format; one line naming the file and the key.
+    """
+    label = os.fspath(path)
+    file_path = Path(path)
+    try:
+        data = file_path.read_bytes()
+    except FileNotFoundError:
+        raise InputError("no such file", file=label) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, expected a campaign file (TOML)", file=label) from None
+    except OSError as error:
+        raise InputError(f"cannot read the file: {error.strerror}", file=label) from None
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as error:
+        raise InputError(
+            f"not UTF-8 text (byte 0x{data[error.start]:02x} at offset {error.start}); "
+            "save the campaign file as UTF-8",
+            file=label,
+        ) from None
+    return parse_campaign(text, path=file_path)
+
+
+def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> Campaign:
+    """Check the text of a campaign file.
+
+    Parameters
+    ----------
+    text : str
+        The TOML text.
+    path : str or path-like, optional
+        Where the text came from: names the file in messages, gives the
+        default campaign name (its stem) and the folder log paths are
+        relative to. Without it, messages say ``<campaign>``, the default
+        name is ``campaign`` and log paths stay as written.
+
+    Returns
+    -------
+    Campaign
+
+    Raises
+    ------
+    InputError
+        One line naming the file and the TOML key at fault.
+
+    Examples
+    --------
+    >>> c = parse_campaign('''
+    ... [[site]]
+    ... id = "ridge"
+    ... latitude_deg = 46.2
+    ... longitude_deg = 7.4
+    ... ''')
+    >>> c.name, c.site_ids
+    ('campaign', ('ridge',))
+    """
+    label = "<campaign>" if path is None else os.fspath(path)
+    file_path = None if path is None else Path(path)
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise _syntax_error(error, label) from None
+    reader = _Reader(label)
+    for key in document:
+        if key not in _TOP_LEVEL_KEYS:
+            raise reader.unknown(key, key, _TOP_LEVEL_KEYS, what="table")
+
+    default_name = "campaign" if file_path is None else file_path.stem
+    name = reader.campaign_name(document.get("campaign"), default_name)
+    sites = reader.sites(document.get("site"))
+    baselines = reader.baselines(document.get("baseline"), sites)
+    folder = Path(".") if file_path is None else file_path.parent
+    logs = reader.logs(document.get("logs"), folder if file_path is not None else None)
+    eclipse = reader.eclipse(document.get("eclipse"))
+    return Campaign(
+        name=name,
+        path=file_path,
+        sites=sites,
+        baselines=baselines,
+        logs=logs,
+        eclipse=eclipse,
+    )
+
+
+def _syntax_error(error: tomllib.TOMLDecodeError, label: str) -> InputError:
+    """An InputError ``file:line:column: TOML syntax error: ...`` from tomllib's error."""
+    message = str(error)
+    match = _TOML_POSITION_RE.match(message)
+    if match is None:
+        return InputError(f"TOML syntax error: {message}", file=label)
+    return InputError(
+        f"TOML syntax error: {match['message']}",
+        file=label,
+        row=int(match["line"]),
+        column=match["column"],
+    )
+
+
+def _show(value: object) -> str:
+    """A TOML value as it would be written, for messages."""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return repr(value)
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list):
+        return "a list"
+    return str(value)
+
+
+class _Reader:
+    """Checks the parts of a parsed campaign document; raises on the first problem."""
+
+    def __init__(self, label: str) -> None:
+        self.label = label
+
+    # --- generic checks ---------------------------------------------------------
+
+    def error(self, key: str | None, message: str) -> InputError:
+        return InputError(message, file=self.label, column=key)
+
+    def unknown(
+        self, key: str, shown: str, allowed: tuple[str, ...], *, what: str = "key"
+    ) -> InputError:
+        return self.error(shown, f"unknown {what} {key!r} (allowed: {', '.join(allowed)})")
+
+    def table(self, value: object, key: str, how: str) -> dict:
+        if not isinstance(value, dict):
+            raise self.error(key, f"expected a table written as {how}, got {_show(value)}")
+        return value
+
+    def check_keys(self, table: dict, prefix: str, allowed: tuple[str, ...]) -> None:
+        for key in table:
+            if key not in allowed:
+                raise self.unknown(key, f"{prefix}.{key}", allowed)
+
+    def number(self, table: dict, prefix: str, key: str, expected: str, ok=None) -> float | None:
+        """A finite TOML int or float (not a boolean), or ``None`` when absent."""
+        if key not in table:
+            return None
+        value = table[key]
+        where = f"{prefix}.{key}"
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise self.error(where, f"expected {expected}, got {_show(value)}")
+        number = float(value)
+        if not math.isfinite(number) or (ok is not None and not ok(number)):
+            raise self.error(where, f"expected {expected}, got {_show(value)}")
+        return number
+
+    def required_number(self, table: dict, prefix: str, key: str, expected: str, ok=None) -> float:
+        number = self.number(table, prefix, key, expected, ok)
+        if number is None:
+            raise self.error(f"{prefix}.{key}", f"missing; expected {expected}")
+        return number
+
+    def text(self, table: dict, prefix: str, key: str, expected: str) -> str | None:
+        if key not in table:
+            return None
+        value = table[key]
+        if not isinstance(value, str) or not value.strip():
+            raise self.error(f"{prefix}.{key}", f"expected {expected}, got {_show(value)}")
+        return value
+
+    # --- the parts ----------------------------------------------------------------
+
+    def campaign_name(self, value: object, default: str) -> str:
+        if value is None:
+            return default
+        table = self.table(value, "campaign", "[campaign]")
+        self.check_keys(table, "campaign", _CAMPAIGN_KEYS)
+        name = self.text(table, "campaign", "name", "the campaign's name as text")
+        return default if name is None else name.strip()
+
+    def sites(self, value: object) -> tuple[Site, ...]:
+        if value is None:
+            raise self.error(
+                None, "no [[site]] table; a campaign needs at least one site (id, latitude_deg, "
+                "longitude_deg)"
+            )
+        if not isinstance(value, list):
+            raise self.error("site", "expected sites written as [[site]] (an array of tables)")
+        sites: list[Site] = []
+        first_use: dict[str, str] = {}
+        for number, entry in enumerate(value, start=1):
+            prefix = f"site[{number}]"
+            site = self.site(entry, prefix)
+            if site.id in first_use:
+                raise self.error(
+                    f"{prefix}.id",
+                    f"duplicate site id {site.id!r} (already used by {first_use[site.id]})",
+                )
+            first_use[site.id] = prefix
+            sites.append(site)
+        return tuple(sites)
+
+    def site(self, value: object, prefix: str) -> Site:
+        table = self.table(value, prefix, "[[site]]")
+        self.check_keys(table, prefix, _SITE_KEYS)
+        if "id" not in table:
+            raise self.error(f"{prefix}.id", "missing; expected a short site id such as 'ridge'")
+        site_id = table["id"]
+        if not isinstance(site_id, str) or not SITE_ID_PATTERN.match(site_id):
+            raise self.error(
+                f"{prefix}.id",
+                f"expected a site id of letters, digits, '-' and '_', got {_show(site_id)}",
+            )
+        name = self.text(table, prefix, "name", "the site's name as text")
+        latitude_deg = self.required_number(
+            table, prefix, "latitude_deg",
+            "a latitude between -90 and 90 degrees (+ north)", lambda x: -90.0 <= x <= 90.0,
+        )
+        longitude_deg = self.required_number(
+            table, prefix, "longitude_deg",
+            "a longitude between -180 and 180 degrees (+ east)", lambda x: -180.0 <= x <= 180.0,
+        )
+        low_m, high_m = ELEVATION_RANGE_M
+        elevation_m = self.number(
+            table, prefix, "elevation_m",
+            f"an elevation between {low_m:g} and {high_m:g} m", lambda x: low_m <= x <= high_m,
+        )
+        timezone = None
+        if "timezone" in table:
+            try:
+                timezone = check_zone(table["timezone"]).key
+            except InputError as error:
+                raise self.error(f"{prefix}.timezone", error.message) from None
+        gnomon = None
+        if "gnomon" in table:
+            gnomon = self.gnomon(table["gnomon"], f"{prefix}.gnomon")
+        return Site(
+            id=site_id,
+            name=site_id if name is None else name,
+            latitude_deg=latitude_deg,
+            longitude_deg=longitude_deg,
+            elevation_m=0.0 if elevation_m is None else elevation_m,
+            timezone=timezone,
+            gnomon=gnomon,
+        )
+
+    def gnomon(self, value: object, prefix: str) -> Gnomon:
+        table = self.table(value, prefix, "[site.gnomon]")
+        self.check_keys(table, prefix, _GNOMON_KEYS)
+        limit = GNOMON_HEIGHT_LIMIT_M
+        height_m = self.required_number(
+            table, prefix, "height_m",
+            f"a gnomon height above 0 and below {limit:g} m", lambda x: 0.0 < x < limit,
+        )
+        height_sigma_m = self.number(
+            table, prefix, "height_sigma_m", "a non-negative number of metres", lambda x: x >= 0.0
+        )
+        shadow_sigma_m = self.number(
+            table, prefix, "shadow_sigma_m", "a non-negative number of metres", lambda x: x >= 0.0
+        )
+        edge = "umbra"
+        if "edge" in table:
+            raw = table["edge"]
+            edge = raw.strip().lower() if isinstance(raw, str) else ""
+            if edge not in EDGES:
+                raise self.error(
+                    f"{prefix}.edge", f"expected 'umbra', 'middle' or 'outer', got {_show(raw)}"
+                )
+        return Gnomon(
+            height_m=height_m,
+            height_sigma_m=DEFAULT_HEIGHT_SIGMA_M if height_sigma_m is None else height_sigma_m,
+            shadow_sigma_m=DEFAULT_SHADOW_SIGMA_M if shadow_sigma_m is None else shadow_sigma_m,
+            edge=edge,
+        )
+
+    def baselines(self, value: object, sites: tuple[Site, ...]) -> tuple[Baseline, ...]:
+        if value is None:
+            return ()
+        if not isinstance(value, list):
+            raise self.error(
+                "baseline", "expected baselines written as [[baseline]] (an array of tables)"
+            )
+        known = tuple(site.id for site in sites)
+        baselines: list[Baseline] = []
+        first_use: dict[frozenset[str], str] = {}
+        for number, entry in enumerate(value, start=1):
+            prefix = f"baseline[{number}]"
+            baseline = self.baseline(entry, prefix, known)
+            pair = frozenset(baseline.sites)
+            if pair in first_use:
+                raise self.error(
+                    f"{prefix}.sites",
+                    f"sites {baseline.sites[0]!r} and {baseline.sites[1]!r} already have a "
+                    f"baseline ({first_use[pair]})",
+                )
+            first_use[pair] = prefix
+            baselines.append(baseline)
+        return tuple(baselines)
+
+    def baseline(self, value: object, prefix: str, known: tuple[str, ...]) -> Baseline:
+        table = self.table(value, prefix, "[[baseline]]")
+        self.check_keys(table, prefix, _BASELINE_KEYS)
+        where = f"{prefix}.sites"
+        expected = 'two different site ids such as ["ridge", "coast"]'
+        if "sites" not in table:
+            raise self.error(where, f"missing; expected {expected}")
+        pair = table["sites"]
+        if (
+            not isinstance(pair, list)
+            or len(pair) != 2
+            or not all(isinstance(item, str) for item in pair)
+        ):
+            raise self.error(where, f"expected {expected}, got {_show(pair)}")
+        for site_id in pair:
+            if site_id not in known:
+                raise self.error(
+                    where, f"unknown site {site_id!r} (known: {', '.join(known)})"
+                )
+        if pair[0] == pair[1]:
+            raise self.error(where, f"expected {expected}, got {pair[0]!r} twice")
+        distance_km = self.required_number(
+            table, prefix, "distance_km", "a positive distance in km", lambda x: x > 0.0
+        )
+        sigma_km = self.required_number(
+            table, prefix, "sigma_km", "a non-negative uncertainty in km", lambda x: x >= 0.0
+        )
+        bearing_deg = self.number(
+            table, prefix, "bearing_deg",
+            "a bearing from 0 up to (not including) 360 degrees", lambda x: 0.0 <= x < 360.0,
+        )
+        return Baseline(
+            sites=(pair[0], pair[1]),
+            distance_km=distance_km,
+            sigma_km=sigma_km,
+            bearing_deg=bearing_deg,
+        )
+
+    def logs(self, value: object, folder: Path | None) -> dict[str, tuple[Path, ...]]:
+        logs = _empty_logs()
+        if value is None:
+            return logs
+        table = self.table(value, "logs", "[logs]")
+        self.check_keys(table, "logs", LOG_KINDS)
+        for kind, entry in table.items():
+            items = [entry] if isinstance(entry, str) else entry
+            if not isinstance(items, list) or not all(
+                isinstance(item, str) and item.strip() for item in items
+            ):
+                raise self.error(
+                    f"logs.{kind}",
+                    f'expected a list of paths such as ["logs/{kind}.csv"], got {_show(entry)}',
+                )
+            paths = (Path(item) for item in items)
+            logs[kind] = tuple(path if folder is None else folder / path for path in paths)
+        return logs
+
+    def eclipse(self, value: object) -> EclipseSettings:
+        if value is None:
+            return EclipseSettings()
+        table = self.table(value, "eclipse", "[eclipse]")
+        self.check_keys(table, "eclipse", _ECLIPSE_KEYS)
+        numbers = {}
+        for key in _ECLIPSE_KEYS:
+            unit = "arcmin" if key.endswith("_arcmin") else "deg/h"
+            if "_sigma_" in key:
+                numbers[key] = self.number(
+                    table, "eclipse", key, f"a non-negative number in {unit}", lambda x: x >= 0.0
+                )
+            else:
+                numbers[key] = self.number(
+                    table, "eclipse", key, f"a positive number in {unit}", lambda x: x > 0.0
+                )
+        for value_key, sigma_key in (
+            ("moon_diameter_arcmin", "moon_diameter_sigma_arcmin"),
+            ("moon_rate_deg_per_h", "moon_rate_sigma_deg_per_h"),
+            ("moon_sky_rate_deg_per_h", "moon_sky_rate_sigma_deg_per_h"),
+        ):
+            if numbers[sigma_key] is not None and numbers[value_key] is None:
+                raise self.error(
+                    f"eclipse.{sigma_key}", f"given without eclipse.{value_key}"
+                )
+        if numbers["moon_rate_deg_per_h"] is not None and (
+            numbers["moon_sky_rate_deg_per_h"] is not None
+        ):
+            raise self.error(
+                "eclipse.moon_sky_rate_deg_per_h",
+                "give moon_rate_deg_per_h (relative to the Earth's shadow) or "
+                "moon_sky_rate_deg_per_h (against the stars), not both",
+            )
+        return EclipseSettings(**numbers)

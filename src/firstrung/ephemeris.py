@@ -1,0 +1,394 @@
+"""The Sun's apparent place for arrays of sites and times, from DE421, offline.
+
+This is the only module that calls skyfield. The JPL DE421 ephemeris comes
+from the ``skyfield-data`` package and the time scale is skyfield's builtin
+one, so nothing is ever downloaded. Both are loaded once, on first use.
+
+The geocentric apparent Sun (light time, gravitational deflection, annual
+aberration) is computed once per distinct time by skyfield; the step to each
+site (parallax and diurnal aberration) is plain numpy, so the cost grows with
+the number of distinct times, not with sites times times.
+
+Nutation uses the IAU 2000B series, which differs from the full 2000A series
+by at most 0.001" and is about five times faster (McCarthy & Luzum 2003,
+Celest. Mech. 85:37; DESIGN section 7). Polar motion is ignored (0.3" at most).
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from .constants import (
+    ASTRONOMICAL_UNIT_KM,
+    EARTH_ROTATION_RATE_RAD_PER_S,
+    EPHEMERIS_FILE,
+    EPHEMERIS_FIRST_UTC,
+    EPHEMERIS_LAST_UTC,
+    SPEED_OF_LIGHT_KM_PER_S,
+    SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
+)
+from .errors import EphemerisRangeError, InputError
+from .geodesy import geodetic_to_itrs_km
+
+#: Mean rate of the Sun's hour angle [deg per s]: 360 deg per mean solar day.
+_MEAN_SOLAR_RATE_DEG_PER_S = 360.0 / 86400.0
+#: Step of the central difference that gives the rates of hour angle and declination [s].
+_RATE_STEP_S = 30.0
+#: Iterations of the transit search; the first guess is within 17 min, each
+#: step shrinks the error by about 3e-4 (the equation of time changes < 30 s/day).
+_TRANSIT_ITERATIONS = 3
+
+
+@functools.lru_cache(maxsize=1)
+def _loaded():
+    """Load the timescale and DE421 once, with the data package's expiry warning silenced.
+
+    ``skyfield_data.get_skyfield_data_path()`` warns when its bundled Earth
+    orientation file is past its expiry date; firstrung uses skyfield's builtin
+    timescale instead of that file, so the warning says nothing about our
+    results and must never reach the user.
+    """
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        import skyfield_data
+        from skyfield.api import Loader
+
+        folder = os.path.join(os.path.dirname(skyfield_data.__file__), "data")
+        loader = Loader(folder, verbose=False)
+        if not os.path.exists(os.path.join(folder, EPHEMERIS_FILE)):  # pragma: no cover
+            raise InputError(f"the ephemeris file {EPHEMERIS_FILE} is missing from skyfield-data")
+        ephemeris = loader(EPHEMERIS_FILE)
+        timescale = loader.timescale(builtin=True)
+    return timescale, ephemeris, ephemeris["earth"], ephemeris["sun"]
+
+
+def timescale():
+    """The one skyfield ``Timescale`` firstrung uses (builtin data, no download)."""
+    return _loaded()[0]
+
+
+def ephemeris_span_utc() -> tuple[np.datetime64, np.datetime64]:
+    """First and last UTC instants the bundled ephemeris covers."""
+    return np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LAST_UTC, "ms")
+
+
+def check_in_span(time_utc: np.ndarray, what: str = "time") -> None:
+    """Raise EphemerisRangeError when any time lies outside DE421's span.
+
+    >>> check_in_span(np.array(["2027-03-20T11:00"], dtype="datetime64[ms]"))
+    """
+    t = np.asarray(time_utc, dtype="datetime64[ms]")
+    first, last = ephemeris_span_utc()
+    bad = (t < first) | (t > last) | np.isnat(t)
+    if np.any(bad):
+        example = t[bad].ravel()[0]
+        raise EphemerisRangeError(
+            f"{what} {example} is outside the ephemeris: DE421 covers "
+            f"{EPHEMERIS_FIRST_UTC[:10]} to {EPHEMERIS_LAST_UTC[:10]} (UTC)"
+        )
+
+
+# --- time conversion ---------------------------------------------------------------
+
+
+def as_utc_datetime64(time_utc) -> np.ndarray:
+    """Times as a numpy ``datetime64[us]`` array in UTC.
+
+    Accepts numpy datetime64 (taken as UTC), timezone-aware ``datetime``
+    objects and ISO 8601 strings with an explicit offset or ``Z``. A naive
+    ``datetime`` or a string without an offset is refused.
+
+    >>> as_utc_datetime64("2027-03-20T12:38:00+01:00")
+    array('2027-03-20T11:38:00.000000', dtype='datetime64[us]')
+    """
+    import datetime as _dt
+
+    if isinstance(time_utc, np.ndarray) and np.issubdtype(time_utc.dtype, np.datetime64):
+        return time_utc.astype("datetime64[us]")
+    if isinstance(time_utc, np.datetime64):
+        return np.asarray(time_utc, dtype="datetime64[us]")
+    items = [time_utc] if isinstance(time_utc, (str, _dt.datetime)) else list(time_utc)
+    out = []
+    for item in items:
+        if isinstance(item, np.datetime64):
+            out.append(item.astype("datetime64[us]"))
+            continue
+        if isinstance(item, str):
+            text = item.strip().replace("Z", "+00:00").replace("z", "+00:00")
+            try:
+                item = _dt.datetime.fromisoformat(text)
+            except ValueError:
+                raise InputError(f"time: expected ISO 8601 with an offset, got {item!r}") from None
+        if not isinstance(item, _dt.datetime) or item.tzinfo is None or item.utcoffset() is None:
+            raise InputError(f"time: expected a timezone-aware time, got {item!r} (naive times are refused)")
+        naive_utc = item.astimezone(_dt.UTC).replace(tzinfo=None)
+        out.append(np.datetime64(naive_utc, "us"))
+    arr = np.array(out, dtype="datetime64[us]")
+    return arr if not isinstance(time_utc, (str, _dt.datetime)) else arr.reshape(())
+
+
+def _skyfield_time(time_utc: np.ndarray):
+    """skyfield ``Time`` for a datetime64 UTC array (leap seconds honoured by the timescale)."""
+    t = np.asarray(time_utc, dtype="datetime64[us]")
+    days = t.astype("datetime64[D]")
+    seconds = (t - days).astype(np.int64) / 1e6
+    day_number = days.astype(np.int64)
+    return timescale().utc(1970, 1, 1 + day_number, 0, 0, seconds)
+
+
+def _days_to_civil(day_number: np.ndarray):
+    """Proleptic Gregorian (year, month, day) from days since 1970-01-01 (H. Hinnant's algorithm)."""
+    z = day_number + 719468
+    era = np.floor_divide(z, 146097)
+    doe = z - era * 146097
+    yoe = (doe - doe // 1460 + doe // 36524 - doe // 146096) // 365
+    y = yoe + era * 400
+    doy = doe - (365 * yoe + yoe // 4 - yoe // 100)
+    mp = (5 * doy + 2) // 153
+    d = doy - (153 * mp + 2) // 5 + 1
+    m = np.where(mp < 10, mp + 3, mp - 9)
+    return y + (m <= 2), m, d
+
+
+def _utc_datetime64(t) -> np.ndarray:
+    """datetime64[us] UTC from a skyfield Time (a leap second maps to the next second)."""
+    year, month, day, hour, minute, second = (np.asarray(x) for x in t.utc)
+    years = (year - 1970).astype("timedelta64[Y]")
+    base = (np.datetime64("1970", "Y") + years).astype("datetime64[M]")
+    base = base + (month - 1).astype("timedelta64[M]")
+    date = base.astype("datetime64[D]") + (day - 1).astype("timedelta64[D]")
+    micro = np.round(((hour * 60 + minute) * 60 + second) * 1e6).astype(np.int64)
+    return date.astype("datetime64[us]") + micro.astype("timedelta64[us]")
+
+
+# --- the geocentric apparent Sun ----------------------------------------------------------
+
+
+def _geocentric_sun(time_utc: np.ndarray):
+    """Apparent geocentric Sun in the true equator and equinox of date, and GAST.
+
+    Returns
+    -------
+    xyz_km : ndarray, shape (3, n)
+    gast_rad : ndarray, shape (n,)
+    """
+    from skyfield.functions import mxv
+    from skyfield.nutationlib import iau2000b_radians
+
+    _, _, earth, sun = _loaded()
+    t = _skyfield_time(time_utc)
+    t._nutation_angles_radians = iau2000b_radians(t)
+    apparent = earth.at(t).observe(sun).apparent()
+    xyz_km = mxv(t.M, apparent.position.au) * ASTRONOMICAL_UNIT_KM
+    gast_rad = np.asarray(t.gast) * (np.pi / 12.0)
+    return np.asarray(xyz_km).reshape(3, -1), gast_rad.reshape(-1)
+
+
+@dataclass(frozen=True)
+class SunPosition:
+    """Apparent topocentric place of the Sun's centre, airless (no refraction).
+
+    All arrays share one shape: the broadcast of the times and site arrays.
+    Hour angle is positive west of the meridian, in (-180, 180]; azimuth runs
+    from north through east; declination and right ascension refer to the
+    true equator and equinox of date.
+    """
+
+    altitude_deg: np.ndarray
+    azimuth_deg: np.ndarray
+    hour_angle_deg: np.ndarray
+    declination_deg: np.ndarray
+    right_ascension_deg: np.ndarray
+    distance_au: np.ndarray
+    semidiameter_deg: np.ndarray
+
+
+def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunPosition:
+    """Apparent topocentric position of the Sun's centre, without refraction.
+
+    Parameters
+    ----------
+    time_utc : datetime64 array or aware datetimes / ISO strings with offset
+        Instants [UTC]; broadcast against the site arrays.
+    latitude_deg, longitude_deg : float or array
+        Geodetic WGS84 latitude (+ north) and longitude (+ east) [deg].
+    elevation_m : float or array
+        Height above the ellipsoid [m].
+
+    Returns
+    -------
+    SunPosition
+
+    Raises
+    ------
+    EphemerisRangeError
+        When a time lies outside DE421's span.
+
+    Examples
+    --------
+    >>> p = sun_position("2027-06-21T12:00:00Z", 46.2, 7.4, 620.0)
+    >>> round(float(p.altitude_deg), 1)
+    67.0
+    """
+    t = as_utc_datetime64(time_utc)
+    lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
+    t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
+    shape = t_b.shape
+    if np.any(~np.isfinite(lat_b) | (np.abs(lat_b) > 90.0)):
+        raise InputError(f"latitude_deg: expected -90 to 90 deg, got {lat_b[~(np.abs(lat_b) <= 90)].ravel()[0]}")
+    check_in_span(t_b)
+    unique_t, inverse = np.unique(t_b.ravel(), return_inverse=True)
+    sun_xyz_km, gast_rad = _geocentric_sun(unique_t)
+    sun_xyz_km = sun_xyz_km[:, inverse]
+    gast_rad = gast_rad[inverse]
+    return _topocentric(sun_xyz_km, gast_rad, lat_b.ravel(), lon_b.ravel(), elev_b.ravel(), shape)
+
+
+def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, shape) -> SunPosition:
+    """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle."""
+    x, y, z = geodetic_to_itrs_km(lat_deg, lon_deg, elev_m)
+    cos_g, sin_g = np.cos(gast_rad), np.sin(gast_rad)
+    site = np.stack([x * cos_g - y * sin_g, x * sin_g + y * cos_g, z])
+    velocity_km_s = EARTH_ROTATION_RATE_RAD_PER_S * np.stack([-site[1], site[0], np.zeros_like(site[0])])
+    topo = sun_xyz_km - site
+    distance_km = np.sqrt(np.sum(topo**2, axis=0))
+    u = topo / distance_km
+    beta = velocity_km_s / SPEED_OF_LIGHT_KM_PER_S
+    u = u + beta - np.sum(u * beta, axis=0) * u
+    u = u / np.sqrt(np.sum(u**2, axis=0))
+    ra_rad = np.arctan2(u[1], u[0])
+    dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
+    lat_rad = np.radians(lat_deg)
+    ha_rad = gast_rad + np.radians(lon_deg) - ra_rad
+    ha_rad = np.angle(np.exp(1j * ha_rad))
+    sin_alt = np.sin(lat_rad) * np.sin(dec_rad) + np.cos(lat_rad) * np.cos(dec_rad) * np.cos(ha_rad)
+    alt_rad = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
+    az_rad = np.arctan2(
+        -np.cos(dec_rad) * np.sin(ha_rad),
+        np.sin(dec_rad) * np.cos(lat_rad) - np.cos(dec_rad) * np.sin(lat_rad) * np.cos(ha_rad),
+    )
+    distance_au = distance_km / ASTRONOMICAL_UNIT_KM
+    return SunPosition(
+        altitude_deg=np.degrees(alt_rad).reshape(shape),
+        azimuth_deg=np.mod(np.degrees(az_rad), 360.0).reshape(shape),
+        hour_angle_deg=np.degrees(ha_rad).reshape(shape),
+        declination_deg=np.degrees(dec_rad).reshape(shape),
+        right_ascension_deg=np.mod(np.degrees(ra_rad), 360.0).reshape(shape),
+        distance_au=distance_au.reshape(shape),
+        semidiameter_deg=(SUN_SEMIDIAMETER_AT_1AU_ARCSEC / 3600.0 / distance_au).reshape(shape),
+    )
+
+
+@dataclass(frozen=True)
+class SunTrack:
+    """The Sun's place at each reading, with the rates a clock-offset fit needs."""
+
+    position: SunPosition
+    hour_angle_rate_deg_per_s: np.ndarray
+    declination_rate_deg_per_s: np.ndarray
+
+
+def sun_track(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunTrack:
+    """Sun position at each time plus d(hour angle)/dt and d(declination)/dt.
+
+    The rates come from a central difference over +/- 30 s; both are smooth
+    on that scale (the hour-angle rate changes by < 1e-7 relative in a minute).
+
+    >>> tr = sun_track("2027-03-20T11:38:00Z", 46.2, 7.4)
+    >>> round(float(tr.hour_angle_rate_deg_per_s) * 3600, 2)
+    15.0
+    """
+    t = as_utc_datetime64(time_utc)
+    step = np.timedelta64(int(_RATE_STEP_S * 1e6), "us")
+    lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
+    t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
+    stacked_t = np.stack([t_b - step, t_b, t_b + step])
+    p = sun_position(stacked_t, lat_b[None], lon_b[None], elev_b[None])
+    dha = np.angle(np.exp(1j * np.radians(p.hour_angle_deg[2] - p.hour_angle_deg[0])))
+    mid = SunPosition(*(getattr(p, f)[1] for f in SunPosition.__dataclass_fields__))
+    return SunTrack(
+        position=mid,
+        hour_angle_rate_deg_per_s=np.degrees(dha) / (2 * _RATE_STEP_S),
+        declination_rate_deg_per_s=(p.declination_deg[2] - p.declination_deg[0]) / (2 * _RATE_STEP_S),
+    )
+
+
+@dataclass(frozen=True)
+class SolarTransit:
+    """Upper transit of the Sun's centre across a site's meridian (topocentric hour angle 0)."""
+
+    time_utc: np.ndarray
+    altitude_deg: np.ndarray
+    declination_deg: np.ndarray
+    semidiameter_deg: np.ndarray
+    distance_au: np.ndarray
+
+
+def solar_transit(date, latitude_deg, longitude_deg, elevation_m=0.0) -> SolarTransit:
+    """Local apparent noon: the Sun's upper transit on each civil date at each site.
+
+    The transit sought is the one nearest to 12:00 local mean time of the
+    date at the site's longitude. It is found by a vectorised fixed-point
+    iteration on the apparent topocentric hour angle H: ``t <- t - H / rate``
+    with the mean solar rate, three steps for every (date, site) at once.
+
+    Parameters
+    ----------
+    date : datetime64[D] array or ISO date strings
+        Civil dates.
+    latitude_deg, longitude_deg, elevation_m : float or array
+        Sites, broadcast against the dates [deg, deg, m].
+
+    Returns
+    -------
+    SolarTransit
+        ``time_utc`` (datetime64[us]), airless ``altitude_deg`` of the centre,
+        apparent topocentric ``declination_deg`` at that instant.
+
+    Examples
+    --------
+    >>> tr = solar_transit("2027-03-20", 46.2, 7.4)
+    >>> str(tr.time_utc.astype("datetime64[s]"))
+    '2027-03-20T11:38:07'
+    """
+    day = np.asarray(date, dtype="datetime64[D]")
+    lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
+    day_b, lat_b, lon_b, elev_b = np.broadcast_arrays(day, lat, lon, elev)
+    offset_us = np.round((12.0 - lon_b / 15.0) * 3600e6).astype(np.int64)
+    t = day_b.astype("datetime64[us]") + offset_us.astype("timedelta64[us]")
+    for _ in range(_TRANSIT_ITERATIONS):
+        p = sun_position(t, lat_b, lon_b, elev_b)
+        step_us = np.round(p.hour_angle_deg / _MEAN_SOLAR_RATE_DEG_PER_S * 1e6).astype(np.int64)
+        t = t - step_us.astype("timedelta64[us]")
+    p = sun_position(t, lat_b, lon_b, elev_b)
+    return SolarTransit(
+        time_utc=t,
+        altitude_deg=p.altitude_deg,
+        declination_deg=p.declination_deg,
+        semidiameter_deg=p.semidiameter_deg,
+        distance_au=p.distance_au,
+    )
+
+
+def sun_greenwich_hour_angle_deg(time_utc) -> np.ndarray:
+    """Geocentric apparent Greenwich hour angle of the Sun [deg], in (-180, 180].
+
+    The longitude at which the Sun is on the meridian at ``time_utc`` is
+    minus this value (east positive).
+
+    >>> round(float(sun_greenwich_hour_angle_deg("2027-03-20T12:00:00Z")), 1)
+    1.8
+    """
+    t = as_utc_datetime64(time_utc)
+    shape = t.shape
+    check_in_span(t)
+    unique_t, inverse = np.unique(t.ravel(), return_inverse=True)
+    xyz, gast = _geocentric_sun(unique_t)
+    ra = np.arctan2(xyz[1], xyz[0])
+    gha = np.angle(np.exp(1j * (gast - ra)))
+    return np.degrees(gha)[inverse].reshape(shape)
