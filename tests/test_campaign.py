@@ -94,7 +94,7 @@ def error_text(tmp_path: Path, text: str) -> str:
     assert "\n" not in message
     prefix = f"{path}:"
     assert message.startswith(prefix)
-    return message[len(prefix) :]
+    return message[len(prefix) :].lstrip()
 
 
 def test_valid_campaign_round_trip(tmp_path):
@@ -117,8 +117,9 @@ def test_valid_campaign_round_trip(tmp_path):
     coast = campaign.site("coast_2")
     assert coast.name == "coast_2"
     assert coast.elevation_m == 0.0
-    assert coast.gnomon == Gnomon(height_m=2.0, height_sigma_m=0.001, shadow_sigma_m=0.002,
-                                  edge="umbra")
+    assert coast.gnomon == Gnomon(
+        height_m=2.0, height_sigma_m=0.001, shadow_sigma_m=0.002, edge="umbra"
+    )
     assert isinstance(coast.latitude_deg, float) and isinstance(coast.gnomon.height_m, float)
     hill = campaign.site("hill-3")
     assert hill.timezone is None and hill.gnomon is None and hill.zone is None
@@ -154,12 +155,15 @@ def test_parse_campaign_without_path():
     assert campaign.logs["phases"] == (Path("p.csv"),)
     with pytest.raises(InputError) as info:
         parse_campaign("[[site]]\nid = 3\n")
-    assert str(info.value) == "<campaign>:site[1].id: expected a site id of letters, digits, '-' and '_', got 3"
+    assert (
+        str(info.value)
+        == "<campaign>:site[1].id: expected a site id of letters, digits, '-' and '_', got 3"
+    )
 
 
 def test_missing_name_defaults_to_the_file_stem(tmp_path):
     assert read_campaign(write(tmp_path, SITE, "spring-2027.toml")).name == "spring-2027"
-    text = '[campaign]\n' + SITE
+    text = "[campaign]\n" + SITE
     assert read_campaign(write(tmp_path, text, "spring-2027.toml")).name == "spring-2027"
 
 
@@ -182,7 +186,7 @@ def test_not_utf8(tmp_path):
     with pytest.raises(InputError) as info:
         read_campaign(path)
     assert str(info.value) == (
-        f"{path}: not UTF-8 text (byte 0xe9 at offset 17); save the campaign file as UTF-8"
+        f"{path}: not UTF-8 text (byte 0xe9 at offset 16); save the campaign file as UTF-8"
     )
 
 
@@ -201,12 +205,24 @@ def test_toml_syntax_error_is_relative_to_the_given_path():
 @pytest.mark.parametrize(
     ("text", "expected"),
     [
-        ('[campaign]\nname = "x"\n', "no [[site]] table; a campaign needs at least one site (id, latitude_deg, longitude_deg)"),
+        (
+            '[campaign]\nname = "x"\n',
+            "no [[site]] table; a campaign needs at least one site (id, latitude_deg, longitude_deg)",
+        ),
         ('[site]\nid = "ridge"\n', "site: expected sites written as [[site]] (an array of tables)"),
-        ("[campaign]\nname = 3\n" + SITE, "campaign.name: expected the campaign's name as text, got 3"),
+        (
+            "[campaign]\nname = 3\n" + SITE,
+            "campaign.name: expected the campaign's name as text, got 3",
+        ),
         ('[campaign]\ntitle = "x"\n' + SITE, "campaign.title: unknown key 'title' (allowed: name)"),
-        ("[sites]\n" + SITE, "sites: unknown table 'sites' (allowed: campaign, site, baseline, logs, eclipse)"),
-        ('version = 2\n' + SITE, "version: unknown table 'version' (allowed: campaign, site, baseline, logs, eclipse)"),
+        (
+            "[sites]\n" + SITE,
+            "sites: unknown table 'sites' (allowed: campaign, site, baseline, logs, eclipse)",
+        ),
+        (
+            "version = 2\n" + SITE,
+            "version: unknown top-level key 'version' (allowed: campaign, site, baseline, logs, eclipse)",
+        ),
     ],
 )
 def test_document_shape(tmp_path, text, expected):
@@ -224,39 +240,88 @@ def site_error(tmp_path: Path, extra: str, replace: tuple[str, str] | None = Non
 @pytest.mark.parametrize(
     ("extra", "replace", "expected"),
     [
-        ("", ('id = "coast"', 'id = "coast top"'),
-         "site[2].id: expected a site id of letters, digits, '-' and '_', got 'coast top'"),
-        ("", ('id = "coast"', 'id = "ridge"'),
-         "site[2].id: duplicate site id 'ridge' (already used by site[1])"),
-        ("", ('id = "coast"\n', ""), "site[2].id: missing; expected a short site id such as 'ridge'"),
-        ("", ("latitude_deg = 46.2", "latitude_deg = 95.0"),
-         "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got 95.0"),
-        ("", ("latitude_deg = 46.2", "latitude_deg = -90.5"),
-         "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got -90.5"),
-        ("", ("latitude_deg = 46.2", 'latitude_deg = "46.2"'),
-         "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got '46.2'"),
-        ("", ("latitude_deg = 46.2", "latitude_deg = true"),
-         "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got true"),
-        ("", ("latitude_deg = 46.2", "latitude_deg = nan"),
-         "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got nan"),
-        ("", ("latitude_deg = 46.2\n", ""),
-         "site[2].latitude_deg: missing; expected a latitude between -90 and 90 degrees (+ north)"),
-        ("", ("longitude_deg = 7.4", "longitude_deg = 187.4"),
-         "site[2].longitude_deg: expected a longitude between -180 and 180 degrees (+ east), got 187.4"),
-        ("", ("longitude_deg = 7.4", "longitude_deg = -180.1"),
-         "site[2].longitude_deg: expected a longitude between -180 and 180 degrees (+ east), got -180.1"),
-        ("elevation_m = 9500\n", None,
-         "site[2].elevation_m: expected an elevation between -500 and 9000 m, got 9500"),
-        ("elevation_m = -600\n", None,
-         "site[2].elevation_m: expected an elevation between -500 and 9000 m, got -600"),
-        ("elevation_m = inf\n", None,
-         "site[2].elevation_m: expected an elevation between -500 and 9000 m, got inf"),
-        ('timezone = "Europe/Zurch"\n', None,
-         "site[2].timezone: unknown IANA time zone 'Europe/Zurch'"),
+        (
+            "",
+            ('id = "coast"', 'id = "coast top"'),
+            "site[2].id: expected a site id of letters, digits, '-' and '_', got 'coast top'",
+        ),
+        (
+            "",
+            ('id = "coast"', 'id = "ridge"'),
+            "site[2].id: duplicate site id 'ridge' (already used by site[1])",
+        ),
+        (
+            "",
+            ('id = "coast"\n', ""),
+            "site[2].id: missing; expected a short site id such as 'ridge'",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2", "latitude_deg = 95.0"),
+            "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got 95.0",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2", "latitude_deg = -90.5"),
+            "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got -90.5",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2", 'latitude_deg = "46.2"'),
+            "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got '46.2'",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2", "latitude_deg = true"),
+            "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got true",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2", "latitude_deg = nan"),
+            "site[2].latitude_deg: expected a latitude between -90 and 90 degrees (+ north), got nan",
+        ),
+        (
+            "",
+            ("latitude_deg = 46.2\n", ""),
+            "site[2].latitude_deg: missing; expected a latitude between -90 and 90 degrees (+ north)",
+        ),
+        (
+            "",
+            ("longitude_deg = 7.4", "longitude_deg = 187.4"),
+            "site[2].longitude_deg: expected a longitude between -180 and 180 degrees (+ east), got 187.4",
+        ),
+        (
+            "",
+            ("longitude_deg = 7.4", "longitude_deg = -180.1"),
+            "site[2].longitude_deg: expected a longitude between -180 and 180 degrees (+ east), got -180.1",
+        ),
+        (
+            "elevation_m = 9500\n",
+            None,
+            "site[2].elevation_m: expected an elevation between -500 and 9000 m, got 9500",
+        ),
+        (
+            "elevation_m = -600\n",
+            None,
+            "site[2].elevation_m: expected an elevation between -500 and 9000 m, got -600",
+        ),
+        (
+            "elevation_m = inf\n",
+            None,
+            "site[2].elevation_m: expected an elevation between -500 and 9000 m, got inf",
+        ),
+        (
+            'timezone = "Europe/Zurch"\n',
+            None,
+            "site[2].timezone: unknown IANA time zone 'Europe/Zurch'",
+        ),
         ("timezone = 1\n", None, "site[2].timezone: unknown IANA time zone 1"),
-        ("latitude = 46.2\n", None,
-         "site[2].latitude: unknown key 'latitude' (allowed: id, name, latitude_deg, "
-         "longitude_deg, elevation_m, timezone, gnomon)"),
+        (
+            "latitude = 46.2\n",
+            None,
+            "site[2].latitude: unknown key 'latitude' (allowed: id, name, latitude_deg, "
+            "longitude_deg, elevation_m, timezone, gnomon)",
+        ),
         ('name = ""\n', None, "site[2].name: expected the site's name as text, got ''"),
     ],
 )
@@ -267,21 +332,43 @@ def test_site_checks(tmp_path, extra, replace, expected):
 @pytest.mark.parametrize(
     ("gnomon", "expected"),
     [
-        ("height_m = 0\n", "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 0"),
-        ("height_m = -1.0\n", "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got -1.0"),
-        ("height_m = 100\n", "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 100"),
-        ("edge = 'umbra'\n", "site[2].gnomon.height_m: missing; expected a gnomon height above 0 and below 100 m"),
-        ("height_m = 1\nheight_sigma_m = -0.001\n",
-         "site[2].gnomon.height_sigma_m: expected a non-negative number of metres, got -0.001"),
-        ("height_m = 1\nshadow_sigma_m = inf\n",
-         "site[2].gnomon.shadow_sigma_m: expected a non-negative number of metres, got inf"),
-        ("height_m = 1\nedge = 'tip'\n",
-         "site[2].gnomon.edge: expected 'umbra', 'middle' or 'outer', got 'tip'"),
-        ("height_m = 1\nedge = 2\n",
-         "site[2].gnomon.edge: expected 'umbra', 'middle' or 'outer', got 2"),
-        ("height_m = 1\nheight_cm = 100\n",
-         "site[2].gnomon.height_cm: unknown key 'height_cm' (allowed: height_m, height_sigma_m, "
-         "shadow_sigma_m, edge)"),
+        (
+            "height_m = 0\n",
+            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 0",
+        ),
+        (
+            "height_m = -1.0\n",
+            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got -1.0",
+        ),
+        (
+            "height_m = 100\n",
+            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 100",
+        ),
+        (
+            "edge = 'umbra'\n",
+            "site[2].gnomon.height_m: missing; expected a gnomon height above 0 and below 100 m",
+        ),
+        (
+            "height_m = 1\nheight_sigma_m = -0.001\n",
+            "site[2].gnomon.height_sigma_m: expected a non-negative number of metres, got -0.001",
+        ),
+        (
+            "height_m = 1\nshadow_sigma_m = inf\n",
+            "site[2].gnomon.shadow_sigma_m: expected a non-negative number of metres, got inf",
+        ),
+        (
+            "height_m = 1\nedge = 'tip'\n",
+            "site[2].gnomon.edge: expected 'umbra', 'middle' or 'outer', got 'tip'",
+        ),
+        (
+            "height_m = 1\nedge = 2\n",
+            "site[2].gnomon.edge: expected 'umbra', 'middle' or 'outer', got 2",
+        ),
+        (
+            "height_m = 1\nheight_cm = 100\n",
+            "site[2].gnomon.height_cm: unknown key 'height_cm' (allowed: height_m, height_sigma_m, "
+            "shadow_sigma_m, edge)",
+        ),
     ],
 )
 def test_gnomon_checks(tmp_path, gnomon, expected):
@@ -305,26 +392,46 @@ TWO_SITES = SITE + SITE.replace('"ridge"', '"coast"')
 @pytest.mark.parametrize(
     ("baseline", "expected"),
     [
-        ('sites = ["ridge", "harbour"]\ndistance_km = 1\nsigma_km = 1\n',
-         "baseline[1].sites: unknown site 'harbour' (known: ridge, coast)"),
-        ('sites = ["ridge", "ridge"]\ndistance_km = 1\nsigma_km = 1\n',
-         "baseline[1].sites: expected two different site ids such as [\"ridge\", \"coast\"], got 'ridge' twice"),
-        ('sites = ["ridge"]\ndistance_km = 1\nsigma_km = 1\n',
-         "baseline[1].sites: expected two different site ids such as [\"ridge\", \"coast\"], got a list"),
-        ("distance_km = 1\nsigma_km = 1\n",
-         "baseline[1].sites: missing; expected two different site ids such as [\"ridge\", \"coast\"]"),
-        ('sites = ["ridge", "coast"]\ndistance_km = 0\nsigma_km = 1\n',
-         "baseline[1].distance_km: expected a positive distance in km, got 0"),
-        ('sites = ["ridge", "coast"]\nsigma_km = 1\n',
-         "baseline[1].distance_km: missing; expected a positive distance in km"),
-        ('sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = -2\n',
-         "baseline[1].sigma_km: expected a non-negative uncertainty in km, got -2"),
-        ('sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nbearing_deg = 360\n',
-         "baseline[1].bearing_deg: expected a bearing from 0 up to (not including) 360 degrees, got 360"),
-        ('sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nbearing_deg = -1\n',
-         "baseline[1].bearing_deg: expected a bearing from 0 up to (not including) 360 degrees, got -1"),
-        ('sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nlength_km = 3\n',
-         "baseline[1].length_km: unknown key 'length_km' (allowed: sites, distance_km, sigma_km, bearing_deg)"),
+        (
+            'sites = ["ridge", "harbour"]\ndistance_km = 1\nsigma_km = 1\n',
+            "baseline[1].sites: unknown site 'harbour' (known: ridge, coast)",
+        ),
+        (
+            'sites = ["ridge", "ridge"]\ndistance_km = 1\nsigma_km = 1\n',
+            'baseline[1].sites: expected two different site ids such as ["ridge", "coast"], got \'ridge\' twice',
+        ),
+        (
+            'sites = ["ridge"]\ndistance_km = 1\nsigma_km = 1\n',
+            'baseline[1].sites: expected two different site ids such as ["ridge", "coast"], got a list',
+        ),
+        (
+            "distance_km = 1\nsigma_km = 1\n",
+            'baseline[1].sites: missing; expected two different site ids such as ["ridge", "coast"]',
+        ),
+        (
+            'sites = ["ridge", "coast"]\ndistance_km = 0\nsigma_km = 1\n',
+            "baseline[1].distance_km: expected a positive distance in km, got 0",
+        ),
+        (
+            'sites = ["ridge", "coast"]\nsigma_km = 1\n',
+            "baseline[1].distance_km: missing; expected a positive distance in km",
+        ),
+        (
+            'sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = -2\n',
+            "baseline[1].sigma_km: expected a non-negative uncertainty in km, got -2",
+        ),
+        (
+            'sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nbearing_deg = 360\n',
+            "baseline[1].bearing_deg: expected a bearing from 0 up to (not including) 360 degrees, got 360",
+        ),
+        (
+            'sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nbearing_deg = -1\n',
+            "baseline[1].bearing_deg: expected a bearing from 0 up to (not including) 360 degrees, got -1",
+        ),
+        (
+            'sites = ["ridge", "coast"]\ndistance_km = 598\nsigma_km = 2\nlength_km = 3\n',
+            "baseline[1].length_km: unknown key 'length_km' (allowed: sites, distance_km, sigma_km, bearing_deg)",
+        ),
     ],
 )
 def test_baseline_checks(tmp_path, baseline, expected):
@@ -342,9 +449,18 @@ def test_a_pair_has_one_baseline(tmp_path):
 @pytest.mark.parametrize(
     ("logs", "expected"),
     [
-        ('shadow = ["a.csv"]\n', "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases)"),
-        ("shadows = 3\n", 'logs.shadows: expected a list of paths such as ["logs/shadows.csv"], got 3'),
-        ('shadows = ["a.csv", ""]\n', 'logs.shadows: expected a list of paths such as ["logs/shadows.csv"], got a list'),
+        (
+            'shadow = ["a.csv"]\n',
+            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases)",
+        ),
+        (
+            "shadows = 3\n",
+            'logs.shadows: expected a list of paths such as ["logs/shadows.csv"], got 3',
+        ),
+        (
+            'shadows = ["a.csv", ""]\n',
+            'logs.shadows: expected a list of paths such as ["logs/shadows.csv"], got a list',
+        ),
     ],
 )
 def test_logs_checks(tmp_path, logs, expected):
@@ -359,18 +475,29 @@ def test_missing_log_files_are_not_reported_here(tmp_path):
 @pytest.mark.parametrize(
     ("eclipse", "expected"),
     [
-        ("moon_diameter_arcmin = 0\n", "eclipse.moon_diameter_arcmin: expected a positive number in arcmin, got 0"),
-        ("moon_rate_deg_per_h = 0.5\nmoon_rate_sigma_deg_per_h = -0.1\n",
-         "eclipse.moon_rate_sigma_deg_per_h: expected a non-negative number in deg/h, got -0.1"),
-        ("moon_diameter_sigma_arcmin = 0.3\n",
-         "eclipse.moon_diameter_sigma_arcmin: given without eclipse.moon_diameter_arcmin"),
-        ("moon_rate_deg_per_h = 0.5\nmoon_sky_rate_deg_per_h = 0.55\n",
-         "eclipse.moon_sky_rate_deg_per_h: give moon_rate_deg_per_h (relative to the Earth's "
-         "shadow) or moon_sky_rate_deg_per_h (against the stars), not both"),
-        ("moon_rate = 0.5\n",
-         "eclipse.moon_rate: unknown key 'moon_rate' (allowed: moon_diameter_arcmin, "
-         "moon_diameter_sigma_arcmin, moon_rate_deg_per_h, moon_rate_sigma_deg_per_h, "
-         "moon_sky_rate_deg_per_h, moon_sky_rate_sigma_deg_per_h)"),
+        (
+            "moon_diameter_arcmin = 0\n",
+            "eclipse.moon_diameter_arcmin: expected a positive number in arcmin, got 0",
+        ),
+        (
+            "moon_rate_deg_per_h = 0.5\nmoon_rate_sigma_deg_per_h = -0.1\n",
+            "eclipse.moon_rate_sigma_deg_per_h: expected a non-negative number in deg/h, got -0.1",
+        ),
+        (
+            "moon_diameter_sigma_arcmin = 0.3\n",
+            "eclipse.moon_diameter_sigma_arcmin: given without eclipse.moon_diameter_arcmin",
+        ),
+        (
+            "moon_rate_deg_per_h = 0.5\nmoon_sky_rate_deg_per_h = 0.55\n",
+            "eclipse.moon_sky_rate_deg_per_h: give moon_rate_deg_per_h (relative to the Earth's "
+            "shadow) or moon_sky_rate_deg_per_h (against the stars), not both",
+        ),
+        (
+            "moon_rate = 0.5\n",
+            "eclipse.moon_rate: unknown key 'moon_rate' (allowed: moon_diameter_arcmin, "
+            "moon_diameter_sigma_arcmin, moon_rate_deg_per_h, moon_rate_sigma_deg_per_h, "
+            "moon_sky_rate_deg_per_h, moon_sky_rate_sigma_deg_per_h)",
+        ),
     ],
 )
 def test_eclipse_checks(tmp_path, eclipse, expected):

@@ -85,7 +85,9 @@ _ECLIPSE_KEYS = (
     "moon_sky_rate_sigma_deg_per_h",
 )
 
-_TOML_POSITION_RE = re.compile(r"^(?P<message>.*?)\s*\(at line (?P<line>\d+), column (?P<column>\d+)\)$")
+_TOML_POSITION_RE = re.compile(
+    r"^(?P<message>.*?)\s*\(at line (?P<line>\d+), column (?P<column>\d+)\)$"
+)
 
 
 @dataclass(frozen=True)
@@ -347,9 +349,10 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
     except tomllib.TOMLDecodeError as error:
         raise _syntax_error(error, label) from None
     reader = _Reader(label)
-    for key in document:
+    for key, value in document.items():
         if key not in _TOP_LEVEL_KEYS:
-            raise reader.unknown(key, key, _TOP_LEVEL_KEYS, what="table")
+            what = "table" if isinstance(value, dict | list) else "top-level key"
+            raise reader.unknown(key, key, _TOP_LEVEL_KEYS, what=what)
 
     default_name = "campaign" if file_path is None else file_path.stem
     name = reader.campaign_name(document.get("campaign"), default_name)
@@ -461,8 +464,9 @@ class _Reader:
     def sites(self, value: object) -> tuple[Site, ...]:
         if value is None:
             raise self.error(
-                None, "no [[site]] table; a campaign needs at least one site (id, latitude_deg, "
-                "longitude_deg)"
+                None,
+                "no [[site]] table; a campaign needs at least one site (id, latitude_deg, "
+                "longitude_deg)",
             )
         if not isinstance(value, list):
             raise self.error("site", "expected sites written as [[site]] (an array of tables)")
@@ -493,17 +497,26 @@ class _Reader:
             )
         name = self.text(table, prefix, "name", "the site's name as text")
         latitude_deg = self.required_number(
-            table, prefix, "latitude_deg",
-            "a latitude between -90 and 90 degrees (+ north)", lambda x: -90.0 <= x <= 90.0,
+            table,
+            prefix,
+            "latitude_deg",
+            "a latitude between -90 and 90 degrees (+ north)",
+            lambda x: -90.0 <= x <= 90.0,
         )
         longitude_deg = self.required_number(
-            table, prefix, "longitude_deg",
-            "a longitude between -180 and 180 degrees (+ east)", lambda x: -180.0 <= x <= 180.0,
+            table,
+            prefix,
+            "longitude_deg",
+            "a longitude between -180 and 180 degrees (+ east)",
+            lambda x: -180.0 <= x <= 180.0,
         )
         low_m, high_m = ELEVATION_RANGE_M
         elevation_m = self.number(
-            table, prefix, "elevation_m",
-            f"an elevation between {low_m:g} and {high_m:g} m", lambda x: low_m <= x <= high_m,
+            table,
+            prefix,
+            "elevation_m",
+            f"an elevation between {low_m:g} and {high_m:g} m",
+            lambda x: low_m <= x <= high_m,
         )
         timezone = None
         if "timezone" in table:
@@ -529,8 +542,11 @@ class _Reader:
         self.check_keys(table, prefix, _GNOMON_KEYS)
         limit = GNOMON_HEIGHT_LIMIT_M
         height_m = self.required_number(
-            table, prefix, "height_m",
-            f"a gnomon height above 0 and below {limit:g} m", lambda x: 0.0 < x < limit,
+            table,
+            prefix,
+            "height_m",
+            f"a gnomon height above 0 and below {limit:g} m",
+            lambda x: 0.0 < x < limit,
         )
         height_sigma_m = self.number(
             table, prefix, "height_sigma_m", "a non-negative number of metres", lambda x: x >= 0.0
@@ -593,9 +609,7 @@ class _Reader:
             raise self.error(where, f"expected {expected}, got {_show(pair)}")
         for site_id in pair:
             if site_id not in known:
-                raise self.error(
-                    where, f"unknown site {site_id!r} (known: {', '.join(known)})"
-                )
+                raise self.error(where, f"unknown site {site_id!r} (known: {', '.join(known)})")
         if pair[0] == pair[1]:
             raise self.error(where, f"expected {expected}, got {pair[0]!r} twice")
         distance_km = self.required_number(
@@ -605,8 +619,11 @@ class _Reader:
             table, prefix, "sigma_km", "a non-negative uncertainty in km", lambda x: x >= 0.0
         )
         bearing_deg = self.number(
-            table, prefix, "bearing_deg",
-            "a bearing from 0 up to (not including) 360 degrees", lambda x: 0.0 <= x < 360.0,
+            table,
+            prefix,
+            "bearing_deg",
+            "a bearing from 0 up to (not including) 360 degrees",
+            lambda x: 0.0 <= x < 360.0,
         )
         return Baseline(
             sites=(pair[0], pair[1]),
@@ -656,9 +673,7 @@ class _Reader:
             ("moon_sky_rate_deg_per_h", "moon_sky_rate_sigma_deg_per_h"),
         ):
             if numbers[sigma_key] is not None and numbers[value_key] is None:
-                raise self.error(
-                    f"eclipse.{sigma_key}", f"given without eclipse.{value_key}"
-                )
+                raise self.error(f"eclipse.{sigma_key}", f"given without eclipse.{value_key}")
         if numbers["moon_rate_deg_per_h"] is not None and (
             numbers["moon_sky_rate_deg_per_h"] is not None
         ):

@@ -289,6 +289,11 @@ def _is_skipped(cells: Sequence[str]) -> bool:
     return cells[0].lstrip().startswith("#")
 
 
+def _printable(name: str) -> str:
+    """A header name for a one-line message: as it is, or escaped when it holds control characters."""
+    return name if name.isprintable() else repr(name)
+
+
 def _choose_columns(
     header: list[str], slots: Sequence[_Slot], label: str
 ) -> tuple[dict[str, str | None], list[RowProblem]]:
@@ -301,7 +306,7 @@ def _choose_columns(
             problems.append(RowProblem(label, None, None, f"column {name!r} appears twice"))
         seen.add(name)
     required = ", ".join(slot.shown for slot in slots if slot.required)
-    found = ", ".join(name for name in header if name) or "no column names"
+    found = ", ".join(_printable(name) for name in header if name) or "no column names"
     for slot in slots:
         present = [name for name in slot.names if name in seen]
         chosen[slot.names[0]] = present[0] if len(present) == 1 else None
@@ -788,9 +793,7 @@ def _parse_phase_row(row: _Row, campaign: Campaign) -> dict:
         "illuminated_fraction", "an illuminated fraction between 0 and 1", lambda x: 0 <= x <= 1
     )
     if row.cell("elongation_deg") and row.cell("illuminated_fraction"):
-        row.problem(
-            None, "give elongation_deg or illuminated_fraction in a row, not both"
-        )
+        row.problem(None, "give elongation_deg or illuminated_fraction in a row, not both")
     time_sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
     return {
         "site": site_id,

@@ -75,6 +75,7 @@ def _interval(q: dict, digits: int = 0) -> str:
 
 def render_shadows(data: dict, verbose: bool) -> None:
     """Rich tables for a shadow reduction."""
+    from rich import box
     from rich.table import Table
 
     out = console()
@@ -100,30 +101,31 @@ def render_shadows(data: dict, verbose: bool) -> None:
     if data["outliers"]:
         out.print(f"  outlying sites left out: {', '.join(data['outliers'])}")
 
-    table = Table(title="Sites (Sun: which side of the zenith it culminates; decl. at that site's transit)")
+    table = Table(title="Sites", box=box.SIMPLE_HEAD, caption="Sun: the side of the zenith it culminates on; decl.: the Sun's at that site's own transit")
     for col, just in (
-        ("site", "left"), ("day", "left"), ("n", "right"), ("culm. alt (deg)", "right"),
+        ("site", "left"), ("day", "left"), ("culm. alt (deg)", "right"),
         ("zenith (deg)", "right"), ("Sun", "left"), ("decl. (deg)", "right"),
-        ("astro. lat (deg)", "right"), ("resid. (')", "right"), ("clock (s)", "right"),
+        ("astro. lat (deg)", "right"), ("sigma (deg)", "right"), ("resid. (')", "right"), ("clock (s)", "right"),
     ):
-        table.add_column(col, justify=just, no_wrap=True)
+        table.add_column(col, justify=just, no_wrap=col in ("site", "day"))
     for s in data["sites"]:
         for k, d in enumerate(s["days"]):
+            lat = d["astronomical_latitude_deg"] if len(s["days"]) > 1 else s["astronomical_latitude_deg"]
             table.add_row(
                 _escape(s["id"]) + (" (outlier)" if s["outlier"] and k == 0 else ""),
                 d["date"],
-                str(d["readings"]),
                 f"{d['culmination_altitude_deg']['value']:.3f}",
                 f"{d['zenith_distance_deg']['value']:.3f}",
                 d["sun_side"],
                 f"{d['declination_deg']:.4f}",
-                _pm(d["astronomical_latitude_deg"], 3) if len(s["days"]) > 1 else _pm(s["astronomical_latitude_deg"], 3),
+                f"{lat['value']:.3f}",
+                f"{lat['sigma']:.3f}",
                 f"{s['residual_arcmin']:+.1f}" if k == 0 else "",
                 _pm(d["clock_offset_s"], 0),
             )
     out.print(table)
 
-    budget = Table(title="Error budget of the radius")
+    budget = Table(title="Error budget of the radius", box=box.SIMPLE_HEAD)
     budget.add_column("input")
     budget.add_column("sigma (km)", justify="right")
     budget.add_column("share of variance", justify="right")
