@@ -16,6 +16,7 @@ Celest. Mech. 85:37; DESIGN section 7). Polar motion is ignored (0.3" at most).
 
 from __future__ import annotations
 
+import atexit
 import functools
 import os
 import warnings
@@ -64,6 +65,7 @@ def _loaded():
             raise InputError(f"the ephemeris file {EPHEMERIS_FILE} is missing from skyfield-data")
         ephemeris = loader(EPHEMERIS_FILE)
         timescale = loader.timescale(builtin=True)
+    atexit.register(ephemeris.close)
     return timescale, ephemeris, ephemeris["earth"], ephemeris["sun"]
 
 

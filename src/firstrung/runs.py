@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .campaign import Campaign, read_campaign
+from .campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign, read_campaign
 from .errors import ComputationError, InputError, RowProblem
 from .logs import ShadowLog, read_shadow_logs
 from .methods.shadows import (
@@ -68,8 +68,8 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
         )
     default_height = np.array([g.height_m if g is not None else np.nan for g in gnomons], float)
     height = np.where(np.isfinite(row_height), row_height, default_height)
-    height_sigma = np.array([g.height_sigma_m if g is not None else 0.001 for g in gnomons], float)
-    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else 0.002 for g in gnomons], float)
+    height_sigma = np.array([g.height_sigma_m if g is not None else DEFAULT_HEIGHT_SIGMA_M for g in gnomons], float)
+    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
     default_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
     row_edge = np.asarray(log.edge, dtype=object)
     edge = np.where(np.array([e is not None and e != "" for e in row_edge], bool), row_edge, default_edge)

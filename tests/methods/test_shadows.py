@@ -36,10 +36,13 @@ def geographiclib_radius_km(lat1, lat2):
     return arc_m / 1000.0 / np.radians(abs(lat2 - lat1))
 
 
-def campaign(lats, lons, dates, *, errors=ShadowErrors(), edges=None, seed=1, heights=None,
+NO_ERRORS = ShadowErrors()
+
+
+def campaign(lats, lons, dates, *, errors=NO_ERRORS, edges=None, seed=1, heights=None,
              logged_edges=None, shadow_sigma_m=0.002, gnomon_sigma_m=0.001, span_min=30.0):
     n = len(lats)
-    sites = tuple(SiteInput(f"s{i}", f"Site {i}", la, lo, 200.0) for i, (la, lo) in enumerate(zip(lats, lons)))
+    sites = tuple(SiteInput(f"s{i}", f"Site {i}", la, lo, 200.0) for i, (la, lo) in enumerate(zip(lats, lons, strict=False)))
     lat, lon = np.array(lats, float), np.array(lons, float)
     elev = np.full(n, 200.0)
     times, pair = reading_times_utc(dates, lat, lon, elev, half_span_min=span_min)
@@ -187,7 +190,7 @@ def test_68_percent_intervals_hold_the_truth_about_68_percent_of_the_time():
     trials = 260
     trials_run = 0
     errors = ShadowErrors.stated(0.002, 0.001, clock_sigma_s=30.0)
-    for k in range(trials):
+    for _k in range(trials):
         lat1 = rng.uniform(-50, 40)
         lat2 = lat1 + rng.uniform(3.0, 12.0)
         lon = rng.uniform(-150, 150)

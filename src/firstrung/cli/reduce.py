@@ -6,7 +6,15 @@ from typing import Annotated
 
 import typer
 
-from .common import CampaignArgument, JsonOption, VerboseOption, console, handles_errors, print_json, report_problems
+from .common import (
+    CampaignArgument,
+    JsonOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    print_json,
+    report_problems,
+)
 
 app = typer.Typer(help="Reduce a campaign's logs to a result with its uncertainty.", no_args_is_help=True)
 
@@ -39,9 +47,9 @@ def shadows(
     run = run_shadows(campaign)
     data = shadow_run_to_json(run)
     if monte_carlo:
+        from ..logs import read_shadow_logs
         from ..methods.shadows import monte_carlo_radius
         from ..runs import baseline_inputs, shadow_readings, site_inputs
-        from ..logs import read_shadow_logs
         from ..uncertainty import interval_from_samples
 
         readings, _ = shadow_readings(run.campaign, read_shadow_logs(run.campaign))
