@@ -169,10 +169,19 @@ def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c
     >>> round(float(centre_altitude_deg(45.0, "middle", 0.2667, 10.0, 1010.0)), 4)
     44.9834
     """
-    edge = np.asarray(edge)
-    sign = np.vectorize(EDGE_LIMB_SIGN.__getitem__, otypes=[float])(edge) if edge.size else np.zeros(0)
+    sign = _per_edge(edge, EDGE_LIMB_SIGN)
     refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa)
     return np.asarray(edge_apparent_deg) - refraction - sign * np.asarray(semidiameter_deg)
+
+
+def _per_edge(edge, table: dict) -> np.ndarray:
+    """Look up a number per reading from its edge name, without a loop over readings."""
+    edge = np.asarray(edge, dtype=object)
+    names, inverse = np.unique(edge.astype(str), return_inverse=True)
+    unknown = [n for n in names if n not in table]
+    if unknown:
+        raise InputError(f"edge: expected one of {', '.join(table)}, got {unknown[0]!r}")
+    return np.array([table[n] for n in names], dtype=float)[inverse].reshape(edge.shape)
 
 
 # --- step 3: one site and day ---------------------------------------------------------------------
@@ -522,7 +531,7 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     denom = h**2 + length**2
     sigma_reading = h * readings.shadow_sigma_m / denom
     dalt_dgnomon = length / denom
-    fraction = np.vectorize(EDGE_LOCATION_FRACTION.__getitem__, otypes=[float])(readings.edge)
+    fraction = _per_edge(readings.edge, EDGE_LOCATION_FRACTION)
     width = penumbra_width_m(h, np.clip(pos.altitude_deg, 1.0, 89.0), pos.semidiameter_deg)
     edge_sigma = h * fraction * np.abs(width) / denom
     refraction_fraction = np.where(measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD)
@@ -532,13 +541,15 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
         readings.time_utc.astype("datetime64[ms]")
         + (np.round(lon / 15.0 * 3600e3).astype(np.int64)).astype("timedelta64[ms]")
     ).astype("datetime64[D]")
-    keys = np.array([f"{i:06d}|{d}" for i, d in zip(idx, local_day, strict=True)])
-    keys_kept = keys[keep]
+    day_number = local_day.astype(np.int64)
+    first_day = int(day_number.min())
+    span = int(day_number.max()) - first_day + 1
+    keys_kept = (idx * span + (day_number - first_day))[keep]
     if keys_kept.size == 0:
         raise ComputationError("no shadow reading has the Sun above 5 deg within 3 h of noon")
     unique_keys, group = np.unique(keys_kept, return_inverse=True)
-    group_site = np.array([int(k.split("|")[0]) for k in unique_keys])
-    group_date = np.array([k.split("|")[1] for k in unique_keys], dtype="datetime64[D]")
+    group_site = unique_keys // span
+    group_date = (unique_keys % span + first_day).astype("datetime64[D]")
     return _Prepared(
         sites=sites,
         baselines=baselines,
