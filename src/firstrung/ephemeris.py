@@ -235,7 +235,7 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
     --------
     >>> p = sun_position("2027-06-21T12:00:00Z", 46.2, 7.4, 620.0)
     >>> round(float(p.altitude_deg), 1)
-    67.0
+    66.6
     """
     t = as_utc_datetime64(time_utc)
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
@@ -356,7 +356,7 @@ def solar_transit(date, latitude_deg, longitude_deg, elevation_m=0.0) -> SolarTr
     --------
     >>> tr = solar_transit("2027-03-20", 46.2, 7.4)
     >>> str(tr.time_utc.astype("datetime64[s]"))
-    '2027-03-20T11:38:07'
+    '2027-03-20T11:37:55'
     """
     day = np.asarray(date, dtype="datetime64[D]")
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
@@ -384,7 +384,7 @@ def sun_greenwich_hour_angle_deg(time_utc) -> np.ndarray:
     minus this value (east positive).
 
     >>> round(float(sun_greenwich_hour_angle_deg("2027-03-20T12:00:00Z")), 1)
-    1.8
+    -1.9
     """
     t = as_utc_datetime64(time_utc)
     shape = t.shape

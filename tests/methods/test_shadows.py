@@ -231,3 +231,30 @@ def test_too_few_sites_is_a_clear_error():
     sites, readings = campaign([41.0], [7.0], ["2027-03-20"])
     with pytest.raises(ComputationError, match="at least two sites"):
         reduce_shadows(sites, readings)
+
+
+def test_logged_temperature_and_pressure_are_honoured():
+    from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
+
+    sites, readings = campaign([41.0, 46.4], [7.0, 7.0], ["2027-12-21"])
+    base = reduce_shadows(sites, readings)
+    k = len(readings)
+    # the conditions the simulation used, written out explicitly, change nothing
+    same = ShadowReadings(**{**readings.__dict__, "temperature_c": np.full(k, 10.0),
+                             "pressure_hpa": np.full(k, float(standard_pressure_hpa(200.0)))})
+    assert reduce_shadows(sites, same).earth_radius_km.value == pytest.approx(base.earth_radius_km.value, rel=1e-9)
+    # a cold high-pressure day at the northern site only: its refraction grows by the
+    # Bennett/Meeus (ch. 16) factor (P/1010)(283/(273+T)); its latitude moves by that extra refraction
+    cold = readings.temperature_c.copy()
+    press = readings.pressure_hpa.copy()
+    north = readings.site_index == 1
+    cold[north], press[north] = -20.0, 1040.0
+    changed = reduce_shadows(sites, ShadowReadings(**{**readings.__dict__, "temperature_c": cold, "pressure_hpa": press}))
+    lat_base = base.sites[1].astronomical_latitude_deg.value
+    lat_cold = changed.sites[1].astronomical_latitude_deg.value
+    alt = 90.0 - (46.4 + 23.43)
+    extra = refraction_from_apparent_deg(alt, -20.0, 1040.0) - refraction_from_apparent_deg(
+        alt, 10.0, float(standard_pressure_hpa(200.0)))
+    # less true altitude -> larger zenith distance -> higher latitude, by the extra refraction
+    assert lat_cold - lat_base == pytest.approx(extra, rel=0.05)
+    assert any("temperature" in a for a in changed.assumptions)

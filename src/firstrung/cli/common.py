@@ -11,7 +11,7 @@ from typing import Annotated
 import typer
 
 CampaignArgument = Annotated[
-    Path, typer.Argument(help="The campaign file (TOML) that lists the sites, instruments and logs.", show_default=False)
+    Path, typer.Argument(help="The campaign file (TOML) that lists the sites, instruments and logs.", show_default=False, metavar="CAMPAIGN")
 ]
 JsonOption = Annotated[bool, typer.Option("--json", help="Print one JSON object on stdout and nothing else there.")]
 VerboseOption = Annotated[bool, typer.Option("--verbose", "-v", help="Show every step: per-day fits and assumptions.")]

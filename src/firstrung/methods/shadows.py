@@ -151,8 +151,8 @@ def edge_altitude_deg(gnomon_m, shadow_m):
 def penumbra_width_m(gnomon_m, altitude_deg, semidiameter_deg):
     """Width of the penumbra on a level board [m]: the lower limb's tip minus the upper limb's.
 
-    >>> round(float(penumbra_width_m(1.0, 20.0, 0.2667)), 3)
-    0.079
+    >>> round(float(penumbra_width_m(1.0, 20.0, 0.2667)), 4)
+    0.0796
     """
     h = np.asarray(gnomon_m, float)
     a = np.radians(np.asarray(altitude_deg, float))
@@ -172,6 +172,39 @@ def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c
     sign = _per_edge(edge, EDGE_LIMB_SIGN)
     refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa)
     return np.asarray(edge_apparent_deg) - refraction - sign * np.asarray(semidiameter_deg)
+
+
+def altitude_error_terms_rad(
+    gnomon_m, shadow_m, shadow_sigma_m, gnomon_sigma_m, edge, altitude_deg, semidiameter_deg,
+    refraction_deg, measured_weather,
+) -> dict[str, np.ndarray]:
+    """One-sigma error of the Sun's centre altitude from each input, per reading [rad].
+
+    ``shadow reading``: ``h sigma_L / (h^2 + L^2)``; ``gnomon height``:
+    ``L sigma_h / (h^2 + L^2)``; ``edge location``: the observer's placement
+    error, a fraction of the penumbra width (:data:`EDGE_LOCATION_FRACTION`),
+    seen from the gnomon's tip; ``refraction``: a fraction of the refraction
+    (:data:`REFRACTION_SIGMA_FRACTION_STANDARD` or ``_MEASURED``). The
+    reduction and the planner share these terms.
+
+    >>> t = altitude_error_terms_rad(1.0, 1.0, 0.002, 0.001, "umbra", 45.0, 0.2667, 0.0165, False)
+    >>> round(float(t["shadow reading"]) * 206264.8, 1)
+    206.3
+    """
+    h = np.asarray(gnomon_m, float)
+    length = np.asarray(shadow_m, float)
+    denom = h**2 + length**2
+    fraction = _per_edge(edge, EDGE_LOCATION_FRACTION)
+    width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg)
+    refraction_fraction = np.where(
+        measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD
+    )
+    return {
+        "shadow reading": h * np.asarray(shadow_sigma_m, float) / denom,
+        "gnomon height": length * np.asarray(gnomon_sigma_m, float) / denom,
+        "edge location": h * fraction * np.abs(width) / denom,
+        "refraction": np.radians(refraction_fraction * np.asarray(refraction_deg, float)),
+    }
 
 
 def _per_edge(edge, table: dict) -> np.ndarray:
@@ -527,15 +560,14 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     left_out["sun below 5 deg"] = int(np.sum(low))
     left_out["more than 3 h from noon"] = int(np.sum(far & ~low))
     keep = ~low & ~far
-    # sensitivities of the centre's altitude (rad) to each input (per metre / 1 sigma)
-    denom = h**2 + length**2
-    sigma_reading = h * readings.shadow_sigma_m / denom
-    dalt_dgnomon = length / denom
-    fraction = _per_edge(readings.edge, EDGE_LOCATION_FRACTION)
-    width = penumbra_width_m(h, np.clip(pos.altitude_deg, 1.0, 89.0), pos.semidiameter_deg)
-    edge_sigma = h * fraction * np.abs(width) / denom
-    refraction_fraction = np.where(measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD)
-    refraction_sigma = np.radians(refraction_fraction * refr)
+    terms = altitude_error_terms_rad(
+        h, length, readings.shadow_sigma_m, readings.gnomon_sigma_m, readings.edge,
+        pos.altitude_deg, pos.semidiameter_deg, refr, measured_weather,
+    )
+    sigma_reading = terms["shadow reading"]
+    dalt_dgnomon = length / (h**2 + length**2)
+    edge_sigma = terms["edge location"]
+    refraction_sigma = terms["refraction"]
     # series: site and UTC date of the local noon (longitude shifts the civil day)
     local_day = (
         readings.time_utc.astype("datetime64[ms]")
