@@ -208,6 +208,7 @@ def test_68_percent_intervals_hold_the_truth_about_68_percent_of_the_time():
         hits += r.earth_radius_km.low <= truth <= hi
     assert trials_run >= 200
     coverage = hits / trials_run
+    print(f"coverage {coverage:.3f} over {trials_run} campaigns")
     assert 0.60 <= coverage <= 0.76, coverage
 
 

@@ -702,10 +702,7 @@ def reduce_shadows(
     """
     prep = _prepare(tuple(sites), tuple(baselines), readings)
     fit = _fit(prep, prep.altitude_rad)
-    dof = fit.count - 2
-    chi2_dof = np.where(dof >= 2, fit.chi2 / np.maximum(dof, 1), np.nan)
-    # a series that scatters more than its stated reading error inflates its own reading term
-    scale = np.where(np.isfinite(chi2_dof) & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
+    chi2_dof, scale = _series_scatter_scale(fit)
     present, latitude, contributions, per_series, total = _combine_sites(prep, fit, scale)
     if np.sum(present) < 2:
         raise ComputationError("need usable shadow readings from at least two sites; got " + str(int(np.sum(present))))
@@ -780,6 +777,22 @@ def reduce_shadows(
         scatter_scale=chi2_scale,
         assumptions=assumptions,
     )
+
+
+def _series_scatter_scale(fit: SeriesFit):
+    """chi2/dof of each series and the factor on its reading term.
+
+    A series that scatters about its fit significantly more than its stated
+    reading error allows (the same 5 % test as between sites) has its reading
+    term scaled by sqrt(chi2/dof); otherwise the stated error stands.
+    """
+    from scipy.stats import chi2 as chi2_distribution
+
+    dof = fit.count - 2
+    chi2_dof = np.where(dof >= 2, fit.chi2 / np.maximum(dof, 1), np.nan)
+    significant = (dof >= 2) & (chi2_distribution.sf(fit.chi2, np.maximum(dof, 1)) < SCATTER_SIGNIFICANCE)
+    scale = np.where(significant & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
+    return chi2_dof, scale
 
 
 def _scatter_is_significant(chi2: float, dof: int) -> bool:
@@ -922,9 +935,7 @@ def monte_carlo_radius(
     fit = _fit(prep, alt)
     # combine series per site with the nominal weights
     nominal_fit = _fit(prep, prep.altitude_rad)
-    dof = nominal_fit.count - 2
-    chi2_dof = np.where(dof >= 2, nominal_fit.chi2 / np.maximum(dof, 1), np.nan)
-    scale = np.where(np.isfinite(chi2_dof) & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
+    _, scale = _series_scatter_scale(nominal_fit)
     present, _, contributions, _, total = _combine_sites(prep, nominal_fit, scale)
     w = 1.0 / total**2
     wsum = _group_sum(prep.group_site, n_sites, w)
