@@ -29,8 +29,9 @@ from __future__ import annotations
 import numpy as np
 from geographiclib.geodesic import Geodesic
 
+from firstrung._checks import checked as _checked
+from firstrung._checks import scalar_or_array as _output
 from firstrung.constants import WGS84_FLATTENING, WGS84_SEMI_MAJOR_AXIS_M
-from firstrung.errors import InputError
 
 __all__ = [
     "baseline_north_south_km",
@@ -69,31 +70,10 @@ _K = np.arange(1, _BK.size + 1)
 # --- input checks -------------------------------------------------------------------
 
 
-def _checked(name: str, value, low: float, high: float, unit: str) -> np.ndarray:
-    """``value`` as a float array, or InputError if any element is not finite in [low, high]."""
-    try:
-        array = np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as error:
-        raise InputError(f"{name}: received {value!r}; expected a number [{unit}]") from error
-    bad = ~np.isfinite(array) | (array < low) | (array > high)
-    if np.any(bad):
-        first = array[bad].flat[0] if array.ndim else array
-        raise InputError(
-            f"{name}: received {float(first)!r}; expected a finite value "
-            f"from {low:g} to {high:g} [{unit}]"
-        )
-    return array
 
 
 def _latitude(name: str, value) -> np.ndarray:
     return _checked(name, value, -90.0, 90.0, "deg")
-
-
-def _output(array, *inputs):
-    """A Python float when every input was a scalar, else the array."""
-    if all(np.ndim(x) == 0 for x in inputs):
-        return float(array)
-    return np.asarray(array, dtype=float)
 
 
 # --- meridian arcs ------------------------------------------------------------------

@@ -25,12 +25,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from firstrung._checks import checked as _checked
+from firstrung._checks import scalar_or_array as _output
 from firstrung.constants import (
     PRESSURE_SCALE_HEIGHT_M,
     STANDARD_PRESSURE_HPA,
     STANDARD_TEMPERATURE_C,
 )
-from firstrung.errors import InputError
 
 __all__ = [
     "apparent_from_true_altitude_deg",
@@ -73,27 +74,6 @@ _INVERSE_MAX_ITERATIONS = 50
 # --- input checks -----------------------------------------------------------------
 
 
-def _checked(name: str, value, low: float, high: float, unit: str) -> np.ndarray:
-    """``value`` as a float array, or InputError if any element is not finite in [low, high]."""
-    try:
-        array = np.asarray(value, dtype=float)
-    except (TypeError, ValueError) as error:
-        raise InputError(f"{name}: received {value!r}; expected a number [{unit}]") from error
-    bad = ~np.isfinite(array) | (array < low) | (array > high)
-    if np.any(bad):
-        first = array[bad].flat[0] if array.ndim else array
-        raise InputError(
-            f"{name}: received {float(first)!r}; expected a finite value "
-            f"from {low:g} to {high:g} [{unit}]"
-        )
-    return array
-
-
-def _output(array: np.ndarray, *inputs) -> float | np.ndarray:
-    """A Python float when every input was a scalar, else the array."""
-    if all(np.ndim(x) == 0 for x in inputs):
-        return float(array)
-    return array
 
 
 def _conditions_factor(temperature_c, pressure_hpa) -> np.ndarray:

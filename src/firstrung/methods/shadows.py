@@ -286,7 +286,8 @@ def fit_series(
     def sums(values):
         return np.bincount(flat, weights=values.ravel(), minlength=size).reshape(n_samples, n_groups)
 
-    for _ in range(_FIT_ITERATIONS):
+    def normal_terms(lat, u):
+        """Residuals, partial derivatives and normal-equation sums at (lat, u)."""
         lat_k = lat[:, group]
         u_k = u[:, group]
         dec = declination_rad + declination_rate_rad_s * u_k
@@ -301,26 +302,17 @@ def fit_series(
         n11 = sums(weight * d_lat * d_lat)
         n12 = sums(weight * d_lat * d_u)
         n22 = sums(weight * d_u * d_u) + prior
+        return r, d_lat, d_u, n11, n12, n22
+
+    for _ in range(_FIT_ITERATIONS):
+        r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
         b1 = sums(weight * d_lat * r)
         b2 = sums(weight * d_u * r) - prior * u
         det = n11 * n22 - n12**2
         lat = lat + (n22 * b1 - n12 * b2) / det
         u = u + (n11 * b2 - n12 * b1) / det
     # final model, residuals and covariance
-    lat_k = lat[:, group]
-    u_k = u[:, group]
-    dec = declination_rad + declination_rate_rad_s * u_k
-    ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
-    model = _altitude_model(lat_k, dec, ha)
-    cos_alt = np.maximum(np.cos(model), 1e-9)
-    d_lat = (np.cos(lat_k) * np.sin(dec) - np.sin(lat_k) * np.cos(dec) * np.cos(ha)) / cos_alt
-    d_dec = (np.sin(lat_k) * np.cos(dec) - np.cos(lat_k) * np.sin(dec) * np.cos(ha)) / cos_alt
-    d_ha = -np.cos(lat_k) * np.cos(dec) * np.sin(ha) / cos_alt
-    d_u = d_ha * hour_angle_rate_rad_s + d_dec * declination_rate_rad_s
-    r = alt - model
-    n11 = sums(weight * d_lat * d_lat)
-    n12 = sums(weight * d_lat * d_u)
-    n22 = sums(weight * d_u * d_u) + prior
+    r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
     det = n11 * n22 - n12**2
     cov = np.stack([np.stack([n22, -n12], -1), np.stack([-n12, n11], -1)], -2) / det[..., None, None]
     # gain: d(latitude)/d(altitude_k) = row of C J^T W for the latitude parameter
