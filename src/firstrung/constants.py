@@ -43,3 +43,8 @@ EPHEMERIS_FILE = "de421.bsp"
 #: read from the file's SPK segment bounds; times outside are refused.
 EPHEMERIS_FIRST_UTC = "1899-07-29T00:00:00"
 EPHEMERIS_LAST_UTC = "2053-10-08T00:00:00"
+
+# --- Moon -------------------------------------------------------------------------
+#: Lunar mean radius [km]: the IAU/WGCCRE cartographic reference sphere
+#: (Seidelmann et al. 2002; the datum of USGS lunar maps).
+MOON_MEAN_RADIUS_KM = 1737.4

@@ -23,7 +23,7 @@ from firstrung.errors import EphemerisRangeError, InputError
 ARCSEC = 1.0 / 3600.0  # deg
 SECOND = 1.0  # s
 
-HERE = os.path.dirname(__file__)
+HERE = os.path.dirname(os.path.dirname(__file__))
 
 
 def _reference_rows():
