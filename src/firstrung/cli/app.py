@@ -2,12 +2,21 @@
 
 from __future__ import annotations
 
+import importlib
 from typing import Annotated
 
 import typer
 
 from .. import __version__
-from . import reduce as reduce_commands
+
+#: Commands by group: each module in firstrung.cli defines ``register(app)``.
+#: A new command adds its module's name here (one line).
+GROUPS = {
+    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.", []),
+    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows"]),
+}
+#: Commands at the top level (check, sheet, simulate, ladder, report, demo, ...).
+TOP_LEVEL = []
 
 HELP = (
     "Plan, check and reduce geometric-astronomy measurement campaigns: noon shadows at "
@@ -41,5 +50,13 @@ def build() -> typer.Typer:
     ) -> None:
         """firstrung: campaigns of classical geometric astronomy."""
 
-    app.add_typer(reduce_commands.app, name="reduce")
+    for name, (help_text, modules) in GROUPS.items():
+        if not modules:
+            continue
+        group = typer.Typer(help=help_text, no_args_is_help=True)
+        for module in modules:
+            importlib.import_module(f"firstrung.cli.{module}").register(group)
+        app.add_typer(group, name=name)
+    for module in TOP_LEVEL:
+        importlib.import_module(f"firstrung.cli.{module}").register(app)
     return app

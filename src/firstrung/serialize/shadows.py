@@ -1,35 +1,10 @@
-"""Results as plain JSON-ready dictionaries (the design's contract keys).
-
-Numbers are rounded to digits well below their uncertainties so that the
-same inputs give byte-identical output on every machine; times are ISO 8601
-UTC ending in ``Z``.
-"""
+"""JSON of the shadow reduction (``reduce shadows``)."""
 
 from __future__ import annotations
 
-import json
-import math
-
-import numpy as np
-
-from .uncertainty import Measured
-
-#: Decimal places kept in JSON, by unit (far below any uncertainty here).
-_DIGITS = {"km": 3, "deg": 6, "s": 2, "arcmin": 4}
-
-
-def _time(t) -> str:
-    return str(np.datetime64(t, "s")) + "Z"
-
-
-def _q(m: Measured) -> dict:
-    return m.to_json(_DIGITS.get(m.unit, 6))
-
-
-def _num(x, digits=6):
-    if x is None or not math.isfinite(x):
-        return None
-    return round(float(x), digits)
+from . import number as _num
+from . import quantity as _q
+from . import time_z as _time
 
 
 def shadow_run_to_json(run) -> dict:
@@ -96,8 +71,3 @@ def shadow_run_to_json(run) -> dict:
         "assumptions": list(r.assumptions),
         "propagation": r.propagation,
     }
-
-
-def dumps(obj: dict) -> str:
-    """Deterministic JSON text (sorted by construction order, fixed separators)."""
-    return json.dumps(obj, ensure_ascii=False, indent=2, allow_nan=False)

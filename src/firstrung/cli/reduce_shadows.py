@@ -1,4 +1,4 @@
-"""``firstrung reduce ...``: turn accepted readings into results."""
+"""``firstrung reduce shadows``: the Earth's radius from noon shadows."""
 
 from __future__ import annotations
 
@@ -16,11 +16,12 @@ from .common import (
     report_problems,
 )
 
-app = typer.Typer(help="Reduce a campaign's logs to a result with its uncertainty.", no_args_is_help=True)
+
+def register(app: typer.Typer) -> None:
+    """Add ``shadows`` to the ``reduce`` group."""
+    app.command("shadows")(handles_errors(shadows))
 
 
-@app.command("shadows")
-@handles_errors
 def shadows(
     campaign: CampaignArgument,
     json_output: JsonOption = False,

@@ -10,10 +10,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign, read_campaign
-from .errors import ComputationError, InputError, RowProblem
-from .logs import ShadowLog, read_shadow_logs
-from .methods.shadows import (
+from ..campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign, read_campaign
+from ..errors import ComputationError, InputError, RowProblem
+from ..logs import ShadowLog, read_shadow_logs
+from ..methods.shadows import (
     BaselineInput,
     ShadowReadings,
     ShadowReduction,
