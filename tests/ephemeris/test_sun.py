@@ -143,3 +143,28 @@ def test_expiry_warning_of_the_data_package_never_reaches_the_user():
     assert out.returncode == 0, out.stderr
     assert "expired" not in out.stderr
     assert out.stdout.strip() == "ok"
+
+
+def test_interpolated_geocentric_sun_matches_direct_skyfield():
+    # The hourly grid with 4-point Lagrange interpolation against skyfield at each time
+    # (regression-style check of our own shortcut; tolerance far below the 1" product need).
+    from firstrung.ephemeris import sun as sun_module
+
+    rng = np.random.default_rng(7)
+    year = np.datetime64("2027-01-01T00:00", "us") + (rng.uniform(0, 200 * 86400, 20000) * 1e6).astype("timedelta64[us]")
+    # and a dense set across the leap second at the end of 2016 (TT-UTC changes by 1 s)
+    leap = np.datetime64("2016-12-30T00:00", "us") + (rng.uniform(0, 4 * 86400, 2000) * 1e6).astype("timedelta64[us]")
+    for t in (year, leap):
+        nodes = (t.max() - t.min()).astype("timedelta64[h]").astype(int) + 48
+        assert t.size > sun_module._GRID_MIN_GAIN * nodes  # the grid path is the one tested
+        _compare_with_direct(sun_module, t)
+
+
+def _compare_with_direct(sun_module, t):
+    xyz, gast = sun_module._geocentric_sun(t)
+    tt = ephemeris._core._prepared_time(t)
+    xyz_ref, gast_ref = sun_module._direct_geocentric_sun(tt)
+    u, v = xyz / np.linalg.norm(xyz, axis=0), xyz_ref / np.linalg.norm(xyz_ref, axis=0)
+    angle = np.degrees(np.arccos(np.clip(np.sum(u * v, axis=0), -1.0, 1.0)))
+    assert angle.max() < 0.02 * ARCSEC
+    assert np.max(np.abs(np.angle(np.exp(1j * (gast - gast_ref))))) < np.radians(0.01 * ARCSEC)
