@@ -15,6 +15,7 @@ from ._core import (
     timescale,
 )
 from .moon import MoonPosition, SunMoonGeocentric, moon_position, sun_moon_geocentric
+from .seasons import SEASON_NAMES, equinoxes_and_solstices
 from .sun import (
     SolarTransit,
     SunPosition,
@@ -28,6 +29,8 @@ from .sun import (
 )
 
 __all__ = [
+    "SEASON_NAMES",
+    "equinoxes_and_solstices",
     "MoonPosition",
     "SunMoonGeocentric",
     "moon_position",
