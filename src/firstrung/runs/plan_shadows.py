@@ -12,16 +12,11 @@ from ..calendar_export import CalendarEvent, events_to_ics
 from ..campaign import Campaign, read_campaign
 from ..errors import InputError
 from ..planning import PlanSite, ShadowConstraints, ShadowPlan, plan_shadows
+from ..safety import SOLAR_CAUTION
 from .shadows import baseline_inputs
 
 #: Length of a calendar session around local apparent noon [min], as on the field sheet.
 SESSION_HALF_SPAN_MIN = 30
-#: A short form of the solar caution for calendar descriptions and tables.
-SOLAR_CAUTION = (
-    "Caution: never look at the Sun directly or through optics without a certified solar filter "
-    "(ISO 12312-2 for direct viewing); measure the shadow, not the Sun. Follow your host "
-    "institution's safety rules."
-)
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,73 @@
+"""``firstrung sheet`` (a day's field sheet for one site) and ``firstrung blank-sheets``."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from .common import CampaignArgument, console, handles_errors
+
+PaperOption = Annotated[str, typer.Option("--paper", help="Page size for printing: a4 or letter.")]
+
+
+def register(app: typer.Typer) -> None:
+    """Add ``sheet`` and ``blank-sheets`` at the top level."""
+    app.command("sheet")(handles_errors(sheet))
+    app.command("blank-sheets")(handles_errors(blank_sheets))
+
+
+def _paper(value: str) -> str:
+    from ..errors import InputError
+    from ..sheets import PAPER_SIZES
+
+    key = value.lower()
+    if key not in PAPER_SIZES:
+        raise InputError(f"--paper: expected a4 or letter, got {value!r}")
+    return key
+
+
+def sheet(
+    campaign: CampaignArgument,
+    site: Annotated[str, typer.Option("--site", help="Site id from the campaign file.", show_default=False)],
+    date: Annotated[str, typer.Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
+    output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
+    paper: PaperOption = "a4",
+) -> None:
+    """A printable noon-shadow field sheet for one site and day, with the predicted readings."""
+    from ..campaign import read_campaign
+    from ..errors import InputError
+    from ..output import write_atomic
+    from ..runs.plan_shadows import plan_sites
+    from ..sheets import render_shadow_sheet
+    from .plan_shadows import parse_date
+
+    c = read_campaign(campaign)
+    c.site(site)  # an unknown id is a clear error
+    sites = {s.id: s for s in plan_sites(c)[0]}
+    if site not in sites:
+        raise InputError(f"--site: site '{site}' has no [site.gnomon] in the campaign file", file=str(campaign))
+    html = render_shadow_sheet(c.name, sites[site], parse_date("--date", date), _paper(paper))
+    write_atomic(output, html, inputs=[campaign, *c.logs.get("shadows", ())])
+    console().print(f"field sheet written: {output}")
+
+
+def blank_sheets(
+    output: Annotated[Path, typer.Option("-o", "--output", help="Folder for the blank sheets and CSV templates.")] = Path(
+        "field_sheets"
+    ),
+    paper: PaperOption = "a4",
+) -> None:
+    """Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."""
+    from ..errors import InputError
+    from ..output import write_atomic
+    from ..sheets import blank_field_kit
+
+    if output.exists() and not output.is_dir():
+        raise InputError(f"-o: {output} exists and is not a folder")
+    output.mkdir(parents=True, exist_ok=True)
+    files = blank_field_kit(_paper(paper))
+    for name, text in files.items():
+        write_atomic(output / name, text)
+    console().print(f"{len(files)} files written to {output}")
