@@ -46,7 +46,7 @@ def synthetic_sites(n_sites, rng):
 
 
 def bench_transits(n_sites, n_days, repeats):
-    """Solar transits: firstrung's vectorised hour-angle iteration against skyfield's find_transits, site by site."""
+    """Planning shadow days (transits and predictions) against skyfield's find_transits, site by site."""
     from skyfield import almanac
     from skyfield.api import wgs84
 
@@ -56,8 +56,15 @@ def bench_transits(n_sites, n_days, repeats):
     lat, lon, elev = synthetic_sites(n_sites, rng)
     days = np.arange(np.datetime64("2027-01-01"), np.datetime64("2027-01-01") + np.timedelta64(n_days, "D"))
 
-    def ours():
-        return ephemeris.solar_transit(days[:, None], lat[None, :], lon[None, :], elev[None, :]).time_utc
+    from firstrung.planning import PlanSite, ShadowConstraints, plan_shadows
+
+    sites = tuple(
+        PlanSite(f"s{i}", f"s{i}", lat[i], lon[i], elev[i], None, 1.0, 0.001, 0.002, "umbra") for i in range(n_sites)
+    )
+    last = str(days[-1])
+
+    def ours():  # the whole plan: transits, altitudes, shadows, sigma of R, constraints, special days
+        return plan_shadows(sites, str(days[0]), last, ShadowConstraints(max_shadow_m=3.0)).transit_utc
 
     ts, _, earth, sun = ephemeris._loaded()
 
@@ -82,7 +89,7 @@ def bench_transits(n_sites, n_days, repeats):
         if k:
             diff = np.abs((ours_i[:k] - dt64[:k]).astype(float)) / 1e6
             worst = max(worst, float(np.max(diff)))
-    return ("shadow transits", f"{n_sites} sites x {n_days} days", t_ours, t_base, mem, f"max {worst:.3f} s")
+    return ("plan shadows", f"{n_sites} sites x {n_days} days", t_ours, t_base, mem, f"max {worst:.3f} s")
 
 
 def bench_sun_positions(n_rows, n_sites, repeats):
