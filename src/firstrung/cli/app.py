@@ -16,7 +16,7 @@ GROUPS = {
     "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows"]),
 }
 #: Commands at the top level (check, sheet, simulate, ladder, report, demo, ...).
-TOP_LEVEL = ["sheet", "simulate"]
+TOP_LEVEL = ["sheet", "simulate", "ladder"]
 
 HELP = (
     "Plan, check and reduce geometric-astronomy measurement campaigns: noon shadows at "
