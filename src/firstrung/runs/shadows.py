@@ -31,6 +31,7 @@ class ShadowRun:
     problems: tuple[RowProblem, ...]
     rows_read: int
     rows_accepted: int
+    readings: ShadowReadings | None = None
 
 
 def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
@@ -111,4 +112,4 @@ def run_shadows(campaign_path) -> ShadowRun:
         reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
     except ComputationError:
         raise
-    return ShadowRun(campaign, reduction, problems, log.rows_read, len(readings))
+    return ShadowRun(campaign, reduction, problems, log.rows_read, len(readings), readings)

@@ -1,0 +1,53 @@
+"""``firstrung report``: the document for participants and funders."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from .common import CampaignArgument, console, handles_errors, report_problems
+
+
+def register(app: typer.Typer) -> None:
+    app.command("report")(handles_errors(report))
+
+
+def report(
+    campaign: CampaignArgument,
+    output: Annotated[Path, typer.Option("-o", "--output", help="Report file to write (.html, or .md with --markdown).",
+                                         show_default=False)],
+    markdown: Annotated[bool, typer.Option("--markdown", help="Write Markdown with PNG figures beside it instead of one HTML file.")] = False,
+    samples: Annotated[int, typer.Option("--samples", min=1000, help="Monte Carlo draws of the ladder.")] = 100_000,
+    seed: Annotated[int, typer.Option("--seed", help="Seed of the draws (same seed, same report).")] = 1,
+) -> None:
+    """Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."""
+    from rich.progress import BarColumn, Progress, TextColumn
+
+    from ..campaign import read_campaign
+    from ..output import write_atomic
+    from ..runs.report import build_report, render_html, render_markdown
+
+    camp = read_campaign(campaign)
+    inputs = [campaign, *[p for paths in camp.logs.values() for p in paths]]
+    steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "writing"]
+    with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
+        task = bar.add_task("report", total=len(steps))
+
+        def step(name):
+            bar.update(task, description=name, advance=0 if name == steps[0] else 1)
+
+        rep = build_report(campaign, samples=samples, seed=seed, progress=step)
+        step("writing")
+        if markdown:
+            prefix = output.stem + "-"
+            text, images = render_markdown(rep, prefix)
+            for name, data in images.items():
+                write_atomic(output.parent / name, data, inputs=inputs)
+            write_atomic(output, text, inputs=inputs)
+        else:
+            write_atomic(output, render_html(rep), inputs=inputs)
+        bar.update(task, completed=len(steps))
+    console().print(f"report written: {output}")
+    report_problems(())

@@ -1,0 +1,133 @@
+"""Figures for the report, as matplotlib Figures (matplotlib is imported only here, lazily).
+
+The functions take plain arrays and results and return a Figure; they write
+no file. :func:`to_svg` and :func:`to_png` render one deterministically (no
+date in the metadata, fixed element ids), so the same report comes out byte
+for byte the same.
+"""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    plt.rcParams.update({
+        "svg.hashsalt": "firstrung",
+        "svg.fonttype": "none",
+        "font.size": 9,
+        "axes.grid": True,
+        "grid.alpha": 0.3,
+        "figure.dpi": 100,
+    })
+    return plt
+
+
+def to_svg(fig) -> str:
+    """SVG text of a figure, without the XML prologue, deterministic."""
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", bbox_inches="tight", metadata={"Date": None, "Creator": "firstrung"})
+    _plt().close(fig)
+    text = buf.getvalue()
+    return text[text.index("<svg"):]
+
+
+def to_png(fig) -> bytes:
+    """PNG bytes of a figure, deterministic."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", bbox_inches="tight", dpi=120, metadata={"Software": "firstrung"})
+    _plt().close(fig)
+    return buf.getvalue()
+
+
+def shadow_series_figure(series: list[dict]):
+    """Shadow length against time from noon for each site and day, with the fitted curve.
+
+    ``series``: dicts with ``label``, ``minutes`` (readings, from the fitted
+    apparent noon), ``shadow_m`` (readings), ``model_minutes`` and
+    ``model_shadow_m`` (the fitted culmination's curve).
+    """
+    plt = _plt()
+    n = max(len(series), 1)
+    cols = min(3, n)
+    rows = int(np.ceil(n / cols))
+    fig, axes = plt.subplots(rows, cols, figsize=(7.0, 2.3 * rows), squeeze=False, sharex=True)
+    for k, s in enumerate(series):
+        ax = axes[k // cols][k % cols]
+        ax.plot(s["minutes"], np.asarray(s["shadow_m"]) * 100, "o", ms=2.5, color="C0", label="readings")
+        ax.plot(s["model_minutes"], np.asarray(s["model_shadow_m"]) * 100, "-", lw=1, color="C3", label="fit")
+        ax.axvline(0.0, color="0.4", lw=0.8, ls="--")
+        ax.set_title(s["label"], fontsize=8)
+        if k % cols == 0:
+            ax.set_ylabel("shadow (cm)")
+        if k // cols == rows - 1:
+            ax.set_xlabel("min from noon")
+    for k in range(len(series), rows * cols):
+        axes[k // cols][k % cols].set_visible(False)
+    axes[0][0].legend(fontsize=6)
+    fig.suptitle("Shadow readings and the fitted culmination (dashed: the fitted local apparent noon)", fontsize=9)
+    fig.tight_layout()
+    return fig
+
+
+def latitude_line_figure(position_km, latitude_deg, sigma_deg, names, outlier, intercept_deg, slope_deg_per_km):
+    """Astronomical latitude against north-south position, with the fitted line and named outliers."""
+    plt = _plt()
+    x = np.asarray(position_km, float)
+    y = np.asarray(latitude_deg, float)
+    s = np.asarray(sigma_deg, float)
+    out = np.asarray(outlier, bool)
+    fig, ax = plt.subplots(figsize=(7.0, 3.6))
+    ax.errorbar(x[~out] - x.min(), y[~out], yerr=s[~out], fmt="o", ms=4, capsize=2, label="sites")
+    if out.any():
+        ax.errorbar(x[out] - x.min(), y[out], yerr=s[out], fmt="x", ms=6, color="C3", label="outliers (left out)")
+    grid = np.linspace(x.min(), x.max(), 50)
+    ax.plot(grid - x.min(), intercept_deg + slope_deg_per_km * grid, "-", lw=1, color="0.3",
+            label=f"fit: R = {1 / np.radians(slope_deg_per_km):,.0f} km")
+    for xi, yi, name in zip(x, y, names, strict=True):
+        ax.annotate(name, (xi - x.min(), yi), textcoords="offset points", xytext=(4, 4), fontsize=7)
+    ax.set_xlabel("north-south distance from the southernmost site (km)")
+    ax.set_ylabel("astronomical latitude (deg)")
+    ax.set_title("Latitude from the Sun against distance along the meridian")
+    ax.legend(fontsize=7)
+    return fig
+
+
+def ladder_figure(rows: list[dict]):
+    """Each measured rung against its modern value: measured / modern with the 68 % interval."""
+    plt = _plt()
+    rows = [r for r in rows if r["measured"] is not None]
+    fig, ax = plt.subplots(figsize=(7.0, 0.6 + 0.45 * max(len(rows), 1)))
+    for k, r in enumerate(rows):
+        m = r["measured"]
+        low = m["low"] / r["modern"]
+        high = (m["high"] / r["modern"]) if m["high"] is not None else None
+        value = m["value"] / r["modern"]
+        ax.plot([value], [k], "o", color="C0")
+        if high is None:
+            ax.annotate("", xy=(max(2.0, low * 2), k), xytext=(low, k),
+                        arrowprops={"arrowstyle": "->", "color": "C0"})
+        else:
+            ax.plot([low, high], [k, k], "-", color="C0", lw=2)
+    ax.axvline(1.0, color="0.3", lw=0.8, ls="--")
+    ax.set_yticks(range(len(rows)))
+    ax.set_yticklabels([r["label"] for r in rows])
+    ax.set_ylim(-0.6, len(rows) - 0.4)
+    spans = [r["measured"]["low"] / r["modern"] for r in rows] + [
+        r["measured"]["high"] / r["modern"] for r in rows if r["measured"]["high"] is not None
+    ]
+    if spans and (min(spans) < 0.5 or max(spans) > 2.0):
+        from matplotlib.ticker import ScalarFormatter
+
+        ax.set_xscale("log")
+        ax.xaxis.set_major_formatter(ScalarFormatter())
+    ax.set_xlabel("measured / modern value (68 % interval; an arrow: lower bound only)")
+    ax.set_title("The ladder against modern values")
+    return fig

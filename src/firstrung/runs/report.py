@@ -1,0 +1,176 @@
+"""The campaign report: every measured rung, its data and fit, the ladder, cautions and references.
+
+:func:`build_report` gathers the numbers and figures into one context;
+:func:`render_html` and :func:`render_markdown` turn it into documents. All
+text that came from a user's file is escaped by jinja2's autoescape.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import __version__
+from ..safety import ECLIPSE_NOTE, PHASES_CAUTION, SOLAR_CAUTION_FULL
+
+REFERENCES = (
+    "Eratosthenes' method as described in Cleomedes, On the Circular Motions of the Celestial Bodies I.7.",
+    "JPL planetary ephemeris DE421 (Folkner, Williams & Boggs 2009, IPN Progress Report 42-178), read offline "
+    "with skyfield (Rhodes 2019).",
+    "Bennett, G. G. (1982), The calculation of astronomical refraction in marine navigation, J. Navigation 35:255.",
+    "Meeus, J. (1998), Astronomical Algorithms, 2nd ed., Willmann-Bell (refraction ch. 16, semi-diameters ch. 55).",
+    "Karney, C. F. F. (2013), Algorithms for geodesics, J. Geodesy 87:43 (GeographicLib, WGS84 meridian arcs).",
+    "NIMA TR8350.2 (2000), World Geodetic System 1984; Moritz, H. (2000), Geodetic Reference System 1980, "
+    "J. Geodesy 74:128 (IUGG mean radius).",
+    "IAU 2012 Resolution B2 (astronomical unit); IAU 2015 Resolution B3 (nominal solar radius).",
+    "ISO 12312-2:2015, filters for direct observation of the Sun.",
+)
+
+SHADOW_METHOD = (
+    "Each shadow length L of a gnomon of height h gives the apparent altitude of the marked edge, atan(h/L). "
+    "Refraction (Bennett 1982) is removed and the edge moved to the Sun's centre by the semi-diameter of the "
+    "date. Each site's readings around noon are fitted for its astronomical latitude and its clock offset, "
+    "with the Sun's declination and hour angle from the DE421 ephemeris at each reading, so the declination "
+    "is the one at that site's own transit. The latitudes are fitted against the sites' north-south "
+    "distances along the meridian on the WGS84 ellipsoid; the slope is one over the Earth's radius. Every "
+    "input's error is propagated to the radius, and the error budget says which limits it."
+)
+
+
+@dataclass(frozen=True)
+class Report:
+    context: dict
+    figures: dict  # name -> matplotlib Figure factory result (rendered later)
+
+
+def _shadow_series(run) -> list[dict]:
+    """Readings and the fitted curve of every (site, day) series, in minutes from the fitted noon."""
+    from .. import ephemeris
+    from ..planning import shadow_length_m
+
+    r = run.reduction
+    readings = run.readings
+    sites = {s.id: i for i, s in enumerate(run.campaign.sites)}
+    out = []
+    for site in r.sites:
+        i = sites[site.id]
+        camp_site = run.campaign.sites[i]
+        for d in site.series:
+            mask = readings.site_index == i
+            day = np.datetime64(d.date, "D")
+            t = readings.time_utc[mask].astype("datetime64[us]")
+            local_day = (t + (np.round(camp_site.longitude_deg / 15 * 3600e6)).astype(np.int64).astype("timedelta64[us]")).astype("datetime64[D]")
+            sel = local_day == day
+            if not np.any(sel):
+                continue
+            offset_us = int(round(d.clock_offset_s.value * 1e6))
+            true_t = t[sel] - np.timedelta64(offset_us, "us")
+            minutes = (true_t - d.transit_utc.astype("datetime64[us]")).astype(np.int64) / 60e6
+            grid_min = np.linspace(minutes.min() - 2, minutes.max() + 2, 60)
+            grid_t = d.transit_utc.astype("datetime64[us]") + (grid_min * 60e6).astype(np.int64).astype("timedelta64[us]")
+            pos = ephemeris.sun_position(grid_t, camp_site.latitude_deg, camp_site.longitude_deg, camp_site.elevation_m)
+            lat = np.radians(d.latitude_deg.value)
+            dec, ha = np.radians(pos.declination_deg), np.radians(pos.hour_angle_deg)
+            alt = np.degrees(np.arcsin(np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)))
+            edge = readings.edge[mask][sel][0]
+            height = float(readings.gnomon_m[mask][sel][0])
+            model = shadow_length_m(height, alt, pos.semidiameter_deg, np.array([edge] * grid_t.size, dtype=object))
+            out.append({
+                "label": f"{site.id} {d.date}",
+                "minutes": minutes,
+                "shadow_m": readings.shadow_m[mask][sel],
+                "model_minutes": grid_min,
+                "model_shadow_m": model,
+            })
+    return out
+
+
+def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step: None) -> Report:
+    """Reduce every rung with logs, chain the ladder and gather the report's tables and figures."""
+    from .. import figures
+    from ..serialize.ladder import ladder_to_json
+    from ..serialize.shadows import shadow_run_to_json
+    from .ladder import run_ladder
+
+    progress("reducing the campaign's logs")
+    lad = run_ladder(campaign_path, samples=samples, seed=seed)
+    progress("chaining the ladder")
+    ladder_json = ladder_to_json(lad)
+    from ..cli.ladder import LABELS, format_value
+
+    rows = []
+    for row in ladder_json["comparison"]:
+        value, interval = format_value(row["measured"], row["unit"])
+        rows.append({**row, "label": LABELS[row["quantity"]], "value_text": value, "interval_text": interval})
+    figs = {"ladder": figures.ladder_figure(rows)}
+    shadows = None
+    if "shadows" in lad.rung_runs:
+        progress("drawing the shadow fits")
+        run = lad.rung_runs["shadows"]
+        shadows = shadow_run_to_json(run)
+        figs["shadow_series"] = figures.shadow_series_figure(_shadow_series(run))
+        red = run.reduction
+        pos = np.array([s.north_south_km for s in red.sites])
+        lat = np.array([s.astronomical_latitude_deg.value for s in red.sites])
+        sig = np.array([s.astronomical_latitude_deg.sigma for s in red.sites])
+        names = [s.id for s in red.sites]
+        out = np.array([s.outlier for s in red.sites])
+        # the fitted line in degrees: through the residuals' definition
+        resid_deg = np.array([s.residual_arcmin for s in red.sites]) / 60.0
+        slope_deg_per_km = np.degrees(1.0 / red.earth_radius_km.value)
+        intercept = float(np.mean((lat - resid_deg) - slope_deg_per_km * pos))
+        figs["latitude_line"] = figures.latitude_line_figure(pos, lat, sig, names, out, intercept, slope_deg_per_km)
+    context = {
+        "title": f"{lad.campaign.name}: campaign report",
+        "campaign": lad.campaign.name,
+        "version": __version__,
+        "ladder": rows,
+        "ladder_json": ladder_json,
+        "shadows": shadows,
+        "shadow_method": SHADOW_METHOD,
+        "sites": [{"id": s.id, "name": s.name, "latitude_deg": s.latitude_deg, "longitude_deg": s.longitude_deg,
+                   "elevation_m": s.elevation_m} for s in lad.campaign.sites],
+        "problems": [str(p) for p in lad.problems],
+        "cautions": [SOLAR_CAUTION_FULL, PHASES_CAUTION, ECLIPSE_NOTE],
+        "references": REFERENCES,
+        "not_measured": [r for r in rows if r["measured"] is None],
+        "samples": samples,
+        "seed": seed,
+    }
+    return Report(context, figs)
+
+
+def render_html(report: Report) -> str:
+    """One self-contained HTML file: plots inline as SVG, print CSS."""
+    from .. import figures
+    from ..sheets import _environment
+
+    svgs = {name: figures.to_svg(fig) for name, fig in report.figures.items()}
+    return _environment().get_template("report.html.j2").render(figures=svgs, **report.context)
+
+
+def markdown_escape(text) -> str:
+    """Backslash-escape the characters Markdown (and inline HTML) would act on.
+
+    >>> print(markdown_escape("a|b <i>*x*</i>"))
+    a\\|b &lt;i&gt;\\*x\\*&lt;/i&gt;
+    """
+    out = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    for ch in "\\`*_[]|#":
+        out = out.replace(ch, "\\" + ch)
+    return out
+
+
+def render_markdown(report: Report, image_prefix: str) -> tuple[str, dict[str, bytes]]:
+    """Markdown text and the PNG files it links (names relative to the Markdown file)."""
+    from .. import figures
+    from ..sheets import _environment
+
+    pngs = {f"{image_prefix}{name}.png": figures.to_png(fig) for name, fig in report.figures.items()}
+    names = {name: f"{image_prefix}{name}.png" for name in report.figures}
+    env = _environment()
+    env.autoescape = False  # Markdown: text from users' files goes through the md filter
+    env.filters["md"] = markdown_escape
+    text = env.get_template("report.md.j2").render(images=names, **report.context)
+    return text, pngs

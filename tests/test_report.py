@@ -1,0 +1,66 @@
+"""The campaign report: self-contained HTML, escaped user text, cautions, determinism, Markdown."""
+
+from __future__ import annotations
+
+import re
+import shutil
+from pathlib import Path
+
+import pytest
+
+from firstrung.cli import main
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+
+
+def run(args, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "100")
+    try:
+        main([str(a) for a in args])
+        code = 0
+    except SystemExit as exit_:
+        code = exit_.code if isinstance(exit_.code, int) else 1
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+@pytest.fixture()
+def hostile_campaign(tmp_path):
+    shutil.copytree(EXAMPLES, tmp_path / "camp")
+    camp = tmp_path / "camp" / "campaign.toml"
+    text = camp.read_text().replace('name = "Fjellvik astronomy club dome"', 'name = "<script>alert(1)</script> & dome"')
+    camp.write_text(text)
+    return camp
+
+
+def test_html_report_is_self_contained_escaped_and_deterministic(hostile_campaign, tmp_path, capsys, monkeypatch):
+    out_file = tmp_path / "report.html"
+    code, out, err = run(["report", hostile_campaign, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
+    assert code == 0, err
+    html = out_file.read_text()
+    assert "<script>" not in html and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; dome" in html
+    assert html.count("<svg") == 3  # ladder, shadow fits, latitude line
+    assert not re.search(r'(src|href)="(https?:)?//', html)  # nothing fetched when opened
+    assert "Never look at the Sun" in html and "ISO 12312-2" in html
+    assert "Error budget" in html and "limited most by" in html
+    assert "not measured" in html.lower()
+    first = out_file.read_bytes()
+    run(["report", hostile_campaign, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
+    assert out_file.read_bytes() == first
+
+
+def test_markdown_report_with_png_figures(hostile_campaign, tmp_path, capsys, monkeypatch):
+    out_file = tmp_path / "report.md"
+    code, out, err = run(["report", hostile_campaign, "-o", out_file, "--markdown", "--samples", "20000"], capsys, monkeypatch)
+    assert code == 0, err
+    text = out_file.read_text()
+    for name in ("ladder", "shadow_series", "latitude_line"):
+        png = tmp_path / f"report-{name}.png"
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+        assert f"(report-{name}.png)" in text
+    assert "| Earth's radius |" in text
+
+
+def test_report_refuses_to_overwrite_an_input(hostile_campaign, capsys, monkeypatch):
+    code, out, err = run(["report", hostile_campaign, "-o", hostile_campaign], capsys, monkeypatch)
+    assert code == 2 and "one of the inputs" in err
