@@ -1,0 +1,48 @@
+"""The report printed to PDF by headless Chromium: pages, and no figure taller than a page.
+
+Chromium is Debian's ``chromium`` package, which .ci/run installs; where no browser can be
+had the test is skipped with that reason.
+"""
+
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+from firstrung.cli import main
+
+EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
+BROWSER = shutil.which("chromium") or shutil.which("chromium-browser")
+#: A4 less the report's 14 mm margins, in CSS points (1 mm = 72 / 25.4 pt).
+PRINTABLE_HEIGHT_PT = (297 - 2 * 14) * 72 / 25.4
+#: The report's widest content, 190 mm, in points: wider figures are scaled down to it.
+CONTENT_WIDTH_PT = 190 * 72 / 25.4
+
+
+@pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
+def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypatch):
+    html = tmp_path / "report.html"
+    with pytest.raises(SystemExit) as done:
+        main(["report", str(EXAMPLE), "-o", str(html), "--samples", "20000"])
+    assert done.value.code == 0
+    capsys.readouterr()
+    pdf = tmp_path / "report.pdf"
+    cmd = [BROWSER, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
+           html.as_uri()]
+    subprocess.run(cmd, capture_output=True, timeout=120, check=False)
+    assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-"
+    pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
+    assert 2 <= pages <= 12, pages
+    # every figure fits on one printed page (the print CSS keeps figures whole: break-inside: avoid)
+    text = html.read_text()
+    figures = re.findall(r'<svg[^>]*width="([\d.]+)pt"[^>]*height="([\d.]+)pt"', text)
+    assert len(figures) == 3
+    for width, height in figures:
+        scale = min(1.0, CONTENT_WIDTH_PT / float(width))
+        assert float(height) * scale < PRINTABLE_HEIGHT_PT
