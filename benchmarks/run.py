@@ -153,6 +153,22 @@ def bench_reduce(n_sites, per_site, repeats):
             f"R/expected {r.earth_radius_km.value / r.expected_radius_km:.4f}")
 
 
+def bench_ladder(samples, repeats):
+    """The ladder's Monte Carlo with every rung measured."""
+    from firstrung.ladder import Draw, LadderInputs, climb
+
+    inputs = LadderInputs(
+        earth_radius_km=Draw("reciprocal", 1 / 6371.0, 0.01 / 6371.0),
+        moon_distance_earth_radii=Draw("reciprocal_sine", float(np.arcsin(1 / 60.27)), 0.0002),
+        sun_moon_distance_ratio=Draw("secant", float(np.radians(89.85)), float(np.radians(0.05))),
+        moon_angular_diameter_deg=Draw("gaussian", 0.518, 0.002),
+        sun_angular_diameter_deg=Draw("gaussian", 0.533, 0.002),
+    )
+    t_ours, lad, mem = timed(lambda: climb(inputs, samples=samples, seed=1), repeats)
+    moon = lad.rung("moon_distance_km").measured
+    return ("ladder Monte Carlo", f"{samples:,} samples", t_ours, None, mem, f"Moon {moon.value / 384400:.3f} x modern")
+
+
 def bench_cli_start(repeats):
     """`firstrung --help` against `python -c "import typer"` (fresh processes)."""
     def ours():
@@ -181,6 +197,7 @@ def main() -> None:
         bench_transits(10 if quick else 100, 60 if quick else 365, 3 if quick else 5),
         bench_sun_positions(10_000 if quick else 100_000, 100 if quick else 1000, 3 if quick else 5),
         bench_reduce(50 if quick else 500, 20, 3 if quick else 5),
+        bench_ladder(100_000 if quick else 1_000_000, 3 if quick else 5),
         bench_cli_start(3 if quick else 7),
     ]
     print(f"firstrung benchmarks ({'quick' if quick else 'full'}) on {platform.machine()}, "
