@@ -94,7 +94,7 @@ def shadow_length_m(gnomon_m, true_centre_altitude_deg, semidiameter_deg, edge,
     gnomon.
 
     >>> round(float(shadow_length_m(1.0, 45.0, 0.0, "middle")), 4)
-    1.0006
+    0.9994
     """
     sign = np.vectorize(EDGE_LIMB_SIGN.__getitem__, otypes=[float])(np.asarray(edge, dtype=object))
     limb = np.asarray(true_centre_altitude_deg, float) + sign * np.asarray(semidiameter_deg, float)
@@ -132,7 +132,7 @@ def plan_shadows(
     ...      PlanSite("b", "B", 46.4, 7.0, 0.0, None, 1.0, 0.001, 0.002, "umbra"))
     >>> p = plan_shadows(s, "2027-03-20", "2027-03-21")
     >>> [int(r) for r in p.rank]
-    [1, 2]
+    [2, 1]
     """
     from .. import ephemeris
 
