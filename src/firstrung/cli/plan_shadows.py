@@ -169,4 +169,4 @@ def _render(data: dict, run, days, caution: str, ics) -> None:
         out.print("  days ruled out: " + "; ".join(f"{k} ({v})" for k, v in sorted(reasons.items())))
     if ics is not None:
         out.print(f"  calendar written: {escape(str(ics))} ({len(days)} days x {len(plan.sites)} sites)")
-    out.print(f"  {caution}")
+    out.print(f"  Caution: {caution}")

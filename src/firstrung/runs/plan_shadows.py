@@ -98,7 +98,7 @@ def calendar_bytes(run: ShadowPlanRun, days: np.ndarray) -> bytes:
                 f"Campaign rank {int(plan.rank[k])}: expected sigma of the Earth's radius "
                 f"{plan.sigma_radius_km[k]:.0f} km",
                 "Read the shadow every 2 minutes from 30 minutes before to 30 minutes after noon.",
-                SOLAR_CAUTION,
+                "Caution: " + SOLAR_CAUTION,
             ]
             events.append(
                 CalendarEvent(
