@@ -1,6 +1,6 @@
 """Tests of firstrung.geodesy against published values and independent code.
 
-Published values come from /work/shared/reference-values.md, sections 1, 6 and 9:
+Published values come from the project's collected reference values (reference-values.md), sections 1, 6 and 9:
 Karney (2013), "Algorithms for geodesics", J. Geodesy 87:43-55 (numbers from
 memory there, certainty M), the GeographicLib documentation examples (V),
 NIMA TR8350.2 (2000) and Moritz (2000). geographiclib (Karney's own code) and

@@ -349,7 +349,7 @@ HEADER = "site,time_utc,shadow_cm,gnomon_m,edge,temperature_c,pressure_hpa\n"
         ),
         (
             "ridge,2027-03-20T11:38:00Z,103.8,,,,,surplus",
-            " expected 7 cells as in the header, got 8",
+            " expected 7 cells as in the header, got 8; put a cell that holds a ',' in double quotes",
         ),
     ],
 )
@@ -502,18 +502,26 @@ def test_a_folder_instead_of_a_file(campaign_dir):
     assert messages(log) == ["logs/shadows.csv: is a folder, expected a CSV file"]
 
 
-def test_other_encodings_are_one_file_problem(campaign_dir):
+def test_other_encodings_are_read_with_a_note(campaign_dir):
     path = campaign_dir / "logs" / "shadows.csv"
     path.write_bytes(
         "site,time_utc,shadow_m,note\nridge,2027-03-20T11:38:00Z,1,d\xe9j\xe0\n".encode("latin-1")
     )
     campaign = read_campaign(campaign_dir / "campaign.toml")
+    log = read_shadow_logs(campaign)
+    assert log.problems == ()
+    assert log.note.tolist() == ["d\xe9j\xe0"]
+    assert log.notes == (
+        "logs/shadows.csv: read as Windows-1252 text, as it is not UTF-8 (byte 0xe9 at offset "
+        "58; check letters outside ASCII in names and notes)",
+    )
+    path.write_bytes("site,time_utc,shadow_m\nridge,2027-03-20T11:38:00Z,1.5\n".encode("utf-16"))
+    log = read_shadow_logs(campaign)
+    assert log.problems == () and log.shadow_m.tolist() == [1.5]
+    assert log.notes == ("logs/shadows.csv: read as UTF-16 text",)
+    path.write_bytes("site,time_utc,shadow_m\n".encode("utf-32"))
     assert messages(read_shadow_logs(campaign)) == [
-        "logs/shadows.csv: not UTF-8 text (byte 0xe9 at offset 58); save the file as CSV UTF-8"
-    ]
-    path.write_bytes("site,time_utc,shadow_m\n".encode("utf-16"))
-    assert messages(read_shadow_logs(campaign)) == [
-        "logs/shadows.csv: UTF-16 text; save the file as CSV UTF-8"
+        "logs/shadows.csv: UTF-32 text; save the file as CSV UTF-8"
     ]
 
 

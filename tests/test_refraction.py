@@ -1,6 +1,6 @@
 """Tests of firstrung.refraction against published values and independent code.
 
-Published values come from /work/shared/reference-values.md, sections 2.8 and 3,
+Published values come from the project's collected reference values (reference-values.md), sections 2.8 and 3,
 whose sources are Meeus, Astronomical Algorithms, 2nd ed. (1998), ch. 16
 (read in secondary reproductions, certainty V2), Allen (1976), Astrophysical
 Quantities, 3rd ed., p. 125, and Bessel's mean refraction table.

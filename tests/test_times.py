@@ -159,3 +159,17 @@ def test_to_iso_z_round_trips_parse_utc():
 def test_to_iso_z_refuses_nat():
     with pytest.raises(InputError):
         to_iso_z(np.datetime64("NaT"))
+
+
+def test_parse_utc_accepts_a_decimal_comma_in_the_seconds():
+    # ISO 8601:2004 section 4.2.2.4 allows a comma (its preferred sign) before the fraction.
+    assert parse_utc("2027-03-20T11:38:00,25Z") == np.datetime64("2027-03-20T11:38:00.250")
+    assert parse_local("2027-03-20T12:38:00,5", "Europe/Zurich") == np.datetime64(
+        "2027-03-20T11:38:00.500"
+    )
+
+
+def test_long_text_is_cut_in_messages():
+    with pytest.raises(TimeFormatError) as info:
+        parse_utc("2" * 500)
+    assert str(info.value) == UTC_MESSAGE + "'22222222222222222222...' (500 characters)"

@@ -35,6 +35,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from zoneinfo import ZoneInfo
 
+from .constants import WGS84_SEMI_MAJOR_AXIS_M
 from .errors import InputError
 from .times import check_zone
 
@@ -70,6 +71,9 @@ SITE_ID_PATTERN = re.compile(r"^[A-Za-z0-9_-]+$")
 ELEVATION_RANGE_M = (-500.0, 9000.0)
 #: Gnomon heights must be below this [m].
 GNOMON_HEIGHT_LIMIT_M = 100.0
+#: Surveyed baselines must be at most this long [km]: half the WGS84 equator,
+#: the longest shortest path between two points on the Earth's surface.
+BASELINE_LIMIT_KM = math.pi * WGS84_SEMI_MAJOR_AXIS_M / 1000.0
 
 _TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse")
 _CAMPAIGN_KEYS = ("name",)
@@ -84,6 +88,11 @@ _ECLIPSE_KEYS = (
     "moon_sky_rate_deg_per_h",
     "moon_sky_rate_sigma_deg_per_h",
 )
+
+#: Integers longer than this are shown by their length in messages.
+_SHOWN_DIGITS = 20
+#: Python refuses to convert integers with more digits than this (sys.get_int_max_str_digits).
+_MAX_DIGITS = 4300
 
 _TOML_POSITION_RE = re.compile(
     r"^(?P<message>.*?)\s*\(at line (?P<line>\d+), column (?P<column>\d+)\)$"
@@ -293,7 +302,16 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
     except IsADirectoryError:
         raise InputError("is a folder, expected a campaign file (TOML)", file=label) from None
     except OSError as error:
-        raise InputError(f"cannot read the file: {error.strerror}", file=label) from None
+        raise InputError(f"cannot read the file: {error.strerror or error}", file=label) from None
+    except ValueError:  # a NUL character in the path
+        raise InputError("not a usable file name (it holds a NUL character)", file=label) from None
+    if data.startswith((b"PK\x03\x04", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1")):
+        raise InputError(
+            "a ZIP archive or office document, not a campaign file (TOML text)", file=label
+        )
+    if data.startswith((b"\xff\xfe", b"\xfe\xff", b"\x00\x00\xfe\xff")):
+        kind = "UTF-32" if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")) else "UTF-16"
+        raise InputError(f"{kind} text; save the campaign file as UTF-8", file=label)
     if data.startswith(b"\xef\xbb\xbf"):
         data = data[3:]
     try:
@@ -348,6 +366,14 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
         document = tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
         raise _syntax_error(error, label) from None
+    except RecursionError:
+        raise InputError("TOML syntax error: arrays or tables nested too deeply", file=label) from None
+    except ValueError as error:  # an integer of more digits than Python converts
+        message = str(error)
+        if "digits" in message:
+            message = f"a number too long to read (more than {_MAX_DIGITS} digits)"
+        first_line = message.splitlines()[0] if message else type(error).__name__
+        raise InputError(f"TOML syntax error: {first_line}", file=label) from None
     reader = _Reader(label)
     for key, value in document.items():
         if key not in _TOP_LEVEL_KEYS:
@@ -395,6 +421,8 @@ def _show(value: object) -> str:
         return "a table"
     if isinstance(value, list):
         return "a list"
+    if isinstance(value, int) and abs(value) >= 10**_SHOWN_DIGITS:
+        return f"an integer of {len(str(abs(value)))} digits"
     return str(value)
 
 
@@ -432,7 +460,10 @@ class _Reader:
         where = f"{prefix}.{key}"
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise self.error(where, f"expected {expected}, got {_show(value)}")
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError:  # an integer beyond the range of a float
+            number = math.inf
         if not math.isfinite(number) or (ok is not None and not ok(number)):
             raise self.error(where, f"expected {expected}, got {_show(value)}")
         return number
@@ -615,6 +646,12 @@ class _Reader:
         distance_km = self.required_number(
             table, prefix, "distance_km", "a positive distance in km", lambda x: x > 0.0
         )
+        if distance_km > BASELINE_LIMIT_KM:
+            raise self.error(
+                f"{prefix}.distance_km",
+                f"expected a distance of at most {BASELINE_LIMIT_KM:.1f} km (half the equator), "
+                f"got {_show(table['distance_km'])}",
+            )
         sigma_km = self.required_number(
             table, prefix, "sigma_km", "a non-negative uncertainty in km", lambda x: x >= 0.0
         )

@@ -48,3 +48,22 @@ EPHEMERIS_LAST_UTC = "2053-10-08T00:00:00"
 #: Lunar mean radius [km]: the IAU/WGCCRE cartographic reference sphere
 #: (Seidelmann et al. 2002; the datum of USGS lunar maps).
 MOON_MEAN_RADIUS_KM = 1737.4
+
+# --- Lunar eclipses: the Earth's shadow ---------------------------------------------
+#: Earth's radius in the shadow conventions' parallaxes [km]: pi = asin(a / d) with the
+#: WGS84 equatorial radius (reference-values 4.3; the conventions are stated for the
+#: equatorial horizontal parallax).
+SHADOW_EARTH_RADIUS_KM = 6378.137
+#: Danjon (1951): the Earth's radius enlarged by 1/85, less 1/594 for the oblateness,
+#: i.e. 1.01 times the Moon's parallax in both shadow radii. Used by the NASA Five
+#: Millennium Canon (Espenak & Meeus 2009, NASA/TP-2009-214172; "Enlargement of Earth's
+#: Shadows", eclipse.gsfc.nasa.gov/LEcat5/shadow.html).
+DANJON_PARALLAX_FACTOR = 1.01
+#: Chauvenet (1891): both shadow radii enlarged by 1/50 (same NASA page).
+CHAUVENET_ENLARGEMENT_FACTOR = 1.02
+#: Chauvenet's factor on the Moon's parallax: the Earth's radius at 45 deg latitude,
+#: 1 - (1/2)(1/300) (same NASA page).
+CHAUVENET_PARALLAX_FACTOR = 0.998340
+#: The Sun's mean rate along the ecliptic, i.e. the Earth's shadow's motion against the
+#: stars [deg per h]: 360 deg per tropical year of 365.2422 d (common practice).
+SUN_MEAN_RATE_DEG_PER_H = 360.0 / 365.2422 / 24.0

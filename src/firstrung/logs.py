@@ -7,21 +7,38 @@ not UTF-8, a required column absent) is a problem with no row, and that file
 yields no rows.
 
 File format (the design's "Files" contract): UTF-8 (a BOM is accepted), one
-header line, column names matched without regard to case or surrounding
-spaces. Blank lines, lines whose cells are all empty and lines starting with
-``#`` are skipped, before or after the header. **Row numbers count data rows
-only**: the first data row after the header is row 1, and skipped lines are
-not counted. Unknown columns are ignored and listed in ``ignored_columns``.
+header line, column names matched without regard to case, surrounding spaces,
+or spaces inside for ``_`` (``Time UTC`` is ``time_utc``). Blank lines, lines
+whose cells are all empty and lines starting with ``#`` are skipped, before or
+after the header. **Row numbers count data rows only**: the first data row
+after the header is row 1, and skipped lines are not counted. Unknown columns
+are ignored and listed in ``ignored_columns``.
 
 Numbers use a decimal point (``103.8``). Units are in the column names:
 ``shadow_m``/``shadow_cm``/``shadow_mm`` (exactly one of them), lengths are
 returned in metres.
+
+What spreadsheet programs write is read when it cannot be misread, and each
+such file gets one line in the log's ``notes``:
+
+- ``;``- or tab-separated files (the separator is the one that splits the
+  header into known column names). In such a file a comma in a number is a
+  decimal comma (``103,8``), the export of a decimal-comma locale; a number
+  written like ``1.038`` in a file that also has decimal commas could be
+  1.038 or 1038 and is refused.
+- In a ``,``-separated file a decimal comma is refused: a row that it split
+  into more cells than the header is refused with a message naming the cells.
+- UTF-16 text (with or without a byte-order mark), and, when the bytes are not
+  UTF-8, Windows-1252 text (only free text such as observers' names can hold
+  letters outside ASCII, so no reading depends on the guess).
+- Workbooks (``.xlsx``, ``.ods``, ``.xls``) and UTF-32 text are refused.
 """
 
 from __future__ import annotations
 
 import csv
 import io
+import itertools
 import math
 import os
 import re
@@ -34,7 +51,7 @@ import numpy as np
 from .campaign import EDGES, Campaign
 from .constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from .errors import RowProblem
-from .times import TimeFormatError, in_ephemeris_span, parse_local, parse_utc
+from .times import QUOTED_LIMIT, TimeFormatError, in_ephemeris_span, parse_local, parse_utc, quoted
 
 __all__ = [
     "ECLIPSE_EVENTS",
@@ -56,6 +73,9 @@ QUARTERS = ("first", "last")
 SHADOW_LIMIT_M = 1000.0
 #: Gnomon heights in a log must be below this [m].
 GNOMON_LIMIT_M = 100.0
+#: Largest accepted timing uncertainty [s]: beyond an hour a timing says nothing
+#: about a contact or a half moon, and the value is a unit typed wrongly.
+TIME_SIGMA_LIMIT_S = 3600.0
 #: Accepted air temperatures for refraction [deg C].
 TEMPERATURE_RANGE_C = (-80.0, 60.0)
 #: Accepted air pressures for refraction [hPa].
@@ -90,7 +110,8 @@ class _Log:
         Returns
         -------
         Same type
-            Problems, ``rows_read`` and ``ignored_columns`` are kept as they are.
+            Problems, ``rows_read``, ``ignored_columns`` and ``notes`` are kept
+            as they are.
         """
         picked = np.asarray(mask)
         changes = {
@@ -137,6 +158,11 @@ class ShadowLog(_Log):
         Data rows read, good and bad.
     ignored_columns : tuple of str
         Columns the reader does not know, in order of first appearance.
+    notes : tuple of str
+        One line per file read in a form other than the plain one (``;``
+        separators, decimal commas, UTF-16 ...), e.g.
+        ``"logs/a.csv: read as ';'-separated with decimal commas"``; not
+        problems: every reading in such a file is kept.
     """
 
     file: np.ndarray
@@ -155,6 +181,7 @@ class ShadowLog(_Log):
     problems: tuple[RowProblem, ...] = ()
     rows_read: int = 0
     ignored_columns: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -173,7 +200,7 @@ class EclipseLog(_Log):
         The observer's timing uncertainty [s]; NaN when absent.
     observer : numpy.ndarray of object
         Free text; ``''`` when absent.
-    problems, rows_read, ignored_columns
+    problems, rows_read, ignored_columns, notes
         As in :class:`ShadowLog`.
     """
 
@@ -189,6 +216,7 @@ class EclipseLog(_Log):
     problems: tuple[RowProblem, ...] = ()
     rows_read: int = 0
     ignored_columns: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -209,7 +237,7 @@ class PhaseLog(_Log):
         Timing uncertainty [s]; NaN when absent.
     observer : numpy.ndarray of object
         Free text; ``''`` when absent.
-    problems, rows_read, ignored_columns
+    problems, rows_read, ignored_columns, notes
         As in :class:`ShadowLog`.
     """
 
@@ -226,9 +254,29 @@ class PhaseLog(_Log):
     problems: tuple[RowProblem, ...] = ()
     rows_read: int = 0
     ignored_columns: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
 
 
 # --- the shared core -----------------------------------------------------------
+
+#: Separators a log may use, and how a note names them.
+_DELIMITER_NAMES = {",": "','-separated", ";": "';'-separated", "\t": "tab-separated"}
+#: A number with a decimal comma (``103,8``, ``-0,5``, ``,25``, ``1,5e3``).
+_DECIMAL_COMMA_RE = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
+#: A number that a decimal-comma locale writes with ``.`` between groups of thousands.
+_GROUPED_POINT_RE = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
+#: Two cells that a decimal comma may have split (``103`` and ``8``).
+_INTEGER_RE = re.compile(r"^[+-]?\d+$")
+_DIGITS_RE = re.compile(r"^\d+$")
+#: Characters that leave a cell blank (separators of another kind included).
+_BLANK_CHARS = " \t\r\n\f\v\u00a0,;"
+#: File signatures of spreadsheet workbooks: ZIP (.xlsx, .ods) and OLE2 (.xls).
+_WORKBOOK_SIGNATURES = (b"PK\x03\x04", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1")
+#: Column names listed at most in a message about a header.
+_SHOWN_COLUMNS = 12
+#: Lines read to find the header when choosing the separator.
+_SNIFF_LINES = 200
+_SAVE_AS = "save the file as CSV UTF-8"
 
 
 @dataclass(frozen=True)
@@ -237,6 +285,7 @@ class _Slot:
 
     names: tuple[str, ...]
     required: bool = False
+    numeric: bool = False
 
     @property
     def shown(self) -> str:
@@ -245,13 +294,51 @@ class _Slot:
 
 @dataclass
 class _Table:
-    """The cells of one file, keyed by the chosen name of each slot."""
+    """The cells of one file, keyed by the chosen name of each slot, and how it was read."""
 
     label: str
     chosen: dict[str, str | None]
     rows: list[tuple[int, dict[str, str]]]
     problems: list[RowProblem]
     ignored: list[str]
+    delimiter: str = ","
+    decimal_comma: bool = False
+    encoding: str | None = None
+
+    @property
+    def note(self) -> str | None:
+        """One line saying how the file was read, when that is not plain CSV UTF-8."""
+        parts = []
+        if self.encoding is not None:
+            parts.append(self.encoding)
+        if self.delimiter != ",":
+            shown = _DELIMITER_NAMES[self.delimiter]
+            parts.append(shown + (" with decimal commas" if self.decimal_comma else ""))
+        return f"{self.label}: read as {', '.join(parts)}" if parts else None
+
+    def read_number(self, cell: str) -> tuple[float | None, str | None]:
+        """A cell as a finite number, or ``None`` and, when it helps, why it is refused."""
+        if "," in cell:
+            if "." in cell:
+                return None, "write numbers without thousands separators"
+            if self.delimiter == ",":
+                return None, (
+                    "a comma in a number in a ','-separated file: write it with a decimal "
+                    "point and no thousands separator"
+                )
+            if not _DECIMAL_COMMA_RE.match(cell):
+                return None, None
+            cell = cell.replace(",", ".")
+        elif self.decimal_comma and _GROUPED_POINT_RE.match(cell):
+            digits = cell.replace(".", "")
+            return None, (
+                f"ambiguous in a file with decimal commas: {cell.lstrip('+')} or "
+                f"{int(digits)}? write {cell.replace('.', ',')} or {digits}"
+            )
+        value = _number(cell)
+        if value is None and _NUMBER_RE.match(cell):
+            return None, "too large to be a measurement"
+        return value, None
 
 
 def _display_name(path: Path, campaign: Campaign) -> str:
@@ -264,34 +351,128 @@ def _display_name(path: Path, campaign: Campaign) -> str:
         return Path(path).as_posix()
 
 
-def _decode(data: bytes, label: str) -> tuple[str | None, RowProblem | None]:
-    """UTF-8 text of a file, without its BOM, or the problem that stops reading it."""
-    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        return None, RowProblem(label, None, None, "UTF-16 text; save the file as CSV UTF-8")
-    if data.startswith(b"\xef\xbb\xbf"):
-        data = data[3:]
-    try:
-        return data.decode("utf-8"), None
-    except UnicodeDecodeError as error:
-        return None, RowProblem(
-            label,
-            None,
-            None,
-            f"not UTF-8 text (byte 0x{data[error.start]:02x} at offset {error.start}); "
-            "save the file as CSV UTF-8",
+def _utf16_without_bom(data: bytes) -> str | None:
+    """``'utf-16-le'``/``'utf-16-be'`` when the bytes read as UTF-16 with no byte-order mark.
+
+    Text in the Latin range written as UTF-16 has a NUL in every other byte;
+    CSV UTF-8 has none.
+    """
+    sample = data[:4096]
+    pairs = len(sample) // 2
+    if pairs < 2:
+        return None
+    even = sample[0 : 2 * pairs : 2].count(0)
+    odd = sample[1 : 2 * pairs : 2].count(0)
+    if odd >= 0.75 * pairs and even <= 0.05 * pairs:
+        return "utf-16-le"
+    if even >= 0.75 * pairs and odd <= 0.05 * pairs:
+        return "utf-16-be"
+    return None
+
+
+def _decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem | None]:
+    """The text of a file, how it was read when not as UTF-8, or the problem that stops it."""
+
+    def refuse(message: str) -> tuple[None, None, RowProblem]:
+        return None, None, RowProblem(label, None, None, message)
+
+    if data.startswith(_WORKBOOK_SIGNATURES):
+        return refuse(
+            "a spreadsheet workbook (.xlsx, .ods or .xls), not CSV text; "
+            "save the sheet as CSV UTF-8"
         )
+    if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
+        return refuse(f"UTF-32 text; {_SAVE_AS}")
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        codec, encoding = "utf-16", "UTF-16 text"
+    else:
+        codec, encoding = _utf16_without_bom(data), "UTF-16 text without a byte-order mark"
+    if codec is not None:
+        try:
+            return data.decode(codec), encoding, None
+        except UnicodeDecodeError as error:
+            return refuse(f"not valid UTF-16 text (at byte offset {error.start}); {_SAVE_AS}")
+    if data.startswith(b"\xef\xbb\xbf"):
+        try:
+            return data[3:].decode("utf-8"), None, None
+        except UnicodeDecodeError as error:
+            offset = error.start + 3
+            return refuse(
+                "not UTF-8 text although it starts with a UTF-8 byte-order mark "
+                f"(byte 0x{data[offset]:02x} at offset {offset}); {_SAVE_AS}"
+            )
+    try:
+        return data.decode("utf-8"), None, None
+    except UnicodeDecodeError as error:
+        # Readings are ASCII (numbers, ISO times, site ids); only free text can
+        # hold other letters, so reading the usual 8-bit spreadsheet encoding
+        # loses nothing and at worst misspells a name.
+        encoding = (
+            f"Windows-1252 text, as it is not UTF-8 (byte 0x{data[error.start]:02x} at offset "
+            f"{error.start}; check letters outside ASCII in names and notes)"
+        )
+        return data.decode("cp1252", errors="replace"), encoding, None
 
 
 def _is_skipped(cells: Sequence[str]) -> bool:
     """Blank lines, lines of empty cells and comment lines (starting with ``#``)."""
-    if not cells or all(not cell.strip() for cell in cells):
+    if not cells or all(not cell.strip(_BLANK_CHARS) for cell in cells):
         return True
     return cells[0].lstrip().startswith("#")
 
 
+def _normal_name(cell: str) -> str:
+    """A header cell as a column name: lower case, no surrounding spaces, ``_`` for inner ones."""
+    return re.sub(r"\s+", "_", cell.replace("\ufeff", "").strip().lower())
+
+
+def _sniff_delimiter(text: str, known: set[str]) -> str:
+    """The separator that splits the header line into the most known column names."""
+    best, best_count = ",", 0
+    for delimiter in _DELIMITER_NAMES:
+        reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+        try:
+            header = next(
+                (cells for cells in itertools.islice(reader, _SNIFF_LINES) if not _is_skipped(cells)),
+                [],
+            )
+        except csv.Error:
+            continue
+        count = sum(_normal_name(cell) in known for cell in header)
+        if count > best_count:
+            best, best_count = delimiter, count
+    return best
+
+
 def _printable(name: str) -> str:
-    """A header name for a one-line message: as it is, or escaped when it holds control characters."""
-    return name if name.isprintable() else repr(name)
+    """A header name for a one-line message: as it is, or quoted when odd or very long."""
+    return name if name.isprintable() and len(name) <= QUOTED_LIMIT else quoted(name)
+
+
+def _swallowed(cells: Sequence[str], delimiter: str, width: int) -> tuple[int, int] | None:
+    """A quoted cell that took in lines looking like rows: its index and how many line ends."""
+    for index, cell in enumerate(cells):
+        if "\n" not in cell and "\r" not in cell:
+            continue
+        more = cell.splitlines()[1:]
+        if any(line.count(delimiter) >= min(width, 3) - 1 for line in more):
+            return index, len(more)
+    return None
+
+
+def _surplus_message(cells: Sequence[str], expected: int, delimiter: str) -> str:
+    """Why a row has more cells than the header, as precisely as the cells show."""
+    message = f"expected {expected} cells as in the header, got {len(cells)}"
+    if delimiter == ",":
+        for left, right in zip(cells, cells[1:], strict=False):
+            left, right = left.strip(), right.strip()
+            if _INTEGER_RE.match(left) and _DIGITS_RE.match(right):
+                return (
+                    f"{message} (is '{left},{right}' a number with a decimal comma? In a "
+                    f"','-separated file write {left}.{right}, or save the file with ';' separators)"
+                )
+    shown = "tab" if delimiter == "\t" else repr(delimiter)
+    return f"{message}; put a cell that holds a {shown} in double quotes"
 
 
 def _choose_columns(
@@ -303,10 +484,13 @@ def _choose_columns(
     seen: set[str] = set()
     for name in header:
         if name and name in seen:
-            problems.append(RowProblem(label, None, None, f"column {name!r} appears twice"))
+            problems.append(RowProblem(label, None, None, f"column {quoted(name)} appears twice"))
         seen.add(name)
     required = ", ".join(slot.shown for slot in slots if slot.required)
-    found = ", ".join(_printable(name) for name in header if name) or "no column names"
+    names = [_printable(name) for name in header if name]
+    found = ", ".join(names[:_SHOWN_COLUMNS]) or "no column names"
+    if len(names) > _SHOWN_COLUMNS:
+        found += f" and {len(names) - _SHOWN_COLUMNS} more"
     for slot in slots:
         present = [name for name in slot.names if name in seen]
         chosen[slot.names[0]] = present[0] if len(present) == 1 else None
@@ -347,21 +531,28 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
         message = f"cannot read the file: {error.strerror or error}"
         table.problems.append(RowProblem(label, None, None, message))
         return table
-    text, problem = _decode(data, label)
+    except ValueError:  # a NUL character in the path
+        message = "not a usable file name (it holds a NUL character)"
+        table.problems.append(RowProblem(label, None, None, message))
+        return table
+    text, table.encoding, problem = _decode(data, label)
     if problem is not None:
         table.problems.append(problem)
         return table
+    if text.startswith("\ufeff"):
+        text = text[1:]
 
-    reader = csv.reader(io.StringIO(text, newline=""))
+    known = {name for slot in slots for name in slot.names}
+    table.delimiter = _sniff_delimiter(text, known)
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=table.delimiter)
     header: list[str] | None = None
     row_number = 0
-    known = {name for slot in slots for name in slot.names}
     try:
         for cells in reader:
             if _is_skipped(cells):
                 continue
             if header is None:
-                header = [cell.strip().lower() for cell in cells]
+                header = [_normal_name(cell) for cell in cells]
                 table.chosen, problems = _choose_columns(header, slots, label)
                 table.problems.extend(problems)
                 if problems:
@@ -370,15 +561,21 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
                 continue
             row_number += 1
             if len(cells) > len(header) and any(cell.strip() for cell in cells[len(header) :]):
-                table.problems.append(
-                    RowProblem(
-                        label,
-                        row_number,
-                        None,
-                        f"expected {len(header)} cells as in the header, got {len(cells)}",
-                    )
-                )
+                message = _surplus_message(cells, len(header), table.delimiter)
+                table.problems.append(RowProblem(label, row_number, None, message))
                 table.rows.append((row_number, {}))  # counted as read, not kept
+                continue
+            swallowed = _swallowed(cells, table.delimiter, len(header))
+            if swallowed is not None:
+                index, line_ends = swallowed
+                column = header[index] if index < len(header) and header[index] else None
+                message = (
+                    f"a double quote opens a cell that runs on over {line_ends} line end(s) and "
+                    "takes in lines that look like rows (a closing quote missing?); "
+                    "those lines are not read"
+                )
+                table.problems.append(RowProblem(label, row_number, column, message))
+                table.rows.append((row_number, {}))
                 continue
             values = {}
             for index, name in enumerate(header):
@@ -394,11 +591,19 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
         table.problems.append(
             RowProblem(label, None, None, f"empty file (expected a header line: {required})")
         )
+    elif table.delimiter != ",":
+        numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
+        table.decimal_comma = any(
+            _DECIMAL_COMMA_RE.match(values.get(column, ""))
+            for _, values in table.rows
+            for column in numeric
+            if column is not None
+        )
     return table
 
 
 def _got(cell: str) -> str:
-    return "an empty cell" if cell == "" else repr(cell)
+    return "an empty cell" if cell == "" else quoted(cell)
 
 
 def _number(cell: str) -> float | None:
@@ -443,9 +648,10 @@ class _Row:
         cell = self.cell(slot_name)
         if cell == "" and not required:
             return math.nan
-        value = _number(cell)
+        value, reason = self.table.read_number(cell)
         if value is None or not ok(value):
-            self.problem(column, f"expected {expected}, got {_got(cell)}")
+            why = "" if reason is None else f" ({reason})"
+            self.problem(column, f"expected {expected}, got {_got(cell)}{why}")
             return math.nan
         return value * factor
 
@@ -457,7 +663,7 @@ class _Row:
         if site_id == "":
             self.problem("site", f"expected a site id ({', '.join(known)}), got an empty cell")
         elif site_id not in known:
-            self.problem("site", f"unknown site {site_id!r} (known: {', '.join(known)})")
+            self.problem("site", f"unknown site {quoted(site_id)} (known: {', '.join(known)})")
         else:
             site = campaign.site(site_id)
 
@@ -492,7 +698,7 @@ class _Row:
             self.problem(
                 column,
                 f"expected a time between {_SPAN_TEXT} (the span of the bundled ephemeris), "
-                f"got {text!r}",
+                f"got {quoted(text)}",
             )
             return site_id, nat
         return site_id, t
@@ -504,17 +710,20 @@ def _read_all(
     paths: Iterable[str | os.PathLike[str]] | None,
     slots: Sequence[_Slot],
     parse_row: Callable[[_Row, Campaign], dict | None],
-) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...]]:
-    """Read every file of one kind; the good rows as dicts, the problems, rows read, ignored."""
+) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
+    """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes."""
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []
     ignored: list[str] = []
+    notes: list[str] = []
     rows_read = 0
     for path in chosen_paths:
         label = _display_name(Path(path), campaign)
         table = _read_table(Path(path), label, slots)
         problems.extend(table.problems)
+        if table.note is not None:
+            notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
         for row_number, cells in table.rows:
             rows_read += 1
@@ -528,7 +737,7 @@ def _read_all(
             values["file"] = label
             values["row"] = row_number
             good.append(values)
-    return good, problems, rows_read, tuple(ignored)
+    return good, problems, rows_read, tuple(ignored), tuple(notes)
 
 
 def _arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
@@ -552,16 +761,29 @@ def _text(row: _Row, slot_name: str) -> str:
     return row.cell(slot_name)
 
 
+def _time_sigma_s(row: _Row) -> float:
+    """The row's timing uncertainty [s]; NaN when absent or refused."""
+    sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
+    if sigma_s > TIME_SIGMA_LIMIT_S:
+        row.problem(
+            "time_sigma_s",
+            f"expected a timing uncertainty of at most {TIME_SIGMA_LIMIT_S:g} s, "
+            f"got {quoted(row.cell('time_sigma_s'))}",
+        )
+        return math.nan
+    return sigma_s
+
+
 # --- shadows --------------------------------------------------------------------
 
 _SHADOW_SLOTS = (
     _Slot(("site",), required=True),
     _Slot(_TIME_COLUMNS, required=True),
-    _Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True),
-    _Slot(("gnomon_m", "gnomon_cm", "gnomon_mm")),
+    _Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True, numeric=True),
+    _Slot(("gnomon_m", "gnomon_cm", "gnomon_mm"), numeric=True),
     _Slot(("edge",)),
-    _Slot(("temperature_c",)),
-    _Slot(("pressure_hpa",)),
+    _Slot(("temperature_c",), numeric=True),
+    _Slot(("pressure_hpa",), numeric=True),
     _Slot(("observer",)),
     _Slot(("note",)),
 )
@@ -586,7 +808,7 @@ def _parse_shadow_row(row: _Row, campaign: Campaign) -> dict:
         row.problem(
             shadow_column,
             f"expected a shadow length of at most {SHADOW_LIMIT_M:g} m, "
-            f"got {row.cell('shadow_m')!r} ({shadow_m:g} m)",
+            f"got {quoted(row.cell('shadow_m'))} ({shadow_m:g} m)",
         )
     gnomon_m = math.nan
     gnomon_column = row.column("gnomon_m")
@@ -602,14 +824,14 @@ def _parse_shadow_row(row: _Row, campaign: Campaign) -> dict:
             row.problem(
                 gnomon_column,
                 f"expected a gnomon height below {GNOMON_LIMIT_M:g} m, "
-                f"got {row.cell('gnomon_m')!r} ({gnomon_m:g} m)",
+                f"got {quoted(row.cell('gnomon_m'))} ({gnomon_m:g} m)",
             )
     edge_text = row.cell("edge")
     edge = None
     if edge_text:
         edge = edge_text.lower()
         if edge not in EDGES:
-            row.problem("edge", f"expected edge umbra, middle or outer, got {edge_text!r}")
+            row.problem("edge", f"expected edge umbra, middle or outer, got {quoted(edge_text)}")
     low_c, high_c = TEMPERATURE_RANGE_C
     temperature_c = row.number(
         "temperature_c",
@@ -661,7 +883,7 @@ def read_shadow_logs(
     ``gnomon_m``/``gnomon_cm``/``gnomon_mm``, ``edge``, ``temperature_c``,
     ``pressure_hpa``, ``observer``, ``note``.
     """
-    good, problems, rows_read, ignored = _read_all(
+    good, problems, rows_read, ignored, notes = _read_all(
         campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row
     )
     dtypes = dict(_COMMON_DTYPES)
@@ -680,6 +902,7 @@ def read_shadow_logs(
         problems=tuple(problems),
         rows_read=rows_read,
         ignored_columns=ignored,
+        notes=notes,
     )
 
 
@@ -690,7 +913,7 @@ _ECLIPSE_SLOTS = (
     _Slot(_TIME_COLUMNS, required=True),
     _Slot(("event",), required=True),
     _Slot(("feature",)),
-    _Slot(("time_sigma_s",)),
+    _Slot(("time_sigma_s",), numeric=True),
     _Slot(("observer",)),
 )
 _EVENT_SPELLINGS = {event.lower(): event for event in ECLIPSE_EVENTS}
@@ -714,9 +937,9 @@ def _parse_eclipse_row(row: _Row, campaign: Campaign) -> dict:
     elif event.startswith("U") and feature:
         row.problem(
             "feature",
-            f"expected an empty cell for the umbral contact {event}, got {feature!r}",
+            f"expected an empty cell for the umbral contact {event}, got {quoted(feature)}",
         )
-    time_sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
+    time_sigma_s = _time_sigma_s(row)
     return {
         "site": site_id,
         "time_utc": t,
@@ -752,7 +975,7 @@ def read_eclipse_logs(
     for immersion and emersion, empty for umbral contacts), ``time_sigma_s``,
     ``observer``.
     """
-    good, problems, rows_read, ignored = _read_all(
+    good, problems, rows_read, ignored, notes = _read_all(
         campaign, "eclipse", paths, _ECLIPSE_SLOTS, _parse_eclipse_row
     )
     dtypes = dict(_COMMON_DTYPES)
@@ -762,6 +985,7 @@ def read_eclipse_logs(
         problems=tuple(problems),
         rows_read=rows_read,
         ignored_columns=ignored,
+        notes=notes,
     )
 
 
@@ -771,9 +995,9 @@ _PHASE_SLOTS = (
     _Slot(("site",), required=True),
     _Slot(_TIME_COLUMNS, required=True),
     _Slot(("quarter",), required=True),
-    _Slot(("elongation_deg",)),
-    _Slot(("illuminated_fraction",)),
-    _Slot(("time_sigma_s",)),
+    _Slot(("elongation_deg",), numeric=True),
+    _Slot(("illuminated_fraction",), numeric=True),
+    _Slot(("time_sigma_s",), numeric=True),
     _Slot(("observer",)),
 )
 
@@ -794,7 +1018,7 @@ def _parse_phase_row(row: _Row, campaign: Campaign) -> dict:
     )
     if row.cell("elongation_deg") and row.cell("illuminated_fraction"):
         row.problem(None, "give elongation_deg or illuminated_fraction in a row, not both")
-    time_sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
+    time_sigma_s = _time_sigma_s(row)
     return {
         "site": site_id,
         "time_utc": t,
@@ -831,7 +1055,7 @@ def read_phase_logs(
     ``illuminated_fraction`` (0-1), not both in one row; ``time_sigma_s``,
     ``observer``.
     """
-    good, problems, rows_read, ignored = _read_all(
+    good, problems, rows_read, ignored, notes = _read_all(
         campaign, "phases", paths, _PHASE_SLOTS, _parse_phase_row
     )
     dtypes = dict(_COMMON_DTYPES)
@@ -847,4 +1071,5 @@ def read_phase_logs(
         problems=tuple(problems),
         rows_read=rows_read,
         ignored_columns=ignored,
+        notes=notes,
     )

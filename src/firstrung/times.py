@@ -25,6 +25,7 @@ __all__ = [
     "in_ephemeris_span",
     "parse_local",
     "parse_utc",
+    "quoted",
     "to_iso_z",
 ]
 
@@ -39,7 +40,7 @@ _ISO_RE = re.compile(
     (?P<year>\d{4})-(?P<month>\d{2})-(?P<day>\d{2})
     [Tt\ ]
     (?P<hour>\d{2}):(?P<minute>\d{2})
-    (?::(?P<second>\d{2})(?:\.(?P<fraction>\d+))?)?
+    (?::(?P<second>\d{2})(?:[.,](?P<fraction>\d+))?)?
     \s*
     (?P<offset>[Zz]|[+-]\d{2}(?::?\d{2})?)?
     \s*$
@@ -50,8 +51,27 @@ _ISO_RE = re.compile(
 _UTC = dt.UTC
 
 
+#: Longest text quoted whole in a message; longer text is cut and its length given.
+QUOTED_LIMIT = 40
+
+
 class TimeFormatError(InputError):
     """A time that is not a valid ISO 8601 time of the expected kind."""
+
+
+def quoted(text: object) -> str:
+    """Text as a message quotes it: ``repr``, cut to its start when very long.
+
+    Examples
+    --------
+    >>> quoted("2027-03-20")
+    "'2027-03-20'"
+    >>> quoted("9" * 400)
+    "'99999999999999999999...' (400 characters)"
+    """
+    if isinstance(text, str) and len(text) > QUOTED_LIMIT:
+        return f"{text[: QUOTED_LIMIT // 2] + '...'!r} ({len(text)} characters)"
+    return repr(text)
 
 
 def _split_iso(text: str, expected: str) -> tuple[dt.datetime, str | None]:
@@ -76,10 +96,10 @@ def _split_iso(text: str, expected: str) -> tuple[dt.datetime, str | None]:
         When the text is not an ISO 8601 date-time or names an impossible date.
     """
     if not isinstance(text, str):
-        raise TimeFormatError(f"{expected}, got {text!r}")
+        raise TimeFormatError(f"{expected}, got {quoted(text)}")
     match = _ISO_RE.match(text)
     if match is None:
-        raise TimeFormatError(f"{expected}, got {text!r}")
+        raise TimeFormatError(f"{expected}, got {quoted(text)}")
     fraction = match["fraction"] or ""
     # Round to the nearest millisecond from the written digits (no float round-off).
     padded = (fraction + "0000")[:4]
@@ -94,7 +114,7 @@ def _split_iso(text: str, expected: str) -> tuple[dt.datetime, str | None]:
             int(match["second"] or 0),
         )
     except ValueError:
-        raise TimeFormatError(f"{expected}, got {text!r} (no such date or time)") from None
+        raise TimeFormatError(f"{expected}, got {quoted(text)} (no such date or time)") from None
     wall += dt.timedelta(milliseconds=milliseconds)
     return wall, match["offset"]
 
@@ -124,7 +144,8 @@ def parse_utc(text: str) -> np.datetime64:
         ``YYYY-MM-DDTHH:MM[:SS[.fff]]`` with ``T`` or a space between date and
         time, optionally followed by ``Z`` or a zero offset (``+00:00``).
         Without an offset the time is taken as UTC (the column is
-        ``time_utc``). Fractional seconds are rounded to the millisecond.
+        ``time_utc``). Fractional seconds are rounded to the millisecond;
+        ISO 8601 allows a comma as their decimal sign (``11:38:00,5``).
 
     Returns
     -------
@@ -147,7 +168,7 @@ def parse_utc(text: str) -> np.datetime64:
     wall, offset = _split_iso(text, expected)
     if offset is not None and _offset_minutes(offset) != 0:
         raise TimeFormatError(
-            f"{expected}, got {text!r} (offset {offset} is not UTC; "
+            f"{expected}, got {quoted(text)} (offset {offset} is not UTC; "
             "convert it to UTC or give time_local)"
         )
     return _to_datetime64(wall)
@@ -226,7 +247,7 @@ def parse_local(text: str, zone: str) -> np.datetime64:
     wall, offset = _split_iso(text, expected)
     if offset is not None:
         raise TimeFormatError(
-            f"{expected}, got {text!r} (time_local must have no offset; "
+            f"{expected}, got {quoted(text)} (time_local must have no offset; "
             "give times with an offset as time_utc in UTC)"
         )
     first = wall.replace(tzinfo=tz, fold=0).astimezone(_UTC)

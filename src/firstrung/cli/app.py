@@ -12,11 +12,11 @@ from .. import __version__
 #: Commands by group: each module in firstrung.cli defines ``register(app)``.
 #: A new command adds its module's name here (one line).
 GROUPS = {
-    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.", ["plan_shadows"]),
-    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows"]),
+    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.", ["plan_shadows", "plan_eclipses", "plan_phases"]),
+    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows", "reduce_eclipse", "reduce_phases"]),
 }
 #: Commands at the top level (check, sheet, simulate, ladder, report, demo, ...).
-TOP_LEVEL = ["sheet", "simulate", "ladder", "report"]
+TOP_LEVEL = ["sheet", "simulate", "ladder", "report", "check"]
 
 HELP = (
     "Plan, check and reduce geometric-astronomy measurement campaigns: noon shadows at "

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 from typing import Annotated
 
 import typer
@@ -36,6 +37,9 @@ def shadows(
         ),
     ] = 0,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
+    include_flagged: Annotated[
+        bool, typer.Option("--include-flagged", help="Keep the rows that 'firstrung check' flags as errors.")
+    ] = False,
 ) -> None:
     """The Earth's radius from noon gnomon shadows at two or more sites.
 
@@ -45,15 +49,14 @@ def shadows(
     from ..runs import run_shadows
     from ..serialize import shadow_run_to_json
 
-    run = run_shadows(campaign)
+    run = run_shadows(campaign, include_flagged=include_flagged)
     data = shadow_run_to_json(run)
     if monte_carlo:
-        from ..logs import read_shadow_logs
         from ..methods.shadows import monte_carlo_radius
-        from ..runs import baseline_inputs, shadow_readings, site_inputs
+        from ..runs import baseline_inputs, site_inputs
         from ..uncertainty import interval_from_samples
 
-        readings, _ = shadow_readings(run.campaign, read_shadow_logs(run.campaign))
+        readings = run.readings
         samples = monte_carlo_radius(
             site_inputs(run.campaign), readings, baseline_inputs(run.campaign), samples=monte_carlo, seed=seed
         )
@@ -66,6 +69,14 @@ def shadows(
         print_json(data)
     else:
         render_shadows(data, verbose)
+    for note in run.notes:
+        print(f"firstrung: note: {note}", file=sys.stderr)
+    if run.rows_left_out_flagged:
+        print(
+            f"firstrung: {run.rows_left_out_flagged} rows flagged as errors by check left out "
+            "(--include-flagged keeps them)",
+            file=sys.stderr,
+        )
     report_problems(run.problems)
     if run.problems:
         raise typer.Exit(2)

@@ -715,7 +715,9 @@ def reduce_shadows(
     if spread < 1.0:
         raise ComputationError("the sites are less than 1 km apart north-south; the method needs a north-south baseline")
     # per-site and per-series tables
-    final_z = (latitude - (line.intercept_rad + line.slope_rad_per_km * positions.position_km)) / np.sqrt(site_variance)
+    # sites without readings have no variance: their entries are never read below
+    safe_variance = np.where(present, site_variance, 1.0)
+    final_z = (latitude - (line.intercept_rad + line.slope_rad_per_km * positions.position_km)) / np.sqrt(safe_variance)
     loo = _leave_one_out(positions.position_km, latitude, site_variance, present)
     site_results = []
     series_results = _series_results(prep, fit, per_series, total, scale, chi2_dof)

@@ -11,7 +11,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign, read_campaign
-from ..errors import ComputationError, InputError, RowProblem
+from ..errors import InputError, RowProblem
 from ..logs import ShadowLog, read_shadow_logs
 from ..methods.shadows import (
     BaselineInput,
@@ -32,6 +32,8 @@ class ShadowRun:
     rows_read: int
     rows_accepted: int
     readings: ShadowReadings | None = None
+    rows_left_out_flagged: int = 0
+    notes: tuple[str, ...] = ()
 
 
 def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
@@ -89,8 +91,11 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
     return readings, problems
 
 
-def run_shadows(campaign_path) -> ShadowRun:
+def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     """Read the campaign and its shadow logs and reduce them to the Earth's radius.
+
+    Rows that ``firstrung check`` flags as errors (blunders) are left out and
+    counted, unless ``include_flagged``.
 
     Raises
     ------
@@ -103,13 +108,17 @@ def run_shadows(campaign_path) -> ShadowRun:
     if not campaign.logs.get("shadows"):
         raise InputError("the campaign file lists no shadow logs ([logs] shadows = [...])", file=str(campaign_path))
     log = read_shadow_logs(campaign)
+    left_out = 0
+    if not include_flagged:
+        from ..checks import without_error_rows
+
+        log, left_out = without_error_rows(campaign, log)
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
     if len(readings) == 0:
         first = f" (first: {problems[0]})" if problems else ""
         raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path))
-    try:
-        reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
-    except ComputationError:
-        raise
-    return ShadowRun(campaign, reduction, problems, log.rows_read, len(readings), readings)
+    reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
+    return ShadowRun(
+        campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes)
+    )

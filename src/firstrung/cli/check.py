@@ -1,0 +1,121 @@
+"""``firstrung check``: every log of a campaign against the ephemeris, before any reduction."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from .common import CampaignArgument, JsonOption, VerboseOption, console, handles_errors, print_json
+
+
+def register(app: typer.Typer) -> None:
+    """Add ``check`` at the top level."""
+    app.command("check")(handles_errors(check))
+
+
+def check(
+    campaign: CampaignArgument,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+    accepted: Annotated[
+        Path | None,
+        typer.Option(
+            "--accepted",
+            help="Also write a copy of every row read, with a status column (accepted, "
+            "accepted-with-warning, rejected) and its flag codes, to this CSV file. The logs are never changed.",
+            show_default=False,
+            metavar="FILE",
+        ),
+    ] = None,
+) -> None:
+    """Check every log of a campaign and name the rows that look wrong, with the fix to ask for.
+
+    Exit status 0 when nothing is flagged, 1 when rows are flagged, 2 when the
+    campaign cannot be read.
+    """
+    from ..output import refuse_overwriting_inputs, write_atomic
+    from ..runs.check import run_check, status_csv
+    from ..serialize.check import check_run_to_json
+
+    run = run_check(campaign)
+    if accepted is not None:
+        refuse_overwriting_inputs(accepted, run.inputs())
+        write_atomic(accepted, status_csv(run), inputs=run.inputs())
+    data = check_run_to_json(run)
+    if json_output:
+        print_json(data)
+    else:
+        render_check(data, verbose, accepted)
+    if run.flags:
+        raise typer.Exit(1)
+
+
+def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
+    """Rich tables: the flags grouped by site, then rows read, accepted and flagged per site and observer."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    rows = data["rows"]
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: check of the {', '.join(data['checked'])} logs")
+    flags = data["flags"]
+    by_site: dict[str, list[dict]] = {}
+    for f in flags:
+        by_site.setdefault(f["site"] or "(no site)", []).append(f)
+    for site, items in by_site.items():
+        table = Table(title=f"Site {escape(site)}: {len(items)} flag{'s' if len(items) != 1 else ''}",
+                      box=box.SIMPLE_HEAD, title_justify="left")
+        table.add_column("file:row", no_wrap=True)
+        table.add_column("code", no_wrap=True)
+        table.add_column("severity", no_wrap=True)
+        table.add_column("diagnosis and fix")
+        for f in _collapsed(items, verbose):
+            where = f["file"] + (f":{f['row']}" if f["row"] is not None else "")
+            table.add_row(escape(where), f["code"], f["severity"], escape(f["message"]) + "\n  fix: " + escape(f["fix"]))
+        out.print(table)
+    summary = Table(title="Rows per site and observer", box=box.SIMPLE_HEAD, title_justify="left")
+    for col in ("site", "observer", "read", "accepted", "flagged", "errors", "warnings"):
+        summary.add_column(col, justify="left" if col in ("site", "observer") else "right")
+    for s in data["summary"]:
+        summary.add_row(escape(s["site"] or "(none)"), escape(s["observer"] or "(all)"), str(s["read"]),
+                        str(s["accepted"]), str(s["flagged"]), str(s["errors"]), str(s["warnings"]))
+    out.print(summary)
+    counts = data["counts"]
+    out.print(
+        f"  {rows['read']} rows read, {rows['accepted']} accepted, {rows['flagged']} flagged "
+        f"({counts['errors']} errors, {counts['warnings']} warnings); reductions leave out the "
+        f"{rows['rejected']} rows with errors unless --include-flagged is given"
+    )
+    if verbose:
+        out.print(f"  statistic: {data['statistic']}")
+        for s in data["series"]:
+            out.print(
+                f"  {escape(s['site'])} {s['date']} ({escape(s['file'])}, {s['rows']} rows): {s['verdict']}; "
+                f"statistic as logged {s['statistic_logged']:.1f}, level {s['level_arcmin']:+.1f}' "
+                f"({s['level_sigma']:+.1f} sigma)"
+                + (f"; best explanation {s['best_explanation']} ({s['statistic_best']:.1f})" if s["best_explanation"] else "")
+            )
+    if accepted is not None:
+        out.print(f"  wrote {escape(str(accepted))} (every row with its status)")
+
+
+def _collapsed(items: list[dict], verbose: bool) -> list[dict]:
+    """Consecutive rows with the same code and message shown once (``file:first-last``) unless verbose."""
+    if verbose:
+        return items
+    out: list[dict] = []
+    for f in items:
+        last = out[-1] if out else None
+        if (last is not None and last["code"] == f["code"] and last["message"] == f["message"]
+                and last["file"] == f["file"] and f["row"] is not None and last.get("_last") is not None
+                and f["row"] == last["_last"] + 1):
+            last["_last"] = f["row"]
+            continue
+        out.append({**f, "_last": f["row"]})
+    for f in out:
+        if f["row"] is not None and f["_last"] != f["row"]:
+            f["row"] = f"{f['row']}-{f['_last']}"
+    return out
