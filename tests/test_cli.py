@@ -12,7 +12,8 @@ import pytest
 
 from firstrung.cli import main
 
-EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+# a clean campaign (no blunders in its logs), kept for tests; examples/ holds the demo
+EXAMPLES = Path(__file__).resolve().parent / "data" / "clean_campaign"
 
 
 def run(args, capsys, monkeypatch):

@@ -10,7 +10,7 @@ import pytest
 import firstrung.runs
 from firstrung.cli import main
 
-EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
+EXAMPLE = Path(__file__).resolve().parent / "data" / "clean_campaign" / "campaign.toml"
 
 
 def run(args, capsys, monkeypatch):

@@ -10,7 +10,8 @@ import pytest
 
 from firstrung.cli import main
 
-EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+EXAMPLES = Path(__file__).resolve().parent.parent / "examples"  # the demo: every rung measured
+CLEAN = Path(__file__).resolve().parent / "data" / "clean_campaign"
 
 
 def run(args, capsys, monkeypatch):
@@ -39,11 +40,11 @@ def test_html_report_is_self_contained_escaped_and_deterministic(hostile_campaig
     assert code == 0, err
     html = out_file.read_text()
     assert "<script>" not in html and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; dome" in html
-    assert html.count("<svg") == 3  # ladder, shadow fits, latitude line
+    assert html.count("<svg") == 5  # ladder, shadow fits, latitude line, eclipse, half moon
     assert not re.search(r'(src|href)="(https?:)?//', html)  # nothing fetched when opened
     assert "Never look at the Sun" in html and "ISO 12312-2" in html
     assert "Error budget" in html and "limited most by" in html
-    assert "not measured" in html.lower()
+    assert "What the check found" in html and "duplicate-row" in html
     first = out_file.read_bytes()
     run(["report", hostile_campaign, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
     assert out_file.read_bytes() == first
@@ -54,7 +55,7 @@ def test_markdown_report_with_png_figures(hostile_campaign, tmp_path, capsys, mo
     code, out, err = run(["report", hostile_campaign, "-o", out_file, "--markdown", "--samples", "20000"], capsys, monkeypatch)
     assert code == 0, err
     text = out_file.read_text()
-    for name in ("ladder", "shadow_series", "latitude_line"):
+    for name in ("ladder", "shadow_series", "latitude_line", "eclipse", "phases"):
         png = tmp_path / f"report-{name}.png"
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
         assert f"(report-{name}.png)" in text
@@ -64,3 +65,15 @@ def test_markdown_report_with_png_figures(hostile_campaign, tmp_path, capsys, mo
 def test_report_refuses_to_overwrite_an_input(hostile_campaign, capsys, monkeypatch):
     code, out, err = run(["report", hostile_campaign, "-o", hostile_campaign], capsys, monkeypatch)
     assert code == 2 and "one of the inputs" in err
+
+
+def test_a_shadows_only_campaign_shows_the_other_rungs_as_not_measured(tmp_path, capsys, monkeypatch):
+    shutil.copytree(CLEAN, tmp_path / "camp")
+    camp = tmp_path / "camp" / "campaign.toml"
+    text = camp.read_text()
+    camp.write_text("\n".join(line for line in text.splitlines() if not line.startswith(("eclipse =", "phases ="))) + "\n")
+    out_file = tmp_path / "report.html"
+    code, out, err = run(["report", camp, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
+    assert code == 0, err
+    html = out_file.read_text()
+    assert "Not measured in this campaign" in html and html.count("<svg") == 3

@@ -42,7 +42,7 @@ def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypa
     # every figure fits on one printed page (the print CSS keeps figures whole: break-inside: avoid)
     text = html.read_text()
     figures = re.findall(r'<svg[^>]*width="([\d.]+)pt"[^>]*height="([\d.]+)pt"', text)
-    assert len(figures) == 3
+    assert len(figures) == 5
     for width, height in figures:
         scale = min(1.0, CONTENT_WIDTH_PT / float(width))
         assert float(height) * scale < PRINTABLE_HEIGHT_PT

@@ -75,6 +75,9 @@ class LadderInputs:
     moon_angular_diameter_deg: Draw | None = None
     sun_angular_diameter_deg: Draw | None = None
     sources: tuple[tuple[str, str], ...] = ()
+    #: Modern values that fit this campaign better than the table's (key -> (value, source)),
+    #: e.g. the Moon's distance on the eclipse night instead of its mean distance.
+    modern_overrides: tuple[tuple[str, float, str], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -161,15 +164,18 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
         "sun_diameter_km": "needs the Sun's distance and its angular size",
     }
     rungs = []
+    overrides = {k: (v, src) for k, v, src in inputs.modern_overrides}
     for key, (modern, unit, source) in MODERN_VALUES.items():
+        if key in overrides:
+            modern, source = overrides[key]
         s = chain[key]
         if s is None:
             rungs.append(Rung(key, None, modern, unit, source, None, None, "not measured: " + needs[key]))
             continue
         m = _summary(s, unit)
-        z = None
-        if m.sigma is not None and m.sigma > 0:
-            z = (m.value - modern) / m.sigma
+        # sigma apart, on the side of the interval that faces the modern value (intervals may be skewed)
+        half = (m.high - m.value) if (modern > m.value and m.high is not None) else (m.value - m.low)
+        z = (m.value - modern) / half if half and half > 0 and not (modern > m.value and m.high is None) else None
         note = "" if m.high is not None else "lower bound only: the data allow any larger value"
         rungs.append(Rung(key, m, modern, unit, source, m.value / modern if np.isfinite(m.value) else None, z, note))
     return Ladder(tuple(rungs), samples, seed, inputs.sources)

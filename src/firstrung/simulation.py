@@ -122,48 +122,6 @@ def simulate_shadow_readings(
     )
 
 
-def simulate_campaign_shadows(campaign, first_date, last_date, seed: int, *, errors: ShadowErrors | None = None,
-                              half_span_min: float = 30.0, step_min: float = 2.0):
-    """Rehearsal logs for every site with a gnomon on every day of a range.
-
-    Readings every ``step_min`` minutes around each site's local apparent
-    noon, with the campaign's stated reading and gnomon errors plus the usual
-    edge placement, refraction and clock errors (:meth:`ShadowErrors.stated`).
-    Returns the rows as dictionaries in the log contract's columns, sorted by
-    site and time (shadow lengths in millimetres, times in UTC).
-    """
-    sites = [s for s in campaign.sites if s.gnomon is not None]
-    if not sites:
-        return []
-    lat = np.array([s.latitude_deg for s in sites])
-    lon = np.array([s.longitude_deg for s in sites])
-    elev = np.array([s.elevation_m for s in sites])
-    dates = np.arange(np.datetime64(first_date, "D"), np.datetime64(last_date, "D") + np.timedelta64(1, "D"))
-    times, pair = reading_times_utc(dates, lat, lon, elev, half_span_min=half_span_min, step_min=step_min)
-    index = pair % len(sites)
-    rng = np.random.default_rng(seed)
-    shadow_sigma = float(np.mean([s.gnomon.shadow_sigma_m for s in sites]))
-    gnomon_sigma = float(np.mean([s.gnomon.height_sigma_m for s in sites]))
-    errors = errors or ShadowErrors.stated(shadow_sigma, gnomon_sigma, clock_sigma_s=30.0)
-    syn = simulate_shadow_readings(
-        index, times, lat, lon, elev,
-        np.array([s.gnomon.height_m for s in sites]),
-        np.array([s.gnomon.edge for s in sites], dtype=object),
-        errors, rng,
-    )
-    order = np.lexsort((syn.time_utc, index))
-    return [
-        {
-            "site": sites[index[k]].id,
-            "time_utc": str(np.datetime64(syn.time_utc[k], "s")) + "Z",
-            "shadow_mm": f"{syn.shadow_m[k] * 1000:.0f}",
-            "observer": f"rehearsal {sites[index[k]].id}",
-            "note": "synthetic",
-        }
-        for k in order
-    ]
-
-
 def rows_to_csv(rows, columns) -> str:
     """CSV text of row dictionaries with the given columns (``\\n`` line ends)."""
     import csv

@@ -12,7 +12,7 @@ import pytest
 
 from firstrung.cli import main
 
-EXAMPLES = Path(__file__).resolve().parent.parent.parent / "examples"
+EXAMPLES = Path(__file__).resolve().parent.parent / "data" / "clean_campaign"
 
 
 def run(args, capsys, monkeypatch):

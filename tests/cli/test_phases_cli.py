@@ -11,7 +11,7 @@ import pytest
 
 from firstrung.cli import main
 
-EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "clean_campaign"
 SECOND = 1.0
 
 

@@ -16,7 +16,7 @@ GROUPS = {
     "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows", "reduce_eclipse", "reduce_phases"]),
 }
 #: Commands at the top level (check, sheet, simulate, ladder, report, demo, ...).
-TOP_LEVEL = ["sheet", "simulate", "ladder", "report", "check"]
+TOP_LEVEL = ["sheet", "simulate", "ladder", "report", "check", "demo"]
 
 HELP = (
     "Plan, check and reduce geometric-astronomy measurement campaigns: noon shadows at "

@@ -31,12 +31,13 @@ def report(
 
     camp = read_campaign(campaign)
     inputs = [campaign, *[p for paths in camp.logs.values() for p in paths]]
-    steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "writing"]
+    steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "checking the logs",
+             "drawing the eclipse", "drawing the half moon", "writing"]
     with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
         task = bar.add_task("report", total=len(steps))
 
         def step(name):
-            bar.update(task, description=name, advance=0 if name == steps[0] else 1)
+            bar.update(task, description=name, completed=steps.index(name))
 
         rep = build_report(campaign, samples=samples, seed=seed, progress=step)
         step("writing")

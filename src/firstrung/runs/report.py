@@ -12,6 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import __version__
+from ..errors import InputError
 from ..safety import ECLIPSE_NOTE, PHASES_CAUTION, SOLAR_CAUTION_FULL
 
 REFERENCES = (
@@ -35,6 +36,26 @@ SHADOW_METHOD = (
     "is the one at that site's own transit. The latitudes are fitted against the sites' north-south "
     "distances along the meridian on the WGS84 ellipsoid; the slope is one over the Earth's radius. Every "
     "input's error is propagated to the radius, and the error budget says which limits it."
+)
+
+
+ECLIPSE_METHOD = (
+    "During a lunar eclipse the Moon crosses the Earth's shadow. Each timed contact (U1 to U4) and each "
+    "crater's immersion and emersion is a point where the shadow's edge met the Moon: with the Moon's "
+    "angular radius and its rate across the shadow, the timings are chords of the Moon's straight track "
+    "across a circular umbra, solved for the umbra's radius and the track's closest approach (no central "
+    "passage assumed). The umbra's radius in units of the Moon's gives the Moon's horizontal parallax "
+    "through the stated enlargement convention (Danjon by default, as the NASA canon), and the distance is "
+    "one over the sine of the parallax, in Earth radii; times the campaign's own Earth radius, in km."
+)
+
+PHASES_METHOD = (
+    "At the exact half moon the Sun, the Moon and the observer make a right angle at the Moon, so the "
+    "Sun is 1/cos E times as far as the Moon, E being the Sun-Moon angle (Aristarchus' method). E comes "
+    "from a measured angle, from the ephemeris's directions of Sun and Moon at the moment the half moon "
+    "was timed, or from a fit of the lit fraction in a photo series. Because E is within a fraction of a "
+    "degree of 90 deg the result is very sensitive to it: the interval is skewed, and when E may reach "
+    "90 deg only a lower bound exists."
 )
 
 
@@ -121,8 +142,43 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
         slope_deg_per_km = np.degrees(1.0 / red.earth_radius_km.value)
         intercept = float(np.mean((lat - resid_deg) - slope_deg_per_km * pos))
         figs["latitude_line"] = figures.latitude_line_figure(pos, lat, sig, names, out, intercept, slope_deg_per_km)
+    check = None
+    try:
+        from ..serialize.check import check_run_to_json
+        from .check import run_check
+
+        progress("checking the logs")
+        check = check_run_to_json(run_check(campaign_path))
+    except InputError:
+        check = None
+    eclipse = phases = None
+    if "eclipse" in lad.rung_runs:
+        from ..serialize.eclipse import eclipse_run_to_json
+        from .eclipse import eclipse_figure
+
+        progress("drawing the eclipse")
+        erun = lad.rung_runs["eclipse"]
+        eclipse = eclipse_run_to_json(erun)
+        reduced = [r for r in erun.results if r.reduction is not None]
+        if reduced:
+            figs["eclipse"] = eclipse_figure(reduced[0])
+    if "phases" in lad.rung_runs:
+        from ..methods.phases import ratio_figure
+        from ..serialize.phases import phase_run_to_json
+
+        progress("drawing the half moon")
+        prun = lad.rung_runs["phases"]
+        phases = phase_run_to_json(prun)
+        figs["phases"] = ratio_figure(prun.combined.elongation_deg, prun.combined.sigma_deg,
+                                      true_ratio=prun.expected_ratio)
     context = {
         "title": f"{lad.campaign.name}: campaign report",
+        "eclipse": eclipse,
+        "eclipse_method": ECLIPSE_METHOD,
+        "phases": phases,
+        "phases_method": PHASES_METHOD,
+        "notes": list(lad.notes),
+        "check": check,
         "campaign": lad.campaign.name,
         "version": __version__,
         "ladder": rows,

@@ -30,6 +30,7 @@ def ladder_to_json(run) -> dict:
     out["comparison"] = comparison
     out["rung_sources"] = dict(lad.sources)
     out["problems"] = [str(p) for p in run.problems]
+    out["notes"] = list(run.notes)
     out["method"] = (
         "Monte Carlo: every input drawn once per sample from the distribution of the quantity that is "
         "Gaussian in its method; the same radius sample feeds the Moon's and the Sun's distance"

@@ -1,0 +1,45 @@
+"""``firstrung demo``: the bundled example campaign, end to end."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from .common import console, handles_errors
+
+
+def register(app: typer.Typer) -> None:
+    app.command("demo")(handles_errors(demo))
+
+
+def demo(
+    output: Annotated[Path, typer.Option("-o", "--output", help="Folder for the demo's campaign, logs and results.")] = Path(
+        "firstrung-demo"
+    ),
+) -> None:
+    """Simulate an invented campaign's logs, check them, reduce every rung, chain the ladder, write the report."""
+    from rich.progress import BarColumn, Progress, TextColumn
+
+    from ..errors import InputError
+    from ..runs.demo import run_demo
+    from .ladder import _render
+
+    if output.exists() and not output.is_dir():
+        raise InputError(f"-o: {output} exists and is not a folder")
+    steps = ["simulating the observers' logs", "checking the logs", "reducing every rung",
+             "chaining the ladder and writing the report"]
+    with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
+        task = bar.add_task(steps[0], total=len(steps))
+
+        def step(name):
+            bar.update(task, description=name, completed=steps.index(name))
+
+        run = run_demo(output, progress=step)
+        bar.update(task, completed=len(steps))
+    _render(run.ladder)
+    out = console()
+    out.print(f"  check flagged {run.check_flags} rows (see {run.files['check']}); rows flagged as errors were left out")
+    out.print(f"  campaign and logs: {run.files['campaign']} and {run.folder / 'logs'}")
+    out.print(f"  report: {run.files['report']}")

@@ -1,0 +1,59 @@
+"""The bundled demo: examples/ is exactly what it writes, and the ladder agrees with the reductions."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from firstrung.campaign import parse_campaign
+from firstrung.cli import main
+from firstrung.runs.demo import demo_campaign_text, demo_logs
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+
+
+def test_examples_folder_is_the_demo_campaign_and_its_simulated_logs():
+    assert (EXAMPLES / "campaign.toml").read_text(encoding="utf-8") == demo_campaign_text()
+    campaign = parse_campaign(demo_campaign_text(), path=EXAMPLES / "campaign.toml")
+    for name, text in demo_logs(campaign).items():
+        assert (EXAMPLES / "logs" / name).read_text(encoding="utf-8") == text, (
+            f"examples/logs/{name} is stale: run firstrung demo -o examples (or the test's generator)"
+        )
+
+
+@pytest.fixture(scope="module")
+def demo_folder(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("demo")
+    with pytest.raises(SystemExit) as done:
+        main(["demo", "-o", str(folder)])
+    assert done.value.code == 0
+    return folder
+
+
+def test_demo_writes_every_result_and_the_report(demo_folder):
+    for name in ("campaign.toml", "logs/shadows.csv", "logs/eclipse.csv", "logs/phases.csv", "check.json",
+                 "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "ladder.json", "report.html"):
+        assert (demo_folder / name).exists(), name
+    html = (demo_folder / "report.html").read_text()
+    assert html.count("<svg") == 5  # ladder, shadow fits, latitude line, eclipse, half moon
+    check = json.loads((demo_folder / "check.json").read_text())
+    # the demo's blunders (a clock an hour out, a mistyped reading, a duplicated row) are found
+    codes = set(check["counts"]["by_code"])
+    assert {"outlier", "duplicate-row"} <= codes
+    assert codes & {"time-shift-hours", "local-time-as-utc"}
+
+
+def test_ladder_agrees_with_the_separate_reductions(demo_folder):
+    ladder = json.loads((demo_folder / "ladder.json").read_text())
+    radius = json.loads((demo_folder / "earth-radius.json").read_text())["earth_radius_km"]
+    moon = json.loads((demo_folder / "moon-distance.json").read_text())["eclipses"][0]
+    ratio = json.loads((demo_folder / "sun-moon-ratio.json").read_text())["sun_moon_distance_ratio"]
+    # the median of 1/k samples is 1/k: the same radius as reduce shadows (Monte Carlo noise only)
+    assert ladder["earth_radius_km"]["value"] == pytest.approx(radius["value"], rel=2e-4)
+    assert ladder["earth_radius_km"]["low"] == pytest.approx(radius["low"], rel=1e-3)
+    assert ladder["moon_distance_km"]["value"] == pytest.approx(moon["moon_distance_km"]["value"], rel=1e-3)
+    assert ladder["moon_distance_km"]["sigma"] == pytest.approx(moon["moon_distance_km"]["sigma"], rel=0.05)
+    sun = ladder["sun_distance_km"]["value"]
+    assert sun == pytest.approx(moon["moon_distance_km"]["value"] * ratio["value"], rel=0.01)
