@@ -27,6 +27,7 @@ baselines are counted from 1 in these keys, in the order of the file.
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 import re
@@ -238,10 +239,14 @@ class Campaign:
     logs: dict[str, tuple[Path, ...]] = field(default_factory=_empty_logs)
     eclipse: EclipseSettings = field(default_factory=EclipseSettings)
 
-    @property
+    @functools.cached_property
     def site_ids(self) -> tuple[str, ...]:
         """The site ids, in the order of the file."""
         return tuple(site.id for site in self.sites)
+
+    @functools.cached_property
+    def _site_by_id(self) -> dict[str, Site]:
+        return {site.id: site for site in self.sites}
 
     @property
     def folder(self) -> Path:
@@ -256,9 +261,9 @@ class Campaign:
         InputError
             When the campaign has no such site.
         """
-        for site in self.sites:
-            if site.id == site_id:
-                return site
+        site = self._site_by_id.get(site_id)
+        if site is not None:
+            return site
         raise InputError(f"unknown site {site_id!r} (known: {', '.join(self.site_ids)})")
 
     def baseline(self, site_a: str, site_b: str) -> Baseline | None:

@@ -98,6 +98,8 @@ def simulate_shadow_readings(
     pos = ephemeris.sun_position(t_true, lat[idx], lon[idx], elev[idx])
     sign = np.array([EDGE_LIMB_SIGN[e] for e in edge])[idx]
     limb_true = pos.altitude_deg + sign * pos.semidiameter_deg
+    # a limb past the zenith casts its tip on the other side of the foot, at the altitude 180 - a
+    limb_true = np.where(limb_true > 90.0, 180.0 - limb_true, limb_true)
     pressure = standard_pressure_hpa(elev[idx])
     refraction_scale = 1.0 + errors.refraction_fraction * rng.standard_normal(n_sites)
     limb_app_nominal = apparent_from_true_altitude_deg(limb_true, STANDARD_TEMPERATURE_C, pressure)
