@@ -169,6 +169,155 @@ def bench_ladder(samples, repeats):
     return ("ladder Monte Carlo", f"{samples:,} samples", t_ours, None, mem, f"Moon {moon.value / 384400:.3f} x modern")
 
 
+def _big_campaign(folder, n_sites, n_rows, rng):
+    """A synthetic campaign file and shadow log of about ``n_rows`` rows at ``n_sites`` sites."""
+    from firstrung.campaign import read_campaign
+    from firstrung.rehearsal import SHADOW_COLUMNS, shadow_rows
+    from firstrung.simulation import rows_to_csv
+
+    lat = rng.uniform(-50.0, 60.0, n_sites)
+    lon = rng.uniform(-170.0, 170.0, n_sites)
+    parts = ['[campaign]\nname = "benchmark"\n']
+    for i in range(n_sites):
+        parts.append(f'[[site]]\nid = "s{i}"\nlatitude_deg = {lat[i]:.4f}\nlongitude_deg = {lon[i]:.4f}\n'
+                     'elevation_m = 100\n[site.gnomon]\nheight_m = 1.0\n')
+    parts.append('[logs]\nshadows = ["shadows.csv"]\n')
+    path = os.path.join(folder, "campaign.toml")
+    with open(path, "w") as f:
+        f.write("\n".join(parts))
+    days = max(1, int(np.ceil(n_rows / (n_sites * 17))))
+    rows = shadow_rows(read_campaign(path), "2027-03-20", str(np.datetime64("2027-03-20") + np.timedelta64(days - 1, "D")),
+                       1, half_span_min=16, step_min=2)[:n_rows]
+    with open(os.path.join(folder, "shadows.csv"), "w") as f:
+        f.write(rows_to_csv(rows, SHADOW_COLUMNS))
+    return path, len(rows)
+
+
+def bench_check(n_sites, n_rows, repeats):
+    """check on a big shadow log: the check itself, and the whole command; baselines: skyfield and astropy alt/az."""
+    import tempfile
+
+    from firstrung.campaign import read_campaign
+    from firstrung.checks import check_shadow_rows, check_sites, shadow_rows
+    from firstrung.logs import read_shadow_logs
+
+    rng = np.random.default_rng(5)
+    with tempfile.TemporaryDirectory() as folder:
+        path, n = _big_campaign(folder, n_sites, n_rows, rng)
+        campaign = read_campaign(path)
+        log = read_shadow_logs(campaign)
+        rows, _ = shadow_rows(campaign, log)
+        sites = check_sites(campaign)
+        t_ours, result, mem = timed(lambda: check_shadow_rows(sites, rows), repeats)
+        t_cli = statistics.median(
+            [_once(lambda: subprocess.run([sys.executable, "-m", "firstrung", "check", path, "--json"],
+                                          capture_output=True, check=False)) for _ in range(max(1, repeats // 2))]
+        )
+        # baselines on a sample of rows, scaled: skyfield's topocentric alt/az per site, astropy AltAz per row set
+        from skyfield.api import wgs84
+
+        from firstrung import ephemeris
+
+        ts, _, earth, sun = ephemeris._loaded()
+        lat = np.array([s.latitude_deg for s in sites])
+        lon = np.array([s.longitude_deg for s in sites])
+        sample = np.arange(0, len(rows), max(1, len(rows) // 2000))
+        t_rows = np.asarray(log.time_utc)[sample]
+        site_rows = np.asarray(rows.site_index)[sample]
+
+        def skyfield_baseline():
+            out = np.empty(sample.size)
+            for si in np.unique(site_rows):
+                k = site_rows == si
+                topos = earth + wgs84.latlon(lat[si], lon[si], elevation_m=100.0)
+                alt, _, _ = topos.at(ephemeris._skyfield_time(t_rows[k])).observe(sun).apparent().altaz()
+                out[k] = alt.degrees
+            return out
+
+        t_sky, alt_sky, _ = timed(skyfield_baseline, 1)
+        t_sky *= len(rows) / sample.size
+        try:
+            from astropy import units as u
+            from astropy.coordinates import AltAz, EarthLocation, get_body, solar_system_ephemeris
+            from astropy.time import Time
+            from astropy.utils import iers
+
+            iers.conf.auto_download = False
+            iers.conf.auto_max_age = None  # offline: predictive UT1 beyond the bundled table is fine for timing
+            import skyfield_data
+
+            solar_system_ephemeris.set(os.path.join(os.path.dirname(skyfield_data.__file__), "data", "de421.bsp"))
+            small = sample[:300]
+
+            def astropy_baseline():
+                loc = EarthLocation.from_geodetic(lon[np.asarray(rows.site_index)[small]] * u.deg,
+                                                  lat[np.asarray(rows.site_index)[small]] * u.deg, 100.0 * u.m)
+                t = Time(np.asarray(log.time_utc)[small].astype("datetime64[ms]").astype(str).tolist(), scale="utc")
+                return get_body("sun", t, loc).transform_to(AltAz(obstime=t, location=loc, pressure=0 * u.hPa)).alt.deg
+
+            t_ast, _, _ = timed(astropy_baseline, 1)
+            t_ast *= len(rows) / small.size
+        except Exception:  # astropy is a test extra; the table says when it is missing
+            t_ast = float("nan")
+        ours_alt = ephemeris.sun_position(t_rows, lat[site_rows], lon[site_rows], 100.0).altitude_deg
+        agree = float(np.max(np.abs(ours_alt - alt_sky))) * 3600
+    return [
+        ("check (the check)", f"{n:,} rows, {n_sites} sites", t_ours, t_sky, mem,
+         f'vs skyfield alt/az; max {agree:.2f}"; astropy {t_ast:.1f} s = {t_ast / t_ours:.0f}x'),
+        ("check (whole command)", f"{n:,} rows, {n_sites} sites", t_cli, t_sky, None, "read + check + JSON"),
+    ]
+
+
+def bench_eclipses(repeats):
+    """Every lunar eclipse 1900-2050 with its contacts."""
+    from firstrung.ephemeris.eclipses import lunar_eclipses
+
+    t_ours, e, mem = timed(lambda: lunar_eclipses(np.datetime64("1900-01-01T00:00"), np.datetime64("2050-12-31T23:59")), repeats)
+    return ("eclipses with contacts", "1900-2050", t_ours, None, mem, f"{len(e.greatest_utc)} eclipses")
+
+
+def bench_quarters(n_sites, repeats):
+    """A year of quarters for many sites with the windows when both Sun and Moon are up."""
+    from firstrung.campaign import parse_campaign
+    from firstrung.runs.phases import plan_phases
+
+    rng = np.random.default_rng(6)
+    text = "".join(
+        f'[[site]]\nid = "s{i}"\nlatitude_deg = {rng.uniform(-50, 60):.3f}\nlongitude_deg = {rng.uniform(-170, 170):.3f}\n'
+        for i in range(n_sites)
+    )
+    campaign = parse_campaign(text)
+    t_ours, plan, mem = timed(lambda: plan_phases(campaign, "2027-01-01", "2027-12-31"), repeats)
+    return ("quarters with windows", f"{n_sites} sites x 1 year", t_ours, None, mem, f"{len(plan.quarters)} quarters")
+
+
+def bench_scaling(counts, repeats):
+    """Transits for a year at 10, 100, 1,000 sites: cost per site should not grow."""
+    from firstrung import ephemeris
+
+    rng = np.random.default_rng(7)
+    days = np.arange(np.datetime64("2027-01-01"), np.datetime64("2028-01-01"))
+    out = []
+    for n in counts:
+        lat, lon, elev = synthetic_sites(n, rng)
+        def transits(lat=lat, lon=lon, elev=elev):
+            return ephemeris.solar_transit(days[:, None], lat[None, :], lon[None, :], elev[None, :])
+
+        t, _, mem = timed(transits, repeats)
+        out.append(("scaling: transits", f"{n} sites x 365 days", t, None, mem, f"{t / n * 1e3:.2f} ms per site"))
+    return out
+
+
+def bench_demo():
+    """``firstrung demo`` end to end, in a fresh process."""
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        t = _once(lambda: subprocess.run([sys.executable, "-m", "firstrung", "demo", "-o", folder],
+                                         capture_output=True, check=True))
+    return ("demo end to end", "firstrung demo", t, None, None, "")
+
+
 def bench_cli_start(repeats):
     """`firstrung --help` against `python -c "import typer"` (fresh processes)."""
     def ours():
@@ -196,20 +345,26 @@ def main() -> None:
     rows = [
         bench_transits(10 if quick else 100, 60 if quick else 365, 3 if quick else 5),
         bench_sun_positions(10_000 if quick else 100_000, 100 if quick else 1000, 3 if quick else 5),
+        *bench_check(100 if quick else 1000, 5_000 if quick else 100_000, 2 if quick else 3),
         bench_reduce(50 if quick else 500, 20, 3 if quick else 5),
+        bench_eclipses(1 if quick else 3),
+        bench_quarters(10 if quick else 100, 1 if quick else 3),
         bench_ladder(100_000 if quick else 1_000_000, 3 if quick else 5),
-        bench_cli_start(3 if quick else 7),
+        *bench_scaling((10, 100) if quick else (10, 100, 1000), 1 if quick else 3),
+        bench_cli_start(3 if quick else 15),
     ]
+    if not quick:
+        rows.append(bench_demo())
     print(f"firstrung benchmarks ({'quick' if quick else 'full'}) on {platform.machine()}, "
           f"{os.cpu_count()} cores, Python {platform.python_version()}")
-    header = f"{'path':<24} {'workload':<26} {'firstrung':>10} {'baseline':>10} {'speed-up':>8} {'peak MB':>8}  agreement"
+    header = f"{'path':<24} {'workload':<28} {'firstrung':>10} {'baseline':>10} {'speed-up':>8} {'peak MB':>8}  agreement"
     print(header)
     print("-" * len(header))
     for name, work, ours, base, mem, agree in rows:
         base_s = f"{base:10.3f}" if base is not None else f"{'-':>10}"
         ratio = f"{base / ours:7.1f}x" if base else f"{'-':>8}"
         mem_s = f"{mem:8.1f}" if mem is not None else f"{'-':>8}"
-        print(f"{name:<24} {work:<26} {ours:10.3f} {base_s} {ratio} {mem_s}  {agree}")
+        print(f"{name:<24} {work:<28} {ours:10.3f} {base_s} {ratio} {mem_s}  {agree}")
 
 
 if __name__ == "__main__":

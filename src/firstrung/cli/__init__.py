@@ -75,7 +75,7 @@ def main(argv: list[str] | None = None) -> None:
     from .app import build
 
     args, debug = _take_debug(list(sys.argv[1:] if argv is None else argv))
-    app = build()
+    app = build(args)
     with warnings.catch_warnings():
         if not debug:
             warnings.showwarning = _one_line_warning
