@@ -662,7 +662,7 @@ class _Row:
         site = None
         if site_id == "":
             self.problem("site", f"expected a site id ({', '.join(known)}), got an empty cell")
-        elif site_id not in known:
+        elif site_id not in campaign._site_by_id:
             self.problem("site", f"unknown site {quoted(site_id)} (known: {', '.join(known)})")
         else:
             site = campaign.site(site_id)
@@ -710,8 +710,14 @@ def _read_all(
     paths: Iterable[str | os.PathLike[str]] | None,
     slots: Sequence[_Slot],
     parse_row: Callable[[_Row, Campaign], dict | None],
+    fast_row: Callable | None = None,
 ) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
-    """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes."""
+    """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes.
+
+    ``fast_row(table, cells, campaign)`` may read a plain row directly (a few
+    microseconds); it returns ``None`` for anything unusual, which then goes
+    through ``parse_row`` and its exact messages.
+    """
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []
@@ -725,10 +731,19 @@ def _read_all(
         if table.note is not None:
             notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
+        fast = fast_row if (fast_row is not None and _FAST_PATH and table.delimiter == ","
+                            and not table.decimal_comma) else None
         for row_number, cells in table.rows:
             rows_read += 1
             if not cells:
                 continue
+            if fast is not None:
+                values = fast(table, cells, campaign)
+                if values is not None:
+                    values["file"] = label
+                    values["row"] = row_number
+                    good.append(values)
+                    continue
             row = _Row(table, row_number, cells)
             values = parse_row(row, campaign)
             if row.problems or values is None:
@@ -859,6 +874,82 @@ def _parse_shadow_row(row: _Row, campaign: Campaign) -> dict:
     }
 
 
+#: Whether plain rows take the fast path (a test compares both paths on every corpus file).
+_FAST_PATH = True
+_PLAIN_UTC_RE = re.compile(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")
+_PLAIN_NUMBER_RE = re.compile(r"^\d+(?:\.\d+)?$")
+_SPAN_MS = (np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LAST_UTC, "ms"))
+
+
+def _plain(cell: str, low: float, high: float, factor: float = 1.0) -> float | None:
+    """A plain positive decimal within [low, high] after ``factor``, else None (the slow path decides)."""
+    if not _PLAIN_NUMBER_RE.match(cell):
+        return None
+    value = float(cell) * factor
+    return value if low <= value <= high else None
+
+
+def _fast_shadow_row(table: _Table, cells: dict[str, str], campaign: Campaign) -> dict | None:
+    """A plain shadow row (known site, ISO UTC time, plain numbers) read without the checks' detours."""
+    chosen = table.chosen
+    site_id = cells.get(chosen["site"], "")
+    if site_id not in campaign._site_by_id or chosen["time_utc"] != "time_utc":
+        return None
+    m = _PLAIN_UTC_RE.match(cells.get("time_utc", ""))
+    if m is None:
+        return None
+    try:
+        t = np.datetime64(f"{m.group(1)}T{m.group(2)}", "ms")
+    except ValueError:
+        return None
+    if not (_SPAN_MS[0] <= t <= _SPAN_MS[1]):
+        return None
+    shadow_column = chosen["shadow_m"]
+    shadow_m = _plain(cells.get(shadow_column, ""), 1e-300, SHADOW_LIMIT_M, _UNIT_FACTORS_M[_unit_of(shadow_column)])
+    if shadow_m is None or shadow_m <= 0.0:
+        return None
+    gnomon_m = math.nan
+    gnomon_column = chosen.get("gnomon_m")
+    if gnomon_column is not None and cells.get(gnomon_column, ""):
+        gnomon_m = _plain(cells[gnomon_column], 1e-300, GNOMON_LIMIT_M * (1 - 1e-12), _UNIT_FACTORS_M[_unit_of(gnomon_column)])
+        if gnomon_m is None or gnomon_m <= 0.0:
+            return None
+    edge = None
+    edge_column = chosen.get("edge")
+    if edge_column is not None and cells.get(edge_column, ""):
+        edge = cells[edge_column].lower()
+        if edge not in EDGES:
+            return None
+    weather = []
+    for slot, (low, high) in (("temperature_c", TEMPERATURE_RANGE_C), ("pressure_hpa", PRESSURE_RANGE_HPA)):
+        column = chosen.get(slot)
+        cell = cells.get(column, "") if column is not None else ""
+        if cell == "":
+            weather.append(math.nan)
+            continue
+        value = _plain(cell.lstrip("-") if slot == "temperature_c" else cell, 0.0, max(abs(low), high))
+        if value is None:
+            return None
+        value = -value if cell.startswith("-") else value
+        if not low <= value <= high:
+            return None
+        weather.append(value)
+    observer_column, note_column = chosen.get("observer"), chosen.get("note")
+    return {
+        "site": site_id,
+        "time_utc": t,
+        "time_column": "time_utc",
+        "shadow_m": shadow_m,
+        "shadow_column": shadow_column,
+        "gnomon_m": gnomon_m,
+        "edge": edge,
+        "temperature_c": weather[0],
+        "pressure_hpa": weather[1],
+        "observer": cells.get(observer_column, "") if observer_column is not None else "",
+        "note": cells.get(note_column, "") if note_column is not None else "",
+    }
+
+
 def read_shadow_logs(
     campaign: Campaign, paths: Iterable[str | os.PathLike[str]] | None = None
 ) -> ShadowLog:
@@ -884,7 +975,7 @@ def read_shadow_logs(
     ``pressure_hpa``, ``observer``, ``note``.
     """
     good, problems, rows_read, ignored, notes = _read_all(
-        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row
+        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row, _fast_shadow_row
     )
     dtypes = dict(_COMMON_DTYPES)
     dtypes.update(
