@@ -39,6 +39,9 @@ def test_html_report_is_self_contained_escaped_and_deterministic(hostile_campaig
     code, out, err = run(["report", hostile_campaign, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
     assert code == 0, err
     html = out_file.read_text()
+    from test_sheets import parse  # balanced tags (the sheets' HTML checker)
+
+    parse(html)
     assert "<script>" not in html and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; dome" in html
     assert html.count("<svg") == 5  # ladder, shadow fits, latitude line, eclipse, half moon
     assert not re.search(r'(src|href)="(https?:)?//', html)  # nothing fetched when opened

@@ -18,8 +18,9 @@ from .simulation import ShadowErrors, reading_times_utc, simulate_shadow_reading
 SHADOW_BLUNDERS = {
     "clock": "a clock on daylight-saving time: logged times one hour late (last day, first site)",
     "unit": "centimetres typed in the millimetre column (second site, last day)",
-    "longitude": "the campaign's longitude of the third site has the wrong sign",
-    "edge": "the observer marked the other edge of the shadow than the campaign says (last site)",
+    "longitude": "the campaign's longitude of the first site has the wrong sign",
+    "edge": "the observer marked the other edge of the shadow than the campaign says (the last site "
+    "that marks a sharp or faint edge)",
     "wild": "one mistyped reading (first site, first day)",
     "duplicate": "one row entered twice (second site, first day)",
 }
@@ -53,10 +54,13 @@ def shadow_rows(campaign, first_date, last_date, seed: int, blunders=(), *, half
     lon = np.array([s.longitude_deg for s in sites])
     true_lon = lon.copy()
     edges = np.array([s.gnomon.edge for s in sites], dtype=object)
-    if "longitude" in blunders and n >= 3:
-        true_lon[2] = blunder_kit.mirrored(lon[2])
+    if "longitude" in blunders:
+        true_lon[0] = blunder_kit.mirrored(lon[0])
     if "edge" in blunders:
-        edges[n - 1] = blunder_kit.other_edge(edges[n - 1])
+        # umbra <-> outer is the blunder of the trade; middle -> umbra is a quarter of the step
+        sharp = [i for i in range(n) if edges[i] != "middle"]
+        i = sharp[-1] if sharp else n - 1
+        edges[i] = blunder_kit.other_edge(edges[i])
     elev = np.array([s.elevation_m for s in sites])
     dates = np.arange(np.datetime64(first_date, "D"), np.datetime64(last_date, "D") + np.timedelta64(1, "D"))
     times, pair = reading_times_utc(dates, lat, true_lon, elev, half_span_min=half_span_min, step_min=step_min)
