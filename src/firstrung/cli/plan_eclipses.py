@@ -89,16 +89,18 @@ def render_plan(data: dict, verbose: bool) -> None:
     if not data["eclipses"]:
         out.print("  no lunar eclipse in this range")
         return
-    table = Table(box=box.SIMPLE_HEAD, title="Eclipses (times UTC)")
-    for col in ("rank", "date", "kind", "umb. mag.", "total (min)", "P1", "U1", "U2", "greatest", "U3", "U4", "P4"):
-        table.add_column(col, justify="right" if col not in ("date", "kind") else "left", no_wrap=True)
+    table = Table(box=box.SIMPLE_HEAD, title="Eclipses (umbral contacts, UTC; P1/P4 with --json and per site)",
+                  pad_edge=False, padding=(0, 1))
+    for col in ("#", "date", "kind", "mag.", "total", "U1", "U2", "greatest", "U3", "U4"):
+        table.add_column(col, justify="right" if col not in ("date", "kind") else "left", no_wrap=True,
+                         min_width=8 if col in ("U1", "U2", "greatest", "U3", "U4") else None)
     for e in data["eclipses"]:
         c = e["contacts_utc"]
         tot = e["durations_min"]["total"]
         table.add_row(
             "-" if e["rank"] is None else str(e["rank"]), e["date"], e["kind"], f"{e['umbral_magnitude']:.3f}",
-            "" if tot is None else f"{tot:.1f}", *(_fmt_time(c.get(k)) for k in ("P1", "U1", "U2")),
-            _fmt_time(e["greatest_utc"]), *(_fmt_time(c.get(k)) for k in ("U3", "U4", "P4")),
+            "" if tot is None else f"{tot:.0f} min", *(_fmt_time(c.get(k)) for k in ("U1", "U2")),
+            _fmt_time(e["greatest_utc"]), *(_fmt_time(c.get(k)) for k in ("U3", "U4")),
         )
     out.print(table)
     for e in data["eclipses"]:

@@ -70,27 +70,34 @@ def _render(data: dict, ics) -> None:
         f"[bold]{escape(data['campaign'])}[/bold]: half moons, {data['from']} to {data['to']}; "
         f"{len(quarters)} quarters, {len(ranked)} with a window at some site"
     )
-    table = Table(box=box.SIMPLE_HEAD, caption="half moon: true half moon (phase angle 90 deg); offsets in minutes")
+    table = Table(box=box.SIMPLE_HEAD, title="Quarters (geocentric)",
+                  caption="half moon: the true half moon (phase angle 90 deg); offset from quadrature in minutes")
     for col, just in (("rank", "right"), ("quarter", "left"), ("quadrature (UTC)", "left"),
                       ("half moon (UTC)", "left"), ("offset", "right"), ("E (deg)", "right"), ("ratio", "right")):
-        table.add_column(col, justify=just)
-    table.add_column("sites: half moon seen (UTC), window")
+        table.add_column(col, justify=just, no_wrap=True)
     for q in quarters:
-        lines = []
-        for sid, s in q["sites"].items():
-            best = min(s["windows"], key=lambda w: abs(w["minutes_from_dichotomy"]), default=None)
-            where = "no window"
-            if best is not None:
-                where = (f"in {best['start_utc'][11:16]}-{best['end_utc'][11:16]}" if best["contains_dichotomy"]
-                         else f"{best['start_utc'][5:10]} {best['start_utc'][11:16]}-{best['end_utc'][11:16]} "
-                              f"({best['minutes_from_dichotomy']:+.0f} min)")
-            lines.append(f"{escape(sid)} {s['dichotomy_utc'][11:16]} {where}")
         table.add_row(
             "-" if q["rank"] is None else str(q["rank"]), q["quarter"], q["quadrature_utc"][:16].replace("T", " "),
             q["dichotomy_utc"][11:16], f"{q['dichotomy_minus_quadrature_min']:+.1f}",
-            f"{q['elongation_at_dichotomy_deg']:.4f}", f"{q['sun_moon_distance_ratio']:.0f}", "\n".join(lines),
+            f"{q['elongation_at_dichotomy_deg']:.4f}", f"{q['sun_moon_distance_ratio']:.0f}",
         )
     out.print(table)
+    sites = Table(box=box.SIMPLE_HEAD, title="Each site's half moon and the nearest window with Sun and Moon both up",
+                  caption="window: both bodies high enough and the Sun far enough from the Moon; minutes from the "
+                          "site's half moon")
+    for col, just in (("quarter", "left"), ("site", "left"), ("half moon seen (UTC)", "left"),
+                      ("nearest window (UTC)", "left"), ("from half moon", "right")):
+        sites.add_column(col, justify=just, no_wrap=True)
+    for q in quarters:
+        for sid, s in q["sites"].items():
+            best = min(s["windows"], key=lambda w: abs(w["minutes_from_dichotomy"]), default=None)
+            window, offset = "none", ""
+            if best is not None:
+                window = f"{best['start_utc'][5:10]} {best['start_utc'][11:16]}-{best['end_utc'][11:16]}"
+                offset = "contains it" if best["contains_dichotomy"] else f"{best['minutes_from_dichotomy']:+.0f} min"
+            sites.add_row(f"{q['quadrature_utc'][:10]} {q['quarter']}", escape(sid),
+                          s["dichotomy_utc"][:16].replace("T", " "), window, offset)
+    out.print(sites)
     if ics is not None:
         out.print(f"  calendar written: {escape(str(ics))}")
     out.print(f"  {data['caution']}")
