@@ -20,9 +20,9 @@ import numpy as np
 import pytest
 
 from firstrung.campaign import read_campaign
-from firstrung.cli import main
 from firstrung.errors import InputError
 from firstrung.logs import read_eclipse_logs, read_phase_logs, read_shadow_logs
+from helpers import run_cli
 
 BAD = Path(__file__).resolve().parent / "data" / "bad"
 READERS = {"shadows": read_shadow_logs, "eclipse": read_eclipse_logs, "phases": read_phase_logs}
@@ -607,14 +607,7 @@ def test_campaign_case(case):
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "100")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=100)
 
 
 def error_lines(err: str) -> list[str]:

@@ -8,20 +8,13 @@ from pathlib import Path
 import pytest
 
 import firstrung.runs
-from firstrung.cli import main
+from helpers import run_cli
 
 EXAMPLE = Path(__file__).resolve().parent / "data" / "clean_campaign" / "campaign.toml"
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "100")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=100)
 
 
 def boom(*args, **kwargs):

@@ -8,21 +8,14 @@ from pathlib import Path
 
 import pytest
 
-from firstrung.cli import main
+from helpers import run_cli
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"  # the demo: every rung measured
 CLEAN = Path(__file__).resolve().parent / "data" / "clean_campaign"
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "100")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=100)
 
 
 @pytest.fixture()

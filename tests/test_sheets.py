@@ -10,10 +10,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung.cli import main
 from firstrung.planning import PlanSite
 from firstrung.refraction import apparent_from_true_altitude_deg
 from firstrung.sheets import blank_field_kit, render_shadow_sheet, shadow_sheet_predictions
+from helpers import run_cli
 
 ROOT = Path(__file__).resolve().parent.parent
 VOID = {"meta", "br", "hr", "img", "input", "link", "col", "wbr"}
@@ -101,14 +101,7 @@ def test_committed_blank_kit_is_what_the_tool_writes():
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "100")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=100)
 
 
 def test_sheet_command_writes_and_refuses_unknown_site(tmp_path, capsys, monkeypatch):

@@ -16,20 +16,13 @@ from pathlib import Path
 
 import pytest
 
-from firstrung.cli import main
+from helpers import run_cli
 
 EXAMPLES = Path(__file__).resolve().parent.parent.parent / "examples"
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "120")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=120)
 
 
 @pytest.fixture()

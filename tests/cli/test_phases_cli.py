@@ -9,21 +9,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung.cli import main
+from helpers import run_cli
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "clean_campaign"
 SECOND = 1.0
 
 
 def run(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "110")
-    try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code if isinstance(exit_.code, int) else 1
-    out, err = capsys.readouterr()
-    return code, out, err
+    return run_cli(args, capsys, monkeypatch, columns=110)
 
 
 @pytest.fixture()
