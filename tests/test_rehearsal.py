@@ -19,13 +19,22 @@ def run(args, capsys, monkeypatch):
 
 @pytest.fixture()
 def camp(tmp_path):
+    """The clean campaign with its shadow log only (the simulated logs are added where a test needs them)."""
     shutil.copytree(CLEAN, tmp_path / "camp")
-    return tmp_path / "camp" / "campaign.toml"
+    toml = tmp_path / "camp" / "campaign.toml"
+    toml.write_text("".join(line for line in toml.read_text().splitlines(keepends=True)
+                            if not line.startswith(("eclipse =", "phases ="))))
+    return toml
 
 
 def _use(camp, folder="sim"):
     """Point the campaign at the simulated logs (simulate never writes over a log the campaign lists)."""
-    camp.write_text(camp.read_text().replace('"logs/', f'"{folder}/'))
+    text = camp.read_text().replace('"logs/', f'"{folder}/')
+    for kind in ("eclipse", "phases"):
+        if (camp.parent / folder / f"{kind}.csv").exists() and f"{kind} =" not in text:
+            text = text.replace(f'shadows = ["{folder}/shadows.csv"]',
+                                f'shadows = ["{folder}/shadows.csv"]\n{kind} = ["{folder}/{kind}.csv"]')
+    camp.write_text(text)
 
 
 def _check_codes(camp, capsys, monkeypatch):

@@ -104,6 +104,7 @@ CODES = (
     "series-mismatch",
     "far-from-noon",
     "unreadable-file",
+    "moon-below-horizon",
 )
 
 #: Readings of one file and site more than this apart [h] belong to different series.

@@ -21,7 +21,11 @@ def run(args, capsys, monkeypatch):
 
 @pytest.fixture()
 def example(tmp_path):
+    """The clean campaign with its shadow log only (these tests are about shadow rows)."""
     shutil.copytree(EXAMPLES, tmp_path / "camp")
+    toml = tmp_path / "camp" / "campaign.toml"
+    toml.write_text("".join(line for line in toml.read_text().splitlines(keepends=True)
+                            if not line.startswith(("eclipse =", "phases ="))))
     return tmp_path / "camp"
 
 

@@ -56,9 +56,29 @@ def _check_shadows(campaign: Campaign) -> KindCheck:
     return KindCheck(tuple(result.flags) + tuple(problems), result.series, result.noon_only)
 
 
+def _check_eclipse(campaign: Campaign) -> KindCheck:
+    from ..checks import problem_flags
+    from ..event_checks import check_eclipse_log
+    from ..logs import read_eclipse_logs
+
+    log = read_eclipse_logs(campaign)
+    return KindCheck(tuple(check_eclipse_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
+
+
+def _check_phases(campaign: Campaign) -> KindCheck:
+    from ..checks import problem_flags
+    from ..event_checks import check_phase_log
+    from ..logs import read_phase_logs
+
+    log = read_phase_logs(campaign)
+    return KindCheck(tuple(check_phase_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
+
+
 #: The check of each kind of log, by the campaign's ``[logs]`` key.
 LOG_CHECKS: dict[str, Callable[[Campaign], KindCheck]] = {
     "shadows": _check_shadows,
+    "eclipse": _check_eclipse,
+    "phases": _check_phases,
 }
 
 
