@@ -179,7 +179,7 @@ def test_error_budget_names_the_largest_input_and_adds_up():
     total = np.sqrt(sum(t.sigma**2 for t in r.budget))
     assert total == pytest.approx(r.earth_radius_km.sigma, rel=1e-9)
     assert r.budget[0].sigma == max(t.sigma for t in r.budget)
-    assert {t.source for t in r.budget} >= {"shadow reading", "gnomon height", "edge location", "refraction"}
+    assert {t.source for t in r.budget} >= {"shadow reading", "clock", "gnomon height", "edge location", "refraction"}
 
 
 @pytest.mark.slow

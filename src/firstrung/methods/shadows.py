@@ -81,6 +81,7 @@ _FIT_ITERATIONS = 8
 
 BUDGET_SOURCES = (
     "shadow reading",
+    "clock",
     "gnomon height",
     "edge location",
     "refraction",
@@ -230,6 +231,7 @@ class SeriesFit:
     chi2: np.ndarray
     count: np.ndarray
     gain_latitude: np.ndarray  # per reading: d(latitude)/d(altitude of that reading)
+    latitude_information: np.ndarray  # the latitude's normal-equation entry: 1/variance with the clock known
 
 
 def _altitude_model(lat, dec, ha):
@@ -323,7 +325,7 @@ def fit_series(
     count = np.bincount(group, minlength=n_groups)
     squeeze = np.ndim(altitude_rad) == 1
     pick = (lambda a: a[0]) if squeeze else (lambda a: a)
-    return SeriesFit(pick(lat), pick(u), pick(cov), pick(chi2), count, pick(gain))
+    return SeriesFit(pick(lat), pick(u), pick(cov), pick(chi2), count, pick(gain), pick(n11))
 
 
 # --- step 4: the radius from latitudes and positions --------------------------------------------
@@ -625,12 +627,14 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     """
     n_groups = len(prep.group_site)
     gain = fit.gain_latitude
-    # per series: contribution of each source to the latitude (rad)
-    reading = np.sqrt(fit.covariance[:, 0, 0]) * scale
+    # per series: contribution of each source to the latitude (rad); the readings' own scatter
+    # with the clock known, and what not knowing the clock adds (the fit solves for both)
+    reading = np.sqrt(1.0 / fit.latitude_information) * scale
+    clock = np.sqrt(np.maximum(fit.covariance[:, 0, 0] - 1.0 / fit.latitude_information, 0.0)) * scale
     gnomon = np.abs(_group_sum(prep.group, n_groups, gain * prep.dalt_dgnomon_rad_per_m * _gnomon_sigma(prep)))
     edge = np.abs(_group_sum(prep.group, n_groups, gain * prep.edge_sigma_rad))
     refraction = np.abs(_group_sum(prep.group, n_groups, gain * prep.refraction_sigma_rad))
-    total = np.sqrt(reading**2 + gnomon**2 + edge**2 + refraction**2)
+    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2)
     n_sites = len(prep.sites)
     w = 1.0 / total**2
     wsum = _group_sum(prep.group_site, n_sites, w)
@@ -639,11 +643,13 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     latitude = _group_sum(prep.group_site, n_sites, frac * fit.latitude_rad)
     contributions = {
         "shadow reading": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * reading) ** 2)),
+        "clock": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * clock) ** 2)),
         "gnomon height": _group_sum(prep.group_site, n_sites, frac * gnomon),
         "edge location": _group_sum(prep.group_site, n_sites, frac * edge),
         "refraction": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * refraction) ** 2)),
     }
-    per_series = {"shadow reading": reading, "gnomon height": gnomon, "edge location": edge, "refraction": refraction}
+    per_series = {"shadow reading": reading, "clock": clock, "gnomon height": gnomon, "edge location": edge,
+                  "refraction": refraction}
     return present, latitude, contributions, per_series, total
 
 
