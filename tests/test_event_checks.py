@@ -87,3 +87,16 @@ def test_half_moon_far_from_the_sites_true_half_moon_and_moon_down(camp, capsys,
     assert flag["code"] in ("event-time-mismatch", "moon-below-horizon")
     if flag["code"] == "event-time-mismatch":
         assert flag["severity"] == "warning" and flag["seconds"] > 4 * 3600
+
+
+def test_reductions_leave_out_flagged_timings_and_say_so(camp, capsys, monkeypatch):
+    log = camp.parent / "logs" / "eclipse.csv"
+    _edit(log, {2: dt.timedelta(hours=1)})  # lowmead's U1 typed in local time
+    code, out, err = run_cli(["reduce", "eclipse", camp, "--json"], capsys, monkeypatch)
+    assert code == 0, err
+    data = json.loads(out)
+    # the local-time U1 and the example's own late U1 (data row 6) are left out
+    assert data["rows"]["left_out_flagged"] == 2
+    assert "2 rows flagged as errors by check left out" in err
+    code, out, err = run_cli(["reduce", "eclipse", camp, "--json", "--include-flagged"], capsys, monkeypatch)
+    assert json.loads(out)["rows"]["left_out_flagged"] == 0

@@ -56,3 +56,15 @@ def print_json(obj: dict) -> None:
     from ..serialize import dumps
 
     sys.stdout.write(dumps(obj) + "\n")
+
+
+IncludeFlaggedOption = Annotated[
+    bool, typer.Option("--include-flagged", help="Keep the rows that 'firstrung check' flags as errors.")
+]
+
+
+def report_left_out(count: int) -> None:
+    """One line on stderr saying how many rows the check's errors left out of a reduction."""
+    if count:
+        print(f"firstrung: {count} rows flagged as errors by check left out (--include-flagged keeps them)",
+              file=sys.stderr)

@@ -8,11 +8,13 @@ import typer
 
 from .common import (
     CampaignArgument,
+    IncludeFlaggedOption,
     JsonOption,
     VerboseOption,
     console,
     handles_errors,
     print_json,
+    report_left_out,
     report_problems,
 )
 
@@ -47,6 +49,7 @@ def eclipse(
     ] = None,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
+    include_flagged: IncludeFlaggedOption = False,
 ) -> None:
     """The shadow/Moon ratio and the Moon's distance from umbral contacts and crater timings.
 
@@ -63,12 +66,14 @@ def eclipse(
     run = run_eclipse(
         campaign, convention=convention, earth_radius_km=earth_radius_km,
         earth_radius_sigma_km=earth_radius_sigma_km, magnitude=magnitude, magnitude_sigma=magnitude_sigma,
+        include_flagged=include_flagged,
     )
     data = eclipse_run_to_json(run)
     if json_output:
         print_json(data)
     else:
         render_eclipse(data, verbose)
+    report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
         raise typer.Exit(2)

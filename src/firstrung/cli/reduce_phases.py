@@ -8,11 +8,13 @@ import typer
 
 from .common import (
     CampaignArgument,
+    IncludeFlaggedOption,
     JsonOption,
     VerboseOption,
     console,
     handles_errors,
     print_json,
+    report_left_out,
     report_problems,
 )
 
@@ -35,6 +37,7 @@ def phases(
     fraction_sigma: Annotated[
         float, typer.Option("--fraction-sigma", help="Error of an illuminated fraction measured on an image.")
     ] = 0.01,
+    include_flagged: IncludeFlaggedOption = False,
 ) -> None:
     """D_sun/D_moon with its 68 % interval, and how much better the angle or the timing must be.
 
@@ -45,12 +48,13 @@ def phases(
 
     settings = PhaseSettings(elongation_sigma_deg=elongation_sigma_deg, time_sigma_s=time_sigma_min * 60.0,
                              fraction_sigma=fraction_sigma)
-    run = run_phases(campaign, settings)
+    run = run_phases(campaign, settings, include_flagged=include_flagged)
     data = phase_run_to_json(run)
     if json_output:
         print_json(data)
     else:
         _render(data, verbose)
+    report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
         raise typer.Exit(2)

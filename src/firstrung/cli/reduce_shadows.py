@@ -9,11 +9,13 @@ import typer
 
 from .common import (
     CampaignArgument,
+    IncludeFlaggedOption,
     JsonOption,
     VerboseOption,
     console,
     handles_errors,
     print_json,
+    report_left_out,
     report_problems,
 )
 
@@ -37,9 +39,7 @@ def shadows(
         ),
     ] = 0,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
-    include_flagged: Annotated[
-        bool, typer.Option("--include-flagged", help="Keep the rows that 'firstrung check' flags as errors.")
-    ] = False,
+    include_flagged: IncludeFlaggedOption = False,
 ) -> None:
     """The Earth's radius from noon gnomon shadows at two or more sites.
 
@@ -71,12 +71,7 @@ def shadows(
         render_shadows(data, verbose)
     for note in run.notes:
         print(f"firstrung: note: {note}", file=sys.stderr)
-    if run.rows_left_out_flagged:
-        print(
-            f"firstrung: {run.rows_left_out_flagged} rows flagged as errors by check left out "
-            "(--include-flagged keeps them)",
-            file=sys.stderr,
-        )
+    report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
         raise typer.Exit(2)

@@ -290,6 +290,7 @@ class EclipseRun:
     rows_accepted: int
     earth_radius_km: Measured | None
     earth_radius_source: str | None
+    rows_left_out_flagged: int = 0
 
 
 def _moon_data(campaign: Campaign, eclipse) -> MoonData:
@@ -471,6 +472,7 @@ def run_eclipse(
     earth_radius_sigma_km: float | None = None,
     magnitude: float | None = None,
     magnitude_sigma: float | None = None,
+    include_flagged: bool = False,
 ) -> EclipseRun:
     """Read the campaign and its eclipse logs and reduce each eclipse they time.
 
@@ -504,6 +506,11 @@ def run_eclipse(
     if not campaign.logs.get("eclipse"):
         raise InputError("the campaign file lists no eclipse logs ([logs] eclipse = [...])", file=str(campaign_path))
     log = read_eclipse_logs(campaign)
+    left_out_flagged = 0
+    if not include_flagged:
+        from ..event_checks import check_eclipse_log, without_flagged_errors
+
+        log, left_out_flagged = without_flagged_errors(campaign, log, check_eclipse_log)
     problems = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""
@@ -574,6 +581,7 @@ def run_eclipse(
         rows_accepted=int(good.sum()),
         earth_radius_km=earth_radius,
         earth_radius_source=er_source,
+        rows_left_out_flagged=left_out_flagged,
     )
 
 

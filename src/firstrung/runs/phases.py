@@ -359,6 +359,7 @@ class PhaseRun:
     rows_read: int
     rows_accepted: int
     assumptions: tuple[str, ...]
+    rows_left_out_flagged: int = 0
 
     @property
     def sun_moon_distance_ratio(self) -> Measured:
@@ -402,7 +403,7 @@ def _assign_quarters(log, problems):
     return quarters, index, keep
 
 
-def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings()) -> PhaseRun:
+def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, include_flagged: bool = False) -> PhaseRun:
     """Read the campaign's half-moon logs and reduce them to the Sun/Moon distance ratio.
 
     Raises
@@ -417,6 +418,11 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings()) -> Phas
     if not campaign.logs.get("phases"):
         raise InputError("the campaign file lists no half-moon logs ([logs] phases = [...])", file=str(campaign_path))
     log = read_phase_logs(campaign)
+    left_out_flagged = 0
+    if not include_flagged:
+        from ..event_checks import check_phase_log, without_flagged_errors
+
+        log, left_out_flagged = without_flagged_errors(campaign, log, check_phase_log)
     problems: list[RowProblem] = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""
@@ -574,6 +580,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings()) -> Phas
         expected_ratio=expected_r, expected_elongation_deg=expected_e, rate_deg_per_h=rate,
         problems=tuple(problems), rows_read=log.rows_read, rows_accepted=accepted,
         assumptions=tuple(assumptions),
+        rows_left_out_flagged=left_out_flagged
     )
 
 

@@ -182,6 +182,7 @@ def eclipse_run_to_json(run) -> dict:
         "earth_radius_km": _q(er, 3),
         "earth_radius_source": run.earth_radius_source,
         "eclipses": items,
-        "rows": {"read": run.rows_read, "accepted": run.rows_accepted, "refused": len(run.problems)},
+        "rows": {"read": run.rows_read, "accepted": run.rows_accepted, "refused": len(run.problems),
+                 "left_out_flagged": run.rows_left_out_flagged},
         "problems": [str(p) for p in run.problems],
     }

@@ -250,6 +250,7 @@ def phase_run_to_json(run) -> dict:
             "accepted": run.rows_accepted,
             "refused": len(run.problems),
             "estimates": len(run.estimates),
+            "left_out_flagged": run.rows_left_out_flagged,
         },
         "problems": [str(p) for p in run.problems],
         "assumptions": list(run.assumptions),
