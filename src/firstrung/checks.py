@@ -53,7 +53,7 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
-from .campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign
+from .campaign import Campaign
 from .constants import (
     ASTRONOMICAL_UNIT_KM,
     STANDARD_TEMPERATURE_C,
@@ -303,28 +303,11 @@ def shadow_rows(campaign: Campaign, log) -> tuple[ShadowRows, list[RowProblem]]:
     >>> len(shadow_rows(c, empty)[0])
     0
     """
-    index = {s.id: i for i, s in enumerate(campaign.sites)}
-    n = len(log)
-    site_index = np.array([index[s] for s in log.site], dtype=int) if n else np.zeros(0, int)
-    gnomons = [campaign.sites[i].gnomon for i in site_index]
-    has_gnomon = np.array([g is not None for g in gnomons], bool)
-    row_height = np.asarray(log.gnomon_m, float)
-    ok = has_gnomon | np.isfinite(row_height)
-    problems = [
-        RowProblem(
-            str(log.file[k]), int(log.row[k]), "gnomon_m",
-            f"site '{log.site[k]}' has no [site.gnomon] in the campaign file; give gnomon_m in the log or add it",
-        )
-        for k in np.flatnonzero(~ok)
-    ]
-    default_height = np.array([g.height_m if g is not None else np.nan for g in gnomons], float)
-    height = np.where(np.isfinite(row_height), row_height, default_height)
-    height_sigma = np.array([g.height_sigma_m if g is not None else DEFAULT_HEIGHT_SIGMA_M for g in gnomons], float)
-    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
-    default_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
-    row_edge = np.asarray(log.edge, dtype=object)
-    given = np.array([e is not None and e != "" for e in row_edge], bool)
-    edge = np.where(given, row_edge, default_edge) if n else np.zeros(0, dtype=object)
+    from .logs import shadow_instruments
+
+    inst = shadow_instruments(campaign, log)
+    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
+    height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
     rows = ShadowRows(
         file=np.asarray(log.file, dtype=object)[ok],
         row=np.asarray(log.row, dtype=np.int64)[ok],

@@ -874,6 +874,63 @@ def _parse_shadow_row(row: _Row, campaign: Campaign) -> dict:
     }
 
 
+@dataclass(frozen=True)
+class ShadowInstruments:
+    """Each shadow row's gnomon and errors, the log's own values first, else the campaign's.
+
+    ``ok`` marks the rows that have a gnomon height at all (a row of a site
+    without ``[site.gnomon]`` must give ``gnomon_m``); ``problems`` says why
+    the others are refused.
+    """
+
+    ok: np.ndarray
+    site_index: np.ndarray
+    gnomon_m: np.ndarray
+    gnomon_sigma_m: np.ndarray
+    shadow_sigma_m: np.ndarray
+    edge: np.ndarray
+    problems: tuple[RowProblem, ...]
+
+
+def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
+    """The gnomon, edge and stated errors of every row, with the campaign's defaults filled in.
+
+    Per-site values are gathered once and indexed by each row's site, so the
+    cost does not grow with a loop over rows.
+    """
+    from .campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
+
+    index = {s.id: i for i, s in enumerate(campaign.sites)}
+    ids, inverse = np.unique(np.asarray(log.site, dtype=str), return_inverse=True)
+    site_index = np.array([index[s] for s in ids], dtype=int)[inverse] if len(log) else np.zeros(0, int)
+    gnomons = [s.gnomon for s in campaign.sites]
+    has = np.array([g is not None for g in gnomons], bool)
+    height = np.array([g.height_m if g is not None else np.nan for g in gnomons], float)
+    height_sigma = np.array([g.height_sigma_m if g is not None else DEFAULT_HEIGHT_SIGMA_M for g in gnomons], float)
+    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
+    site_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
+    row_height = np.asarray(log.gnomon_m, float)
+    ok = has[site_index] | np.isfinite(row_height)
+    problems = tuple(
+        RowProblem(
+            str(log.file[k]), int(log.row[k]), "gnomon_m",
+            f"site '{log.site[k]}' has no [site.gnomon] in the campaign file; give gnomon_m in the log or add it",
+        )
+        for k in np.flatnonzero(~ok)
+    )
+    row_edge = np.asarray(log.edge, dtype=object)
+    given = np.array([e is not None and e != "" for e in row_edge], bool) if len(log) else np.zeros(0, bool)
+    return ShadowInstruments(
+        ok=ok,
+        site_index=site_index,
+        gnomon_m=np.where(np.isfinite(row_height), row_height, height[site_index]),
+        gnomon_sigma_m=height_sigma[site_index],
+        shadow_sigma_m=shadow_sigma[site_index],
+        edge=np.where(given, row_edge, site_edge[site_index]) if len(log) else np.zeros(0, dtype=object),
+        problems=problems,
+    )
+
+
 #: Whether plain rows take the fast path (a test compares both paths on every corpus file).
 _FAST_PATH = True
 _PLAIN_UTC_RE = re.compile(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")

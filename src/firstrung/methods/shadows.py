@@ -32,7 +32,7 @@ inputs and redoes the whole reduction, as a check of the linear propagation.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -109,7 +109,6 @@ class ShadowReadings:
     gnomon_sigma_m: np.ndarray
     temperature_c: np.ndarray
     pressure_hpa: np.ndarray
-    row_label: np.ndarray = field(default_factory=lambda: np.array([], dtype=object))
 
     def __len__(self) -> int:
         return int(np.size(self.shadow_m))

@@ -10,9 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M, Campaign, read_campaign
+from ..campaign import Campaign, read_campaign
 from ..errors import InputError, RowProblem
-from ..logs import ShadowLog, read_shadow_logs
+from ..logs import ShadowLog, read_shadow_logs, shadow_instruments
 from ..methods.shadows import (
     BaselineInput,
     ShadowReadings,
@@ -54,39 +54,19 @@ def baseline_inputs(campaign: Campaign) -> tuple[BaselineInput, ...]:
 
 def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings, list[RowProblem]]:
     """Fill in each row's gnomon, edge and errors from the campaign; refuse rows that lack a gnomon."""
-    index = {s.id: i for i, s in enumerate(campaign.sites)}
-    problems: list[RowProblem] = []
-    n = len(log)
-    site_index = np.array([index[s] for s in log.site], dtype=int) if n else np.zeros(0, int)
-    gnomons = [campaign.sites[i].gnomon for i in site_index]
-    has_gnomon = np.array([g is not None for g in gnomons], bool)
-    row_height = np.asarray(log.gnomon_m, float)
-    ok = has_gnomon | np.isfinite(row_height)
-    for k in np.flatnonzero(~ok):
-        problems.append(
-            RowProblem(
-                str(log.file[k]), int(log.row[k]), "gnomon_m",
-                f"site '{log.site[k]}' has no [site.gnomon] in the campaign file; give gnomon_m in the log or add it",
-            )
-        )
-    default_height = np.array([g.height_m if g is not None else np.nan for g in gnomons], float)
-    height = np.where(np.isfinite(row_height), row_height, default_height)
-    height_sigma = np.array([g.height_sigma_m if g is not None else DEFAULT_HEIGHT_SIGMA_M for g in gnomons], float)
-    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
-    default_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
-    row_edge = np.asarray(log.edge, dtype=object)
-    edge = np.where(np.array([e is not None and e != "" for e in row_edge], bool), row_edge, default_edge)
+    inst = shadow_instruments(campaign, log)
+    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
+    problems = list(inst.problems)
     readings = ShadowReadings(
         site_index=site_index[ok],
         time_utc=np.asarray(log.time_utc)[ok],
         shadow_m=np.asarray(log.shadow_m, float)[ok],
         gnomon_m=height[ok],
-        edge=edge[ok] if n else np.zeros(0, dtype=object),
-        shadow_sigma_m=shadow_sigma[ok],
-        gnomon_sigma_m=height_sigma[ok],
+        edge=edge[ok],
+        shadow_sigma_m=inst.shadow_sigma_m[ok],
+        gnomon_sigma_m=inst.gnomon_sigma_m[ok],
         temperature_c=np.asarray(log.temperature_c, float)[ok],
         pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
-        row_label=np.array([f"{f}:{r}" for f, r in zip(log.file, log.row, strict=True)], dtype=object)[ok],
     )
     return readings, problems
 
