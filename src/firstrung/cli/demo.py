@@ -28,8 +28,8 @@ def demo(
 
     if output.exists() and not output.is_dir():
         raise InputError(f"-o: {output} exists and is not a folder")
-    steps = ["simulating the observers' logs", "checking the logs", "reducing every rung",
-             "chaining the ladder and writing the report"]
+    steps = ["simulating the observers' logs", "checking the logs, reducing every rung, chaining the ladder",
+             "writing the report"]
     with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
         task = bar.add_task(steps[0], total=len(steps))
 

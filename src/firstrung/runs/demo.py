@@ -67,11 +67,7 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     from ..serialize.eclipse import eclipse_run_to_json
     from ..serialize.phases import phase_run_to_json
     from ..serialize.shadows import shadow_run_to_json
-    from .check import run_check
-    from .eclipse import run_eclipse
-    from .phases import run_phases
     from .report import build_report, render_html
-    from .shadows import run_shadows
 
     folder = Path(folder)
     (folder / "logs").mkdir(parents=True, exist_ok=True)
@@ -83,15 +79,15 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     campaign = parse_campaign(text, path=campaign_path)
     for name, csv_text in demo_logs(campaign).items():
         files[name] = write_atomic(folder / "logs" / name, csv_text)
-    progress("checking the logs")
-    check = run_check(campaign_path)
-    files["check"] = write_atomic(folder / "check.json", dumps(check_run_to_json(check)) + "\n")
-    progress("reducing every rung")
-    files["shadows"] = write_atomic(folder / "earth-radius.json", dumps(shadow_run_to_json(run_shadows(campaign_path))) + "\n")
-    files["eclipse"] = write_atomic(folder / "moon-distance.json", dumps(eclipse_run_to_json(run_eclipse(campaign_path))) + "\n")
-    files["phases"] = write_atomic(folder / "sun-moon-ratio.json", dumps(phase_run_to_json(run_phases(campaign_path))) + "\n")
-    progress("chaining the ladder and writing the report")
+    progress("checking the logs, reducing every rung, chaining the ladder")
     report = build_report(campaign_path, samples=samples, seed=seed)
+    runs = report.runs
+    files["check"] = write_atomic(folder / "check.json", dumps(check_run_to_json(runs["check"])) + "\n")
+    files["shadows"] = write_atomic(folder / "earth-radius.json", dumps(shadow_run_to_json(runs["shadows"])) + "\n")
+    files["eclipse"] = write_atomic(folder / "moon-distance.json", dumps(eclipse_run_to_json(runs["eclipse"])) + "\n")
+    files["phases"] = write_atomic(folder / "sun-moon-ratio.json", dumps(phase_run_to_json(runs["phases"])) + "\n")
+    progress("writing the report")
     files["ladder"] = write_atomic(folder / "ladder.json", dumps(report.context["ladder_json"]) + "\n")
     files["report"] = write_atomic(folder / "report.html", render_html(report))
+    check = runs["check"]
     return DemoRun(folder, files, report.context["ladder_json"], len(check.flags))

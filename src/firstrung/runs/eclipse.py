@@ -473,6 +473,7 @@ def run_eclipse(
     magnitude: float | None = None,
     magnitude_sigma: float | None = None,
     include_flagged: bool = False,
+    measured_earth_radius: tuple[Measured, str] | None = None,
 ) -> EclipseRun:
     """Read the campaign and its eclipse logs and reduce each eclipse they time.
 
@@ -548,7 +549,10 @@ def run_eclipse(
                 + f"; {len(bad)} such row(s) — check the event names and the date",
                 file=str(log.file[k]), row=int(log.row[k]), column="event",
             )
-    earth_radius, er_source = _earth_radius(campaign_path, campaign, earth_radius_km, earth_radius_sigma_km)
+    if measured_earth_radius is not None and earth_radius_km is None:
+        earth_radius, er_source = measured_earth_radius  # already reduced by the caller: not redone
+    else:
+        earth_radius, er_source = _earth_radius(campaign_path, campaign, earth_radius_km, earth_radius_sigma_km)
     results = []
     for i in sorted(set(which[good])):
         rows = np.flatnonzero(good & (which == i))

@@ -25,8 +25,11 @@ def _eclipse_draws(campaign_path, runs, sources, notes, overrides):
     """The Moon's parallax (Gaussian in the chord fit) and angular diameter from the first reduced eclipse."""
     from .eclipse import run_eclipse
 
+    shadows = runs.get("shadows")
+    measured = None if shadows is None else (
+        shadows.reduction.earth_radius_km, "the campaign's own shadow measurements (reduce shadows)")
     try:
-        run = run_eclipse(campaign_path)
+        run = run_eclipse(campaign_path, measured_earth_radius=measured)
     except (InputError, ComputationError) as error:
         notes.append(f"lunar eclipse not reduced: {error}")
         return None, None, ()

@@ -63,6 +63,7 @@ PHASES_METHOD = (
 class Report:
     context: dict
     figures: dict  # name -> matplotlib Figure factory result (rendered later)
+    runs: dict = None  # the reductions and the check it was built from, by name
 
 
 def _shadow_series(run) -> list[dict]:
@@ -142,13 +143,14 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
         slope_deg_per_km = np.degrees(1.0 / red.earth_radius_km.value)
         intercept = float(np.mean((lat - resid_deg) - slope_deg_per_km * pos))
         figs["latitude_line"] = figures.latitude_line_figure(pos, lat, sig, names, out, intercept, slope_deg_per_km)
-    check = None
+    check = check_run = None
     try:
         from ..serialize.check import check_run_to_json
         from .check import run_check
 
         progress("checking the logs")
-        check = check_run_to_json(run_check(campaign_path))
+        check_run = run_check(campaign_path)
+        check = check_run_to_json(check_run)
     except InputError:
         check = None
     eclipse = phases = None
@@ -194,7 +196,7 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
         "samples": samples,
         "seed": seed,
     }
-    return Report(context, figs)
+    return Report(context, figs, {**lad.rung_runs, "check": check_run})
 
 
 def render_html(report: Report) -> str:
