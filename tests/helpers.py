@@ -15,3 +15,11 @@ def run_cli(args, capsys, monkeypatch, columns: int = 100):
         code = exit_.code if isinstance(exit_.code, int) else 1
     out, err = capsys.readouterr()
     return code, out, err
+
+
+def shadows_only(campaign_toml) -> None:
+    """Drop the eclipse and half-moon logs from a copied campaign file (tests about shadow rows)."""
+    text = campaign_toml.read_text()
+    campaign_toml.write_text(
+        "".join(line for line in text.splitlines(keepends=True) if not line.startswith(("eclipse =", "phases =")))
+    )

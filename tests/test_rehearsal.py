@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from helpers import run_cli
+from helpers import run_cli, shadows_only
 
 CLEAN = Path(__file__).resolve().parent / "data" / "clean_campaign"
 
@@ -22,8 +22,7 @@ def camp(tmp_path):
     """The clean campaign with its shadow log only (the simulated logs are added where a test needs them)."""
     shutil.copytree(CLEAN, tmp_path / "camp")
     toml = tmp_path / "camp" / "campaign.toml"
-    toml.write_text("".join(line for line in toml.read_text().splitlines(keepends=True)
-                            if not line.startswith(("eclipse =", "phases ="))))
+    shadows_only(toml)
     return toml
 
 

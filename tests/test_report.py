@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from helpers import run_cli
+from helpers import run_cli, shadows_only
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"  # the demo: every rung measured
 CLEAN = Path(__file__).resolve().parent / "data" / "clean_campaign"
@@ -66,8 +66,7 @@ def test_report_refuses_to_overwrite_an_input(hostile_campaign, capsys, monkeypa
 def test_a_shadows_only_campaign_shows_the_other_rungs_as_not_measured(tmp_path, capsys, monkeypatch):
     shutil.copytree(CLEAN, tmp_path / "camp")
     camp = tmp_path / "camp" / "campaign.toml"
-    text = camp.read_text()
-    camp.write_text("\n".join(line for line in text.splitlines() if not line.startswith(("eclipse =", "phases ="))) + "\n")
+    shadows_only(camp)
     out_file = tmp_path / "report.html"
     code, out, err = run(["report", camp, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
     assert code == 0, err

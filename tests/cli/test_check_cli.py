@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from helpers import run_cli
+from helpers import run_cli, shadows_only
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "data" / "clean_campaign"
 
@@ -24,8 +24,7 @@ def example(tmp_path):
     """The clean campaign with its shadow log only (these tests are about shadow rows)."""
     shutil.copytree(EXAMPLES, tmp_path / "camp")
     toml = tmp_path / "camp" / "campaign.toml"
-    toml.write_text("".join(line for line in toml.read_text().splitlines(keepends=True)
-                            if not line.startswith(("eclipse =", "phases ="))))
+    shadows_only(toml)
     return tmp_path / "camp"
 
 
