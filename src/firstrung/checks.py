@@ -1125,14 +1125,22 @@ def check_shadow_log(campaign: Campaign, log) -> tuple[ShadowCheck, list[Flag]]:
     return result, problem_flags(tuple(log.problems) + tuple(extra))
 
 
-def error_rows(campaign: Campaign, log) -> frozenset[tuple[str, int]]:
-    """(file, row) of every shadow row the check flags as an error: the rows reductions leave out."""
-    result, _ = check_shadow_log(campaign, log)
-    return frozenset((f.file, f.row) for f in result.flags if f.severity == "error" and f.row is not None)
+def _shadow_flags(campaign: Campaign, log) -> list[Flag]:
+    return list(check_shadow_log(campaign, log)[0].flags)
 
 
-def without_error_rows(campaign: Campaign, log):
-    """The log without the rows flagged as errors, and how many were left out.
+def error_rows(campaign: Campaign, log, check=_shadow_flags) -> frozenset[tuple[str, int]]:
+    """(file, row) of every row ``check`` flags as an error: the rows reductions leave out.
+
+    ``check(campaign, log)`` gives the flags of one kind of log: the shadow
+    check by default, or :func:`firstrung.event_checks.check_eclipse_log` /
+    ``check_phase_log``.
+    """
+    return frozenset((f.file, f.row) for f in check(campaign, log) if f.severity == "error" and f.row is not None)
+
+
+def without_error_rows(campaign: Campaign, log, check=_shadow_flags):
+    """The log without the rows ``check`` flags as errors, and how many were left out.
 
     >>> from firstrung.campaign import parse_campaign
     >>> from firstrung.logs import ShadowLog
@@ -1143,6 +1151,6 @@ def without_error_rows(campaign: Campaign, log):
     """
     if len(log) == 0:
         return log, 0
-    bad = error_rows(campaign, log)
+    bad = error_rows(campaign, log, check)
     keep = np.array([(str(f), int(r)) not in bad for f, r in zip(log.file, log.row, strict=True)], bool)
     return log.select(keep), int(np.sum(~keep))

@@ -196,14 +196,3 @@ def check_phase_log(campaign, log) -> list[Flag]:
                                    str(log.time_column[i]), severity))
     return flags
 
-
-def without_flagged_errors(campaign, log, check) -> tuple[object, int]:
-    """The log without the rows ``check`` flags as errors, and how many were left out.
-
-    ``check`` is :func:`check_eclipse_log` or :func:`check_phase_log`.
-    """
-    if len(log) == 0:
-        return log, 0
-    bad = {(f.file, f.row) for f in check(campaign, log) if f.severity == "error" and f.row is not None}
-    keep = np.array([(str(f), int(r)) not in bad for f, r in zip(log.file, log.row, strict=True)], bool)
-    return log.select(keep), int(np.sum(~keep))

@@ -509,9 +509,10 @@ def run_eclipse(
     log = read_eclipse_logs(campaign)
     left_out_flagged = 0
     if not include_flagged:
-        from ..event_checks import check_eclipse_log, without_flagged_errors
+        from ..checks import without_error_rows
+        from ..event_checks import check_eclipse_log
 
-        log, left_out_flagged = without_flagged_errors(campaign, log, check_eclipse_log)
+        log, left_out_flagged = without_error_rows(campaign, log, check_eclipse_log)
     problems = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""

@@ -420,9 +420,10 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     log = read_phase_logs(campaign)
     left_out_flagged = 0
     if not include_flagged:
-        from ..event_checks import check_phase_log, without_flagged_errors
+        from ..checks import without_error_rows
+        from ..event_checks import check_phase_log
 
-        log, left_out_flagged = without_flagged_errors(campaign, log, check_phase_log)
+        log, left_out_flagged = without_error_rows(campaign, log, check_phase_log)
     problems: list[RowProblem] = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""
