@@ -232,15 +232,20 @@ def _constraints_and_special_days(dates, sites, apparent, length, declination, c
     special = [[] for _ in dates]
     excluded_set = {np.datetime64(d, "D") for d in c.excluded_dates}
     weekday = (dates.astype(np.int64) + 3) % 7  # 1970-01-01 was a Thursday
-    for k, d in enumerate(dates):  # one entry per day: the reasons are text
-        for j, s in enumerate(sites):
-            if apparent[k, j] < c.min_altitude_deg:
+    low = apparent < c.min_altitude_deg
+    long = length > c.max_shadow_m if c.max_shadow_m is not None else np.zeros_like(low)
+    wrong_day = np.zeros(dates.size, bool) if c.weekdays is None else ~np.isin(weekday, c.weekdays)
+    ruled_out = np.isin(dates, np.array(sorted(excluded_set), dtype="datetime64[D]"))
+    for k in np.flatnonzero(low.any(axis=1) | long.any(axis=1) | wrong_day | ruled_out):  # text only where needed
+        for j in np.flatnonzero(low[k] | long[k]):
+            s = sites[j]
+            if low[k, j]:
                 excluded[k].append(f"Sun only {apparent[k, j]:.1f} deg high at noon at {s.id} (minimum {c.min_altitude_deg:g} deg)")
-            if c.max_shadow_m is not None and length[k, j] > c.max_shadow_m:
+            if long[k, j]:
                 excluded[k].append(f"shadow {length[k, j]:.2f} m at {s.id} is longer than the board ({c.max_shadow_m:g} m)")
-        if c.weekdays is not None and int(weekday[k]) not in c.weekdays:
+        if wrong_day[k]:
             excluded[k].append(f"not a chosen weekday ({WEEKDAY_NAMES[int(weekday[k])]})")
-        if d in excluded_set:
+        if ruled_out[k]:
             excluded[k].append("date excluded by the coordinator")
     # equinoxes and solstices
     t, names = ephemeris.equinoxes_and_solstices(dates[0].astype("datetime64[us]"),
