@@ -56,7 +56,7 @@ def bench_transits(n_sites, n_days, repeats):
     lat, lon, elev = synthetic_sites(n_sites, rng)
     days = np.arange(np.datetime64("2027-01-01"), np.datetime64("2027-01-01") + np.timedelta64(n_days, "D"))
 
-    from firstrung.planning import PlanSite, ShadowConstraints, plan_shadows
+    from firstrung.methods.shadows.prediction import PlanSite, ShadowConstraints, plan_shadows
 
     sites = tuple(
         PlanSite(f"s{i}", f"s{i}", lat[i], lon[i], elev[i], None, 1.0, 0.001, 0.002, "umbra") for i in range(n_sites)
@@ -128,8 +128,12 @@ def bench_sun_positions(n_rows, n_sites, repeats):
 
 def bench_reduce(n_sites, per_site, repeats):
     """reduce shadows on a synthetic campaign (no baseline)."""
-    from firstrung.methods.shadows import ShadowReadings, SiteInput, reduce_shadows
-    from firstrung.simulation import ShadowErrors, reading_times_utc, simulate_shadow_readings
+    from firstrung.methods.shadows.reduction import ShadowReadings, SiteInput, reduce_shadows
+    from firstrung.methods.shadows.rehearsal import (
+        ShadowErrors,
+        reading_times_utc,
+        simulate_shadow_readings,
+    )
 
     rng = np.random.default_rng(3)
     lat = rng.uniform(-50.0, 60.0, n_sites)
@@ -155,7 +159,7 @@ def bench_reduce(n_sites, per_site, repeats):
 
 def bench_ladder(samples, repeats):
     """The ladder's Monte Carlo with every rung measured."""
-    from firstrung.ladder import Draw, LadderInputs, climb
+    from firstrung.app.ladder import Draw, LadderInputs, climb
 
     inputs = LadderInputs(
         earth_radius_km=Draw("reciprocal", 1 / 6371.0, 0.01 / 6371.0),
@@ -172,8 +176,9 @@ def bench_ladder(samples, repeats):
 def _big_campaign(folder, n_sites, n_rows, rng):
     """A synthetic campaign file and shadow log of about ``n_rows`` rows at ``n_sites`` sites."""
     from firstrung.campaign import read_campaign
-    from firstrung.rehearsal import SHADOW_COLUMNS, shadow_rows
-    from firstrung.simulation import rows_to_csv
+    from firstrung.methods.shadows.rehearsal import LOG_COLUMNS as SHADOW_COLUMNS
+    from firstrung.methods.shadows.rehearsal import rehearsal_rows as shadow_rows
+    from firstrung.output import rows_to_csv
 
     lat = rng.uniform(-50.0, 60.0, n_sites)
     lon = rng.uniform(-170.0, 170.0, n_sites)
@@ -270,7 +275,7 @@ def bench_check(n_sites, n_rows, repeats):
 
 def bench_eclipses(repeats):
     """Every lunar eclipse 1900-2050 with its contacts."""
-    from firstrung.ephemeris.eclipses import lunar_eclipses
+    from firstrung.methods.eclipse.prediction import lunar_eclipses
 
     t_ours, e, mem = timed(lambda: lunar_eclipses(np.datetime64("1900-01-01T00:00"), np.datetime64("2050-12-31T23:59")), repeats)
     return ("eclipses with contacts", "1900-2050", t_ours, None, mem, f"{len(e.greatest_utc)} eclipses")
@@ -279,7 +284,7 @@ def bench_eclipses(repeats):
 def bench_quarters(n_sites, repeats):
     """A year of quarters for many sites with the windows when both Sun and Moon are up."""
     from firstrung.campaign import parse_campaign
-    from firstrung.runs.phases import plan_phases
+    from firstrung.methods.phases.run import plan_phases
 
     rng = np.random.default_rng(6)
     text = "".join(

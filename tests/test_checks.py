@@ -33,7 +33,11 @@ from firstrung.checks import (
 )
 from firstrung.ephemeris import solar_transit
 from firstrung.errors import EphemerisRangeError, RowProblem
-from firstrung.simulation import ShadowErrors, reading_times_utc, simulate_shadow_readings
+from firstrung.methods.shadows.rehearsal import (
+    ShadowErrors,
+    reading_times_utc,
+    simulate_shadow_readings,
+)
 
 ARCSEC = 1.0 / 3600.0
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -385,8 +389,8 @@ def _write_campaign(folder, sites, rows):
 def test_reduction_after_check_gives_the_clean_radius(tmp_path):
     from firstrung.campaign import read_campaign
     from firstrung.logs import read_shadow_logs
-    from firstrung.methods.shadows import ShadowReadings, reduce_shadows
-    from firstrung.runs.shadows import baseline_inputs, shadow_readings, site_inputs
+    from firstrung.methods.shadows.reduction import ShadowReadings, reduce_shadows
+    from firstrung.methods.shadows.run import baseline_inputs, shadow_readings, site_inputs
 
     rng = np.random.default_rng(21)
     lats = np.array([36.0, 41.0, 46.0, 51.0, 56.0])

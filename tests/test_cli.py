@@ -156,7 +156,7 @@ def test_python_dash_m_and_console_script_agree(example):
 def test_core_imports_without_cli_or_plotting_libraries():
     code = (
         "import sys\n"
-        "import firstrung.runs, firstrung.methods.shadows, firstrung.ephemeris, firstrung.simulation\n"
+        "import firstrung.methods.shadows.run, firstrung.methods.shadows.reduction, firstrung.ephemeris, firstrung.methods.shadows.rehearsal\n"
         "bad = [m for m in ('typer', 'rich', 'matplotlib', 'jinja2') if m in sys.modules]\n"
         "print(','.join(bad))\n"
     )

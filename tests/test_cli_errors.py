@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-import firstrung.runs
+import firstrung.methods.shadows.run
 from helpers import run_cli
 
 EXAMPLE = Path(__file__).resolve().parent / "data" / "clean_campaign" / "campaign.toml"
@@ -22,7 +22,7 @@ def boom(*args, **kwargs):
 
 
 def test_an_internal_error_is_one_line_saying_where_the_details_are(capsys, monkeypatch):
-    monkeypatch.setattr(firstrung.runs, "run_shadows", boom)
+    monkeypatch.setattr(firstrung.methods.shadows.run, "run_shadows", boom)
     code, out, err = run(["reduce", "shadows", EXAMPLE, "--json"], capsys, monkeypatch)
     assert code == 3 and out == ""
     assert err.splitlines() == [
@@ -33,7 +33,7 @@ def test_an_internal_error_is_one_line_saying_where_the_details_are(capsys, monk
 
 @pytest.mark.parametrize("where", ["first", "last"])
 def test_debug_shows_the_traceback(capsys, monkeypatch, where):
-    monkeypatch.setattr(firstrung.runs, "run_shadows", boom)
+    monkeypatch.setattr(firstrung.methods.shadows.run, "run_shadows", boom)
     args = ["reduce", "shadows", EXAMPLE, "--json"]
     args = ["--debug", *args] if where == "first" else [*args, "--debug"]
     code, out, err = run(args, capsys, monkeypatch)
@@ -59,20 +59,20 @@ def test_ctrl_c_is_exit_130_with_one_line(capsys, monkeypatch):
     def interrupted(*args, **kwargs):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(firstrung.runs, "run_shadows", interrupted)
+    monkeypatch.setattr(firstrung.methods.shadows.run, "run_shadows", interrupted)
     code, out, err = run(["reduce", "shadows", EXAMPLE], capsys, monkeypatch)
     assert code == 130 and out == ""
     assert err.splitlines() == ["firstrung: interrupted"]
 
 
 def test_a_warning_is_one_line_without_debug(capsys, monkeypatch):
-    real = firstrung.runs.run_shadows
+    real = firstrung.methods.shadows.run.run_shadows
 
     def warns(*args, **kwargs):
         warnings.warn("invented numerical warning", RuntimeWarning, stacklevel=1)
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(firstrung.runs, "run_shadows", warns)
+    monkeypatch.setattr(firstrung.methods.shadows.run, "run_shadows", warns)
     with warnings.catch_warnings():
         warnings.simplefilter("always")  # the suite turns warnings into errors; users see them
         code, out, err = run(["reduce", "shadows", EXAMPLE, "--json"], capsys, monkeypatch)

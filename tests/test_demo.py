@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pytest
 
+from firstrung.app.demo import demo_campaign_text, demo_logs
 from firstrung.campaign import parse_campaign
 from firstrung.cli import main
-from firstrung.runs.demo import demo_campaign_text, demo_logs
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 

@@ -8,8 +8,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from firstrung.app.ladder import MODERN_VALUES, Draw, LadderInputs, climb, earth_radius_draw
 from firstrung.cli import main
-from firstrung.ladder import MODERN_VALUES, Draw, LadderInputs, climb, earth_radius_draw
 from firstrung.uncertainty import reciprocal_of_gaussian
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"

@@ -10,9 +10,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung.planning import PlanSite
+from firstrung.methods.shadows.prediction import PlanSite
+from firstrung.methods.shadows.sheet import (
+    blank_field_kit,
+    render_shadow_sheet,
+    shadow_sheet_predictions,
+)
 from firstrung.refraction import apparent_from_true_altitude_deg
-from firstrung.sheets import blank_field_kit, render_shadow_sheet, shadow_sheet_predictions
 from helpers import run_cli
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -127,7 +131,7 @@ def test_simulated_logs_reduce_to_the_expected_radius(tmp_path, capsys, monkeypa
     assert (tmp_path / "logs" / "shadows.csv").read_bytes() == first  # same seed, same bytes
     text = camp.read_text().replace('shadows = ["logs/shadows.csv"]', 'shadows = ["logs/shadows.csv"]')
     (tmp_path / "campaign.toml").write_text(text)
-    from firstrung.runs import run_shadows
+    from firstrung.methods.shadows.run import run_shadows
 
     r = run_shadows(tmp_path / "campaign.toml").reduction
     assert len(r.sites) == 3 and all(len(s.series) == 2 for s in r.sites)  # two days per site

@@ -36,9 +36,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from zoneinfo import ZoneInfo
 
-from .constants import WGS84_SEMI_MAJOR_AXIS_M
-from .errors import InputError
-from .times import check_zone
+from firstrung.constants import WGS84_SEMI_MAJOR_AXIS_M
+from firstrung.errors import InputError
+from firstrung.times import check_zone
 
 __all__ = [
     "DEFAULT_HEIGHT_SIGMA_M",

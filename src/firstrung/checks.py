@@ -6,22 +6,22 @@ blunder that a reduction leaves out, ``warning`` for a doubtful row it keeps),
 a plain-language diagnosis and the fix to ask the observer for.
 
 Shadow logs (the only kind checked so far; eclipse and phase logs add their
-own ``check_*_log`` function and one line in :mod:`firstrung.runs.check`):
+own ``check_*_log`` function and one line in :mod:`firstrung.app.check`):
 
 1. rows are grouped into series: one file and site, readings no more than
    :data:`SERIES_GAP_H` apart (one observer's session);
 2. each row's shadow length gives the observed altitude of the Sun's centre
-   (as in :func:`firstrung.methods.shadows.centre_altitude_deg`), and the
+   (as in :func:`firstrung.methods.shadows.reduction.centre_altitude_deg`), and the
    ephemeris the predicted one at the logged time;
 3. the series is compared with the prediction by a robust chi-square
    (:func:`series_statistic`): a free clock offset (prior sigma
-   :data:`~firstrung.methods.shadows.CLOCK_PRIOR_SIGMA_S`) and a common level
+   :data:`~firstrung.methods.shadows.reduction.CLOCK_PRIOR_SIGMA_S`) and a common level
    are fitted by iteratively reweighted least squares (Huber weights); the
    statistic is the sum of the squared normalised residuals, each capped at
    :data:`RESIDUAL_CAP_SIGMA` squared, plus the level squared over the
    series' systematic variance (gnomon height, edge placement, refraction),
    plus the clock offset's prior penalty (:data:`CHECK_CLOCK_SIGMA_S`). The stated errors are those of
-   :func:`~firstrung.methods.shadows.altitude_error_terms_rad`;
+   :func:`~firstrung.methods.shadows.reduction.altitude_error_terms_rad`;
 4. the same statistic is formed under explicit alternative hypotheses, each
    a transformation of the logged values: whole-hour time shifts, local time
    typed as UTC, the longitude's or the latitude's sign, a length-unit factor,
@@ -53,20 +53,20 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
-from .campaign import Campaign
-from .constants import (
+from firstrung.campaign import Campaign
+from firstrung.constants import (
     ASTRONOMICAL_UNIT_KM,
     STANDARD_TEMPERATURE_C,
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
     WGS84_SEMI_MAJOR_AXIS_M,
 )
-from .errors import RowProblem
-from .methods.shadows import (
+from firstrung.errors import RowProblem
+from firstrung.methods.shadows.reduction import (
     EDGE_LIMB_SIGN,
     MIN_ALTITUDE_DEG,
     altitude_error_terms_rad,
 )
-from .refraction import refraction_from_apparent_deg, standard_pressure_hpa
+from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
 
 __all__ = [
     "CODES",
@@ -303,7 +303,7 @@ def shadow_rows(campaign: Campaign, log) -> tuple[ShadowRows, list[RowProblem]]:
     >>> len(shadow_rows(c, empty)[0])
     0
     """
-    from .logs import shadow_instruments
+    from firstrung.logs import shadow_instruments
 
     inst = shadow_instruments(campaign, log)
     ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
@@ -355,7 +355,7 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
     >>> round(float(np.degrees(a[0])), 1), round(float(sd[0]) * 60, 2)
     (67.2, 15.74)
     """
-    from . import ephemeris
+    from firstrung import ephemeris
 
     t = np.asarray(time_utc, dtype="datetime64[us]")
     ephemeris.check_in_span(t)
@@ -586,7 +586,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowRows) -> ShadowC
 
     Examples
     --------
-    >>> from firstrung.simulation import ShadowErrors, simulate_shadow_readings
+    >>> from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
     >>> t = np.array(["2027-03-20T11:20", "2027-03-20T11:38", "2027-03-20T11:56"], dtype="datetime64[ms]")
     >>> syn = simulate_shadow_readings(np.zeros(3, int), t, [46.2], [7.4], [620.0], [1.0],
     ...                                np.array(["umbra"], dtype=object), ShadowErrors(),
@@ -720,7 +720,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowRows) -> ShadowC
 
 
 def _in_span(t) -> bool:
-    from . import ephemeris
+    from firstrung import ephemeris
 
     first, last = ephemeris.ephemeris_span_utc()
     return bool(np.all((t >= first) & (t <= last)))
@@ -1133,7 +1133,7 @@ def error_rows(campaign: Campaign, log, check=_shadow_flags) -> frozenset[tuple[
     """(file, row) of every row ``check`` flags as an error: the rows reductions leave out.
 
     ``check(campaign, log)`` gives the flags of one kind of log: the shadow
-    check by default, or :func:`firstrung.event_checks.check_eclipse_log` /
+    check by default, or :func:`firstrung.methods.eclipse.check.check_eclipse_log` /
     ``check_phase_log``.
     """
     return frozenset((f.file, f.row) for f in check(campaign, log) if f.severity == "error" and f.row is not None)

@@ -29,8 +29,8 @@ from __future__ import annotations
 import numpy as np
 from geographiclib.geodesic import Geodesic
 
-from firstrung._checks import checked as _checked
-from firstrung._checks import scalar_or_array as _output
+from firstrung.arguments import checked as _checked
+from firstrung.arguments import scalar_or_array as _output
 from firstrung.constants import WGS84_FLATTENING, WGS84_SEMI_MAJOR_AXIS_M
 
 __all__ = [

@@ -48,10 +48,17 @@ from pathlib import Path
 
 import numpy as np
 
-from .campaign import EDGES, Campaign
-from .constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
-from .errors import RowProblem
-from .times import QUOTED_LIMIT, TimeFormatError, in_ephemeris_span, parse_local, parse_utc, quoted
+from firstrung.campaign import EDGES, Campaign
+from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.errors import RowProblem
+from firstrung.times import (
+    QUOTED_LIMIT,
+    TimeFormatError,
+    in_ephemeris_span,
+    parse_local,
+    parse_utc,
+    quoted,
+)
 
 __all__ = [
     "ECLIPSE_EVENTS",
@@ -898,7 +905,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
     Per-site values are gathered once and indexed by each row's site, so the
     cost does not grow with a loop over rows.
     """
-    from .campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
+    from firstrung.campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
 
     index = {s.id: i for i, s in enumerate(campaign.sites)}
     ids, inverse = np.unique(np.asarray(log.site, dtype=str), return_inverse=True)

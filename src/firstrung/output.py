@@ -15,7 +15,7 @@ import tempfile
 from collections.abc import Iterable
 from pathlib import Path
 
-from .errors import InputError
+from firstrung.errors import InputError
 
 __all__ = ["refuse_overwriting_inputs", "write_atomic"]
 
@@ -140,3 +140,15 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
             raise InputError(f"cannot write {out}: {error.strerror or error}") from None
         raise
     return out
+
+
+def rows_to_csv(rows, columns) -> str:
+    """CSV text of row dictionaries with the given columns (``\\n`` line ends)."""
+    import csv
+    import io
+
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=list(columns), lineterminator="\n", extrasaction="ignore")
+    w.writeheader()
+    w.writerows(rows)
+    return buf.getvalue()

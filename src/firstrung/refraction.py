@@ -25,8 +25,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from firstrung._checks import checked as _checked
-from firstrung._checks import scalar_or_array as _output
+from firstrung.arguments import checked as _checked
+from firstrung.arguments import scalar_or_array as _output
 from firstrung.constants import (
     PRESSURE_SCALE_HEIGHT_M,
     STANDARD_PRESSURE_HPA,

@@ -16,8 +16,8 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
-from .constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
-from .errors import InputError
+from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.errors import InputError
 
 __all__ = [
     "TimeFormatError",

@@ -152,7 +152,7 @@ def test_reduce_eclipse_refuses_u2_for_a_partial_eclipse(example, capsys, monkey
 
 
 def test_reduce_eclipse_partial_with_magnitude_and_stray_rows(example, capsys, monkeypatch):
-    from firstrung.ephemeris.eclipses import eclipse_near
+    from firstrung.methods.eclipse.prediction import eclipse_near
 
     e = eclipse_near("2026-08-28T04:13:00Z")
     u1 = str(e.contacts_utc["U1"][0].astype("datetime64[s]"))
@@ -188,7 +188,7 @@ def test_reduce_eclipse_is_deterministic_and_draws_its_figure(example, capsys, m
     assert code == 0 and "Timings (combined per event)" in out and "Kepler" in out
     from matplotlib.figure import Figure
 
-    from firstrung.runs.eclipse import eclipse_figure, run_eclipse
+    from firstrung.methods.eclipse.run import eclipse_figure, run_eclipse
 
     result = run_eclipse(example / "campaign.toml").results[0]
     fig = eclipse_figure(result)

@@ -22,7 +22,13 @@ import numpy as np
 import pytest
 
 from firstrung.ephemeris import _core
-from firstrung.ephemeris.eclipses import (
+from firstrung.ephemeris.libration import (
+    feature_disc_offsets,
+    lunar_orientation,
+    orientation_from_apparent_place,
+)
+from firstrung.errors import EphemerisRangeError, InputError
+from firstrung.methods.eclipse.prediction import (
     eclipse_near,
     eclipse_visibility,
     feature_edge_times,
@@ -30,12 +36,6 @@ from firstrung.ephemeris.eclipses import (
     lunar_eclipses,
     shadow_geometry,
 )
-from firstrung.ephemeris.libration import (
-    feature_disc_offsets,
-    lunar_orientation,
-    orientation_from_apparent_place,
-)
-from firstrung.errors import EphemerisRangeError, InputError
 
 SECOND = 1.0
 MINUTE = 60.0
@@ -281,7 +281,7 @@ def test_feature_edge_times_bracket_greatest_and_refuse_penumbral():
     # at the computed instants Copernicus sits on the Danjon umbra's edge at its depth
     p = feature_points(t, 9.62, -20.08)
     g = p.geometry
-    from firstrung.methods.eclipse import umbra_radius_deg
+    from firstrung.methods.eclipse.reduction import umbra_radius_deg
 
     edge = umbra_radius_deg(g.moon_parallax_deg, g.sun_parallax_deg, g.sun_semidiameter_deg) * p.edge_scale + p.edge_offset_deg
     assert np.allclose(p.distance_deg, edge, atol=1e-6)

@@ -18,9 +18,9 @@ import numpy as np
 import pytest
 
 from firstrung.ephemeris import _skyfield_time
-from firstrung.ephemeris import phases as ep
 from firstrung.ephemeris._core import _body, _loaded
 from firstrung.errors import EphemerisRangeError, InputError
+from firstrung.methods.phases import prediction as ep
 
 SECOND = 1.0
 MINUTE = 60.0
@@ -236,8 +236,8 @@ def test_a_year_of_quarters_for_100_sites_with_windows_is_fast():
     # Measured 0.6-0.8 s on an idle core (1.2 s with the machine loaded); the bar here is loose so
     # the test does not flake on a busy machine, but it catches a return to per-site loops (x10).
     from firstrung.campaign import parse_campaign
-    from firstrung.runs.phases import plan_phases
-    from firstrung.serialize.phases import phase_plan_to_json
+    from firstrung.methods.phases.present import phase_plan_to_json
+    from firstrung.methods.phases.run import plan_phases
 
     rng = np.random.default_rng(5)
     lines = ["[campaign]", 'name = "a hundred invented sites"']

@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from firstrung.errors import ComputationError, InputError
-from firstrung.methods.eclipse import (
+from firstrung.methods.eclipse.reduction import (
     combine_timings,
     distance_in_km,
     fit_umbra_enlargement,
@@ -164,7 +164,7 @@ def test_partial_eclipse_from_u1_u4_needs_the_magnitude_and_then_recovers_the_um
 
 
 def test_contacts_from_the_ephemeris_recover_its_distance_within_0_01_percent():
-    from firstrung.ephemeris.eclipses import eclipse_near
+    from firstrung.methods.eclipse.prediction import eclipse_near
 
     # DESIGN 7: "the chord solution with the Moon's true radius and rate recovers the distance
     # within 0.01 % when the enlargement is removed with the same convention" (here 0.05 %: the
@@ -184,8 +184,8 @@ def test_contacts_from_the_ephemeris_recover_its_distance_within_0_01_percent():
 
 
 def test_synthetic_crater_timings_recover_the_enlargement_within_0_3_points():
-    from firstrung.ephemeris.eclipses import eclipse_near, feature_edge_times
-    from firstrung.runs.eclipse import MoonData, load_craters, reduce_one_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near, feature_edge_times
+    from firstrung.methods.eclipse.run import MoonData, load_craters, reduce_one_eclipse
 
     e = eclipse_near("2029-12-20T22:42:00Z")
     table = load_craters()

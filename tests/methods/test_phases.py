@@ -15,10 +15,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung.ephemeris import phases as ep
 from firstrung.errors import InputError
-from firstrung.methods import phases as m
-from firstrung.runs.phases import PhaseSettings, run_phases
+from firstrung.methods.phases import prediction as ep
+from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.run import PhaseSettings, run_phases
 
 ARCMIN = 1.0 / 60.0
 ARCSEC = 1.0 / 3600.0

@@ -13,7 +13,7 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from firstrung.errors import ComputationError
-from firstrung.methods.shadows import (
+from firstrung.methods.shadows.reduction import (
     BaselineInput,
     ShadowReadings,
     SiteInput,
@@ -23,7 +23,11 @@ from firstrung.methods.shadows import (
     penumbra_width_m,
     reduce_shadows,
 )
-from firstrung.simulation import ShadowErrors, reading_times_utc, simulate_shadow_readings
+from firstrung.methods.shadows.rehearsal import (
+    ShadowErrors,
+    reading_times_utc,
+    simulate_shadow_readings,
+)
 
 PERCENT = 0.01
 KM = 1.0

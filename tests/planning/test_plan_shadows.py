@@ -11,9 +11,18 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from firstrung.errors import InputError
-from firstrung.methods.shadows import ShadowReadings, SiteInput, reduce_shadows
-from firstrung.planning import PlanSite, ShadowConstraints, plan_shadows, shadow_length_m
-from firstrung.simulation import ShadowErrors, reading_times_utc, simulate_shadow_readings
+from firstrung.methods.shadows.prediction import (
+    PlanSite,
+    ShadowConstraints,
+    plan_shadows,
+    shadow_length_m,
+)
+from firstrung.methods.shadows.reduction import ShadowReadings, SiteInput, reduce_shadows
+from firstrung.methods.shadows.rehearsal import (
+    ShadowErrors,
+    reading_times_utc,
+    simulate_shadow_readings,
+)
 
 ARCSEC = 1.0 / 3600.0
 SECOND = 1.0

@@ -72,7 +72,7 @@ def main(argv: list[str] | None = None) -> None:
     """
     import warnings
 
-    from .app import build
+    from firstrung.cli.app import build
 
     args, debug = _take_debug(list(sys.argv[1:] if argv is None else argv))
     app = build(args)

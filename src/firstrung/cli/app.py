@@ -7,16 +7,21 @@ from typing import Annotated
 
 import typer
 
-from .. import __version__
+from firstrung import __version__
 
-#: Commands by group: each module in firstrung.cli defines ``register(app)``.
-#: A new command adds its module's name here (one line).
+#: The groups whose sub-commands come from the methods' registry (firstrung.methods.REGISTRY):
+#: group -> (its help, the registry entry's attribute naming the sub-command, and its help,
+#: and the function of the method's ``commands`` module that adds it).
 GROUPS = {
-    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.", ["plan_shadows", "plan_eclipses", "plan_phases"]),
-    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.", ["reduce_shadows", "reduce_eclipse", "reduce_phases"]),
+    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.",
+             "plan_command", "plan_help", "register_plan"),
+    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.",
+               "reduce_command", "reduce_help", "register_reduce"),
+    "simulate": ("Write synthetic logs a campaign would produce, with its stated errors.",
+                 "simulate_command", "simulate_help", "register_simulate"),
 }
-#: Commands at the top level (check, sheet, simulate, ladder, report, demo, ...).
-TOP_LEVEL = ["sheet", "simulate", "ladder", "report", "check", "demo"]
+#: Commands at the top level, each in its own module of firstrung.cli defining ``register(app)``.
+TOP_LEVEL = ["sheet", "ladder", "report", "check", "demo"]
 #: The top-level names each TOP_LEVEL module registers, with their one-line help, so that
 #: ``firstrung --help`` lists every command without importing any (a test keeps this true).
 TOP_LEVEL_HELP = {
@@ -26,7 +31,6 @@ TOP_LEVEL_HELP = {
     "report": ("report", "Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."),
     "sheet": ("sheet", "A printable noon-shadow field sheet for one site and day, with the predicted readings."),
     "blank-sheets": ("sheet", "Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."),
-    "simulate": ("simulate", "Write synthetic logs a campaign would produce, with its stated errors."),
 }
 
 HELP = (
@@ -76,28 +80,26 @@ def build(args=None) -> typer.Typer:
     ) -> None:
         """firstrung: campaigns of classical geometric astronomy."""
 
+    from ..methods import REGISTRY
+
     wanted = None if args is None else _first_command(args)
+    sub = None if args is None or wanted not in GROUPS else _first_command(args[args.index(wanted) + 1:])
     known = set(GROUPS) | set(TOP_LEVEL_HELP)
     listing_only = args is not None and wanted is None
-    for name, (help_text, modules) in GROUPS.items():
-        if not modules:
-            continue
+    for name, (help_text, command_attr, help_attr, adder) in GROUPS.items():
         group = typer.Typer(help=help_text, no_args_is_help=True)
-        if listing_only or (wanted in known and wanted != name):
-            group.command("listing", hidden=True)(lambda: None)
-        else:
-            for module in modules:
-                importlib.import_module(f"firstrung.cli.{module}").register(group)
+        for m in REGISTRY:
+            command = getattr(m, command_attr)
+            if args is None or (wanted == name and sub == command):
+                getattr(m.module("commands"), adder)(group)
+                continue
+            # listed by name and help only: the method's modules are not imported
+            group.command(command, help=getattr(m, help_attr))(lambda: None)
         app.add_typer(group, name=name)
     wanted_module = TOP_LEVEL_HELP[wanted][0] if wanted in TOP_LEVEL_HELP else None
     for name, (module, help_text) in TOP_LEVEL_HELP.items():
         if listing_only or (wanted in known and module != wanted_module):
-            if module == "simulate":
-                placeholder = typer.Typer(help=help_text)
-                placeholder.command("listing", hidden=True)(lambda: None)
-                app.add_typer(placeholder, name=name)
-            else:
-                app.command(name, help=help_text)(lambda: None)
+            app.command(name, help=help_text)(lambda: None)
     modules = TOP_LEVEL if not (listing_only or wanted in known) else (
         [TOP_LEVEL_HELP[wanted][0]] if wanted in TOP_LEVEL_HELP else []
     )

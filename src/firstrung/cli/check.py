@@ -7,7 +7,14 @@ from typing import Annotated
 
 import typer
 
-from .common import CampaignArgument, JsonOption, VerboseOption, console, handles_errors, print_json
+from firstrung.cli.common import (
+    CampaignArgument,
+    JsonOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    print_json,
+)
 
 
 def register(app: typer.Typer) -> None:
@@ -35,9 +42,9 @@ def check(
     Exit status 0 when nothing is flagged, 1 when rows are flagged, 2 when the
     campaign cannot be read.
     """
-    from ..output import refuse_overwriting_inputs, write_atomic
-    from ..runs.check import run_check, status_csv
-    from ..serialize.check import check_run_to_json
+    from firstrung.app.check import run_check, status_csv
+    from firstrung.app.check_json import check_run_to_json
+    from firstrung.output import refuse_overwriting_inputs, write_atomic
 
     run = run_check(campaign)
     if accepted is not None:

@@ -28,7 +28,7 @@ def handles_errors(command):
 
     @functools.wraps(command)
     def wrapper(*args, **kwargs):
-        from ..errors import FirstrungError
+        from firstrung.errors import FirstrungError
 
         try:
             return command(*args, **kwargs)
@@ -53,7 +53,7 @@ def report_problems(problems) -> None:
 
 
 def print_json(obj: dict) -> None:
-    from ..serialize import dumps
+    from firstrung.jsonout import dumps
 
     sys.stdout.write(dumps(obj) + "\n")
 
@@ -68,3 +68,92 @@ def report_left_out(count: int) -> None:
     if count:
         print(f"firstrung: {count} rows flagged as errors by check left out (--include-flagged keeps them)",
               file=sys.stderr)
+
+
+WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
+
+FromOption = Annotated[str, typer.Option("--from", help="First date (ISO 8601, e.g. 2027-01-01).", show_default=False)]
+ToOption = Annotated[str, typer.Option("--to", help="Last date, included.", show_default=False)]
+
+
+def parse_weekdays(text: str | None) -> tuple[int, ...] | None:
+    """'mon-fri' or 'mon,wed,sat' to weekday numbers (0 = Monday)."""
+    from firstrung.errors import InputError
+
+    if not text:
+        return None
+    days: set[int] = set()
+    for part in text.lower().replace(" ", "").split(","):
+        ends = part.split("-")
+        try:
+            if len(ends) == 1:
+                days.add(WEEKDAYS.index(ends[0][:3]))
+            elif len(ends) == 2:
+                a, b = WEEKDAYS.index(ends[0][:3]), WEEKDAYS.index(ends[1][:3])
+                days.update(range(a, b + 1) if a <= b else [*range(a, 7), *range(0, b + 1)])
+            else:
+                raise ValueError
+        except ValueError:
+            raise InputError(f"--weekdays: expected names such as 'mon-fri' or 'mon,wed,sat', got {text!r}") from None
+    return tuple(sorted(days))
+
+
+def parse_dates(values: list[str]) -> tuple[str, ...]:
+    """Excluded dates, given repeated or comma-separated."""
+    import numpy as np
+
+    from firstrung.errors import InputError
+
+    out = []
+    for v in values:
+        for part in v.split(","):
+            part = part.strip()
+            if not part:
+                continue
+            try:
+                out.append(str(np.datetime64(part, "D")))
+            except ValueError:
+                raise InputError(f"--exclude: expected ISO dates such as 2027-04-01, got {part!r}") from None
+    return tuple(out)
+
+
+def parse_date(option: str, value: str) -> str:
+    import numpy as np
+
+    from firstrung.errors import InputError
+
+    try:
+        return str(np.datetime64(value.strip(), "D"))
+    except ValueError:
+        raise InputError(f"{option}: expected an ISO date such as 2027-03-20, got {value!r}") from None
+
+
+OutputOption = Annotated[Path, typer.Option("-o", "--output", help="Folder for the log file.", show_default=False)]
+SeedOption = Annotated[int, typer.Option("--seed", help="Seed of the random errors (same seed, same logs).")]
+
+
+def write_simulated(campaign, kind: str, rows, columns, output: Path, what: str) -> None:
+    """Write one simulated log as ``<output>/<kind>.csv`` (never over one of the campaign's inputs)."""
+    from firstrung.campaign import read_campaign
+    from firstrung.errors import InputError
+    from firstrung.output import rows_to_csv, write_atomic
+
+    if not rows:
+        raise InputError(f"nothing to simulate: no {what} in that range at the campaign's sites", file=str(campaign))
+    c = read_campaign(campaign)
+    inputs = [campaign, *[p for paths in c.logs.values() for p in paths]]
+    if output.exists() and not output.is_dir():
+        raise InputError(f"-o: {output} exists and is not a folder")
+    output.mkdir(parents=True, exist_ok=True)
+    path = write_atomic(output / f"{kind}.csv", rows_to_csv(rows, columns), inputs=inputs)
+    console().print(f"{len(rows)} synthetic {what} written to {path}")
+
+
+def simulation_range(date_from: str, date_to: str) -> tuple[str, str]:
+    """The --from and --to dates of a simulation, checked to be in order."""
+    from firstrung.errors import InputError
+
+    first, last = parse_date("--from", date_from), parse_date("--to", date_to)
+    if last < first:
+        raise InputError(f"--to {last} is before --from {first}")
+    return first, last

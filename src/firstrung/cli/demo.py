@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from .common import console, handles_errors
+from firstrung.cli.common import console, handles_errors
 
 
 def register(app: typer.Typer) -> None:
@@ -22,9 +22,9 @@ def demo(
     """Simulate an invented campaign's logs, check them, reduce every rung, chain the ladder, write the report."""
     from rich.progress import BarColumn, Progress, TextColumn
 
-    from ..errors import InputError
-    from ..runs.demo import run_demo
-    from .ladder import _render
+    from firstrung.app.demo import run_demo
+    from firstrung.cli.ladder import _render
+    from firstrung.errors import InputError
 
     if output.exists() and not output.is_dir():
         raise InputError(f"-o: {output} exists and is not a folder")

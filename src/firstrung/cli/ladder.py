@@ -6,7 +6,7 @@ from typing import Annotated
 
 import typer
 
-from .common import (
+from firstrung.cli.common import (
     CampaignArgument,
     JsonOption,
     console,
@@ -31,8 +31,8 @@ def ladder(
     A rung with no data is shown as not measured. Exit status 2 when any row
     was refused (the result from the good rows is still shown).
     """
-    from ..runs.ladder import run_ladder
-    from ..serialize.ladder import ladder_to_json
+    from firstrung.app.ladder_json import ladder_to_json
+    from firstrung.app.ladder_run import run_ladder
 
     run = run_ladder(campaign, samples=samples, seed=seed)
     data = ladder_to_json(run)

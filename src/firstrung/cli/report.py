@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from .common import CampaignArgument, console, handles_errors, report_problems
+from firstrung.cli.common import CampaignArgument, console, handles_errors, report_problems
 
 
 def register(app: typer.Typer) -> None:
@@ -25,9 +25,9 @@ def report(
     """Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."""
     from rich.progress import BarColumn, Progress, TextColumn
 
-    from ..campaign import read_campaign
-    from ..output import write_atomic
-    from ..runs.report import build_report, render_html, render_markdown
+    from firstrung.app.report import build_report, render_html, render_markdown
+    from firstrung.campaign import read_campaign
+    from firstrung.output import write_atomic
 
     camp = read_campaign(campaign)
     inputs = [campaign, *[p for paths in camp.logs.values() for p in paths]]

@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from .common import CampaignArgument, console, handles_errors
+from firstrung.cli.common import CampaignArgument, console, handles_errors
 
 PaperOption = Annotated[str, typer.Option("--paper", help="Page size for printing: a4 or letter.")]
 
@@ -19,8 +19,8 @@ def register(app: typer.Typer) -> None:
 
 
 def _paper(value: str) -> str:
-    from ..errors import InputError
-    from ..sheets import PAPER_SIZES
+    from firstrung.errors import InputError
+    from firstrung.methods.shadows.sheet import PAPER_SIZES
 
     key = value.lower()
     if key not in PAPER_SIZES:
@@ -36,12 +36,12 @@ def sheet(
     paper: PaperOption = "a4",
 ) -> None:
     """A printable noon-shadow field sheet for one site and day, with the predicted readings."""
-    from ..campaign import read_campaign
-    from ..errors import InputError
-    from ..output import write_atomic
-    from ..runs.plan_shadows import plan_sites
-    from ..sheets import render_shadow_sheet
-    from .plan_shadows import parse_date
+    from firstrung.campaign import read_campaign
+    from firstrung.errors import InputError
+    from firstrung.methods.shadows.commands import parse_date
+    from firstrung.methods.shadows.plan import plan_sites
+    from firstrung.methods.shadows.sheet import render_shadow_sheet
+    from firstrung.output import write_atomic
 
     c = read_campaign(campaign)
     c.site(site)  # an unknown id is a clear error
@@ -60,9 +60,9 @@ def blank_sheets(
     paper: PaperOption = "a4",
 ) -> None:
     """Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."""
-    from ..errors import InputError
-    from ..output import write_atomic
-    from ..sheets import blank_field_kit
+    from firstrung.errors import InputError
+    from firstrung.methods.shadows.sheet import blank_field_kit
+    from firstrung.output import write_atomic
 
     if output.exists() and not output.is_dir():
         raise InputError(f"-o: {output} exists and is not a folder")

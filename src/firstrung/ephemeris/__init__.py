@@ -4,7 +4,7 @@ This package is the only part of firstrung that calls skyfield. Loading and
 time conversion live in ``_core``; each body has its own module.
 """
 
-from ._core import (
+from firstrung.ephemeris._core import (
     _days_to_civil,
     _loaded,
     _skyfield_time,
@@ -14,9 +14,14 @@ from ._core import (
     ephemeris_span_utc,
     timescale,
 )
-from .moon import MoonPosition, SunMoonGeocentric, moon_position, sun_moon_geocentric
-from .seasons import SEASON_NAMES, equinoxes_and_solstices
-from .sun import (
+from firstrung.ephemeris.moon import (
+    MoonPosition,
+    SunMoonGeocentric,
+    moon_position,
+    sun_moon_geocentric,
+)
+from firstrung.ephemeris.seasons import SEASON_NAMES, equinoxes_and_solstices
+from firstrung.ephemeris.sun import (
     SolarTransit,
     SunPosition,
     SunTrack,

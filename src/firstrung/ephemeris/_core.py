@@ -13,8 +13,8 @@ import warnings
 
 import numpy as np
 
-from ..constants import EPHEMERIS_FILE, EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
-from ..errors import EphemerisRangeError, InputError
+from firstrung.constants import EPHEMERIS_FILE, EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.errors import EphemerisRangeError, InputError
 
 
 @functools.lru_cache(maxsize=1)

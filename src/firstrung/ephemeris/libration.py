@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._core import _body, _prepared_time, as_utc_datetime64, check_in_span
+from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
 
 #: Inclination of the mean lunar equator to the ecliptic [deg] (Meeus 1998, ch. 53, "I").
 LUNAR_EQUATOR_INCLINATION_DEG = 1.54242

@@ -14,9 +14,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..constants import ASTRONOMICAL_UNIT_KM, MOON_MEAN_RADIUS_KM
-from ._core import _body, _prepared_time, as_utc_datetime64, check_in_span
-from .sun import _topocentric
+from firstrung.constants import ASTRONOMICAL_UNIT_KM, MOON_MEAN_RADIUS_KM
+from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
+from firstrung.ephemeris.sun import _topocentric
 
 
 @dataclass(frozen=True)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._core import _loaded, _utc_datetime64, check_in_span
+from firstrung.ephemeris._core import _loaded, _utc_datetime64, check_in_span
 
 #: Names of the four events by skyfield's season index, in the order of the year.
 SEASON_NAMES = ("March equinox", "June solstice", "September equinox", "December solstice")

@@ -21,15 +21,21 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..constants import (
+from firstrung.constants import (
     ASTRONOMICAL_UNIT_KM,
     EARTH_ROTATION_RATE_RAD_PER_S,
     SPEED_OF_LIGHT_KM_PER_S,
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
 )
-from ..errors import InputError
-from ..geodesy import geodetic_to_itrs_km
-from ._core import _loaded, _skyfield_time, as_utc_datetime64, check_in_span, timescale
+from firstrung.ephemeris._core import (
+    _loaded,
+    _skyfield_time,
+    as_utc_datetime64,
+    check_in_span,
+    timescale,
+)
+from firstrung.errors import InputError
+from firstrung.geodesy import geodetic_to_itrs_km
 
 #: Mean rate of the Sun's hour angle [deg per s]: 360 deg per mean solar day.
 _MEAN_SOLAR_RATE_DEG_PER_S = 360.0 / 86400.0

@@ -4,7 +4,7 @@ Every case is invented. The valid campaign (``campaign.toml``) has three
 sites: ``ridge`` (Europe/Zurich, 1 m gnomon), ``coast`` (Europe/Rome, 1 m
 gnomon) and ``plain`` (no time zone, 1 m gnomon). ``shadows_good.csv`` holds
 noise-free readings of the three sites around noon on 2027-03-20, made with
-``firstrung.simulation``; the other shadow logs reuse some of these readings
+``firstrung.methods.shadows.rehearsal``; the other shadow logs reuse some of these readings
 so that a file accepted with a note agrees with it.
 
 The expected message of each case is in ``tests/test_bad_inputs.py``.
@@ -17,7 +17,7 @@ from pathlib import Path
 
 import numpy as np
 
-from firstrung.simulation import ShadowErrors, simulate_shadow_readings
+from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
 
 HERE = Path(__file__).resolve().parent
 

@@ -1,0 +1,232 @@
+"""From a campaign file to a check of its logs: read, check each kind of log, summarise.
+
+Each kind of log has one entry in :data:`LOG_CHECKS`: a function that takes
+the campaign and returns its flags and per-series diagnoses. Eclipse and
+phase logs add their own entry here when their checks exist. The raw rows
+of every file are kept (as read, every cell) for the summary and for the
+copy with a ``status`` column (:func:`status_csv`).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+from firstrung import logs as _logs
+from firstrung.campaign import Campaign, read_campaign
+from firstrung.checks import Flag, SeriesDiagnosis, SummaryRow, check_shadow_log, summarize
+from firstrung.errors import InputError
+from firstrung.logs import read_shadow_logs
+
+
+@dataclass(frozen=True)
+class RawFile:
+    """One log file as read: its header and every data row (1-based numbers as the readers count them)."""
+
+    kind: str
+    label: str
+    path: Path
+    header: tuple[str, ...]
+    rows: tuple[tuple[int, tuple[str, ...]], ...]
+
+    def cell(self, cells: tuple[str, ...], column: str) -> str:
+        """The cell of a column (matched like the readers: case and spaces ignored), '' when absent."""
+        wanted = column.strip().lower()
+        for k, name in enumerate(self.header):
+            if name == wanted:
+                return cells[k].strip() if k < len(cells) else ""
+        return ""
+
+
+@dataclass(frozen=True)
+class KindCheck:
+    """What the check of one kind of log gives."""
+
+    flags: tuple[Flag, ...]
+    series: tuple[SeriesDiagnosis, ...] = ()
+    noon_only: bool | None = None
+
+
+def _check_shadows(campaign: Campaign) -> KindCheck:
+    log = read_shadow_logs(campaign)
+    result, problems = check_shadow_log(campaign, log)
+    return KindCheck(tuple(result.flags) + tuple(problems), result.series, result.noon_only)
+
+
+def _check_eclipse(campaign: Campaign) -> KindCheck:
+    from firstrung.checks import problem_flags
+    from firstrung.logs import read_eclipse_logs
+    from firstrung.methods.eclipse.check import check_eclipse_log
+
+    log = read_eclipse_logs(campaign)
+    return KindCheck(tuple(check_eclipse_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
+
+
+def _check_phases(campaign: Campaign) -> KindCheck:
+    from firstrung.checks import problem_flags
+    from firstrung.logs import read_phase_logs
+    from firstrung.methods.eclipse.check import check_phase_log
+
+    log = read_phase_logs(campaign)
+    return KindCheck(tuple(check_phase_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
+
+
+#: The check of each kind of log, by the campaign's ``[logs]`` key.
+LOG_CHECKS: dict[str, Callable[[Campaign], KindCheck]] = {
+    "shadows": _check_shadows,
+    "eclipse": _check_eclipse,
+    "phases": _check_phases,
+}
+
+
+@dataclass(frozen=True)
+class CheckRun:
+    """The check of a campaign's logs."""
+
+    campaign: Campaign
+    kinds: tuple[str, ...]
+    flags: tuple[Flag, ...]
+    series: tuple[SeriesDiagnosis, ...]
+    summary: tuple[SummaryRow, ...]
+    files: tuple[RawFile, ...]
+    noon_only: bool | None
+
+    @property
+    def rows_read(self) -> int:
+        return sum(len(f.rows) for f in self.files)
+
+    def inputs(self) -> list[Path]:
+        """Every file the check read (an output must not replace one)."""
+        return [p for p in [self.campaign.path] if p is not None] + [f.path for f in self.files]
+
+
+#: The readers' column slots of each kind (for the separator sniffing and the header names).
+_SLOTS = {"shadows": "_SHADOW_SLOTS", "eclipse": "_ECLIPSE_SLOTS", "phases": "_PHASE_SLOTS"}
+
+
+def _text_of(data: bytes, label: str) -> str | None:
+    """The file's text decoded as the readers decode it, or None when they refuse it."""
+    decoded = _logs._decode(data, label)
+    text, problem = decoded[0], decoded[-1]
+    if problem is not None or text is None:
+        return None
+    return text[1:] if text.startswith("\ufeff") else text
+
+
+def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
+    """Every data row of a kind's log files, as text cells, numbered as the readers number them.
+
+    The same decoding, separator, skipped lines and header names as
+    :mod:`firstrung.logs`; files that cannot be read give no rows (the
+    reader's problem says why).
+    """
+    slots = getattr(_logs, _SLOTS.get(kind, ""), ())
+    known = {name for slot in slots for name in slot.names}
+    normal = getattr(_logs, "_normal_name", lambda cell: cell.strip().lower())
+    out = []
+    for path in campaign.logs.get(kind, ()):
+        label = _logs._display_name(Path(path), campaign)
+        try:
+            text = _text_of(Path(path).read_bytes(), label)
+        except (OSError, ValueError):
+            text = None
+        header: tuple[str, ...] = ()
+        rows = []
+        if text is not None:
+            sniff = getattr(_logs, "_sniff_delimiter", None)
+            delimiter = sniff(text, known) if sniff is not None else ","
+            try:
+                number = 0
+                for cells in csv.reader(io.StringIO(text, newline=""), delimiter=delimiter):
+                    if _logs._is_skipped(cells):
+                        continue
+                    if not header:
+                        header = tuple(normal(c) for c in cells)
+                        continue
+                    number += 1
+                    rows.append((number, tuple(cells)))
+            except csv.Error:
+                pass
+        out.append(RawFile(kind, label, Path(path), header, tuple(rows)))
+    return tuple(out)
+
+
+def run_check(campaign_path) -> CheckRun:
+    """Read a campaign and check every log it lists (the kinds in :data:`LOG_CHECKS`).
+
+    Raises
+    ------
+    InputError
+        The campaign file is unreadable or lists no log of a kind that can be checked.
+    """
+    campaign = read_campaign(campaign_path)
+    kinds = tuple(k for k in LOG_CHECKS if campaign.logs.get(k))
+    if not kinds:
+        raise InputError(
+            f"the campaign file lists no logs to check ([logs] {' / '.join(LOG_CHECKS)} = [...])",
+            file=str(campaign_path),
+        )
+    flags: list[Flag] = []
+    series: list[SeriesDiagnosis] = []
+    files: list[RawFile] = []
+    noon_only = None
+    for kind in kinds:
+        result = LOG_CHECKS[kind](campaign)
+        flags.extend(result.flags)
+        series.extend(result.series)
+        noon_only = result.noon_only if result.noon_only is not None else noon_only
+        files.extend(read_raw_rows(campaign, kind))
+    site_of = {(f.label, n): f.cell(cells, "site") for f in files for n, cells in f.rows}
+    observer_of = {(f.label, n): f.cell(cells, "observer") for f in files for n, cells in f.rows}
+    flags = [
+        f if (f.site is not None or f.row is None) else _with_site(f, site_of.get((f.file, f.row)), observer_of)
+        for f in flags
+    ]
+    flags.sort(key=lambda f: (f.file, -1 if f.row is None else f.row))
+    records = [(f.label, n, site_of[(f.label, n)], observer_of[(f.label, n)]) for f in files for n, _ in f.rows]
+    return CheckRun(campaign, kinds, tuple(flags), tuple(series), summarize(records, flags), tuple(files), noon_only)
+
+
+def _with_site(flag: Flag, site: str | None, observer_of) -> Flag:
+    from dataclasses import replace
+
+    return replace(flag, site=site or None, observer=flag.observer or observer_of.get((flag.file, flag.row), ""))
+
+
+#: Status of a row in the copy: no flag, warnings only, or an error flag (left out by reductions).
+STATUS_WORDS = {None: "accepted", "warning": "accepted-with-warning", "error": "rejected"}
+
+
+def status_csv(run: CheckRun) -> str:
+    """Every row read, with its original cells, then ``status``, ``flags``, ``source_file`` and ``source_row``.
+
+    Columns are the union of the files' headers in order of first appearance.
+    """
+    worst: dict[tuple[str, int], str] = {}
+    codes: dict[tuple[str, int], list[str]] = {}
+    for f in run.flags:
+        if f.row is None:
+            continue
+        key = (f.file, f.row)
+        codes.setdefault(key, [])
+        if f.code not in codes[key]:
+            codes[key].append(f.code)
+        if worst.get(key) != "error":
+            worst[key] = f.severity
+    columns: list[str] = []
+    for f in run.files:
+        columns.extend(c for c in f.header if c and c not in columns)
+    several = len(run.kinds) > 1
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    writer.writerow(columns + ["status", "flags", "source_file", "source_row"] + (["log"] if several else []))
+    for f in run.files:
+        for number, cells in f.rows:
+            key = (f.label, number)
+            values = [f.cell(cells, c) for c in columns]
+            extra = [f.kind] if several else []
+            writer.writerow(values + [STATUS_WORDS[worst.get(key)], ";".join(codes.get(key, [])), f.label, number] + extra)
+    return buf.getvalue()

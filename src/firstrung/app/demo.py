@@ -1,0 +1,82 @@
+"""The bundled demo: an invented campaign's logs simulated, checked, reduced, chained and reported.
+
+Everything is written into one folder: the campaign file, its logs (made by
+the rehearsal simulation at fixed seeds, with a few blunders on purpose),
+the check's and each reduction's JSON, the ladder, and the report.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+#: What the demo simulates: (kind, first day, last day, seed, options).
+DEMO_LOGS = (
+    ("shadows", "2027-03-22", "2027-03-23", 20270322, {"blunders": ("clock", "wild", "duplicate")}),
+    ("eclipse", "2029-12-01", "2029-12-31", 20291220, {"late_contact": True}),
+    ("phases", "2027-01-01", "2027-03-31", 1, {}),
+)
+DEMO_SEED = 1
+DEMO_SAMPLES = 100_000
+
+
+@dataclass(frozen=True)
+class DemoRun:
+    folder: Path
+    files: dict
+    ladder: object
+    check_flags: int
+
+
+def demo_campaign_text() -> str:
+    """The bundled demo campaign file."""
+    return resources.files("firstrung").joinpath("data/demo/campaign.toml").read_text(encoding="utf-8")
+
+
+def demo_logs(campaign) -> dict[str, str]:
+    """CSV text of each demo log, by file name (deterministic)."""
+    from firstrung.methods import by_log_kind
+    from firstrung.output import rows_to_csv
+
+    out = {}
+    for kind, first, last, seed, options in DEMO_LOGS:
+        rehearsal = by_log_kind(kind).module("rehearsal")
+        rows, columns = rehearsal.rehearsal_rows(campaign, first, last, seed, **options), rehearsal.LOG_COLUMNS
+        out[f"{kind}.csv"] = rows_to_csv(rows, columns)
+    return out
+
+
+def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, progress=lambda step: None) -> DemoRun:
+    """Write the demo campaign and its logs into ``folder``, then check, reduce, chain and report."""
+    from firstrung.app.check_json import check_run_to_json
+    from firstrung.app.report import build_report, render_html
+    from firstrung.campaign import parse_campaign
+    from firstrung.jsonout import dumps
+    from firstrung.methods.eclipse.present import eclipse_run_to_json
+    from firstrung.methods.phases.present import phase_run_to_json
+    from firstrung.methods.shadows.present import shadow_run_to_json
+    from firstrung.output import write_atomic
+
+    folder = Path(folder)
+    (folder / "logs").mkdir(parents=True, exist_ok=True)
+    files = {}
+    text = demo_campaign_text()
+    campaign_path = write_atomic(folder / "campaign.toml", text)
+    files["campaign"] = campaign_path
+    progress("simulating the observers' logs")
+    campaign = parse_campaign(text, path=campaign_path)
+    for name, csv_text in demo_logs(campaign).items():
+        files[name] = write_atomic(folder / "logs" / name, csv_text)
+    progress("checking the logs, reducing every rung, chaining the ladder")
+    report = build_report(campaign_path, samples=samples, seed=seed)
+    runs = report.runs
+    files["check"] = write_atomic(folder / "check.json", dumps(check_run_to_json(runs["check"])) + "\n")
+    files["shadows"] = write_atomic(folder / "earth-radius.json", dumps(shadow_run_to_json(runs["shadows"])) + "\n")
+    files["eclipse"] = write_atomic(folder / "moon-distance.json", dumps(eclipse_run_to_json(runs["eclipse"])) + "\n")
+    files["phases"] = write_atomic(folder / "sun-moon-ratio.json", dumps(phase_run_to_json(runs["phases"])) + "\n")
+    progress("writing the report")
+    files["ladder"] = write_atomic(folder / "ladder.json", dumps(report.context["ladder_json"]) + "\n")
+    files["report"] = write_atomic(folder / "report.html", render_html(report))
+    check = runs["check"]
+    return DemoRun(folder, files, report.context["ladder_json"], len(check.flags))

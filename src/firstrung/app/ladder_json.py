@@ -1,0 +1,38 @@
+"""JSON of ``ladder`` (DESIGN section 4: earth_radius_km, moon_distance_km, sun_distance_km, ...)."""
+
+from __future__ import annotations
+
+from firstrung.jsonout import number
+from firstrung.uncertainty import Measured
+
+_DIGITS = {"km": 1, "au": 5}
+
+
+def ladder_to_json(run) -> dict:
+    lad = run.ladder
+    out = {"campaign": run.campaign.name, "samples": lad.samples, "seed": lad.seed}
+    comparison = []
+    for r in lad.rungs:
+        m: Measured | None = r.measured
+        out[r.key] = None if m is None else m.to_json(_DIGITS.get(r.unit, 4))
+        comparison.append(
+            {
+                "quantity": r.key,
+                "measured": out[r.key],
+                "modern": r.modern,
+                "unit": r.unit,
+                "modern_source": r.modern_source,
+                "ratio_to_modern": number(r.ratio_to_modern, 4),
+                "z_score": number(r.z_score, 2),
+                "note": r.note,
+            }
+        )
+    out["comparison"] = comparison
+    out["rung_sources"] = dict(lad.sources)
+    out["problems"] = [str(p) for p in run.problems]
+    out["notes"] = list(run.notes)
+    out["method"] = (
+        "Monte Carlo: every input drawn once per sample from the distribution of the quantity that is "
+        "Gaussian in its method; the same radius sample feeds the Moon's and the Sun's distance"
+    )
+    return out

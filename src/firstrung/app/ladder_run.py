@@ -1,0 +1,126 @@
+"""``ladder`` from a campaign file: reduce every rung that has logs, then chain them."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from firstrung.app.ladder import Draw, Ladder, LadderInputs, climb, earth_radius_draw
+from firstrung.campaign import Campaign, read_campaign
+from firstrung.errors import ComputationError, InputError, RowProblem
+
+
+@dataclass(frozen=True)
+class LadderRun:
+    campaign: Campaign
+    ladder: Ladder
+    rung_runs: dict = field(default_factory=dict)
+    problems: tuple[RowProblem, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+def _eclipse_draws(campaign_path, runs, sources, notes, overrides):
+    """The Moon's parallax (Gaussian in the chord fit) and angular diameter from the first reduced eclipse."""
+    from firstrung.methods.eclipse.run import run_eclipse
+
+    shadows = runs.get("shadows")
+    measured = None if shadows is None else (
+        shadows.reduction.earth_radius_km, "the campaign's own shadow measurements (reduce shadows)")
+    try:
+        run = run_eclipse(campaign_path, measured_earth_radius=measured)
+    except (InputError, ComputationError) as error:
+        notes.append(f"lunar eclipse not reduced: {error}")
+        return None, None, ()
+    runs["eclipse"] = run
+    reduced = [r for r in run.results if r.reduction is not None]
+    if not reduced:
+        notes.append("lunar eclipse: no eclipse in the logs could be reduced")
+        return None, None, tuple(run.problems)
+    r = reduced[0]
+    parallax = r.reduction.moon_parallax_arcmin
+    moon = Draw("reciprocal_sine", math.radians(parallax.value / 60.0), math.radians((parallax.sigma or 0.0) / 60.0))
+    diameter = Draw("gaussian", 2.0 * r.moon.semidiameter_deg, 2.0 * r.moon.semidiameter_sigma_deg)
+    sources.append(("moon_distance_earth_radii", f"lunar eclipse of {str(r.epoch_utc)[:10]} (reduce eclipse, "
+                                                  f"{r.reduction.convention} convention)"))
+    sources.append(("moon_angular_diameter_deg", f"the Moon's angular size from the {r.moon.semidiameter_source}"))
+    from firstrung.constants import SHADOW_EARTH_RADIUS_KM
+
+    overrides.append((
+        "moon_distance_km", r.ephemeris_distance_earth_radii * SHADOW_EARTH_RADIUS_KM,
+        f"the Moon's geocentric distance at greatest eclipse {str(r.epoch_utc)[:10]} (DE421); its mean is 384 400 km",
+    ))
+    if len(reduced) > 1:
+        notes.append(f"{len(reduced)} eclipses reduced; the ladder uses the first ({str(r.epoch_utc)[:10]})")
+    return moon, diameter, tuple(run.problems)
+
+
+def _phase_draw(campaign_path, runs, sources, notes):
+    """The elongation at half moon (Gaussian in the combined estimate)."""
+    from firstrung.methods.phases.run import run_phases
+
+    try:
+        run = run_phases(campaign_path)
+    except (InputError, ComputationError) as error:
+        notes.append(f"half moon not reduced: {error}")
+        return None, ()
+    runs["phases"] = run
+    c = run.combined
+    sources.append(("sun_moon_distance_ratio", f"half moon, {c.estimates} estimates combined (reduce phases)"))
+    return Draw("secant", math.radians(c.elongation_deg), math.radians(c.sigma_deg)), tuple(run.problems)
+
+
+def _sun_diameter_draw(campaign, sources):
+    """The Sun's angular diameter on the campaign's shadow days, from the ephemeris (said so)."""
+    from firstrung import ephemeris
+    from firstrung.logs import read_shadow_logs
+
+    log = read_shadow_logs(campaign)
+    if len(log) == 0:
+        return None
+    days = np.unique(np.asarray(log.time_utc).astype("datetime64[D]"))
+    pos = ephemeris.sun_position(days.astype("datetime64[s]") + np.timedelta64(12, "h"), 0.0, 0.0)
+    sources.append(("sun_angular_diameter_deg", "the Sun's angular size from the ephemeris on the shadow days"))
+    return Draw("gaussian", float(2 * np.mean(pos.semidiameter_deg)), 0.0)
+
+
+def ladder_inputs(campaign_path):
+    """Reduce each rung that has logs; the ones without stay out (shown as not measured)."""
+    campaign = read_campaign(campaign_path)
+    runs: dict = {}
+    problems: list[RowProblem] = []
+    sources: list[tuple[str, str]] = []
+    notes: list[str] = []
+    overrides: list[tuple[str, float, str]] = []
+    earth = moon = moon_diameter = ratio = sun_diameter = None
+    if campaign.logs.get("shadows"):
+        from firstrung.methods.shadows.run import run_shadows
+
+        shadow_run = run_shadows(campaign_path)
+        runs["shadows"] = shadow_run
+        problems.extend(shadow_run.problems)
+        earth = earth_radius_draw(shadow_run.reduction.earth_radius_km)
+        sources.append(("earth_radius_km", "noon shadows (reduce shadows)"))
+        sun_diameter = _sun_diameter_draw(campaign, sources)
+    if campaign.logs.get("eclipse"):
+        moon, moon_diameter, p = _eclipse_draws(campaign_path, runs, sources, notes, overrides)
+        problems.extend(p)
+    if campaign.logs.get("phases"):
+        ratio, p = _phase_draw(campaign_path, runs, sources, notes)
+        problems.extend(p)
+    inputs = LadderInputs(
+        earth_radius_km=earth,
+        moon_distance_earth_radii=moon,
+        sun_moon_distance_ratio=ratio,
+        moon_angular_diameter_deg=moon_diameter,
+        sun_angular_diameter_deg=sun_diameter,
+        sources=tuple(sources),
+        modern_overrides=tuple(overrides),
+    )
+    return campaign, inputs, runs, tuple(problems), tuple(notes)
+
+
+def run_ladder(campaign_path, *, samples: int, seed: int) -> LadderRun:
+    campaign, inputs, runs, problems, notes = ladder_inputs(campaign_path)
+    return LadderRun(campaign, climb(inputs, samples=samples, seed=seed), runs, problems, notes)

@@ -1,0 +1,1 @@
+"""The eclipse method."""

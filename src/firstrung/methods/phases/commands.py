@@ -1,0 +1,234 @@
+"""``firstrung plan|reduce|simulate phases``: the phases method's commands and their tables."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from firstrung.cli.common import (
+    CampaignArgument,
+    FromOption,
+    IncludeFlaggedOption,
+    JsonOption,
+    OutputOption,
+    SeedOption,
+    ToOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    print_json,
+    report_left_out,
+    report_problems,
+    simulation_range,
+    write_simulated,
+)
+
+
+def register_plan(group: typer.Typer) -> None:
+    """Add ``phases`` to the ``plan`` group."""
+    group.command("phases")(handles_errors(plan_phases))
+
+
+def plan_phases(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    min_altitude_deg: Annotated[
+        float, typer.Option("--min-altitude-deg", help="Lowest observed altitude of the Sun and of the Moon in a window [deg].")
+    ] = 10.0,
+    min_sun_elongation_deg: Annotated[
+        float,
+        typer.Option("--min-sun-elongation-deg", help="Smallest Sun-Moon angle allowed for the instrument [deg]; never point optics near the Sun."),
+    ] = 30.0,
+    span_h: Annotated[
+        float, typer.Option("--span-h", help="Search windows this long before and after each half moon [h].")
+    ] = 24.0,
+    ics: Annotated[
+        Path | None,
+        typer.Option("--ics", help="Write a calendar (RFC 5545): for each ranked quarter and site, the window nearest its half moon."),
+    ] = None,
+    json_output: JsonOption = False,
+) -> None:
+    """First and last quarters: quadrature, the true half moon, and when Sun and Moon are both up.
+
+    Quadrature and the true half moon geocentric and per site, and the windows when the Sun and
+    the Moon are both high enough to measure the angle between them.
+
+    Every quarter is listed in --json; one without any window has rank null and the reasons.
+    """
+    from firstrung.methods.phases.present import phase_plan_to_json
+    from firstrung.methods.phases.run import PlanSettings, calendar_bytes, plan_phases
+    from firstrung.output import write_atomic
+
+    settings = PlanSettings(min_altitude_deg=min_altitude_deg, min_sun_elongation_deg=min_sun_elongation_deg, half_span_h=span_h)
+    plan = plan_phases(campaign, date_from, date_to, settings)
+    if ics is not None:
+        write_atomic(ics, calendar_bytes(plan), inputs=[campaign, *[p for v in plan.campaign.logs.values() for p in v]])
+    data = phase_plan_to_json(plan)
+    if json_output:
+        print_json(data)
+        return
+    render_plan(data, ics)
+
+
+def render_plan(data: dict, ics) -> None:
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    quarters = data["quarters"]
+    ranked = [q for q in quarters if q["rank"] is not None]
+    out.print(
+        f"[bold]{escape(data['campaign'])}[/bold]: half moons, {data['from']} to {data['to']}; "
+        f"{len(quarters)} quarters, {len(ranked)} with a window at some site"
+    )
+    table = Table(box=box.SIMPLE_HEAD, title="Quarters (geocentric)",
+                  caption="half moon: the true half moon (phase angle 90 deg); offset from quadrature in minutes")
+    for col, just in (("rank", "right"), ("quarter", "left"), ("quadrature (UTC)", "left"),
+                      ("half moon (UTC)", "left"), ("offset", "right"), ("E (deg)", "right"), ("ratio", "right")):
+        table.add_column(col, justify=just, no_wrap=True)
+    for q in quarters:
+        table.add_row(
+            "-" if q["rank"] is None else str(q["rank"]), q["quarter"], q["quadrature_utc"][:16].replace("T", " "),
+            q["dichotomy_utc"][11:16], f"{q['dichotomy_minus_quadrature_min']:+.1f}",
+            f"{q['elongation_at_dichotomy_deg']:.4f}", f"{q['sun_moon_distance_ratio']:.0f}",
+        )
+    out.print(table)
+    sites = Table(box=box.SIMPLE_HEAD, title="Each site's half moon and the nearest window with Sun and Moon both up",
+                  caption="window: both bodies high enough and the Sun far enough from the Moon; minutes from the "
+                          "site's half moon")
+    for col, just in (("quarter", "left"), ("site", "left"), ("half moon seen (UTC)", "left"),
+                      ("nearest window (UTC)", "left"), ("from half moon", "right")):
+        sites.add_column(col, justify=just, no_wrap=True)
+    for q in quarters:
+        for sid, s in q["sites"].items():
+            best = min(s["windows"], key=lambda w: abs(w["minutes_from_dichotomy"]), default=None)
+            window, offset = "none", ""
+            if best is not None:
+                window = f"{best['start_utc'][5:10]} {best['start_utc'][11:16]}-{best['end_utc'][11:16]}"
+                offset = "contains it" if best["contains_dichotomy"] else f"{best['minutes_from_dichotomy']:+.0f} min"
+            sites.add_row(f"{q['quadrature_utc'][:10]} {q['quarter']}", escape(sid),
+                          s["dichotomy_utc"][:16].replace("T", " "), window, offset)
+    out.print(sites)
+    if ics is not None:
+        out.print(f"  calendar written: {escape(str(ics))}")
+    out.print(f"  {data['caution']}")
+
+
+def register_reduce(group: typer.Typer) -> None:
+    """Add ``phases`` to the ``reduce`` group."""
+    group.command("phases")(handles_errors(reduce_phases))
+
+
+def reduce_phases(
+    campaign: CampaignArgument,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+    elongation_sigma_deg: Annotated[
+        float, typer.Option("--elongation-sigma-deg", help="Error of a measured Sun-Moon angle (the instrument's) [deg].")
+    ] = 0.25,
+    time_sigma_min: Annotated[
+        float, typer.Option("--time-sigma-min", help="Error of judging the half moon, for rows without time_sigma_s [min].")
+    ] = 30.0,
+    fraction_sigma: Annotated[
+        float, typer.Option("--fraction-sigma", help="Error of an illuminated fraction measured on an image.")
+    ] = 0.01,
+    include_flagged: IncludeFlaggedOption = False,
+) -> None:
+    """D_sun/D_moon with its 68 % interval, and how much better the angle or the timing must be.
+
+    Exit status 2 when any row or file was refused (the result from the good rows is still shown).
+    """
+    from firstrung.methods.phases.present import phase_run_to_json
+    from firstrung.methods.phases.run import PhaseSettings, run_phases
+
+    settings = PhaseSettings(elongation_sigma_deg=elongation_sigma_deg, time_sigma_s=time_sigma_min * 60.0,
+                             fraction_sigma=fraction_sigma)
+    run = run_phases(campaign, settings, include_flagged=include_flagged)
+    data = phase_run_to_json(run)
+    if json_output:
+        print_json(data)
+    else:
+        render_reduction(data, verbose)
+    report_left_out(run.rows_left_out_flagged)
+    report_problems(run.problems)
+    if run.problems:
+        raise typer.Exit(2)
+
+
+def _interval_text(q: dict, digits: int = 0) -> str:
+    if q["low"] is None:
+        return "any value"
+    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
+    return f"{q['low']:.{digits}f} to {high}"
+
+
+def render_reduction(data: dict, verbose: bool) -> None:
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    e = data["elongation_deg"]
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: the Sun's distance from the half moon")
+    out.print(f"  elongation at half moon  {e['value']:.4f} ± {e['sigma']:.4f} deg")
+    out.print(f"  {data['statement']}")
+    if data["lower_bound_95"] is not None:
+        out.print(f"  95 % lower bound {data['lower_bound_95']:.0f}")
+    out.print(f"  modern value at these half moons {data['expected_ratio']:.0f} (E = {data['expected_elongation_deg']:.4f} deg)")
+    out.print(f"  {data['precision']['sentence']}")
+    p = data["precision"]["within_factor_2"]
+    out.print(f"  (within a factor 2: E to ±{p['elongation_arcmin']:.1f}′ or the timing to ±{p['time_min']:.0f} min)")
+
+    table = Table(title="Estimates", box=box.SIMPLE_HEAD)
+    for col, just in (("kind", "left"), ("site", "left"), ("quarter", "left"), ("half moon (UTC)", "left"),
+                      ("vs site's (min)", "right"), ("E (deg)", "right"), ("sigma (')", "right"), ("ratio 68 %", "right")):
+        table.add_column(col, justify=just)
+    for x in data["estimates"]:
+        table.add_row(x["kind"], escape(x["site"]), x["quarter"], x["time_utc"][:16].replace("T", " "),
+                      f"{x['minutes_from_site_dichotomy']:+.0f}", f"{x['elongation_deg']['value']:.3f}",
+                      f"{x['elongation_deg']['sigma'] * 60:.1f}", _interval_text(x["sun_moon_distance_ratio"]))
+    out.print(table)
+    for kind, c in data["by_kind"].items():
+        out.print(f"  {kind}: E = {c['elongation_deg']['value']:.4f} ± {c['elongation_deg']['sigma']:.4f} deg, "
+                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({c['estimates']} estimates)")
+    i = data["interval_method"]
+    if i is not None:
+        u = i["uncorrected"]
+        out.print(f"  interval method ({i['first_to_last']} first-to-last, {i['last_to_first']} last-to-first intervals):")
+        perfect = "no finite value" if u["perfect_timings_ratio"] is None else f"{u['perfect_timings_ratio']:.0f}"
+        out.print(f"    uniform lunar motion: ratio {_interval_text(u['sun_moon_distance_ratio'])}; "
+                  f"perfect timings of these half moons would give {perfect}")
+        if i["corrected"] is not None:
+            out.print(f"    corrected with the ephemeris's lunar motion: ratio {_interval_text(i['corrected']['sun_moon_distance_ratio'])}")
+    rows = data["rows"]
+    out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {rows['estimates']} estimates"
+              + (f", {rows['refused']} refused" if rows["refused"] else ""))
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+    out.print(f"  {data['caution']}")
+
+
+def register_simulate(group: typer.Typer) -> None:
+    """Add ``phases`` to the ``simulate`` group."""
+    group.command("phases")(handles_errors(simulate_phases))
+
+
+def simulate_phases(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    output: OutputOption,
+    seed: SeedOption = 1,
+) -> None:
+    """Half-moon logs: timings by eye, measured Sun-Moon angles and photo series of the lit fraction."""
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.phases.rehearsal import LOG_COLUMNS, rehearsal_rows
+
+    first, last = simulation_range(date_from, date_to)
+    rows = rehearsal_rows(read_campaign(campaign), first, last, seed)
+    write_simulated(campaign, "phases", rows, LOG_COLUMNS, output, "half-moon rows")

@@ -1,0 +1,703 @@
+"""Quarters, true half moon (dichotomy) and the Sun-Moon geometry seen from a site.
+
+Three instants are distinguished:
+
+- **quadrature** (the almanac's first or last quarter): the Moon's apparent
+  ecliptic longitude of date exceeds the Sun's by 90 or 270 deg, as seen
+  from the Earth's centre; the definition skyfield's ``almanac.moon_phases``
+  and the national almanacs use;
+- **geocentric dichotomy**: the Sun-Moon-Earth angle (the phase angle) is
+  90 deg, from *geometric* positions (no light time, no aberration). It
+  comes 15-20 min before first quarter and 16-22 min after last quarter,
+  because the Sun is at a finite distance (Aristarchus' triangle);
+- **topocentric dichotomy**: the Sun-Moon-observer angle is 90 deg. The
+  Moon's parallax (about 1 deg) moves it by up to about +/- 2 h from the
+  geocentric instant, so each site has its own half moon.
+
+Geometric positions are used for every triangle: aberration moves the
+apparent elongation by about 20" (reference-values section 5), which is 4 %
+of the distance ratio. Apparent places (with parallax and refraction) are
+used only for what an observer sees: altitudes and a measured angle.
+
+The light time from the Moon (1.3 s) is neglected in the phase angle: the
+terminator an observer sees moves by far less in that time than any
+judgement of half phase can resolve.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from firstrung.constants import ASTRONOMICAL_UNIT_KM, STANDARD_PRESSURE_HPA, STANDARD_TEMPERATURE_C
+from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
+from firstrung.ephemeris.moon import _angle_deg, sun_moon_geocentric
+from firstrung.errors import InputError
+from firstrung.geodesy import geodetic_to_itrs_km
+from firstrung.refraction import apparent_from_true_altitude_deg, true_from_apparent_altitude_deg
+
+__all__ = [
+    "HalfMoonWindows",
+    "Quarters",
+    "SunMoonTopocentric",
+    "both_up_windows",
+    "geocentric_dichotomy_utc",
+    "quadratures_between",
+    "quarters_between",
+    "sun_moon_topocentric",
+    "time_of_elongation_utc",
+    "topocentric_dichotomy_utc",
+    "topocentric_quadrature_utc",
+]
+
+#: Sampling step of the quadrature search [h]: the longitude difference moves
+#: about 3 deg in that time, so every crossing of 90 or 270 deg is bracketed.
+_QUADRATURE_STEP_H = 6.0
+#: Time step of the numerical derivative in the Newton iterations [s].
+_DERIVATIVE_STEP_S = 60.0
+#: Newton iterations stop when every step is below this [s].
+_NEWTON_TOLERANCE_S = 0.01
+#: Most Newton iterations; from the starting guesses used here 3-4 suffice.
+_NEWTON_ITERATIONS = 8
+#: Largest Newton step [h]; the topocentric dichotomy is within about 2.5 h of the geocentric one.
+_NEWTON_MAX_STEP_H = 6.0
+#: Half-width of the central difference that gives the elongation rate [s].
+_RATE_STEP_S = 300.0
+_US_PER_S = 1_000_000
+
+
+# --- small helpers --------------------------------------------------------------------------
+
+
+def _us(seconds) -> np.ndarray:
+    """timedelta64[us] from seconds (float array)."""
+    return np.round(np.asarray(seconds, dtype=float) * _US_PER_S).astype(np.int64).astype("timedelta64[us]")
+
+
+def _wrap_deg(x):
+    """Angle wrapped into (-180, 180] [deg]."""
+    return 180.0 - np.mod(180.0 - np.asarray(x, dtype=float), 360.0)
+
+
+def _geometric_gcrs_km(time_utc: np.ndarray):
+    """Geometric geocentric Moon and Sun (GCRS axes) [km], and the skyfield Time."""
+    t = _prepared_time(time_utc)
+    earth, sun, moon = _body("earth"), _body("sun"), _body("moon")
+    moon_km = np.asarray((moon - earth).at(t).position.km).reshape(3, -1)
+    sun_km = np.asarray((sun - earth).at(t).position.km).reshape(3, -1)
+    return moon_km, sun_km, t
+
+
+def _site_true_of_date_km(gast_rad, latitude_deg, longitude_deg, elevation_m) -> np.ndarray:
+    """Site position in the true equator and equinox of date (ITRS rotated by GAST) [km], (3, n).
+
+    Polar motion (at most 0.3", i.e. 10 m at the Earth's surface) is neglected.
+    """
+    x, y, z = geodetic_to_itrs_km(latitude_deg, longitude_deg, elevation_m)
+    cos_g, sin_g = np.cos(gast_rad), np.sin(gast_rad)
+    x, y, z = (np.broadcast_to(np.asarray(c, dtype=float), np.shape(gast_rad)) for c in (x, y, z))
+    return np.stack([x * cos_g - y * sin_g, x * sin_g + y * cos_g, z])
+
+
+def _site_gcrs_km(t, latitude_deg, longitude_deg, elevation_m) -> np.ndarray:
+    """Site position in GCRS axes [km], (3, n): true-of-date position rotated back by the matrix M^T."""
+    gast_rad = np.asarray(t.gast).reshape(-1) * (np.pi / 12.0)
+    tod = _site_true_of_date_km(gast_rad, latitude_deg, longitude_deg, elevation_m)
+    matrix = np.asarray(t.M).reshape(3, 3, -1)
+    return np.einsum("jin,jn->in", matrix, tod)
+
+
+def _flat_inputs(time_utc, latitude_deg, longitude_deg, elevation_m):
+    """Times and site coordinates broadcast together and flattened, with the common shape."""
+    t = as_utc_datetime64(time_utc)
+    lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
+    t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
+    check_in_span(t_b)
+    return t_b.ravel(), lat_b.ravel(), lon_b.ravel(), elev_b.ravel(), t_b.shape
+
+
+def _newton(function, start_utc: np.ndarray, target_deg, *, wrap: bool = False) -> np.ndarray:
+    """Times where ``function(t) == target``, by the secant method (one evaluation per step).
+
+    ``function`` maps a flat datetime64[us] array to degrees; ``target_deg``
+    broadcasts against ``start_utc``. With ``wrap`` the residual is taken
+    modulo 360 deg. The first slope comes from a 60 s step; a slope is kept
+    once its element has converged.
+    """
+    t0 = np.asarray(start_utc, dtype="datetime64[us]").copy()
+    target = np.broadcast_to(np.asarray(target_deg, dtype=float), t0.shape)
+
+    def residual(t):
+        r = function(t) - target
+        return _wrap_deg(r) if wrap else r
+
+    t1 = t0 + _us(_DERIVATIVE_STEP_S)
+    f0, f1 = residual(t0), residual(t1)
+    slope = np.zeros(t0.shape)
+    for _ in range(_NEWTON_ITERATIONS):
+        span_s = (t1 - t0).astype(np.int64) / _US_PER_S
+        change = _wrap_deg(f1 - f0) if wrap else f1 - f0
+        usable = np.abs(span_s) >= 1e-3
+        slope = np.where(usable, change / np.where(usable, span_s, 1.0), slope)
+        dt_s = np.clip(-f1 / slope, -_NEWTON_MAX_STEP_H * 3600, _NEWTON_MAX_STEP_H * 3600)
+        t0, f0 = t1, f1
+        t1 = t1 + _us(dt_s)
+        if np.all(np.abs(dt_s) < _NEWTON_TOLERANCE_S):
+            break
+        f1 = residual(t1)
+    return t1
+
+
+# --- quarters and the geocentric dichotomy --------------------------------------------------
+
+
+def _longitude_difference_deg(time_utc: np.ndarray) -> np.ndarray:
+    return sun_moon_geocentric(time_utc).longitude_difference_deg
+
+
+def _geocentric_phase_angle_deg(time_utc: np.ndarray) -> np.ndarray:
+    moon_km, sun_km, _ = _geometric_gcrs_km(time_utc)
+    return _angle_deg(sun_km - moon_km, -moon_km)
+
+
+def quadratures_between(start_utc, stop_utc) -> tuple[np.ndarray, np.ndarray]:
+    """Almanac first and last quarters from ``start_utc`` (inclusive) to ``stop_utc`` (exclusive).
+
+    The Moon's apparent geocentric ecliptic longitude of date minus the
+    Sun's crosses 90 deg (first quarter) or 270 deg (last quarter), found by
+    sampling every 6 h and Newton's method to 0.01 s.
+
+    Parameters
+    ----------
+    start_utc, stop_utc : datetime64, aware datetime or ISO string with offset
+        The range [UTC].
+
+    Returns
+    -------
+    quadrature_utc : numpy.ndarray of datetime64[us]
+        In time order.
+    quarter : numpy.ndarray of str
+        ``"first"`` or ``"last"``.
+
+    Raises
+    ------
+    InputError
+        When ``stop_utc`` is not after ``start_utc``.
+    EphemerisRangeError
+        When the range leaves DE421's span.
+
+    Examples
+    --------
+    >>> t, q = quadratures_between("2025-01-01T00:00Z", "2025-01-31T00:00Z")
+    >>> [str(x.astype("datetime64[m]")) for x in t], [str(x) for x in q]
+    (['2025-01-06T23:56', '2025-01-21T20:30'], ['first', 'last'])
+    """
+    start, stop = (np.asarray(as_utc_datetime64(x), dtype="datetime64[us]").reshape(()) for x in (start_utc, stop_utc))
+    if not stop > start:
+        raise InputError(f"stop_utc: {stop} is not after start_utc {start}; expected a later time")
+    step = _us(_QUADRATURE_STEP_H * 3600)
+    grid = np.arange(start - step, stop + 2 * step, step)
+    check_in_span(grid, "quarter search time")
+    difference = _longitude_difference_deg(grid)
+    times, kinds = [], []
+    for target, kind in ((90.0, "first"), (270.0, "last")):
+        d = _wrap_deg(difference - target)
+        k = np.flatnonzero((d[:-1] < 0.0) & (d[1:] >= 0.0) & (d[1:] - d[:-1] < 90.0))
+        fraction = -d[k] / (d[k + 1] - d[k])
+        guess = grid[k] + _us(fraction * _QUADRATURE_STEP_H * 3600)
+        times.append(_newton(_longitude_difference_deg, guess, target, wrap=True) if k.size else guess)
+        kinds.append(np.full(k.size, kind))
+    t = np.concatenate(times)
+    q = np.concatenate(kinds).astype(str)
+    order = np.argsort(t, kind="stable")
+    t, q = t[order], q[order]
+    inside = (t >= start) & (t < stop)
+    return t[inside], q[inside]
+
+
+def geocentric_dichotomy_utc(near_utc) -> np.ndarray:
+    """Geocentric true half moon: the geometric Sun-Moon-Earth angle is 90 deg.
+
+    Parameters
+    ----------
+    near_utc : datetime64 array or ISO strings with offset
+        A time within a few hours of the half moon wanted, e.g. the quadrature [UTC].
+
+    Returns
+    -------
+    numpy.ndarray of datetime64[us]
+        Same shape as ``near_utc``.
+
+    Examples
+    --------
+    >>> t = geocentric_dichotomy_utc(np.array(["2025-01-06T23:56:18"], dtype="datetime64[s]"))
+    >>> str(t[0].astype("datetime64[s]"))
+    '2025-01-06T23:40:59'
+    """
+    near = np.asarray(as_utc_datetime64(near_utc), dtype="datetime64[us]")
+    check_in_span(near)
+    return _newton(_geocentric_phase_angle_deg, near.ravel(), 90.0).reshape(near.shape)
+
+
+@dataclass(frozen=True)
+class Quarters:
+    """The quarters of a range with their geocentric half-moon geometry.
+
+    All arrays have one entry per quarter, in time order. ``dichotomy_utc``
+    is the geocentric true half moon; the elongation, distances and ratio
+    are the geometric ones at that instant, so ``distance_ratio`` equals
+    ``1 / cos(elongation)`` (the right angle is at the Moon).
+    """
+
+    quarter: np.ndarray
+    quadrature_utc: np.ndarray
+    dichotomy_utc: np.ndarray
+    elongation_deg: np.ndarray
+    apparent_elongation_deg: np.ndarray
+    moon_distance_km: np.ndarray
+    sun_distance_km: np.ndarray
+
+    @property
+    def distance_ratio(self) -> np.ndarray:
+        """Sun/Moon distance ratio at the geocentric dichotomy [1]."""
+        return self.sun_distance_km / self.moon_distance_km
+
+    @property
+    def dichotomy_minus_quadrature_s(self) -> np.ndarray:
+        """Geocentric dichotomy minus quadrature [s]: negative at first quarter."""
+        return (self.dichotomy_utc - self.quadrature_utc).astype(np.int64) / _US_PER_S
+
+    def __len__(self) -> int:
+        return len(self.quarter)
+
+
+def quarters_between(start_utc, stop_utc) -> Quarters:
+    """First and last quarters in a range, with the geocentric dichotomy of each.
+
+    Parameters
+    ----------
+    start_utc, stop_utc : datetime64, aware datetime or ISO string with offset
+        The range of the quadratures [UTC], start inclusive, stop exclusive.
+
+    Returns
+    -------
+    Quarters
+
+    Examples
+    --------
+    >>> q = quarters_between("2025-01-01T00:00Z", "2025-01-15T00:00Z")
+    >>> round(float(q.dichotomy_minus_quadrature_s[0]) / 60, 1), round(float(q.elongation_deg[0]), 3)
+    (-15.3, 89.856)
+    """
+    quadrature, kind = quadratures_between(start_utc, stop_utc)
+    dichotomy = geocentric_dichotomy_utc(quadrature) if len(quadrature) else quadrature
+    if len(dichotomy):
+        g = sun_moon_geocentric(dichotomy)
+        elongation, apparent = g.elongation_geometric_deg, g.elongation_apparent_deg
+        moon_km = np.sqrt(np.sum(g.moon_geometric_km**2, axis=0))
+        sun_km = np.sqrt(np.sum(g.sun_geometric_km**2, axis=0))
+    else:
+        elongation = apparent = moon_km = sun_km = np.zeros(0)
+    return Quarters(kind, quadrature, dichotomy, elongation, apparent, moon_km, sun_km)
+
+
+# --- the geometry seen from a site ------------------------------------------------------------
+
+
+def _topocentric_phase_angle_deg(time_utc, lat, lon, elev) -> np.ndarray:
+    moon_km, sun_km, t = _geometric_gcrs_km(time_utc)
+    site_km = _site_gcrs_km(t, lat, lon, elev)
+    return _angle_deg(sun_km - moon_km, site_km - moon_km)
+
+
+def _topocentric_elongation_deg(time_utc, lat, lon, elev) -> np.ndarray:
+    moon_km, sun_km, t = _geometric_gcrs_km(time_utc)
+    site_km = _site_gcrs_km(t, lat, lon, elev)
+    return _angle_deg(sun_km - site_km, moon_km - site_km)
+
+
+def topocentric_dichotomy_utc(near_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
+    """True half moon seen from a site: the geometric Sun-Moon-observer angle is 90 deg.
+
+    Parameters
+    ----------
+    near_utc : datetime64 array or ISO strings with offset
+        A time within a few hours of the half moon, e.g. the geocentric dichotomy [UTC].
+    latitude_deg, longitude_deg, elevation_m : float or array
+        Sites (WGS84), broadcast against ``near_utc`` [deg, deg, m].
+
+    Returns
+    -------
+    numpy.ndarray of datetime64[us]
+        The broadcast shape.
+
+    Examples
+    --------
+    >>> t = topocentric_dichotomy_utc(np.datetime64("2025-01-06T23:41:00"), 46.2, 7.4, 620.0)
+    >>> str(np.datetime64(t, "m"))   # 93 min after the geocentric instant: the Moon is low
+    '2025-01-07T01:14'
+    """
+    t, lat, lon, elev, shape = _flat_inputs(near_utc, latitude_deg, longitude_deg, elevation_m)
+    result = _newton(lambda x: _topocentric_phase_angle_deg(x, lat, lon, elev), t.astype("datetime64[us]"), 90.0)
+    return result.reshape(shape)
+
+
+def time_of_elongation_utc(near_utc, elongation_deg, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
+    """When the geometric Sun-Moon angle seen from a site reaches a given value, near a given time.
+
+    Parameters
+    ----------
+    near_utc : datetime64 array or ISO strings with offset
+        A time within a few hours of it [UTC].
+    elongation_deg : float or array
+        The angle wanted [deg]; within about 1.5 deg of the angle at ``near_utc``.
+    latitude_deg, longitude_deg, elevation_m : float or array
+        Sites, broadcast [deg, deg, m].
+
+    Returns
+    -------
+    numpy.ndarray of datetime64[us]
+
+    Examples
+    --------
+    >>> t = time_of_elongation_utc(np.datetime64("2025-01-07T01:00"), 89.8552, 46.2, 7.4, 620.0)
+    >>> str(np.datetime64(t, "m"))
+    '2025-01-07T01:14'
+    """
+    t, lat, lon, elev, shape = _flat_inputs(near_utc, latitude_deg, longitude_deg, elevation_m)
+    target = np.broadcast_to(np.asarray(elongation_deg, dtype=float), shape).ravel()
+    result = _newton(lambda x: _topocentric_elongation_deg(x, lat, lon, elev), t.astype("datetime64[us]"), target)
+    return result.reshape(shape)
+
+
+def topocentric_quadrature_utc(near_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
+    """When the geometric Sun-Moon angle seen from a site is exactly 90 deg.
+
+    This is where a half moon would be if the Sun were infinitely far away;
+    the interval method compares half-moon timings against it.
+
+    Parameters
+    ----------
+    near_utc : datetime64 array or ISO strings with offset
+        A time within a few hours of it [UTC].
+    latitude_deg, longitude_deg, elevation_m : float or array
+        Sites, broadcast [deg, deg, m].
+
+    Returns
+    -------
+    numpy.ndarray of datetime64[us]
+
+    Examples
+    --------
+    >>> q = topocentric_quadrature_utc(np.datetime64("2025-01-06T23:41:00"), 46.2, 7.4, 620.0)
+    >>> d = topocentric_dichotomy_utc(np.datetime64("2025-01-06T23:41:00"), 46.2, 7.4, 620.0)
+    >>> bool(q > d)
+    True
+    """
+    return time_of_elongation_utc(near_utc, 90.0, latitude_deg, longitude_deg, elevation_m)
+
+
+@dataclass(frozen=True)
+class SunMoonTopocentric:
+    """The Sun and the Moon seen from a site at given instants.
+
+    Attributes
+    ----------
+    elongation_deg : ndarray
+        Geometric Sun-Moon angle at the observer [deg]: the angle of
+        Aristarchus' triangle.
+    elongation_rate_deg_per_h : ndarray
+        Its rate of change [deg/h] (central difference over +/- 5 min).
+    phase_angle_deg : ndarray
+        Geometric Sun-Moon-observer angle [deg]; 90 at the site's half moon.
+    illuminated_fraction : ndarray
+        ``(1 + cos i) / 2`` for that phase angle [1].
+    apparent_elongation_deg : ndarray
+        Sun-Moon angle between the apparent, airless directions (aberration,
+        parallax) [deg].
+    observed_elongation_deg : ndarray
+        The same with both bodies raised by standard refraction (10 deg C,
+        1010 hPa): what an instrument at the site measures [deg].
+    sun_altitude_deg, moon_altitude_deg : ndarray
+        Apparent airless altitudes of the centres [deg].
+    sun_distance_km, moon_distance_km : ndarray
+        Geometric distances from the observer [km].
+    """
+
+    elongation_deg: np.ndarray
+    elongation_rate_deg_per_h: np.ndarray
+    phase_angle_deg: np.ndarray
+    illuminated_fraction: np.ndarray
+    apparent_elongation_deg: np.ndarray
+    observed_elongation_deg: np.ndarray
+    sun_altitude_deg: np.ndarray
+    moon_altitude_deg: np.ndarray
+    sun_distance_km: np.ndarray
+    moon_distance_km: np.ndarray
+
+
+def _local_frame(gast_rad, latitude_deg, longitude_deg):
+    """East, north and up unit vectors of a site in the true equator of date, each (3, n)."""
+    theta = gast_rad + np.radians(longitude_deg)
+    phi = np.radians(latitude_deg)
+    cos_t, sin_t = np.cos(theta), np.sin(theta)
+    cos_p, sin_p = np.cos(phi) + 0 * theta, np.sin(phi) + 0 * theta
+    east = np.stack([-sin_t, cos_t, np.zeros_like(theta)])
+    north = np.stack([-sin_p * cos_t, -sin_p * sin_t, cos_p])
+    up = np.stack([cos_p * cos_t, cos_p * sin_t, sin_p])
+    return east, north, up
+
+
+def _horizontal(vector_km, east, north, up):
+    """Unit vector components (east, north, up) of a direction, and its altitude [deg]."""
+    u = vector_km / np.sqrt(np.sum(vector_km**2, axis=0))
+    e, n, z = (np.sum(u * axis, axis=0) for axis in (east, north, up))
+    return e, n, z, np.degrees(np.arcsin(np.clip(z, -1.0, 1.0)))
+
+
+def _refracted(e, n, altitude_deg):
+    """(east, north, up) of a direction raised from its true to its apparent altitude."""
+    apparent = np.radians(apparent_from_true_altitude_deg(altitude_deg))
+    horizontal = np.hypot(e, n)
+    scale = np.cos(apparent) / np.where(horizontal > 0, horizontal, 1.0)
+    return np.stack([e * scale, n * scale, np.sin(apparent)])
+
+
+def _apparent_true_of_date_km(t):
+    """Apparent geocentric Moon and Sun in the true equator and equinox of date [km], (3, n)."""
+    from skyfield.functions import mxv
+
+    e = _body("earth").at(t)
+    moon = e.observe(_body("moon")).apparent().position.au
+    sun = e.observe(_body("sun")).apparent().position.au
+    matrix = t.M
+    moon_km = np.asarray(mxv(matrix, moon)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
+    sun_km = np.asarray(mxv(matrix, sun)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
+    return moon_km, sun_km
+
+
+def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, *, rates: bool = True) -> SunMoonTopocentric:
+    """The Sun-Moon angle, the phase and the altitudes seen from sites at given times.
+
+    Parameters
+    ----------
+    time_utc : datetime64 array or aware datetimes / ISO strings with offset
+        Instants [UTC], broadcast against the sites.
+    latitude_deg, longitude_deg, elevation_m : float or array
+        Sites (WGS84) [deg, deg, m].
+    rates : bool, optional
+        Compute ``elongation_rate_deg_per_h`` (NaN otherwise; saves two thirds
+        of the geometric work).
+
+    Returns
+    -------
+    SunMoonTopocentric
+        Every array has the broadcast shape.
+
+    Notes
+    -----
+    Diurnal aberration (at most 0.3") is left out of the apparent directions;
+    it moves the Sun and the Moon almost alike. Refraction is Bennett's at
+    standard conditions, applied to each body's altitude.
+
+    Examples
+    --------
+    >>> g = sun_moon_topocentric("2025-01-07T01:14:13.45Z", 46.2, 7.4, 620.0)
+    >>> round(float(g.phase_angle_deg), 4), round(float(g.elongation_deg), 4)
+    (90.0, 89.8552)
+    """
+    t_flat, lat, lon, elev, shape = _flat_inputs(time_utc, latitude_deg, longitude_deg, elevation_m)
+    t_flat = t_flat.astype("datetime64[us]")
+    n = t_flat.size
+    step = _us(_RATE_STEP_S)
+    copies = 3 if rates else 1
+    times = np.concatenate([t_flat, t_flat - step, t_flat + step][:copies])
+    lat3, lon3, elev3 = (np.concatenate([x] * copies) for x in (lat, lon, elev))
+    moon_km, sun_km, t = _geometric_gcrs_km(times)
+    site_km = _site_gcrs_km(t, lat3, lon3, elev3)
+    to_sun, to_moon = sun_km - site_km, moon_km - site_km
+    elongation3 = _angle_deg(to_sun, to_moon)
+    elongation = elongation3[:n]
+    if rates:
+        rate = (elongation3[2 * n :] - elongation3[n : 2 * n]) / (2 * _RATE_STEP_S / 3600.0)
+    else:
+        rate = np.full(n, np.nan)
+    phase = _angle_deg(sun_km[:, :n] - moon_km[:, :n], -to_moon[:, :n])
+
+    t_now = _prepared_time(t_flat)
+    moon_app, sun_app = _apparent_true_of_date_km(t_now)
+    gast = np.asarray(t_now.gast).reshape(-1) * (np.pi / 12.0)
+    site_tod = _site_true_of_date_km(gast, lat, lon, elev)
+    east, north, up = _local_frame(gast, lat, lon)
+    se, sn, sz, sun_alt = _horizontal(sun_app - site_tod, east, north, up)
+    me, mn, mz, moon_alt = _horizontal(moon_app - site_tod, east, north, up)
+    apparent = _angle_deg(np.stack([se, sn, sz]), np.stack([me, mn, mz]))
+    observed = _angle_deg(_refracted(se, sn, sun_alt), _refracted(me, mn, moon_alt))
+    return SunMoonTopocentric(
+        elongation_deg=elongation.reshape(shape),
+        elongation_rate_deg_per_h=rate.reshape(shape),
+        phase_angle_deg=phase.reshape(shape),
+        illuminated_fraction=((1.0 + np.cos(np.radians(phase))) / 2.0).reshape(shape),
+        apparent_elongation_deg=apparent.reshape(shape),
+        observed_elongation_deg=observed.reshape(shape),
+        sun_altitude_deg=sun_alt.reshape(shape),
+        moon_altitude_deg=moon_alt.reshape(shape),
+        sun_distance_km=np.sqrt(np.sum(to_sun[:, :n] ** 2, axis=0)).reshape(shape),
+        moon_distance_km=np.sqrt(np.sum(to_moon[:, :n] ** 2, axis=0)).reshape(shape),
+    )
+
+
+# --- when both bodies are up -------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class HalfMoonWindows:
+    """Intervals when the Sun and the Moon are both high enough, around each half moon.
+
+    One entry per window, flat arrays: ``event`` and ``site`` index the
+    inputs; ``start_utc``/``end_utc`` bound it (cut at the ends of the
+    searched span: ``cut`` is True then); ``closest_utc`` is the instant in
+    the window nearest to the site's half moon (the target) and
+    ``minutes_from_target`` its offset (0 when the window holds it).
+    """
+
+    event: np.ndarray
+    site: np.ndarray
+    start_utc: np.ndarray
+    end_utc: np.ndarray
+    closest_utc: np.ndarray
+    minutes_from_target: np.ndarray
+    cut: np.ndarray
+
+    @property
+    def contains_target(self) -> np.ndarray:
+        """Whether the site's half moon falls inside the window."""
+        return self.minutes_from_target == 0.0
+
+    def __len__(self) -> int:
+        return len(self.event)
+
+
+def both_up_windows(
+    center_utc,
+    target_utc,
+    latitude_deg,
+    longitude_deg,
+    elevation_m,
+    *,
+    half_span_h: float = 24.0,
+    step_min: float = 10.0,
+    min_altitude_deg: float = 10.0,
+    min_sun_elongation_deg: float = 30.0,
+) -> HalfMoonWindows:
+    """Windows when the Sun and the Moon are both above a minimum observed altitude.
+
+    For each event (a half moon) a grid of times ``center +/- half_span_h``
+    is searched at every site; a window is where the Sun's and the Moon's
+    centres are at least ``min_altitude_deg`` above the horizon (observed,
+    with standard refraction) and the Moon is at least
+    ``min_sun_elongation_deg`` from the Sun. Window edges are interpolated
+    linearly between grid points (error well below a minute at a 10 min step).
+
+    Parameters
+    ----------
+    center_utc : datetime64 array, shape (q,)
+        Middle of each searched span, e.g. the geocentric dichotomies [UTC].
+    target_utc : datetime64 array, shape (q, s)
+        Each site's own half moon for each event [UTC].
+    latitude_deg, longitude_deg, elevation_m : array, shape (s,)
+        Sites [deg, deg, m].
+    half_span_h, step_min : float
+        Half-width of the span [h] and grid step [min].
+    min_altitude_deg : float
+        Lowest observed altitude of both centres [deg].
+    min_sun_elongation_deg : float
+        Smallest Sun-Moon angle allowed for the instrument [deg].
+
+    Returns
+    -------
+    HalfMoonWindows
+
+    Examples
+    --------
+    >>> c = np.array(["2025-03-06T16:17"], dtype="datetime64[us]")
+    >>> w = both_up_windows(c, c[:, None], [46.2], [7.4], [620.0], half_span_h=6)
+    >>> len(w) >= 1
+    True
+    """
+    center = np.atleast_1d(np.asarray(as_utc_datetime64(center_utc), dtype="datetime64[us]"))
+    lat, lon, elev = (np.atleast_1d(np.asarray(x, dtype=float)) for x in (latitude_deg, longitude_deg, elevation_m))
+    target = np.asarray(as_utc_datetime64(target_utc), dtype="datetime64[us]").reshape(center.size, lat.size)
+    for name, value, low, high in (
+        ("min_altitude_deg", min_altitude_deg, -1.0, 89.0),
+        ("min_sun_elongation_deg", min_sun_elongation_deg, 0.0, 180.0),
+        ("half_span_h", half_span_h, 0.5, 240.0),
+        ("step_min", step_min, 0.5, 60.0),
+    ):
+        if not (np.isfinite(value) and low <= value <= high):
+            raise InputError(f"{name}: received {value!r}; expected {low:g} to {high:g}")
+    q, s = center.size, lat.size
+    step_s = step_min * 60.0
+    offsets_s = np.arange(-half_span_h * 3600.0, half_span_h * 3600.0 + 0.5 * step_s, step_s)
+    grid = center[:, None] + _us(offsets_s)[None, :]  # (q, m)
+    m = offsets_s.size
+    flat = grid.ravel()
+    check_in_span(flat, "window search time")
+    if q == 0 or s == 0:
+        empty = np.zeros(0, int)
+        no_time = np.zeros(0, "datetime64[us]")
+        return HalfMoonWindows(empty, empty, no_time, no_time, no_time, np.zeros(0), np.zeros(0, bool))
+
+    t = _prepared_time(flat)
+    moon_app, sun_app = _apparent_true_of_date_km(t)
+    gast = np.asarray(t.gast).reshape(-1) * (np.pi / 12.0)
+    threshold = float(true_from_apparent_altitude_deg(min_altitude_deg, STANDARD_TEMPERATURE_C, STANDARD_PRESSURE_HPA))
+    x, y, z = geodetic_to_itrs_km(lat, lon, elev)
+    g = gast[None, :]
+    cos_g, sin_g = np.cos(g), np.sin(g)
+    theta = g + np.radians(lon)[:, None]
+    phi = np.radians(lat)[:, None]
+    up = (np.cos(phi) * np.cos(theta), np.cos(phi) * np.sin(theta), np.sin(phi) + 0 * theta)
+    site = (x[:, None] * cos_g - y[:, None] * sin_g, x[:, None] * sin_g + y[:, None] * cos_g, z[:, None] + 0 * g)
+
+    def direction(body_km):
+        v = [body_km[k][None, :] - site[k] for k in range(3)]
+        norm = np.sqrt(v[0] ** 2 + v[1] ** 2 + v[2] ** 2)
+        return [c / norm for c in v]
+
+    su, mu = direction(sun_app), direction(moon_app)
+    sun_alt = np.degrees(np.arcsin(np.clip(su[0] * up[0] + su[1] * up[1] + su[2] * up[2], -1, 1)))
+    moon_alt = np.degrees(np.arcsin(np.clip(mu[0] * up[0] + mu[1] * up[1] + mu[2] * up[2], -1, 1)))
+    elongation = np.degrees(np.arccos(np.clip(su[0] * mu[0] + su[1] * mu[1] + su[2] * mu[2], -1, 1)))
+    margin = np.minimum(np.minimum(sun_alt - threshold, moon_alt - threshold), elongation - min_sun_elongation_deg)
+    margin = margin.reshape(s, q, m).transpose(1, 0, 2)  # (q, s, m)
+
+    ok = margin > 0
+    padded = np.concatenate([np.zeros((q, s, 1), bool), ok, np.zeros((q, s, 1), bool)], axis=2)
+    change = np.diff(padded.astype(np.int8), axis=2)
+    ev_s, site_s, k_start = np.nonzero(change == 1)
+    _, _, k_end = np.nonzero(change == -1)  # k_end: first index after the run
+    grid_s = grid[ev_s]  # (w, m)
+
+    def crossing(k_before, k_after, ev, st):
+        """Time where the margin crosses zero between grid points k_before and k_after."""
+        a = margin[ev, st, k_before]
+        b = margin[ev, st, k_after]
+        denominator = np.where(a != b, a - b, 1.0)
+        frac = np.clip(np.where(a != b, a / denominator, 0.0), 0.0, 1.0)
+        return grid[ev, k_before] + _us(frac * step_s)
+
+    rows = np.arange(len(ev_s))
+    first, last = k_start, k_end - 1
+    cut_start = first == 0
+    cut_end = last == m - 1
+    start = np.where(cut_start, grid_s[rows, first], crossing(np.maximum(first - 1, 0), first, ev_s, site_s))
+    end = np.where(cut_end, grid_s[rows, last], crossing(last, np.minimum(last + 1, m - 1), ev_s, site_s))
+    goal = target[ev_s, site_s]
+    closest = np.minimum(np.maximum(goal, start), end)
+    minutes = (closest - goal).astype(np.int64) / (60 * _US_PER_S)
+    return HalfMoonWindows(
+        event=ev_s, site=site_s, start_utc=start, end_utc=end, closest_utc=closest,
+        minutes_from_target=minutes.astype(float), cut=cut_start | cut_end,
+    )

@@ -1,0 +1,327 @@
+"""``firstrung plan|reduce|simulate shadows``: the shadows method's commands and their tables."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from firstrung.cli.common import (
+    CampaignArgument,
+    FromOption,
+    IncludeFlaggedOption,
+    JsonOption,
+    OutputOption,
+    SeedOption,
+    ToOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    parse_date,
+    parse_dates,
+    parse_weekdays,
+    print_json,
+    report_left_out,
+    report_problems,
+    simulation_range,
+    write_simulated,
+)
+
+
+def register_plan(group: typer.Typer) -> None:
+    """Add ``shadows`` to the ``plan`` group."""
+    group.command("shadows")(handles_errors(plan_shadows))
+
+
+def plan_shadows(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    min_altitude_deg: Annotated[
+        float, typer.Option("--min-altitude-deg", "--min-altitude", help="Lowest noon altitude of the Sun allowed at any site [deg].")
+    ] = 20.0,
+    max_shadow_m: Annotated[
+        float | None, typer.Option("--max-shadow-m", "--max-shadow", help="Length of the board: longer shadows rule a day out [m].")
+    ] = None,
+    weekdays: Annotated[
+        str | None, typer.Option("--weekdays", help="Days of the week allowed, e.g. 'mon-fri' or 'tue,thu'.")
+    ] = None,
+    exclude: Annotated[
+        list[str] | None, typer.Option("--exclude", help="Dates ruled out (repeat, or separate with commas).")
+    ] = None,
+    top: Annotated[int, typer.Option("--top", min=1, help="How many of the best days to show and export.")] = 10,
+    ics: Annotated[
+        Path | None, typer.Option("--ics", help="Write the best days (--top) to this calendar file (RFC 5545).")
+    ] = None,
+    json_output: JsonOption = False,
+) -> None:
+    """Rank the days of a range by the precision of the Earth's radius they allow.
+
+    Every day is listed in --json; a day that breaks a constraint has rank
+    null and the reasons.
+    """
+    from firstrung.methods.shadows.plan import (
+        SOLAR_CAUTION,
+        calendar_bytes,
+        chosen_days,
+        run_plan_shadows,
+    )
+    from firstrung.methods.shadows.prediction import ShadowConstraints
+    from firstrung.methods.shadows.present_plan import shadow_plan_to_json
+    from firstrung.output import write_atomic
+
+    constraints = ShadowConstraints(
+        min_altitude_deg=min_altitude_deg,
+        max_shadow_m=max_shadow_m,
+        weekdays=parse_weekdays(weekdays),
+        excluded_dates=parse_dates(exclude or []),
+    )
+    run = run_plan_shadows(campaign, parse_date("--from", date_from), parse_date("--to", date_to), constraints)
+    days = chosen_days(run.plan, top)
+    if ics is not None:
+        write_atomic(ics, calendar_bytes(run, days), inputs=[campaign, *run.campaign.logs.get("shadows", ())])
+    data = shadow_plan_to_json(run)
+    if json_output:
+        print_json(data)
+        return
+    _render(data, run, days, SOLAR_CAUTION, ics)
+
+
+def _render(data: dict, run, days, caution: str, ics) -> None:
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    plan = run.plan
+    n_ranked = int((plan.rank > 0).sum())
+    out.print(
+        f"[bold]{escape(data['campaign'])}[/bold]: noon shadows, {data['from']} to {data['to']}; "
+        f"{n_ranked} of {len(plan.dates)} days work at every site"
+    )
+    out.print(f"  a perfect measurement at these sites gives {data['expected_radius_km']:.1f} km")
+    if run.skipped_sites:
+        out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
+    table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
+    table.add_column("rank", justify="right")
+    table.add_column("date")
+    table.add_column("sigma R (km)", justify="right")
+    few = len(plan.sites) <= 4
+    if few:
+        for s in plan.sites:
+            table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
+    table.add_column("note")
+    table.caption = "noon: local apparent noon (site's zone, or Z for UTC); alt: Sun's refracted altitude (deg); N/S: shadow direction"
+    for k in days:
+        row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
+        if few:
+            for j, _s in enumerate(plan.sites):
+                d = data["days"][k]["sites"][plan.sites[j].id]
+                clock = (d["transit_local"] or d["transit_utc"])[11:16]
+                zone = "" if d["transit_local"] else "Z"
+                row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
+        row.append(", ".join(plan.special[k]))
+        table.add_row(*row)
+    out.print(table)
+    reasons: dict[str, int] = {}
+    for e in plan.excluded:
+        for r in e:
+            key = r.split(" at ")[0] if r.startswith(("Sun only", "shadow")) else r
+            key = "Sun too low at noon" if key.startswith("Sun only") else key
+            key = "shadow longer than the board" if key.startswith("shadow") else key
+            key = "not a chosen weekday" if key.startswith("not a chosen weekday") else key
+            reasons[key] = reasons.get(key, 0) + 1
+    if reasons:
+        out.print("  days ruled out: " + "; ".join(f"{k} ({v})" for k, v in sorted(reasons.items())))
+    if ics is not None:
+        out.print(f"  calendar written: {escape(str(ics))} ({len(days)} days x {len(plan.sites)} sites)")
+    out.print(f"  Caution: {caution}")
+
+
+def register_reduce(group: typer.Typer) -> None:
+    """Add ``shadows`` to the ``reduce`` group."""
+    group.command("shadows")(handles_errors(reduce_shadows))
+
+
+def reduce_shadows(
+    campaign: CampaignArgument,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+    monte_carlo: Annotated[
+        int,
+        typer.Option(
+            "--monte-carlo",
+            min=0,
+            help="Also redo the reduction this many times with every input drawn from its errors, "
+            "and show the spread beside the linear sigma (0: off).",
+        ),
+    ] = 0,
+    seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
+    include_flagged: IncludeFlaggedOption = False,
+) -> None:
+    """The Earth's radius from noon gnomon shadows at two or more sites.
+
+    Exit status 2 when any row or file was refused (the result from the good
+    rows is still shown).
+    """
+    from firstrung.methods.shadows.present import shadow_run_to_json
+    from firstrung.methods.shadows.run import run_shadows
+
+    run = run_shadows(campaign, include_flagged=include_flagged)
+    data = shadow_run_to_json(run)
+    if monte_carlo:
+        from firstrung.methods.shadows.reduction import monte_carlo_radius
+        from firstrung.methods.shadows.run import baseline_inputs, site_inputs
+        from firstrung.uncertainty import interval_from_samples
+
+        readings = run.readings
+        samples = monte_carlo_radius(
+            site_inputs(run.campaign), readings, baseline_inputs(run.campaign), samples=monte_carlo, seed=seed
+        )
+        data["monte_carlo"] = {
+            "samples": monte_carlo,
+            "seed": seed,
+            "earth_radius_km": interval_from_samples(samples, "km").to_json(3),
+        }
+    if json_output:
+        print_json(data)
+    else:
+        render_shadows(data, verbose)
+    for note in run.notes:
+        print(f"firstrung: note: {note}", file=sys.stderr)
+    report_left_out(run.rows_left_out_flagged)
+    report_problems(run.problems)
+    if run.problems:
+        raise typer.Exit(2)
+
+
+def _pm(q: dict, digits: int = 1) -> str:
+    if q["sigma"] is None:
+        return f"{q['value']:.{digits}f}"
+    return f"{q['value']:.{digits}f}±{q['sigma']:.{digits}f}"
+
+
+def _interval(q: dict, digits: int = 0) -> str:
+    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
+    return f"{q['low']:.{digits}f} to {high}"
+
+
+def render_shadows(data: dict, verbose: bool) -> None:
+    """Rich tables for a shadow reduction."""
+    from rich import box
+    from rich.table import Table
+
+    out = console()
+    r = data["earth_radius_km"]
+    c = data["circumference_km"]
+    out.print(f"[bold]{_escape(data['campaign'])}[/bold]: Earth's radius from noon shadows")
+    out.print(f"  radius          {_pm(r, 0)} km   (68 % interval {_interval(r)} km)")
+    out.print(f"  circumference   {_pm(c, 0)} km   (68 % interval {_interval(c)} km)")
+    out.print(
+        f"  a perfect measurement at these sites gives {data['expected_radius_km']:.1f} km\n"
+        f"  (the WGS84 meridional radius over their span); IUGG mean radius {data['mean_radius_km']:.1f} km"
+    )
+    ratio = data["ratio_to_expected"]
+    z = (r["value"] - data["expected_radius_km"]) / r["sigma"] if r["sigma"] else float("nan")
+    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma)")
+    rows = data["rows"]
+    left = ", ".join(f"{v} {k}" for k, v in rows["left_out"].items() if v)
+    out.print(
+        f"  readings: {rows['read']} read, {rows['accepted']} accepted, {rows['used']} used"
+        + (f" ({left} left out)" if left else "")
+        + (f", {rows['refused']} refused" if rows["refused"] else "")
+    )
+    if data["outliers"]:
+        out.print(f"  outlying sites left out: {', '.join(data['outliers'])}")
+
+    table = Table(title="Sites", box=box.SIMPLE_HEAD, caption="Sun: the side of the zenith it culminates on; decl.: the Sun's at that site's own transit")
+    for col, just in (
+        ("site", "left"), ("day", "left"), ("culm. alt (deg)", "right"),
+        ("zenith (deg)", "right"), ("Sun", "left"), ("decl. (deg)", "right"),
+        ("astro. lat (deg)", "right"), ("sigma (deg)", "right"), ("resid. (')", "right"), ("clock (s)", "right"),
+    ):
+        table.add_column(col, justify=just, no_wrap=col in ("site", "day"))
+    for s in data["sites"]:
+        for k, d in enumerate(s["days"]):
+            lat = d["astronomical_latitude_deg"] if len(s["days"]) > 1 else s["astronomical_latitude_deg"]
+            table.add_row(
+                _escape(s["id"]) + (" (outlier)" if s["outlier"] and k == 0 else ""),
+                d["date"],
+                f"{d['culmination_altitude_deg']['value']:.3f}",
+                f"{d['zenith_distance_deg']['value']:.3f}",
+                d["sun_side"],
+                f"{d['declination_deg']:.4f}",
+                f"{lat['value']:.3f}",
+                f"{lat['sigma']:.3f}",
+                f"{s['residual_arcmin']:+.1f}" if k == 0 else "",
+                _pm(d["clock_offset_s"], 0),
+            )
+    out.print(table)
+
+    budget = Table(title="Error budget of the radius", box=box.SIMPLE_HEAD)
+    budget.add_column("input")
+    budget.add_column("sigma (km)", justify="right")
+    budget.add_column("share of variance", justify="right")
+    for t in data["error_budget"]:
+        budget.add_row(t["source"], f"{t['sigma_km']:.1f}", f"{t['share_percent']:.0f} %")
+    out.print(budget)
+    if data["limited_by"]:
+        out.print(f"  the result is limited most by: {data['limited_by']}")
+    if "monte_carlo" in data:
+        mc = data["monte_carlo"]["earth_radius_km"]
+        out.print(
+            f"  Monte Carlo ({data['monte_carlo']['samples']} draws): sigma {mc['sigma']:.1f} km, "
+            f"68 % interval {mc['low']:.0f} to {mc['high']:.0f} km"
+        )
+    if verbose:
+        noon = Table(title="Apparent noon by each site's clock")
+        for col in ("site", "day", "predicted transit (UTC)", "noon by the clock (UTC)", "implied longitude (deg)"):
+            noon.add_column(col)
+        for s in data["sites"]:
+            for d in s["days"]:
+                noon.add_row(
+                    _escape(s["id"]), d["date"], d["transit_utc"], d["apparent_noon_clock_utc"],
+                    _pm(d["implied_longitude_deg"], 3),
+                )
+        out.print(noon)
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+
+
+def _escape(text: str) -> str:
+    from rich.markup import escape
+
+    return escape(text)
+
+
+def register_simulate(group: typer.Typer) -> None:
+    """Add ``shadows`` to the ``simulate`` group."""
+    group.command("shadows")(handles_errors(simulate_shadows))
+
+
+def simulate_shadows(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    output: OutputOption,
+    seed: SeedOption = 1,
+    blunders: Annotated[
+        str | None,
+        typer.Option("--blunders", help="Mistakes to inject, comma-separated: clock, unit, longitude, edge, wild, "
+                     "duplicate (or 'all')."),
+    ] = None,
+) -> None:
+    """Shadow logs: every site with a gnomon, every 2 minutes around local apparent noon."""
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.shadows.rehearsal import LOG_COLUMNS, SHADOW_BLUNDERS, rehearsal_rows
+
+    first, last = simulation_range(date_from, date_to)
+    chosen = () if not blunders else (
+        tuple(SHADOW_BLUNDERS) if blunders.strip() == "all" else tuple(b.strip() for b in blunders.split(",") if b.strip())
+    )
+    rows = rehearsal_rows(read_campaign(campaign), first, last, seed, chosen)
+    write_simulated(campaign, "shadows", rows, LOG_COLUMNS, output, "shadow readings")
+    for b in chosen:
+        console().print(f"  blunder injected: {SHADOW_BLUNDERS[b]}")

@@ -1,0 +1,264 @@
+"""Planning a shadow campaign: which days work at every site, and how well.
+
+For every day of a range and every site, at once: the Sun's transit (local
+apparent noon), its altitude (airless, and refracted at standard conditions),
+the length of the marked shadow tip for that site's gnomon and edge, the
+penumbra's width and the shadow's direction. From the same error model the
+reduction uses (:func:`firstrung.methods.shadows.reduction.altitude_error_terms_rad`)
+each day gets the sigma of the Earth's radius the campaign can expect; days
+that break a constraint are kept with the reasons, and the rest are ranked.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from firstrung.constants import STANDARD_PRESSURE_HPA, STANDARD_TEMPERATURE_C
+from firstrung.errors import InputError
+from firstrung.methods.shadows.reduction import (
+    EDGE_LIMB_SIGN,
+    POSITION_SIGMA_KM,
+    SiteInput,
+    altitude_error_terms_rad,
+    north_south_positions,
+    penumbra_width_m,
+)
+from firstrung.refraction import apparent_from_true_altitude_deg, refraction_from_apparent_deg
+
+#: Readings a site takes around noon in the plan's error model: every 2 min
+#: from -30 to +30 min, as on the field sheet.
+READINGS_PER_SERIES = 31
+#: How well a clock is set before the readings [s] (to a time signal; common practice).
+CLOCK_SIGMA_S = 60.0
+WEEKDAY_NAMES = ("Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday")
+
+
+@dataclass(frozen=True)
+class PlanSite:
+    """A site as the planner needs it: place, zone and gnomon."""
+
+    id: str
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float
+    timezone: str | None
+    gnomon_height_m: float
+    gnomon_sigma_m: float
+    shadow_sigma_m: float
+    edge: str
+
+
+@dataclass(frozen=True)
+class ShadowConstraints:
+    """What rules a day out."""
+
+    min_altitude_deg: float = 20.0
+    max_shadow_m: float | None = None
+    weekdays: tuple[int, ...] | None = None  # 0 = Monday
+    excluded_dates: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ShadowPlan:
+    """Predictions for every (day, site), the expected sigma of the radius per day, and the ranking."""
+
+    dates: np.ndarray  # datetime64[D], (n_days,)
+    sites: tuple[PlanSite, ...]
+    transit_utc: np.ndarray  # (n_days, n_sites)
+    altitude_deg: np.ndarray  # refracted, standard conditions
+    altitude_airless_deg: np.ndarray
+    declination_deg: np.ndarray
+    shadow_m: np.ndarray
+    penumbra_m: np.ndarray
+    shadow_direction: np.ndarray  # "north" / "south" / "none"
+    sigma_latitude_deg: np.ndarray
+    sigma_terms_deg: dict
+    sigma_radius_km: np.ndarray  # (n_days,)
+    expected_radius_km: float
+    rank: np.ndarray  # (n_days,), 0 where excluded
+    excluded: tuple[tuple[str, ...], ...]
+    special: tuple[tuple[str, ...], ...]
+    constraints: ShadowConstraints
+    assumptions: tuple[str, ...] = field(default=())
+
+
+def shadow_length_m(gnomon_m, true_centre_altitude_deg, semidiameter_deg, edge,
+                    temperature_c=STANDARD_TEMPERATURE_C, pressure_hpa=STANDARD_PRESSURE_HPA):
+    """Length of the marked shadow tip on a level board [m].
+
+    The limb that casts the edge (upper for the umbra, lower for the outer
+    edge) is refracted with Bennett's formula inverted, then projected by the
+    gnomon.
+
+    >>> round(float(shadow_length_m(1.0, 45.0, 0.0, "middle")), 4)
+    0.9994
+    """
+    sign = np.vectorize(EDGE_LIMB_SIGN.__getitem__, otypes=[float])(np.asarray(edge, dtype=object))
+    limb = np.asarray(true_centre_altitude_deg, float) + sign * np.asarray(semidiameter_deg, float)
+    apparent = apparent_from_true_altitude_deg(np.clip(limb, -0.9, 90.0), temperature_c, pressure_hpa)
+    return np.asarray(gnomon_m, float) / np.tan(np.radians(apparent))
+
+
+def plan_shadows(
+    sites: tuple[PlanSite, ...],
+    first_date,
+    last_date,
+    constraints: ShadowConstraints = ShadowConstraints(),
+    baselines=(),
+) -> ShadowPlan:
+    """Predictions and the expected precision of the Earth's radius for every day of a range.
+
+    Parameters
+    ----------
+    sites : tuple of PlanSite
+        Two or more sites with gnomons.
+    first_date, last_date : str or datetime64[D]
+        The range, both ends included (civil dates at each site).
+    constraints : ShadowConstraints
+        Minimum noon altitude, board length, weekdays, excluded dates.
+    baselines : tuple of BaselineInput
+        Surveyed baselines (their sigma enters the expected precision).
+
+    Returns
+    -------
+    ShadowPlan
+
+    Examples
+    --------
+    >>> s = (PlanSite("a", "A", 41.0, 7.0, 0.0, None, 1.0, 0.001, 0.002, "umbra"),
+    ...      PlanSite("b", "B", 46.4, 7.0, 0.0, None, 1.0, 0.001, 0.002, "umbra"))
+    >>> p = plan_shadows(s, "2027-03-20", "2027-03-21")
+    >>> [int(r) for r in p.rank]
+    [2, 1]
+    """
+    from firstrung import ephemeris
+
+    if len(sites) < 2:
+        raise InputError(f"planning shadows needs two or more sites with a gnomon; got {len(sites)}")
+    first = np.datetime64(first_date, "D")
+    last = np.datetime64(last_date, "D")
+    if last < first:
+        raise InputError(f"--to {last} is before --from {first}")
+    dates = np.arange(first, last + np.timedelta64(1, "D"))
+    lat = np.array([s.latitude_deg for s in sites])
+    lon = np.array([s.longitude_deg for s in sites])
+    elev = np.array([s.elevation_m for s in sites])
+    h = np.array([s.gnomon_height_m for s in sites])
+    edge = np.array([s.edge for s in sites], dtype=object)
+    transit = ephemeris.solar_transit(dates[:, None], lat[None, :], lon[None, :], elev[None, :])
+    airless = transit.altitude_deg
+    semidiameter = transit.semidiameter_deg
+    apparent = apparent_from_true_altitude_deg(np.clip(airless, -0.9, 90.0), STANDARD_TEMPERATURE_C, STANDARD_PRESSURE_HPA)
+    edge_grid = np.broadcast_to(edge[None, :], airless.shape)
+    length = shadow_length_m(h[None, :], airless, semidiameter, edge_grid)
+    penumbra = penumbra_width_m(h[None, :], np.clip(airless, 1.0, 89.0), semidiameter)
+    declination = transit.declination_deg
+    direction = np.where(np.abs(lat[None, :] - declination) < 0.05, "none",
+                         np.where(lat[None, :] > declination, "north", "south"))
+    # expected sigma of each site's astronomical latitude [rad]
+    refraction = refraction_from_apparent_deg(apparent, STANDARD_TEMPERATURE_C, STANDARD_PRESSURE_HPA)
+    terms = altitude_error_terms_rad(
+        h[None, :], length, np.array([s.shadow_sigma_m for s in sites])[None, :],
+        np.array([s.gnomon_sigma_m for s in sites])[None, :], edge_grid, airless, semidiameter, refraction, False,
+    )
+    terms["shadow reading"] = terms["shadow reading"] / np.sqrt(READINGS_PER_SERIES)
+    declination_rate_rad_s = np.radians(0.4 / 86400.0) * np.abs(np.cos(np.radians(_sun_longitude_proxy(dates))))[:, None]
+    terms["declination drift"] = np.broadcast_to(declination_rate_rad_s * CLOCK_SIGMA_S, airless.shape)
+    sigma_lat = np.sqrt(sum(t**2 for t in terms.values()))
+    # the line latitude = a + k * position, k = 1/R, for every day at once
+    site_inputs = tuple(SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in sites)
+    positions = north_south_positions(site_inputs, tuple(baselines))
+    x = positions.position_km
+    map_cov = POSITION_SIGMA_KM**2 * positions.map_gain @ positions.map_gain.T
+    base_cov = (positions.baseline_gain * positions.baseline_sigma_km**2) @ positions.baseline_gain.T
+    w = 1.0 / sigma_lat**2
+    xbar = np.sum(w * x, axis=1, keepdims=True) / np.sum(w, axis=1, keepdims=True)
+    sxx = np.sum(w * (x - xbar) ** 2, axis=1, keepdims=True)
+    gain = w * (x - xbar) / sxx  # d(slope)/d(latitude_i)
+    # a perfect measurement: the same weighted line through the geodetic latitudes
+    slope = np.sum(gain * np.radians(lat)[None, :], axis=1)
+    var_slope = np.sum(gain**2 * sigma_lat**2, axis=1)
+    g_pos = -slope[:, None] * gain
+    var_slope = var_slope + np.einsum("di,ij,dj->d", g_pos, map_cov + base_cov, g_pos)
+    radius = 1.0 / slope
+    sigma_radius = radius**2 * np.sqrt(var_slope)
+    # constraints
+    excluded, special = _constraints_and_special_days(
+        dates, sites, apparent, length, declination, constraints
+    )
+    allowed = np.array([not e for e in excluded])
+    rank = np.zeros(dates.size, dtype=int)
+    order = np.argsort(np.where(allowed, sigma_radius, np.inf), kind="stable")
+    rank[order[: int(allowed.sum())]] = np.arange(1, int(allowed.sum()) + 1)
+    return ShadowPlan(
+        dates=dates,
+        sites=tuple(sites),
+        transit_utc=transit.time_utc,
+        altitude_deg=apparent,
+        altitude_airless_deg=airless,
+        declination_deg=declination,
+        shadow_m=length,
+        penumbra_m=penumbra,
+        shadow_direction=direction,
+        sigma_latitude_deg=np.degrees(sigma_lat),
+        sigma_terms_deg={k: np.degrees(v) for k, v in terms.items()},
+        sigma_radius_km=sigma_radius,
+        expected_radius_km=float(np.median(radius)),
+        rank=rank,
+        excluded=tuple(tuple(e) for e in excluded),
+        special=tuple(tuple(s) for s in special),
+        constraints=constraints,
+        assumptions=(
+            "altitude_deg and shadow_m: refracted at standard conditions (10 C, 1010 hPa)",
+            f"error model: {READINGS_PER_SERIES} readings a site around noon, the campaign's reading and gnomon "
+            "errors, edge placement, refraction and clock as in the reduction",
+        ),
+    )
+
+
+def _sun_longitude_proxy(dates):
+    """Mean longitude of the Sun [deg] (Meeus 1998 eq. 25.2, leading terms): enough for the rate of declination."""
+    days = (dates - np.datetime64("2000-01-01")).astype(float) + 0.5
+    return np.mod(280.46646 + 0.98564736 * days, 360.0)
+
+
+def _constraints_and_special_days(dates, sites, apparent, length, declination, c: ShadowConstraints):
+    from firstrung import ephemeris
+
+    excluded = [[] for _ in dates]
+    special = [[] for _ in dates]
+    excluded_set = {np.datetime64(d, "D") for d in c.excluded_dates}
+    weekday = (dates.astype(np.int64) + 3) % 7  # 1970-01-01 was a Thursday
+    low = apparent < c.min_altitude_deg
+    long = length > c.max_shadow_m if c.max_shadow_m is not None else np.zeros_like(low)
+    wrong_day = np.zeros(dates.size, bool) if c.weekdays is None else ~np.isin(weekday, c.weekdays)
+    ruled_out = np.isin(dates, np.array(sorted(excluded_set), dtype="datetime64[D]"))
+    for k in np.flatnonzero(low.any(axis=1) | long.any(axis=1) | wrong_day | ruled_out):  # text only where needed
+        for j in np.flatnonzero(low[k] | long[k]):
+            s = sites[j]
+            if low[k, j]:
+                excluded[k].append(f"Sun only {apparent[k, j]:.1f} deg high at noon at {s.id} (minimum {c.min_altitude_deg:g} deg)")
+            if long[k, j]:
+                excluded[k].append(f"shadow {length[k, j]:.2f} m at {s.id} is longer than the board ({c.max_shadow_m:g} m)")
+        if wrong_day[k]:
+            excluded[k].append(f"not a chosen weekday ({WEEKDAY_NAMES[int(weekday[k])]})")
+        if ruled_out[k]:
+            excluded[k].append("date excluded by the coordinator")
+    # equinoxes and solstices
+    t, names = ephemeris.equinoxes_and_solstices(dates[0].astype("datetime64[us]"),
+                                                 (dates[-1] + np.timedelta64(1, "D")).astype("datetime64[us]"))
+    for when, name in zip(t, names, strict=True):
+        k = int((when.astype("datetime64[D]") - dates[0]).astype(int))
+        if 0 <= k < dates.size:
+            special[k].append(str(name))
+    # the Sun at the zenith at a tropical site: the day the noon declination passes its latitude
+    lat = np.array([s.latitude_deg for s in sites])
+    diff = declination - lat[None, :]
+    crossing = np.sign(diff[1:]) != np.sign(diff[:-1])
+    for k, j in zip(*np.nonzero(crossing), strict=True):
+        day = k if abs(diff[k, j]) <= abs(diff[k + 1, j]) else k + 1
+        special[day].append(f"Sun at the zenith at noon at {sites[j].id}")
+    return excluded, special

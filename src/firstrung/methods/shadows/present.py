@@ -1,0 +1,75 @@
+"""JSON of the shadow reduction (``reduce shadows``)."""
+
+from __future__ import annotations
+
+from firstrung.jsonout import number as _num
+from firstrung.jsonout import quantity as _q
+from firstrung.jsonout import time_z as _time
+
+
+def shadow_run_to_json(run) -> dict:
+    """The ``reduce shadows`` result (see DESIGN section 4)."""
+    r = run.reduction
+    sites = []
+    for s in r.sites:
+        sites.append(
+            {
+                "id": s.id,
+                "name": s.name,
+                "latitude_deg": s.latitude_deg,
+                "longitude_deg": s.longitude_deg,
+                "north_south_km": _num(s.north_south_km, 3),
+                "astronomical_latitude_deg": _q(s.astronomical_latitude_deg),
+                "residual_arcmin": _num(s.residual_arcmin, 3),
+                "normalized_residual": _num(s.normalized_residual, 3),
+                "outlier": s.outlier,
+                "days": [
+                    {
+                        "date": d.date,
+                        "readings": d.readings,
+                        "transit_utc": _time(d.transit_utc),
+                        "declination_deg": _num(d.declination_deg, 6),
+                        "culmination_altitude_deg": _q(d.culmination_altitude_deg),
+                        "zenith_distance_deg": _q(d.zenith_distance_deg),
+                        "sun_side": d.sun_side,
+                        "astronomical_latitude_deg": _q(d.latitude_deg),
+                        "clock_offset_s": _q(d.clock_offset_s),
+                        "apparent_noon_clock_utc": _time(d.apparent_noon_clock_utc),
+                        "implied_longitude_deg": _q(d.implied_longitude_deg),
+                        "chi2_per_dof": _num(d.chi2_per_dof, 3),
+                    }
+                    for d in s.series
+                ],
+            }
+        )
+    total = sum(t.sigma**2 for t in r.budget)
+    return {
+        "campaign": run.campaign.name,
+        "method": "noon gnomon shadows: astronomical latitude against north-south arc",
+        "earth_radius_km": _q(r.earth_radius_km),
+        "circumference_km": _q(r.circumference_km),
+        "expected_radius_km": _num(r.expected_radius_km, 3),
+        "meridional_radius_mid_latitude_km": _num(r.meridional_radius_mid_km, 3),
+        "mean_radius_km": _num(r.mean_radius_km, 4),
+        "ratio_to_expected": _num(r.earth_radius_km.value / r.expected_radius_km, 5),
+        "sites": sites,
+        "outliers": list(r.outliers),
+        "error_budget": [
+            {"source": t.source, "sigma_km": _num(t.sigma, 2), "share_percent": _num(100 * t.share(total), 1)}
+            for t in r.budget
+        ],
+        "limited_by": r.budget[0].source if r.budget else None,
+        "rows": {
+            "read": run.rows_read,
+            "accepted": run.rows_accepted,
+            "used": r.readings_used,
+            "refused": len(run.problems),
+            "left_out_flagged": run.rows_left_out_flagged,
+            "left_out": r.readings_left_out,
+        },
+        "problems": [str(p) for p in run.problems],
+        "notes": list(run.notes),
+        "chi2_per_dof": _num(r.chi2_per_dof, 3),
+        "assumptions": list(r.assumptions),
+        "propagation": r.propagation,
+    }

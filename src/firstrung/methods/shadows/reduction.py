@@ -1,0 +1,969 @@
+"""Noon gnomon shadows at separated sites: the Earth's radius.
+
+The classical method (Eratosthenes, c. 240 BC): at local apparent noon the
+Sun's zenith distance differs between two sites on one meridian by the angle
+their verticals make at the Earth's centre, so the north-south distance
+between them divided by that angle is the Earth's radius.
+
+The reduction, one small step per function:
+
+1. each shadow length L of a gnomon of height h gives the apparent altitude
+   of the marked edge, ``atan2(h, L)`` (:func:`edge_altitude_deg`);
+2. refraction is removed from that ray (Bennett 1982, with the row's or the
+   standard atmosphere at the site's elevation), and the marked edge moved to
+   the Sun's centre by the semi-diameter of the date: the sharp umbra edge is
+   cast by the Sun's upper limb, the faint outer edge by the lower limb
+   (:func:`centre_altitude_deg`);
+3. the readings of one site and day are fitted, by Gauss-Newton on all
+   series at once, for the site's astronomical latitude and its clock offset,
+   with the Sun's hour angle and declination from the ephemeris at each
+   reading (so the declination is the one at *that site's* transit, and the
+   Sun's side, north or south of the zenith, comes out of the spherical
+   formula itself) (:func:`fit_series`);
+4. the astronomical latitudes are regressed on the sites' north-south arc
+   positions on WGS84 (or on surveyed baselines): the slope is 1/R
+   (:func:`fit_radius`), with a leave-one-out test that names outlying sites.
+
+Uncertainties are propagated linearly from every input (reading error,
+gnomon height, edge location, refraction, clock, positions and baselines)
+and split into an error budget; :func:`monte_carlo_radius` draws the same
+inputs and redoes the whole reduction, as a check of the linear propagation.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from firstrung.constants import IUGG_MEAN_RADIUS_KM, STANDARD_TEMPERATURE_C
+from firstrung.errors import ComputationError, InputError
+from firstrung.geodesy import (
+    baseline_north_south_km,
+    geodesic_inverse,
+    meridian_arc_m,
+    meridional_radius_of_curvature_km,
+)
+from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
+from firstrung.uncertainty import (
+    BudgetTerm,
+    Measured,
+    budget_from_contributions,
+    reciprocal_of_gaussian,
+)
+
+#: Signed multiple of the Sun's semi-diameter from the Sun's centre to the ray
+#: that casts each marked edge: the umbra tip comes from the upper limb.
+EDGE_LIMB_SIGN = {"umbra": 1.0, "middle": 0.0, "outer": -1.0}
+#: One-sigma error of placing each kind of edge, as a fraction of the penumbra
+#: width on the board (common practice: the eye finds the dark edge of a soft
+#: shadow to about a tenth of the penumbra, its middle and faint edge worse).
+EDGE_LOCATION_FRACTION = {"umbra": 0.10, "middle": 0.15, "outer": 0.25}
+#: Relative one-sigma error of the refraction with standard conditions assumed:
+#: unknown weather (+/- 15 K, +/- 25 hPa) changes it by about 6 %, and
+#: Bennett's formula itself is good to about 1 % above 15 deg (common practice).
+REFRACTION_SIGMA_FRACTION_STANDARD = 0.06
+#: The same when the log gives the temperature and pressure (common practice).
+REFRACTION_SIGMA_FRACTION_MEASURED = 0.02
+#: Prior one-sigma of a clock's offset [s]: weak, it only matters when the
+#: readings cannot show where noon fell (one reading, or all on one side).
+CLOCK_PRIOR_SIGMA_S = 600.0
+#: One-sigma error of a site's north-south position taken from its
+#: coordinates [km] (a map or a phone receiver, common practice).
+POSITION_SIGMA_KM = 0.05
+#: Readings are used when the Sun is at least this high [deg] and this near
+#: noon [h]; others are left out and counted.
+MIN_ALTITUDE_DEG = 5.0
+MAX_HOUR_ANGLE_H = 3.0
+#: A site whose leave-one-out residual exceeds this many sigma is named an
+#: outlier and left out (only with four or more sites).
+OUTLIER_THRESHOLD_SIGMA = 3.5
+#: Probability below which the sites' scatter about the line is taken as real
+#: and the radius's sigma scaled up (a 5 % test, common practice).
+SCATTER_SIGNIFICANCE = 0.05
+#: Gauss-Newton iterations of the series fit (converges in 3-4).
+_FIT_ITERATIONS = 8
+
+BUDGET_SOURCES = (
+    "shadow reading",
+    "clock",
+    "gnomon height",
+    "edge location",
+    "refraction",
+    "site positions",
+    "baselines",
+)
+
+
+# --- inputs ---------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ShadowReadings:
+    """Shadow readings ready for reduction: one entry per reading, plain arrays.
+
+    ``site_index`` points into the ``sites`` tuple given to :func:`reduce_shadows`.
+    """
+
+    site_index: np.ndarray
+    time_utc: np.ndarray
+    shadow_m: np.ndarray
+    gnomon_m: np.ndarray
+    edge: np.ndarray
+    shadow_sigma_m: np.ndarray
+    gnomon_sigma_m: np.ndarray
+    temperature_c: np.ndarray
+    pressure_hpa: np.ndarray
+
+    def __len__(self) -> int:
+        return int(np.size(self.shadow_m))
+
+
+@dataclass(frozen=True)
+class SiteInput:
+    """What the reduction needs to know of a site."""
+
+    id: str
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float
+
+
+@dataclass(frozen=True)
+class BaselineInput:
+    """A surveyed distance between two sites (indices into the sites tuple)."""
+
+    first: int
+    second: int
+    distance_km: float
+    sigma_km: float
+    bearing_deg: float | None
+
+
+# --- step 1 and 2: from a length to the Sun's centre --------------------------------------
+
+
+def edge_altitude_deg(gnomon_m, shadow_m):
+    """Apparent altitude of the ray that casts the marked shadow tip [deg].
+
+    >>> round(float(edge_altitude_deg(1.0, 1.0)), 6)
+    45.0
+    """
+    return np.degrees(np.arctan2(np.asarray(gnomon_m, float), np.asarray(shadow_m, float)))
+
+
+def penumbra_width_m(gnomon_m, altitude_deg, semidiameter_deg):
+    """Width of the penumbra on a level board [m]: the lower limb's tip minus the upper limb's.
+
+    >>> round(float(penumbra_width_m(1.0, 20.0, 0.2667)), 4)
+    0.0796
+    """
+    h = np.asarray(gnomon_m, float)
+    a = np.radians(np.asarray(altitude_deg, float))
+    s = np.radians(np.asarray(semidiameter_deg, float))
+    return h * (1.0 / np.tan(a - s) - 1.0 / np.tan(a + s))
+
+
+def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c, pressure_hpa):
+    """True (airless) altitude of the Sun's centre from the marked edge's apparent altitude [deg].
+
+    Refraction is removed from the ray of the limb that casts the edge, then
+    the limb is moved to the centre by the semi-diameter.
+
+    >>> round(float(centre_altitude_deg(45.0, "middle", 0.2667, 10.0, 1010.0)), 4)
+    44.9834
+    """
+    sign = _per_edge(edge, EDGE_LIMB_SIGN)
+    refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa)
+    return np.asarray(edge_apparent_deg) - refraction - sign * np.asarray(semidiameter_deg)
+
+
+def altitude_error_terms_rad(
+    gnomon_m, shadow_m, shadow_sigma_m, gnomon_sigma_m, edge, altitude_deg, semidiameter_deg,
+    refraction_deg, measured_weather,
+) -> dict[str, np.ndarray]:
+    """One-sigma error of the Sun's centre altitude from each input, per reading [rad].
+
+    ``shadow reading``: ``h sigma_L / (h^2 + L^2)``; ``gnomon height``:
+    ``L sigma_h / (h^2 + L^2)``; ``edge location``: the observer's placement
+    error, a fraction of the penumbra width (:data:`EDGE_LOCATION_FRACTION`),
+    seen from the gnomon's tip; ``refraction``: a fraction of the refraction
+    (:data:`REFRACTION_SIGMA_FRACTION_STANDARD` or ``_MEASURED``). The
+    reduction and the planner share these terms.
+
+    >>> t = altitude_error_terms_rad(1.0, 1.0, 0.002, 0.001, "umbra", 45.0, 0.2667, 0.0165, False)
+    >>> round(float(t["shadow reading"]) * 206264.8, 1)
+    206.3
+    """
+    h = np.asarray(gnomon_m, float)
+    length = np.asarray(shadow_m, float)
+    denom = h**2 + length**2
+    fraction = _per_edge(edge, EDGE_LOCATION_FRACTION)
+    width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg)
+    refraction_fraction = np.where(
+        measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD
+    )
+    return {
+        "shadow reading": h * np.asarray(shadow_sigma_m, float) / denom,
+        "gnomon height": length * np.asarray(gnomon_sigma_m, float) / denom,
+        "edge location": h * fraction * np.abs(width) / denom,
+        "refraction": np.radians(refraction_fraction * np.asarray(refraction_deg, float)),
+    }
+
+
+def _per_edge(edge, table: dict) -> np.ndarray:
+    """Look up a number per reading from its edge name, without a loop over readings."""
+    edge = np.asarray(edge, dtype=object)
+    names, inverse = np.unique(edge.astype(str), return_inverse=True)
+    unknown = [n for n in names if n not in table]
+    if unknown:
+        raise InputError(f"edge: expected one of {', '.join(table)}, got {unknown[0]!r}")
+    return np.array([table[n] for n in names], dtype=float)[inverse].reshape(edge.shape)
+
+
+# --- step 3: one site and day ---------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SeriesFit:
+    """Fitted astronomical latitude and clock correction of each series (site and day)."""
+
+    latitude_rad: np.ndarray
+    clock_correction_s: np.ndarray  # seconds to ADD to the logged times
+    covariance: np.ndarray  # shape (n_series, 2, 2) in (rad, s)
+    chi2: np.ndarray
+    count: np.ndarray
+    gain_latitude: np.ndarray  # per reading: d(latitude)/d(altitude of that reading)
+    latitude_information: np.ndarray  # the latitude's normal-equation entry: 1/variance with the clock known
+
+
+def _altitude_model(lat, dec, ha):
+    sin_alt = np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)
+    return np.arcsin(np.clip(sin_alt, -1.0, 1.0))
+
+
+def fit_series(
+    group,
+    n_groups,
+    altitude_rad,
+    sigma_rad,
+    declination_rad,
+    hour_angle_rad,
+    declination_rate_rad_s,
+    hour_angle_rate_rad_s,
+    latitude_guess_rad,
+    clock_prior_sigma_s=CLOCK_PRIOR_SIGMA_S,
+) -> SeriesFit:
+    """Fit latitude and clock correction for every series at once (Gauss-Newton).
+
+    Model of reading k of series g: ``sin a_k = sin(phi) sin(dec) + cos(phi)
+    cos(dec) cos(H)`` with ``dec = dec_k + dec'_k u`` and ``H = H_k + H'_k u``,
+    u the clock correction of the series. The parameter arrays may carry a
+    leading axis of samples (Monte Carlo): ``altitude_rad`` of shape (S, n).
+
+    Parameters
+    ----------
+    group : int array (n,)
+        Series of each reading, 0..n_groups-1.
+    altitude_rad, sigma_rad : arrays (..., n)
+        True altitude of the Sun's centre and its reading error [rad].
+    declination_rad, hour_angle_rad : arrays (n,)
+        Apparent topocentric declination and hour angle at the logged time [rad].
+    declination_rate_rad_s, hour_angle_rate_rad_s : arrays (n,)
+        Their rates [rad/s].
+    latitude_guess_rad : array (n_groups,)
+        Starting latitude, which also picks the side of the Sun (the site's
+        geodetic latitude).
+
+    Returns
+    -------
+    SeriesFit
+    """
+    alt = np.atleast_2d(altitude_rad)
+    n_samples = alt.shape[0]
+    weight = 1.0 / np.broadcast_to(sigma_rad, alt.shape) ** 2
+    lat = np.broadcast_to(latitude_guess_rad, (n_samples, n_groups)).copy()
+    u = np.zeros((n_samples, n_groups))
+    flat = (np.arange(n_samples)[:, None] * n_groups + group[None, :]).ravel()
+    size = n_samples * n_groups
+    prior = 1.0 / clock_prior_sigma_s**2
+
+    def sums(values):
+        return np.bincount(flat, weights=values.ravel(), minlength=size).reshape(n_samples, n_groups)
+
+    def normal_terms(lat, u):
+        """Residuals, partial derivatives and normal-equation sums at (lat, u)."""
+        lat_k = lat[:, group]
+        u_k = u[:, group]
+        dec = declination_rad + declination_rate_rad_s * u_k
+        ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
+        model = _altitude_model(lat_k, dec, ha)
+        cos_alt = np.maximum(np.cos(model), 1e-9)
+        d_lat = (np.cos(lat_k) * np.sin(dec) - np.sin(lat_k) * np.cos(dec) * np.cos(ha)) / cos_alt
+        d_dec = (np.sin(lat_k) * np.cos(dec) - np.cos(lat_k) * np.sin(dec) * np.cos(ha)) / cos_alt
+        d_ha = -np.cos(lat_k) * np.cos(dec) * np.sin(ha) / cos_alt
+        d_u = d_ha * hour_angle_rate_rad_s + d_dec * declination_rate_rad_s
+        r = alt - model
+        n11 = sums(weight * d_lat * d_lat)
+        n12 = sums(weight * d_lat * d_u)
+        n22 = sums(weight * d_u * d_u) + prior
+        return r, d_lat, d_u, n11, n12, n22
+
+    for _ in range(_FIT_ITERATIONS):
+        r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
+        b1 = sums(weight * d_lat * r)
+        b2 = sums(weight * d_u * r) - prior * u
+        det = n11 * n22 - n12**2
+        lat = lat + (n22 * b1 - n12 * b2) / det
+        u = u + (n11 * b2 - n12 * b1) / det
+    # final model, residuals and covariance
+    r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
+    det = n11 * n22 - n12**2
+    cov = np.stack([np.stack([n22, -n12], -1), np.stack([-n12, n11], -1)], -2) / det[..., None, None]
+    # gain: d(latitude)/d(altitude_k) = row of C J^T W for the latitude parameter
+    c11 = (n22 / det)[:, group]
+    c12 = (-n12 / det)[:, group]
+    gain = (c11 * d_lat + c12 * d_u) * weight
+    chi2 = sums(weight * r**2) + prior * u**2
+    count = np.bincount(group, minlength=n_groups)
+    squeeze = np.ndim(altitude_rad) == 1
+    pick = (lambda a: a[0]) if squeeze else (lambda a: a)
+    return SeriesFit(pick(lat), pick(u), pick(cov), pick(chi2), count, pick(gain), pick(n11))
+
+
+# --- step 4: the radius from latitudes and positions --------------------------------------------
+
+
+@dataclass(frozen=True)
+class LineFit:
+    """Weighted line latitude = intercept + slope * position (slope = 1/R)."""
+
+    intercept_rad: float
+    slope_rad_per_km: float
+    covariance: np.ndarray
+    gain_slope: np.ndarray  # d(slope)/d(latitude_i)
+    chi2: float
+    dof: int
+
+
+def fit_line(position_km, latitude_rad, variance_rad2) -> LineFit:
+    """Weighted least-squares line through (position, latitude) with independent errors.
+
+    >>> f = fit_line(np.array([0.0, 100.0]), np.array([0.0, 100 / 6371.0]), np.array([1e-8, 1e-8]))
+    >>> round(1 / f.slope_rad_per_km, 3)
+    6371.0
+    """
+    x = np.asarray(position_km, float)
+    y = np.asarray(latitude_rad, float)
+    w = 1.0 / np.asarray(variance_rad2, float)
+    design = np.stack([np.ones_like(x), x], axis=1)
+    normal = design.T @ (w[:, None] * design)
+    cov = np.linalg.inv(normal)
+    operator = cov @ (design.T * w)
+    params = operator @ y
+    resid = y - design @ params
+    chi2 = float(np.sum(w * resid**2))
+    return LineFit(float(params[0]), float(params[1]), cov, operator[1], chi2, len(x) - 2)
+
+
+# --- positions along the meridian -------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Positions:
+    """North-south positions of the sites [km] and their error operators."""
+
+    position_km: np.ndarray
+    map_gain: np.ndarray  # d(position_i)/d(map observation j), map observations have POSITION_SIGMA_KM
+    baseline_gain: np.ndarray  # d(position_i)/d(baseline b)
+    baseline_sigma_km: np.ndarray
+    surveyed: np.ndarray  # bool: site position tied to a baseline
+
+
+def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[BaselineInput, ...]) -> Positions:
+    """Positions of the sites along the meridian, the map's replaced by surveyed baselines.
+
+    Sites joined by baselines form groups; inside a group only the baselines
+    give relative positions (least squares if they form loops) and the group
+    is placed by its first site's map position. The north-south part of a
+    baseline is ``distance * cos(bearing)``; without a bearing, the map's
+    bearing between the two sites is used.
+    """
+    n = len(sites)
+    lat = np.array([s.latitude_deg for s in sites])
+    map_km = meridian_arc_m(lat) / 1000.0
+    parent = list(range(n))
+
+    def root(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    rows, values, sigmas, kinds = [], [], [], []
+    for b in baselines:
+        if b.bearing_deg is not None:
+            ns = float(baseline_north_south_km(b.distance_km, b.bearing_deg))
+        else:
+            s1, s2 = sites[b.first], sites[b.second]
+            map_distance, azimuth, _ = geodesic_inverse(s1.latitude_deg, s1.longitude_deg, s2.latitude_deg, s2.longitude_deg)
+            ns = b.distance_km * (map_km[b.second] - map_km[b.first]) / float(map_distance)
+        row = np.zeros(n)
+        row[b.second], row[b.first] = 1.0, -1.0
+        rows.append(row)
+        values.append(ns)
+        sigmas.append(max(b.sigma_km, 1e-6))
+        kinds.append("baseline")
+        parent[root(b.first)] = root(b.second)
+    anchors = [i for i in range(n) if all(root(j) != root(i) for j in range(i))]
+    for i in anchors:
+        row = np.zeros(n)
+        row[i] = 1.0
+        rows.append(row)
+        values.append(map_km[i])
+        sigmas.append(POSITION_SIGMA_KM)
+        kinds.append("map")
+    design = np.array(rows)
+    w = 1.0 / np.array(sigmas) ** 2
+    normal = design.T @ (w[:, None] * design)
+    operator = np.linalg.solve(normal, design.T * w)
+    position = operator @ np.array(values)
+    kinds_a = np.array(kinds)
+    map_gain = np.zeros((n, n))
+    map_gain[:, anchors] = operator[:, kinds_a == "map"]
+    surveyed = np.zeros(n, bool)
+    for b in baselines:
+        surveyed[b.first] = surveyed[b.second] = True
+    return Positions(
+        position_km=position,
+        map_gain=map_gain,
+        baseline_gain=operator[:, kinds_a == "baseline"],
+        baseline_sigma_km=np.array([s for s, k in zip(sigmas, kinds, strict=True) if k == "baseline"]),
+        surveyed=surveyed,
+    )
+
+
+# --- results -----------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SeriesResult:
+    """One site on one day."""
+
+    site_id: str
+    date: str
+    readings: int
+    transit_utc: np.datetime64
+    declination_deg: float
+    latitude_deg: Measured
+    culmination_altitude_deg: Measured
+    zenith_distance_deg: Measured
+    sun_side: str
+    clock_offset_s: Measured
+    apparent_noon_clock_utc: np.datetime64
+    implied_longitude_deg: Measured
+    chi2_per_dof: float | None
+    budget_rad: dict
+
+
+@dataclass(frozen=True)
+class SiteResult:
+    """One site: its series combined, its place on the fitted line."""
+
+    id: str
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    north_south_km: float
+    astronomical_latitude_deg: Measured
+    residual_arcmin: float
+    normalized_residual: float
+    outlier: bool
+    series: tuple[SeriesResult, ...]
+
+
+@dataclass(frozen=True)
+class ShadowReduction:
+    """The Earth's radius from noon shadows, with everything it rests on."""
+
+    earth_radius_km: Measured
+    circumference_km: Measured
+    expected_radius_km: float
+    mean_radius_km: float
+    meridional_radius_mid_km: float
+    sites: tuple[SiteResult, ...]
+    budget: tuple[BudgetTerm, ...]
+    outliers: tuple[str, ...]
+    readings_used: int
+    readings_left_out: dict
+    chi2_per_dof: float | None
+    scatter_scale: float
+    assumptions: tuple[str, ...]
+    propagation: str = "linear (first-order) propagation of every input; see monte_carlo_radius"
+
+
+# --- the whole reduction -----------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class _Prepared:
+    """Everything computed once from the readings: ephemeris values, nominal altitudes, sensitivities."""
+
+    sites: tuple[SiteInput, ...]
+    baselines: tuple[BaselineInput, ...]
+    readings: ShadowReadings
+    keep: np.ndarray
+    left_out: dict
+    group: np.ndarray
+    group_site: np.ndarray
+    group_date: np.ndarray
+    altitude_rad: np.ndarray
+    sigma_reading_rad: np.ndarray
+    dalt_dgnomon_rad_per_m: np.ndarray
+    edge_sigma_rad: np.ndarray
+    refraction_sigma_rad: np.ndarray
+    declination_rad: np.ndarray
+    hour_angle_rad: np.ndarray
+    declination_rate: np.ndarray
+    hour_angle_rate: np.ndarray
+    semidiameter_deg: np.ndarray
+    refraction_deg: np.ndarray
+
+
+def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
+    from firstrung import ephemeris
+
+    n = len(readings)
+    if n == 0:
+        raise ComputationError("no shadow readings to reduce")
+    idx = np.asarray(readings.site_index, int)
+    lat = np.array([s.latitude_deg for s in sites])[idx]
+    lon = np.array([s.longitude_deg for s in sites])[idx]
+    elev = np.array([s.elevation_m for s in sites])[idx]
+    track = ephemeris.sun_track(readings.time_utc, lat, lon, elev)
+    pos = track.position
+    temperature = np.where(np.isfinite(readings.temperature_c), readings.temperature_c, STANDARD_TEMPERATURE_C)
+    measured_weather = np.isfinite(readings.pressure_hpa)
+    pressure = np.where(measured_weather, readings.pressure_hpa, standard_pressure_hpa(elev))
+    h = np.asarray(readings.gnomon_m, float)
+    length = np.asarray(readings.shadow_m, float)
+    edge_app = edge_altitude_deg(h, length)
+    refr = refraction_from_apparent_deg(edge_app, temperature, pressure)
+    altitude_deg = centre_altitude_deg(edge_app, readings.edge, pos.semidiameter_deg, temperature, pressure)
+    # which readings the method can use
+    left_out = {}
+    low = pos.altitude_deg < MIN_ALTITUDE_DEG
+    far = np.abs(pos.hour_angle_deg) > MAX_HOUR_ANGLE_H * 15.0
+    left_out["sun below 5 deg"] = int(np.sum(low))
+    left_out["more than 3 h from noon"] = int(np.sum(far & ~low))
+    keep = ~low & ~far
+    terms = altitude_error_terms_rad(
+        h, length, readings.shadow_sigma_m, readings.gnomon_sigma_m, readings.edge,
+        pos.altitude_deg, pos.semidiameter_deg, refr, measured_weather,
+    )
+    sigma_reading = terms["shadow reading"]
+    dalt_dgnomon = length / (h**2 + length**2)
+    edge_sigma = terms["edge location"]
+    refraction_sigma = terms["refraction"]
+    # series: site and UTC date of the local noon (longitude shifts the civil day)
+    local_day = (
+        readings.time_utc.astype("datetime64[ms]")
+        + (np.round(lon / 15.0 * 3600e3).astype(np.int64)).astype("timedelta64[ms]")
+    ).astype("datetime64[D]")
+    day_number = local_day.astype(np.int64)
+    first_day = int(day_number.min())
+    span = int(day_number.max()) - first_day + 1
+    keys_kept = (idx * span + (day_number - first_day))[keep]
+    if keys_kept.size == 0:
+        raise ComputationError("no shadow reading has the Sun above 5 deg within 3 h of noon")
+    unique_keys, group = np.unique(keys_kept, return_inverse=True)
+    group_site = unique_keys // span
+    group_date = (unique_keys % span + first_day).astype("datetime64[D]")
+    return _Prepared(
+        sites=sites,
+        baselines=baselines,
+        readings=readings,
+        keep=keep,
+        left_out=left_out,
+        group=group,
+        group_site=group_site,
+        group_date=group_date,
+        altitude_rad=np.radians(altitude_deg[keep]),
+        sigma_reading_rad=sigma_reading[keep],
+        dalt_dgnomon_rad_per_m=dalt_dgnomon[keep],
+        edge_sigma_rad=edge_sigma[keep],
+        refraction_sigma_rad=refraction_sigma[keep],
+        declination_rad=np.radians(pos.declination_deg[keep]),
+        hour_angle_rad=np.radians(pos.hour_angle_deg[keep]),
+        declination_rate=np.radians(track.declination_rate_deg_per_s[keep]),
+        hour_angle_rate=np.radians(track.hour_angle_rate_deg_per_s[keep]),
+        semidiameter_deg=pos.semidiameter_deg[keep],
+        refraction_deg=refr[keep],
+    )
+
+
+def _fit(prep: _Prepared, altitude_rad) -> SeriesFit:
+    lat_guess = np.radians(np.array([prep.sites[i].latitude_deg for i in prep.group_site]))
+    return fit_series(
+        prep.group,
+        len(prep.group_site),
+        altitude_rad,
+        prep.sigma_reading_rad,
+        prep.declination_rad,
+        prep.hour_angle_rad,
+        prep.declination_rate,
+        prep.hour_angle_rate,
+        lat_guess,
+    )
+
+
+def _group_sum(group, n, values):
+    return np.bincount(group, weights=values, minlength=n)
+
+
+def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
+    """Per site: weighted mean of its series' latitudes, and the 1-sigma contribution of each source.
+
+    Gnomon height and edge location are taken as common to all series of a
+    site (same instrument, same eye); reading and refraction errors as
+    independent between days.
+    """
+    n_groups = len(prep.group_site)
+    gain = fit.gain_latitude
+    # per series: contribution of each source to the latitude (rad); the readings' own scatter
+    # with the clock known, and what not knowing the clock adds (the fit solves for both)
+    reading = np.sqrt(1.0 / fit.latitude_information) * scale
+    clock = np.sqrt(np.maximum(fit.covariance[:, 0, 0] - 1.0 / fit.latitude_information, 0.0)) * scale
+    gnomon = np.abs(_group_sum(prep.group, n_groups, gain * prep.dalt_dgnomon_rad_per_m * _gnomon_sigma(prep)))
+    edge = np.abs(_group_sum(prep.group, n_groups, gain * prep.edge_sigma_rad))
+    refraction = np.abs(_group_sum(prep.group, n_groups, gain * prep.refraction_sigma_rad))
+    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2)
+    n_sites = len(prep.sites)
+    w = 1.0 / total**2
+    wsum = _group_sum(prep.group_site, n_sites, w)
+    present = wsum > 0
+    frac = w / np.where(present, wsum, 1.0)[prep.group_site]
+    latitude = _group_sum(prep.group_site, n_sites, frac * fit.latitude_rad)
+    contributions = {
+        "shadow reading": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * reading) ** 2)),
+        "clock": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * clock) ** 2)),
+        "gnomon height": _group_sum(prep.group_site, n_sites, frac * gnomon),
+        "edge location": _group_sum(prep.group_site, n_sites, frac * edge),
+        "refraction": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * refraction) ** 2)),
+    }
+    per_series = {"shadow reading": reading, "clock": clock, "gnomon height": gnomon, "edge location": edge,
+                  "refraction": refraction}
+    return present, latitude, contributions, per_series, total
+
+
+def _gnomon_sigma(prep: _Prepared):
+    return np.asarray(prep.readings.gnomon_sigma_m, float)[prep.keep]
+
+
+def _leave_one_out(position, latitude, variance, active):
+    """Normalized leave-one-out residual of each active site (NaN where it cannot be formed)."""
+    out = np.full(len(position), np.nan)
+    idx = np.flatnonzero(active)
+    if idx.size < 4:
+        return out
+    for i in idx:  # one small fit per site: a handful of sites, not a hot path
+        others = idx[idx != i]
+        f = fit_line(position[others], latitude[others], variance[others])
+        x = np.array([1.0, position[i]])
+        predicted = f.intercept_rad + f.slope_rad_per_km * position[i]
+        var = variance[i] + x @ f.covariance @ x
+        out[i] = (latitude[i] - predicted) / np.sqrt(var)
+    return out
+
+
+def reduce_shadows(
+    sites: tuple[SiteInput, ...],
+    readings: ShadowReadings,
+    baselines: tuple[BaselineInput, ...] = (),
+) -> ShadowReduction:
+    """The Earth's radius from noon shadow readings at two or more sites.
+
+    Parameters
+    ----------
+    sites : tuple of SiteInput
+        The campaign's sites; ``readings.site_index`` points into it.
+    readings : ShadowReadings
+        Every reading, with its gnomon, edge, errors and weather.
+    baselines : tuple of BaselineInput
+        Surveyed distances that replace the map's.
+
+    Returns
+    -------
+    ShadowReduction
+
+    Raises
+    ------
+    ComputationError
+        Fewer than two sites with usable readings, or no north-south spread.
+    """
+    prep = _prepare(tuple(sites), tuple(baselines), readings)
+    fit = _fit(prep, prep.altitude_rad)
+    chi2_dof, scale = _series_scatter_scale(fit)
+    present, latitude, contributions, per_series, total = _combine_sites(prep, fit, scale)
+    if np.sum(present) < 2:
+        raise ComputationError("need usable shadow readings from at least two sites; got " + str(int(np.sum(present))))
+    positions = north_south_positions(prep.sites, prep.baselines)
+    site_variance = sum(c**2 for c in contributions.values())
+    active = present.copy()
+    outliers: list[int] = []
+    while True:
+        z = _leave_one_out(positions.position_km, latitude, site_variance, active)
+        worst = int(np.nanargmax(np.abs(z))) if np.any(np.isfinite(z)) else -1
+        if worst < 0 or abs(z[worst]) <= OUTLIER_THRESHOLD_SIGMA:
+            break
+        active[worst] = False
+        outliers.append(worst)
+    result = _radius_from(prep, positions, latitude, contributions, active)
+    line, radius, budget, chi2_scale, expected = result
+    spread = np.ptp(positions.position_km[active])
+    if spread < 1.0:
+        raise ComputationError("the sites are less than 1 km apart north-south; the method needs a north-south baseline")
+    # per-site and per-series tables
+    # sites without readings have no variance: their entries are never read below
+    safe_variance = np.where(present, site_variance, 1.0)
+    final_z = (latitude - (line.intercept_rad + line.slope_rad_per_km * positions.position_km)) / np.sqrt(safe_variance)
+    loo = _leave_one_out(positions.position_km, latitude, site_variance, present)
+    site_results = []
+    series_results = _series_results(prep, fit, per_series, total, scale, chi2_dof)
+    for i, s in enumerate(prep.sites):
+        if not present[i]:
+            continue
+        residual = latitude[i] - (line.intercept_rad + line.slope_rad_per_km * positions.position_km[i])
+        sigma_deg = float(np.degrees(np.sqrt(site_variance[i])))
+        site_results.append(
+            SiteResult(
+                id=s.id,
+                name=s.name,
+                latitude_deg=s.latitude_deg,
+                longitude_deg=s.longitude_deg,
+                north_south_km=float(positions.position_km[i]),
+                astronomical_latitude_deg=Measured(
+                    float(np.degrees(latitude[i])), sigma_deg,
+                    float(np.degrees(latitude[i])) - sigma_deg, float(np.degrees(latitude[i])) + sigma_deg, "deg",
+                ),
+                residual_arcmin=float(np.degrees(residual) * 60.0),
+                normalized_residual=float(loo[i]) if np.isfinite(loo[i]) else float(final_z[i]),
+                outlier=i in outliers,
+                series=tuple(r for r in series_results if r.site_id == s.id),
+            )
+        )
+    lat_active = np.array([s.latitude_deg for s in prep.sites])[active]
+    mid = 0.5 * (lat_active.min() + lat_active.max())
+    left_out = dict(prep.left_out)
+    assumptions = (
+        "refraction: Bennett (1982) from the marked edge's apparent altitude; the log's temperature and "
+        "pressure where given, else 10 C and 1010 hPa reduced to the site's elevation",
+        "marked edge to the Sun's centre by the semi-diameter of the date (umbra edge = upper limb, "
+        "outer edge = lower limb)",
+        "declination and hour angle of the Sun from DE421 at each reading, topocentric",
+        "positions along the meridian on WGS84, surveyed baselines replacing the map where given",
+        "expected value: the same fit on the sites' geodetic latitudes, i.e. the WGS84 meridional radius "
+        "of curvature over the sites' span (not the 6371 km mean radius)",
+    )
+    return ShadowReduction(
+        earth_radius_km=radius,
+        circumference_km=radius.scaled(2.0 * np.pi, "km"),
+        expected_radius_km=expected,
+        mean_radius_km=IUGG_MEAN_RADIUS_KM,
+        meridional_radius_mid_km=float(meridional_radius_of_curvature_km(mid)),
+        sites=tuple(site_results),
+        budget=budget,
+        outliers=tuple(prep.sites[i].id for i in outliers),
+        readings_used=int(np.sum(prep.keep)),
+        readings_left_out=left_out,
+        chi2_per_dof=None if line.dof <= 0 else line.chi2 / line.dof,
+        scatter_scale=chi2_scale,
+        assumptions=assumptions,
+    )
+
+
+def _series_scatter_scale(fit: SeriesFit):
+    """chi2/dof of each series and the factor on its reading term.
+
+    A series that scatters about its fit significantly more than its stated
+    reading error allows (the same 5 % test as between sites) has its reading
+    term scaled by sqrt(chi2/dof); otherwise the stated error stands.
+    """
+    from scipy.stats import chi2 as chi2_distribution
+
+    dof = fit.count - 2
+    chi2_dof = np.where(dof >= 2, fit.chi2 / np.maximum(dof, 1), np.nan)
+    significant = (dof >= 2) & (chi2_distribution.sf(fit.chi2, np.maximum(dof, 1)) < SCATTER_SIGNIFICANCE)
+    scale = np.where(significant & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
+    return chi2_dof, scale
+
+
+def _scatter_is_significant(chi2: float, dof: int) -> bool:
+    """True when the sites scatter about the line more than their stated errors allow.
+
+    Only then is the slope's sigma scaled by sqrt(chi2/dof): with three or
+    four sites chi2/dof swings widely by chance, and inflating on every value
+    above 1 would make the interval too wide on average. The test is the
+    chi-square upper tail at SCATTER_SIGNIFICANCE.
+    """
+    from scipy.stats import chi2 as chi2_distribution
+
+    return bool(chi2 / dof > 1.0 and chi2_distribution.sf(chi2, dof) < SCATTER_SIGNIFICANCE)
+
+
+def _radius_from(prep, positions: Positions, latitude, contributions, active):
+    """Line fit over the active sites with position errors folded in; radius, budget, expected."""
+    n = len(prep.sites)
+    pos = positions.position_km
+    base_var = sum(c**2 for c in contributions.values())
+    map_cov = POSITION_SIGMA_KM**2 * positions.map_gain @ positions.map_gain.T
+    base_cov = (positions.baseline_gain * positions.baseline_sigma_km**2) @ positions.baseline_gain.T
+    pos_var = np.diag(map_cov + base_cov)
+    slope = 1.0 / IUGG_MEAN_RADIUS_KM
+    for _ in range(2):
+        variance = base_var + slope**2 * pos_var
+        line = fit_line(pos[active], latitude[active], variance[active])
+        slope = line.slope_rad_per_km
+    if slope <= 0:
+        raise ComputationError(
+            "the astronomical latitudes do not increase northwards with the sites' positions "
+            f"(slope {slope:.3g} rad/km): check the sites' coordinates and edges"
+        )
+    gain = np.zeros(n)
+    gain[active] = line.gain_slope
+    budget_slope = {}
+    for name, c in contributions.items():
+        budget_slope[name] = float(np.sqrt(np.sum((gain * c) ** 2)))
+    # positions: d(slope)/d(position_i) = -slope * gain_i (to first order)
+    g_pos = -slope * gain
+    budget_slope["site positions"] = float(np.sqrt(max(g_pos @ map_cov @ g_pos, 0.0)))
+    budget_slope["baselines"] = float(np.sqrt(max(g_pos @ base_cov @ g_pos, 0.0)))
+    sigma_slope_stated = float(np.sqrt(sum(v**2 for v in budget_slope.values())))
+    chi2_scale = 1.0
+    if line.dof >= 1 and _scatter_is_significant(line.chi2, line.dof):
+        chi2_scale = float(np.sqrt(line.chi2 / line.dof))
+        budget_slope["scatter between sites beyond the stated errors"] = sigma_slope_stated * float(
+            np.sqrt(chi2_scale**2 - 1.0)
+        )
+    sigma_slope = float(np.sqrt(sum(v**2 for v in budget_slope.values())))
+    radius = reciprocal_of_gaussian(1.0, slope, sigma_slope, "km")
+    if not positions.baseline_sigma_km.size:
+        del budget_slope["baselines"]
+    budget = budget_from_contributions({k: v / slope**2 for k, v in budget_slope.items()}, "km")
+    geodetic = np.radians(np.array([s.latitude_deg for s in prep.sites]))
+    map_pos = meridian_arc_m(np.array([s.latitude_deg for s in prep.sites])) / 1000.0
+    expected_line = fit_line(map_pos[active], geodetic[active], variance[active])
+    expected = float(1.0 / expected_line.slope_rad_per_km)
+    return line, radius, budget, chi2_scale, expected
+
+
+def _series_results(prep: _Prepared, fit: SeriesFit, per_series, total, scale, chi2_dof):
+    from firstrung import ephemeris
+
+    n_groups = len(prep.group_site)
+    site_lat = np.array([prep.sites[i].latitude_deg for i in prep.group_site])
+    site_lon = np.array([prep.sites[i].longitude_deg for i in prep.group_site])
+    site_elev = np.array([prep.sites[i].elevation_m for i in prep.group_site])
+    transit = ephemeris.solar_transit(prep.group_date, site_lat, site_lon, site_elev)
+    hour_angle_rate = _group_sum(prep.group, n_groups, prep.hour_angle_rate) / fit.count
+    out = []
+    for g in range(n_groups):
+        lat = float(np.degrees(fit.latitude_rad[g]))
+        sig = float(np.degrees(total[g]))
+        dec = float(transit.declination_deg[g])
+        zenith = abs(lat - dec)
+        offset = -float(fit.clock_correction_s[g])
+        offset_sigma = float(np.sqrt(fit.covariance[g, 1, 1]) * scale[g])
+        rate_deg_s = float(np.degrees(hour_angle_rate[g]))
+        lon_implied = prep.sites[prep.group_site[g]].longitude_deg - rate_deg_s * offset
+        noon_clock = transit.time_utc[g] + np.timedelta64(int(round(offset * 1e6)), "us")
+        out.append(
+            SeriesResult(
+                site_id=prep.sites[prep.group_site[g]].id,
+                date=str(prep.group_date[g]),
+                readings=int(fit.count[g]),
+                transit_utc=transit.time_utc[g],
+                declination_deg=dec,
+                latitude_deg=Measured(lat, sig, lat - sig, lat + sig, "deg"),
+                culmination_altitude_deg=Measured(90.0 - zenith, sig, 90.0 - zenith - sig, 90.0 - zenith + sig, "deg"),
+                zenith_distance_deg=Measured(zenith, sig, zenith - sig, zenith + sig, "deg"),
+                sun_side="south" if lat > dec else "north",
+                clock_offset_s=Measured(offset, offset_sigma, offset - offset_sigma, offset + offset_sigma, "s"),
+                apparent_noon_clock_utc=noon_clock,
+                implied_longitude_deg=Measured(
+                    lon_implied, rate_deg_s * offset_sigma, lon_implied - rate_deg_s * offset_sigma,
+                    lon_implied + rate_deg_s * offset_sigma, "deg",
+                ),
+                chi2_per_dof=None if not np.isfinite(chi2_dof[g]) else float(chi2_dof[g]),
+                budget_rad={k: float(v[g]) for k, v in per_series.items()},
+            )
+        )
+    return out
+
+
+# --- Monte Carlo check of the propagation ---------------------------------------------------------------
+
+
+def monte_carlo_radius(
+    sites: tuple[SiteInput, ...],
+    readings: ShadowReadings,
+    baselines: tuple[BaselineInput, ...] = (),
+    *,
+    samples: int = 2000,
+    seed: int = 1,
+) -> np.ndarray:
+    """Radius samples [km] from drawing every input error and redoing the reduction.
+
+    Per reading: the shadow length (its reading sigma). Per site: the gnomon
+    height, the edge placement and the refraction scale (one draw each, common
+    to that site's readings). Per site position and baseline: their sigmas.
+    The same sites are left out as outliers as in the nominal reduction (none
+    are tested again). The spread of the result checks :func:`reduce_shadows`'s
+    linear sigma.
+    """
+    rng = np.random.default_rng(seed)
+    prep = _prepare(tuple(sites), tuple(baselines), readings)
+    nominal = reduce_shadows(sites, readings, baselines)
+    outlier_ids = set(nominal.outliers)
+    n_sites = len(prep.sites)
+    reading_site = np.asarray(readings.site_index, int)[prep.keep]
+    k = len(prep.altitude_rad)
+    alt = prep.altitude_rad[None, :] + rng.standard_normal((samples, k)) * prep.sigma_reading_rad[None, :]
+    gnomon_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
+    alt = alt + gnomon_draw * prep.dalt_dgnomon_rad_per_m * _gnomon_sigma(prep)
+    edge_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
+    alt = alt + edge_draw * prep.edge_sigma_rad
+    refr_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
+    alt = alt + refr_draw * prep.refraction_sigma_rad
+    fit = _fit(prep, alt)
+    # combine series per site with the nominal weights
+    nominal_fit = _fit(prep, prep.altitude_rad)
+    _, scale = _series_scatter_scale(nominal_fit)
+    present, _, contributions, _, total = _combine_sites(prep, nominal_fit, scale)
+    w = 1.0 / total**2
+    wsum = _group_sum(prep.group_site, n_sites, w)
+    frac = w / np.where(wsum > 0, wsum, 1.0)[prep.group_site]
+    latitude = np.zeros((samples, n_sites))
+    for g in range(len(prep.group_site)):  # series count is small (sites x days)
+        latitude[:, prep.group_site[g]] += frac[g] * fit.latitude_rad[:, g]
+    positions = north_south_positions(prep.sites, prep.baselines)
+    pos = positions.position_km[None, :] + POSITION_SIGMA_KM * rng.standard_normal((samples, n_sites)) @ positions.map_gain.T
+    if positions.baseline_sigma_km.size:
+        pos = pos + (rng.standard_normal((samples, positions.baseline_sigma_km.size)) * positions.baseline_sigma_km) @ positions.baseline_gain.T
+    active = present & np.array([s.id not in outlier_ids for s in prep.sites])
+    variance = sum(c**2 for c in contributions.values())[active]
+    x = pos[:, active]
+    y = latitude[:, active]
+    wv = 1.0 / variance
+    sw, sx, sy = wv.sum(), (wv * x).sum(1), (wv * y).sum(1)
+    sxx, sxy = (wv * x * x).sum(1), (wv * x * y).sum(1)
+    slope = (sw * sxy - sx * sy) / (sw * sxx - sx**2)
+    return 1.0 / slope
+
+
+def check_inputs(sites: tuple[SiteInput, ...]) -> None:
+    """Refuse sites the method cannot use (bad coordinates)."""
+    for s in sites:
+        if not -90.0 <= s.latitude_deg <= 90.0:
+            raise InputError(f"site '{s.id}': latitude_deg {s.latitude_deg} is outside -90..90 deg")

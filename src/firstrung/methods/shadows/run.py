@@ -1,0 +1,104 @@
+"""From a campaign file to a reduction: read, validate, assemble, reduce.
+
+These functions join the readers (``campaign``, ``logs``) to the pure
+methods; they read files but never print and never write.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from firstrung.campaign import Campaign, read_campaign
+from firstrung.errors import InputError, RowProblem
+from firstrung.logs import ShadowLog, read_shadow_logs, shadow_instruments
+from firstrung.methods.shadows.reduction import (
+    BaselineInput,
+    ShadowReadings,
+    ShadowReduction,
+    SiteInput,
+    reduce_shadows,
+)
+
+
+@dataclass(frozen=True)
+class ShadowRun:
+    """A shadow reduction with what was read and what was refused."""
+
+    campaign: Campaign
+    reduction: ShadowReduction
+    problems: tuple[RowProblem, ...]
+    rows_read: int
+    rows_accepted: int
+    readings: ShadowReadings | None = None
+    rows_left_out_flagged: int = 0
+    notes: tuple[str, ...] = ()
+
+
+def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
+    """The campaign's sites as the methods take them."""
+    return tuple(
+        SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in campaign.sites
+    )
+
+
+def baseline_inputs(campaign: Campaign) -> tuple[BaselineInput, ...]:
+    """The campaign's surveyed baselines, by site index."""
+    index = {s.id: i for i, s in enumerate(campaign.sites)}
+    return tuple(
+        BaselineInput(index[b.sites[0]], index[b.sites[1]], b.distance_km, b.sigma_km, b.bearing_deg)
+        for b in campaign.baselines
+    )
+
+
+def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings, list[RowProblem]]:
+    """Fill in each row's gnomon, edge and errors from the campaign; refuse rows that lack a gnomon."""
+    inst = shadow_instruments(campaign, log)
+    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
+    problems = list(inst.problems)
+    readings = ShadowReadings(
+        site_index=site_index[ok],
+        time_utc=np.asarray(log.time_utc)[ok],
+        shadow_m=np.asarray(log.shadow_m, float)[ok],
+        gnomon_m=height[ok],
+        edge=edge[ok],
+        shadow_sigma_m=inst.shadow_sigma_m[ok],
+        gnomon_sigma_m=inst.gnomon_sigma_m[ok],
+        temperature_c=np.asarray(log.temperature_c, float)[ok],
+        pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
+    )
+    return readings, problems
+
+
+def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
+    """Read the campaign and its shadow logs and reduce them to the Earth's radius.
+
+    Rows that ``firstrung check`` flags as errors (blunders) are left out and
+    counted, unless ``include_flagged``.
+
+    Raises
+    ------
+    InputError
+        The campaign file is unreadable, or no log file could be read at all.
+    ComputationError
+        Too few usable sites.
+    """
+    campaign = read_campaign(campaign_path)
+    if not campaign.logs.get("shadows"):
+        raise InputError("the campaign file lists no shadow logs ([logs] shadows = [...])", file=str(campaign_path))
+    log = read_shadow_logs(campaign)
+    left_out = 0
+    if not include_flagged:
+        from firstrung.checks import without_error_rows
+
+        log, left_out = without_error_rows(campaign, log)
+    readings, extra = shadow_readings(campaign, log)
+    problems = tuple(log.problems) + tuple(extra)
+    if len(readings) == 0:
+        first = f" (first: {problems[0]})" if problems else ""
+        raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path))
+    reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
+    return ShadowRun(
+        campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes)
+    )

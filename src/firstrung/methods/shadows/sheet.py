@@ -1,0 +1,175 @@
+"""Printable field sheets (HTML with print CSS) and CSV templates for observers.
+
+A day's shadow sheet holds the site and gnomon, the predicted local apparent
+noon, the set-up steps, the caution, and a table every 2 minutes from -30 to
++30 minutes with the predicted shadow length and blank cells for the reading.
+Blank sheets and CSV templates for every log kind are made by
+:func:`blank_field_kit` (the repository's ``field_sheets/`` holds its output).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from zoneinfo import ZoneInfo
+
+import numpy as np
+
+from firstrung import __version__
+from firstrung.safety import ECLIPSE_NOTE, PHASES_CAUTION, SOLAR_CAUTION_FULL
+
+#: The readings of a sheet: minutes from local apparent noon.
+SHEET_OFFSETS_MIN = tuple(range(-30, 31, 2))
+EDGE_TEXT = {
+    "umbra": "sharp dark edge of the shadow (umbra)",
+    "middle": "middle of the fuzzy edge (penumbra)",
+    "outer": "faint outer edge of the shadow",
+}
+PAPER_SIZES = {"a4": "A4", "letter": "letter"}
+
+
+def _environment():
+    from jinja2 import Environment, PackageLoader, StrictUndefined, select_autoescape
+
+    return Environment(
+        loader=PackageLoader("firstrung", "templates"),
+        autoescape=select_autoescape(["html", "j2", "css"], default_for_string=True, default=True),
+        undefined=StrictUndefined,
+        keep_trailing_newline=True,
+    )
+
+
+def _local(t_utc, zone: str | None) -> str:
+    aware = np.datetime64(t_utc, "s").astype(dt.datetime).replace(tzinfo=dt.UTC)
+    if zone is None:
+        return aware.strftime("%H:%M:%S UTC")
+    return aware.astimezone(ZoneInfo(zone)).strftime("%H:%M:%S")
+
+
+def shadow_sheet_predictions(site, date) -> dict:
+    """The numbers of a day's sheet: transit, altitude, shadow lengths every 2 minutes.
+
+    ``site`` is a :class:`firstrung.methods.shadows.prediction.PlanSite`.
+
+    >>> from firstrung.methods.shadows.prediction import PlanSite
+    >>> p = shadow_sheet_predictions(PlanSite("a", "A", 46.2, 7.4, 620.0, None, 1.0, 0.001, 0.002, "umbra"), "2027-03-20")
+    >>> len(p["times_utc"]), str(p["transit_utc"])[:16]
+    (31, '2027-03-20T11:37')
+    """
+    from firstrung import ephemeris
+    from firstrung.methods.shadows.prediction import shadow_length_m
+    from firstrung.methods.shadows.reduction import penumbra_width_m
+    from firstrung.refraction import apparent_from_true_altitude_deg
+
+    transit = ephemeris.solar_transit(np.datetime64(date, "D"), site.latitude_deg, site.longitude_deg, site.elevation_m)
+    t0 = np.datetime64(transit.time_utc, "s")
+    # planned times on whole minutes of the site's clock, centred on noon
+    centre = t0.astype("datetime64[m]")
+    times = centre + np.array(SHEET_OFFSETS_MIN).astype("timedelta64[m]")
+    pos = ephemeris.sun_position(times, site.latitude_deg, site.longitude_deg, site.elevation_m)
+    lengths = shadow_length_m(site.gnomon_height_m, pos.altitude_deg, pos.semidiameter_deg,
+                              np.array([site.edge] * times.size, dtype=object))
+    noon_alt = float(apparent_from_true_altitude_deg(float(transit.altitude_deg)))
+    return {
+        "transit_utc": t0,
+        "times_utc": times,
+        "shadow_m": lengths,
+        "noon_altitude_deg": noon_alt,
+        "noon_shadow_m": float(shadow_length_m(site.gnomon_height_m, float(transit.altitude_deg),
+                                               float(transit.semidiameter_deg), np.array([site.edge], dtype=object))[0]),
+        "penumbra_m": float(penumbra_width_m(site.gnomon_height_m, float(transit.altitude_deg), float(transit.semidiameter_deg))),
+        "direction": "north" if site.latitude_deg > float(transit.declination_deg) else "south",
+    }
+
+
+def render_shadow_sheet(campaign_name: str, site, date, paper: str = "a4") -> str:
+    """The HTML field sheet for one site and day."""
+    p = shadow_sheet_predictions(site, date)
+    zone = site.timezone or "UTC"
+    rows = []
+    for t, length in zip(p["times_utc"], p["shadow_m"], strict=True):
+        rows.append({
+            "local": _local(t, site.timezone)[:5],
+            "utc": str(np.datetime64(t, "m"))[11:16],
+            "shadow_mm": f"{length * 1000:.0f}",
+            "noon": abs((t - p["transit_utc"]).astype("timedelta64[s]").astype(int)) < 60,
+        })
+    return _environment().get_template("shadow_sheet.html.j2").render(
+        campaign=campaign_name,
+        site=site,
+        date=str(np.datetime64(date, "D")),
+        version=__version__,
+        caution=SOLAR_CAUTION_FULL,
+        zone=zone,
+        zone_short="local" if site.timezone else "UTC",
+        edge_text=EDGE_TEXT[site.edge],
+        noon_local=_local(p["transit_utc"], site.timezone) + (f" {zone}" if site.timezone else ""),
+        noon_utc=str(p["transit_utc"]) + "Z",
+        noon_altitude_deg=p["noon_altitude_deg"],
+        noon_shadow_mm=p["noon_shadow_m"] * 1000,
+        penumbra_mm=p["penumbra_m"] * 1000,
+        direction=p["direction"],
+        rows=rows,
+        page_size=PAPER_SIZES[paper],
+    )
+
+
+#: The blank kit: per log kind, the sheet's title, set-up steps, columns and CSV header.
+BLANK_KIT = {
+    "shadows": {
+        "title": "Noon shadow sheet (blank)",
+        "caution": SOLAR_CAUTION_FULL,
+        "steps": [
+            "Stand the gnomon plumb-vertical and check the board level in both directions.",
+            "Measure the gnomon's height from the board to the tip, to the millimetre.",
+            "Decide which edge of the shadow's tip you mark (the sharp dark edge is usual) and keep to it.",
+            "Set your clock to a time signal and write down its offset (clock minus true time).",
+            "Read the shadow every 2 minutes from 30 minutes before to 30 minutes after local apparent noon.",
+        ],
+        "columns": ["clock time", "shadow length (mm)", "edge marked", "notes"],
+        "csv_header": "site,time_local,shadow_mm,edge,temperature_c,pressure_hpa,observer,note",
+        "rows": 31,
+    },
+    "eclipse": {
+        "title": "Lunar eclipse timing sheet (blank)",
+        "caution": ECLIPSE_NOTE,
+        "steps": [
+            "Set your clock to a time signal and write down its offset (clock minus true time).",
+            "Time the umbral contacts: U1 (the dark shadow touches the Moon), U2 (totality begins), "
+            "U3 (totality ends), U4 (the shadow leaves the Moon).",
+            "Time when the shadow's edge crosses the centre of each crater you know: immersion (going in) "
+            "and emersion (coming out).",
+            "Write the time to the second as soon as you judge the event; do not correct it later.",
+        ],
+        "columns": ["clock time", "event (U1-U4, immersion, emersion)", "crater", "notes"],
+        "csv_header": "site,time_local,event,feature,time_sigma_s,observer",
+        "rows": 24,
+    },
+    "phases": {
+        "title": "Half-moon sheet (blank)",
+        "caution": PHASES_CAUTION,
+        "steps": [
+            "Set your clock to a time signal and write down its offset (clock minus true time).",
+            "Watch the terminator: write the time when the Moon looks exactly half lit (a straight terminator).",
+            "If you measure the Sun-Moon angle, do it without ever sighting the Sun through the instrument.",
+            "If you photograph the Moon, note each exposure's time and later the lit fraction you measure.",
+        ],
+        "columns": ["clock time", "first / last quarter", "Sun-Moon angle (deg)", "lit fraction", "notes"],
+        "csv_header": "site,time_local,quarter,elongation_deg,illuminated_fraction,time_sigma_s,observer",
+        "rows": 20,
+    },
+}
+
+
+def blank_field_kit(paper: str = "a4") -> dict[str, str]:
+    """File name -> text of every blank sheet (HTML) and CSV template.
+
+    >>> sorted(blank_field_kit())[:2]
+    ['eclipse-sheet.html', 'eclipse-template.csv']
+    """
+    env = _environment()
+    template = env.get_template("blank_sheet.html.j2")
+    files = {}
+    for kind, spec in BLANK_KIT.items():
+        files[f"{kind}-sheet.html"] = template.render(page_size=PAPER_SIZES[paper], **spec)
+        files[f"{kind}-template.csv"] = spec["csv_header"] + "\n"
+    return files
