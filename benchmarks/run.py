@@ -203,8 +203,8 @@ def bench_check(n_sites, n_rows, repeats):
     import tempfile
 
     from firstrung.campaign import read_campaign
-    from firstrung.checks import check_shadow_rows, check_sites, shadow_rows
-    from firstrung.logs import read_shadow_logs
+    from firstrung.methods.shadows.check import check_shadow_rows, check_sites, shadow_rows
+    from firstrung.methods.shadows.log import read_shadow_logs
 
     rng = np.random.default_rng(5)
     with tempfile.TemporaryDirectory() as folder:

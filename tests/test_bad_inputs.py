@@ -21,7 +21,9 @@ import pytest
 
 from firstrung.campaign import read_campaign
 from firstrung.errors import InputError
-from firstrung.logs import read_eclipse_logs, read_phase_logs, read_shadow_logs
+from firstrung.methods.eclipse.log import read_eclipse_logs
+from firstrung.methods.phases.log import read_phase_logs
+from firstrung.methods.shadows.log import read_shadow_logs
 from helpers import run_cli
 
 BAD = Path(__file__).resolve().parent / "data" / "bad"

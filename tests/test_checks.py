@@ -20,19 +20,17 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from firstrung import blunders
-from firstrung.checks import (
-    CheckSite,
-    Flag,
-    ShadowRows,
-    check_shadow_rows,
-    problem_flags,
-    series_statistic,
-    summarize,
-    sun_altitude_rad,
-    without_error_rows,
-)
 from firstrung.ephemeris import solar_transit
 from firstrung.errors import EphemerisRangeError, RowProblem
+from firstrung.flags import Flag, problem_flags, summarize, without_error_rows
+from firstrung.methods.shadows.check import (
+    CheckSite,
+    ShadowRows,
+    check_shadow_rows,
+    log_flags,
+    series_statistic,
+    sun_altitude_rad,
+)
 from firstrung.methods.shadows.rehearsal import (
     ShadowErrors,
     reading_times_utc,
@@ -388,7 +386,7 @@ def _write_campaign(folder, sites, rows):
 
 def test_reduction_after_check_gives_the_clean_radius(tmp_path):
     from firstrung.campaign import read_campaign
-    from firstrung.logs import read_shadow_logs
+    from firstrung.methods.shadows.log import read_shadow_logs
     from firstrung.methods.shadows.reduction import ShadowReadings, reduce_shadows
     from firstrung.methods.shadows.run import baseline_inputs, shadow_readings, site_inputs
 
@@ -414,7 +412,7 @@ def test_reduction_after_check_gives_the_clean_radius(tmp_path):
         log = read_shadow_logs(campaign)
         left_out = 0
         if check:
-            log, left_out = without_error_rows(campaign, log)
+            log, left_out = without_error_rows(campaign, log, log_flags)
         readings, _ = shadow_readings(campaign, log)
         # only the sites that still have readings (a site whose every row was rejected is left out)
         present = np.unique(readings.site_index)

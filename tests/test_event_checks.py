@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from firstrung.methods.eclipse.check import likely_cause
+from firstrung.flags import likely_cause
 from helpers import run_cli
 
 CLEAN = Path(__file__).resolve().parent / "data" / "clean_campaign"

@@ -1,4 +1,4 @@
-"""Tests of firstrung.logs: reading shadow, eclipse and half-moon CSV logs.
+"""Tests of the log readers (firstrung.tabular and each method's log module): reading shadow, eclipse and half-moon CSV logs.
 
 All sites, observers and readings are invented.
 """
@@ -9,14 +9,9 @@ import numpy as np
 import pytest
 
 from firstrung.campaign import read_campaign
-from firstrung.logs import (
-    EclipseLog,
-    PhaseLog,
-    ShadowLog,
-    read_eclipse_logs,
-    read_phase_logs,
-    read_shadow_logs,
-)
+from firstrung.methods.eclipse.log import EclipseLog, read_eclipse_logs
+from firstrung.methods.phases.log import PhaseLog, read_phase_logs
+from firstrung.methods.shadows.log import ShadowLog, read_shadow_logs
 
 CAMPAIGN = """\
 [campaign]

@@ -8,8 +8,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung import logs
+from firstrung import tabular
 from firstrung.campaign import read_campaign
+from firstrung.methods.shadows.log import read_shadow_logs
 
 ROOT = Path(__file__).resolve().parent
 BAD = ROOT / "data" / "bad"
@@ -17,12 +18,12 @@ CASES = sorted(p.name for p in BAD.glob("shadows_*.csv"))
 
 
 def _both(campaign, paths):
-    fast = logs.read_shadow_logs(campaign, paths)
+    fast = read_shadow_logs(campaign, paths)
     try:
-        logs._FAST_PATH = False
-        slow = logs.read_shadow_logs(campaign, paths)
+        tabular.FAST_PATH = False
+        slow = read_shadow_logs(campaign, paths)
     finally:
-        logs._FAST_PATH = True
+        tabular.FAST_PATH = True
     return fast, slow
 
 

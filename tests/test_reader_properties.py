@@ -18,14 +18,9 @@ from hypothesis import strategies as st
 
 from firstrung.campaign import Campaign, parse_campaign, read_campaign
 from firstrung.errors import InputError
-from firstrung.logs import (
-    EclipseLog,
-    PhaseLog,
-    ShadowLog,
-    read_eclipse_logs,
-    read_phase_logs,
-    read_shadow_logs,
-)
+from firstrung.methods.eclipse.log import EclipseLog, read_eclipse_logs
+from firstrung.methods.phases.log import PhaseLog, read_phase_logs
+from firstrung.methods.shadows.log import ShadowLog, read_shadow_logs
 
 #: Examples per property: enough to reach the odd corners (quotes, separators,
 #: encodings) in a few seconds; the corpus in tests/data/bad holds the cases

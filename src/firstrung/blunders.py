@@ -2,7 +2,7 @@
 
 Each function takes the logged values and a selection of rows (a boolean
 mask or row indices) and returns new arrays; nothing is changed in place.
-The check (:mod:`firstrung.checks`) should report each with the code and
+The check (each method's ``check`` module) should report each with the code and
 field given in the function's docstring. Mistakes of the campaign file (a
 longitude's or latitude's sign) and of the edge convention are made by
 simulating the true site or edge and logging the stated one:

@@ -1,6 +1,6 @@
 """From a campaign file to a check of its logs: read, check each kind of log, summarise.
 
-Each kind of log has one entry in :data:`LOG_CHECKS`: a function that takes
+Each kind of log is checked by its method's ``check.check_campaign`` (the registry's), which takes
 the campaign and returns its flags and per-series diagnoses. Eclipse and
 phase logs add their own entry here when their checks exist. The raw rows
 of every file are kept (as read, every cell) for the summary and for the
@@ -15,11 +15,10 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-from firstrung import logs as _logs
+from firstrung import tabular as _logs
 from firstrung.campaign import Campaign, read_campaign
-from firstrung.checks import Flag, SeriesDiagnosis, SummaryRow, check_shadow_log, summarize
 from firstrung.errors import InputError
-from firstrung.logs import read_shadow_logs
+from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize
 
 
 @dataclass(frozen=True)
@@ -41,45 +40,11 @@ class RawFile:
         return ""
 
 
-@dataclass(frozen=True)
-class KindCheck:
-    """What the check of one kind of log gives."""
+def _log_checks() -> dict[str, Callable[[Campaign], KindCheck]]:
+    """The check of each kind of log, by the campaign's ``[logs]`` key, from the registry of methods."""
+    from firstrung.methods import REGISTRY
 
-    flags: tuple[Flag, ...]
-    series: tuple[SeriesDiagnosis, ...] = ()
-    noon_only: bool | None = None
-
-
-def _check_shadows(campaign: Campaign) -> KindCheck:
-    log = read_shadow_logs(campaign)
-    result, problems = check_shadow_log(campaign, log)
-    return KindCheck(tuple(result.flags) + tuple(problems), result.series, result.noon_only)
-
-
-def _check_eclipse(campaign: Campaign) -> KindCheck:
-    from firstrung.checks import problem_flags
-    from firstrung.logs import read_eclipse_logs
-    from firstrung.methods.eclipse.check import check_eclipse_log
-
-    log = read_eclipse_logs(campaign)
-    return KindCheck(tuple(check_eclipse_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
-
-
-def _check_phases(campaign: Campaign) -> KindCheck:
-    from firstrung.checks import problem_flags
-    from firstrung.logs import read_phase_logs
-    from firstrung.methods.eclipse.check import check_phase_log
-
-    log = read_phase_logs(campaign)
-    return KindCheck(tuple(check_phase_log(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
-
-
-#: The check of each kind of log, by the campaign's ``[logs]`` key.
-LOG_CHECKS: dict[str, Callable[[Campaign], KindCheck]] = {
-    "shadows": _check_shadows,
-    "eclipse": _check_eclipse,
-    "phases": _check_phases,
-}
+    return {m.log_kind: m.module("check").check_campaign for m in REGISTRY}
 
 
 @dataclass(frozen=True)
@@ -109,7 +74,7 @@ _SLOTS = {"shadows": "_SHADOW_SLOTS", "eclipse": "_ECLIPSE_SLOTS", "phases": "_P
 
 def _text_of(data: bytes, label: str) -> str | None:
     """The file's text decoded as the readers decode it, or None when they refuse it."""
-    decoded = _logs._decode(data, label)
+    decoded = _logs.decode(data, label)
     text, problem = decoded[0], decoded[-1]
     if problem is not None or text is None:
         return None
@@ -120,7 +85,7 @@ def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
     """Every data row of a kind's log files, as text cells, numbered as the readers number them.
 
     The same decoding, separator, skipped lines and header names as
-    :mod:`firstrung.logs`; files that cannot be read give no rows (the
+    the log readers (:mod:`firstrung.tabular`); files that cannot be read give no rows (the
     reader's problem says why).
     """
     slots = getattr(_logs, _SLOTS.get(kind, ""), ())
@@ -128,7 +93,7 @@ def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
     normal = getattr(_logs, "_normal_name", lambda cell: cell.strip().lower())
     out = []
     for path in campaign.logs.get(kind, ()):
-        label = _logs._display_name(Path(path), campaign)
+        label = _logs.display_name(Path(path), campaign)
         try:
             text = _text_of(Path(path).read_bytes(), label)
         except (OSError, ValueError):
@@ -141,7 +106,7 @@ def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
             try:
                 number = 0
                 for cells in csv.reader(io.StringIO(text, newline=""), delimiter=delimiter):
-                    if _logs._is_skipped(cells):
+                    if _logs.is_skipped(cells):
                         continue
                     if not header:
                         header = tuple(normal(c) for c in cells)
@@ -155,7 +120,7 @@ def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
 
 
 def run_check(campaign_path) -> CheckRun:
-    """Read a campaign and check every log it lists (the kinds in :data:`LOG_CHECKS`).
+    """Read a campaign and check every log it lists (every kind the registry of methods knows).
 
     Raises
     ------
@@ -163,10 +128,11 @@ def run_check(campaign_path) -> CheckRun:
         The campaign file is unreadable or lists no log of a kind that can be checked.
     """
     campaign = read_campaign(campaign_path)
-    kinds = tuple(k for k in LOG_CHECKS if campaign.logs.get(k))
+    log_checks = _log_checks()
+    kinds = tuple(k for k in log_checks if campaign.logs.get(k))
     if not kinds:
         raise InputError(
-            f"the campaign file lists no logs to check ([logs] {' / '.join(LOG_CHECKS)} = [...])",
+            f"the campaign file lists no logs to check ([logs] {' / '.join(log_checks)} = [...])",
             file=str(campaign_path),
         )
     flags: list[Flag] = []
@@ -174,7 +140,7 @@ def run_check(campaign_path) -> CheckRun:
     files: list[RawFile] = []
     noon_only = None
     for kind in kinds:
-        result = LOG_CHECKS[kind](campaign)
+        result = log_checks[kind](campaign)
         flags.extend(result.flags)
         series.extend(result.series)
         noon_only = result.noon_only if result.noon_only is not None else noon_only

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from firstrung.checks import CODES
+from firstrung.flags import CODES
 
 _STATISTIC = (
     "robust chi-square of each series against the ephemeris: squared normalised residuals about a fitted "

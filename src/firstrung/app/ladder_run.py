@@ -74,7 +74,7 @@ def _phase_draw(campaign_path, runs, sources, notes):
 def _sun_diameter_draw(campaign, sources):
     """The Sun's angular diameter on the campaign's shadow days, from the ephemeris (said so)."""
     from firstrung import ephemeris
-    from firstrung.logs import read_shadow_logs
+    from firstrung.methods.shadows.log import read_shadow_logs
 
     log = read_shadow_logs(campaign)
     if len(log) == 0:

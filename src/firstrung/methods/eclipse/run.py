@@ -26,7 +26,7 @@ import numpy as np
 
 from firstrung.campaign import Campaign, read_campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
-from firstrung.logs import read_eclipse_logs
+from firstrung.methods.eclipse.log import read_eclipse_logs
 from firstrung.methods.eclipse.reduction import (
     CONTACTS,
     CONVENTIONS,
@@ -509,10 +509,10 @@ def run_eclipse(
     log = read_eclipse_logs(campaign)
     left_out_flagged = 0
     if not include_flagged:
-        from firstrung.checks import without_error_rows
-        from firstrung.methods.eclipse.check import check_eclipse_log
+        from firstrung.flags import without_error_rows
+        from firstrung.methods.eclipse.check import log_flags
 
-        log, left_out_flagged = without_error_rows(campaign, log, check_eclipse_log)
+        log, left_out_flagged = without_error_rows(campaign, log, log_flags)
     problems = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""

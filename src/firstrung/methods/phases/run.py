@@ -18,8 +18,8 @@ import numpy as np
 
 from firstrung.campaign import Campaign, read_campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
-from firstrung.logs import read_phase_logs
 from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.log import read_phase_logs
 from firstrung.uncertainty import Measured
 
 __all__ = [
@@ -420,10 +420,10 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     log = read_phase_logs(campaign)
     left_out_flagged = 0
     if not include_flagged:
-        from firstrung.checks import without_error_rows
-        from firstrung.methods.eclipse.check import check_phase_log
+        from firstrung.flags import without_error_rows
+        from firstrung.methods.phases.check import log_flags
 
-        log, left_out_flagged = without_error_rows(campaign, log, check_phase_log)
+        log, left_out_flagged = without_error_rows(campaign, log, log_flags)
     problems: list[RowProblem] = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""

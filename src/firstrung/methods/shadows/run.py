@@ -12,7 +12,7 @@ import numpy as np
 
 from firstrung.campaign import Campaign, read_campaign
 from firstrung.errors import InputError, RowProblem
-from firstrung.logs import ShadowLog, read_shadow_logs, shadow_instruments
+from firstrung.methods.shadows.log import ShadowLog, read_shadow_logs, shadow_instruments
 from firstrung.methods.shadows.reduction import (
     BaselineInput,
     ShadowReadings,
@@ -90,9 +90,10 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     log = read_shadow_logs(campaign)
     left_out = 0
     if not include_flagged:
-        from firstrung.checks import without_error_rows
+        from firstrung.flags import without_error_rows
+        from firstrung.methods.shadows.check import log_flags
 
-        log, left_out = without_error_rows(campaign, log)
+        log, left_out = without_error_rows(campaign, log, log_flags)
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
     if len(readings) == 0:

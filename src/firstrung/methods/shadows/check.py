@@ -47,8 +47,7 @@ explanation is reported.
 from __future__ import annotations
 
 import datetime as _dt
-import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from zoneinfo import ZoneInfo
 
 import numpy as np
@@ -61,6 +60,13 @@ from firstrung.constants import (
     WGS84_SEMI_MAJOR_AXIS_M,
 )
 from firstrung.errors import RowProblem
+from firstrung.flags import (
+    CODES,
+    Flag,
+    KindCheck,
+    SeriesDiagnosis,
+    problem_flags,
+)
 from firstrung.methods.shadows.reduction import (
     EDGE_LIMB_SIGN,
     MIN_ALTITUDE_DEG,
@@ -69,43 +75,18 @@ from firstrung.methods.shadows.reduction import (
 from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
 
 __all__ = [
-    "CODES",
     "CheckSite",
-    "Flag",
-    "SeriesDiagnosis",
     "ShadowCheck",
     "ShadowRows",
-    "SummaryRow",
+    "check_campaign",
     "check_shadow_log",
     "check_shadow_rows",
-    "error_rows",
-    "problem_flags",
+    "log_flags",
     "series_statistic",
     "shadow_rows",
-    "summarize",
     "sun_altitude_rad",
-    "without_error_rows",
 ]
 
-#: Flag codes: the design's contract codes first, then firstrung's own.
-CODES = (
-    "time-shift-hours",
-    "local-time-as-utc",
-    "longitude-sign",
-    "latitude-sign",
-    "length-unit",
-    "edge-convention",
-    "sun-below-horizon",
-    "outlier",
-    "duplicate-row",
-    "unknown-site",
-    "bad-value",
-    "event-time-mismatch",
-    "series-mismatch",
-    "far-from-noon",
-    "unreadable-file",
-    "moon-below-horizon",
-)
 
 #: Readings of one file and site more than this apart [h] belong to different series.
 SERIES_GAP_H = 6.0
@@ -223,60 +204,12 @@ class ShadowRows:
 
 
 @dataclass(frozen=True)
-class Flag:
-    """One problem found in one log row (or, with ``row`` None, in a whole file).
-
-    ``fields`` holds the code's own values (``hours``, ``factor``, ...), in
-    the order they are shown.
-    """
-
-    file: str
-    row: int | None
-    site: str | None
-    code: str
-    severity: str
-    message: str
-    fix: str
-    observer: str = ""
-    fields: dict = field(default_factory=dict)
-
-
-@dataclass(frozen=True)
-class SeriesDiagnosis:
-    """One series (file, site, local day): the statistic as logged and under the best explanation."""
-
-    file: str
-    site: str
-    date: str
-    rows: int
-    statistic_logged: float
-    level_arcmin: float
-    level_sigma: float
-    best: str | None
-    statistic_best: float | None
-    verdict: str  # "fits", "explained", "unexplained", "ambiguous"
-
-
-@dataclass(frozen=True)
 class ShadowCheck:
     """The check of a set of shadow rows: the flags and the per-series diagnoses."""
 
     flags: tuple[Flag, ...]
     series: tuple[SeriesDiagnosis, ...]
     noon_only: bool
-
-
-@dataclass(frozen=True)
-class SummaryRow:
-    """Rows read, accepted and flagged for one site and observer (observer '' = the whole site)."""
-
-    site: str
-    observer: str
-    read: int
-    accepted: int
-    flagged: int
-    errors: int
-    warnings: int
 
 
 # --- assembling rows from a campaign -------------------------------------------------------
@@ -290,20 +223,20 @@ def check_sites(campaign: Campaign) -> tuple[CheckSite, ...]:
 
 
 def shadow_rows(campaign: Campaign, log) -> tuple[ShadowRows, list[RowProblem]]:
-    """The good rows of a :class:`~firstrung.logs.ShadowLog` with the campaign's defaults filled in.
+    """The good rows of a :class:`~firstrung.methods.shadows.log.ShadowLog` with the campaign's defaults filled in.
 
     Rows of a site without a gnomon and without ``gnomon_m`` in the log cannot
     be checked against the Sun; each becomes a problem.
 
     >>> from firstrung.campaign import parse_campaign
-    >>> from firstrung.logs import ShadowLog
+    >>> from firstrung.methods.shadows.log import ShadowLog
     >>> c = parse_campaign('[[site]]\\nid = "a"\\nlatitude_deg = 45.0\\nlongitude_deg = 7.0\\n'
     ...                    '[site.gnomon]\\nheight_m = 1.0\\n')
     >>> empty = ShadowLog(*[np.array([])] * 13)
     >>> len(shadow_rows(c, empty)[0])
     0
     """
-    from firstrung.logs import shadow_instruments
+    from firstrung.methods.shadows.log import shadow_instruments
 
     inst = shadow_instruments(campaign, log)
     ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
@@ -1042,73 +975,8 @@ def _duplicate_flags(sites, rows) -> list[Flag]:
 
 # --- problems found by the readers ------------------------------------------------------------
 
-_UNKNOWN_SITE_RE = re.compile(r"unknown site '([^']*)'")
-
-
-def problem_flags(problems, site_of=None, observer_of=None) -> list[Flag]:
-    """The readers' row problems as flags: ``unknown-site``, ``bad-value`` or ``unreadable-file``.
-
-    ``site_of`` / ``observer_of`` map (file, row) to the row's raw site and
-    observer cells, when the caller has them.
-
-    >>> p = RowProblem("logs/a.csv", 4, "site", "unknown site 'nowhere' (known: ridge)")
-    >>> f = problem_flags([p])[0]
-    >>> f.code, f.site, f.row
-    ('unknown-site', 'nowhere', 4)
-    """
-    site_of = site_of or {}
-    observer_of = observer_of or {}
-    out = []
-    for p in problems:
-        key = (p.file, p.row)
-        site = site_of.get(key) or None
-        match = _UNKNOWN_SITE_RE.search(p.message)
-        if p.row is None:
-            code, fix = "unreadable-file", "fix the file as the message says and send it again"
-        elif p.column == "site":
-            code = "unknown-site"
-            site = match.group(1) if match else site
-            fix = "use one of the campaign's site ids in the site column, or add the site to the campaign file"
-        else:
-            code = "bad-value"
-            fix = f"correct the {p.column or 'row'} cell as the message says" if p.column else "correct the row"
-        out.append(Flag(p.file, p.row, site, code, "error", str(p), fix, observer_of.get(key, ""),
-                        {"column": p.column} if p.column else {}))
-    return out
-
 
 # --- summary --------------------------------------------------------------------------------------
-
-
-def summarize(records, flags) -> tuple[SummaryRow, ...]:
-    """Rows read, accepted (no error flag) and flagged, per site and per site and observer.
-
-    ``records`` holds one (file, row, site, observer) per data row read.
-
-    >>> rec = [("a.csv", 1, "ridge", "T. O."), ("a.csv", 2, "ridge", "T. O.")]
-    >>> fl = [Flag("a.csv", 2, "ridge", "outlier", "error", "m", "f")]
-    >>> [(s.site, s.observer, s.read, s.accepted, s.errors) for s in summarize(rec, fl)]
-    [('ridge', '', 2, 1, 1), ('ridge', 'T. O.', 2, 1, 1)]
-    """
-    worst: dict[tuple, str] = {}
-    for f in flags:
-        if f.row is None:
-            continue
-        key = (f.file, f.row)
-        if worst.get(key) != "error":
-            worst[key] = f.severity
-    table: dict[tuple[str, str], list[int]] = {}
-    for file, row, site, observer in records:
-        state = worst.get((file, row))
-        keys = [(site or "", "")] + ([(site or "", observer)] if observer else [])
-        for key in keys:
-            cell = table.setdefault(key, [0, 0, 0, 0, 0])
-            cell[0] += 1
-            cell[1] += state != "error"
-            cell[2] += state is not None
-            cell[3] += state == "error"
-            cell[4] += state == "warning"
-    return tuple(SummaryRow(s, o, *v) for (s, o), v in sorted(table.items()))
 
 
 # --- entry points over a campaign's log ------------------------------------------------------------
@@ -1125,32 +993,17 @@ def check_shadow_log(campaign: Campaign, log) -> tuple[ShadowCheck, list[Flag]]:
     return result, problem_flags(tuple(log.problems) + tuple(extra))
 
 
-def _shadow_flags(campaign: Campaign, log) -> list[Flag]:
+def log_flags(campaign: Campaign, log) -> list[Flag]:
+    """The flags of a shadow log (what :func:`firstrung.flags.without_error_rows` leaves out)."""
     return list(check_shadow_log(campaign, log)[0].flags)
 
 
-def error_rows(campaign: Campaign, log, check=_shadow_flags) -> frozenset[tuple[str, int]]:
-    """(file, row) of every row ``check`` flags as an error: the rows reductions leave out.
+def check_campaign(campaign: Campaign) -> KindCheck:
+    """Read the campaign's shadow logs and check them: flags, refused rows, per-series diagnoses."""
+    from firstrung.methods.shadows.log import read_shadow_logs
 
-    ``check(campaign, log)`` gives the flags of one kind of log: the shadow
-    check by default, or :func:`firstrung.methods.eclipse.check.check_eclipse_log` /
-    ``check_phase_log``.
-    """
-    return frozenset((f.file, f.row) for f in check(campaign, log) if f.severity == "error" and f.row is not None)
+    log = read_shadow_logs(campaign)
+    result, problems = check_shadow_log(campaign, log)
+    return KindCheck(tuple(result.flags) + tuple(problems), result.series, result.noon_only)
 
 
-def without_error_rows(campaign: Campaign, log, check=_shadow_flags):
-    """The log without the rows ``check`` flags as errors, and how many were left out.
-
-    >>> from firstrung.campaign import parse_campaign
-    >>> from firstrung.logs import ShadowLog
-    >>> c = parse_campaign('[[site]]\\nid = "a"\\nlatitude_deg = 45.0\\nlongitude_deg = 7.0\\n')
-    >>> kept, left_out = without_error_rows(c, ShadowLog(*[np.array([])] * 13))
-    >>> left_out
-    0
-    """
-    if len(log) == 0:
-        return log, 0
-    bad = error_rows(campaign, log, check)
-    keep = np.array([(str(f), int(r)) not in bad for f, r in zip(log.file, log.row, strict=True)], bool)
-    return log.select(keep), int(np.sum(~keep))

@@ -48,7 +48,7 @@ from pathlib import Path
 
 import numpy as np
 
-from firstrung.campaign import EDGES, Campaign
+from firstrung.campaign import Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.errors import RowProblem
 from firstrung.times import (
@@ -60,39 +60,18 @@ from firstrung.times import (
     quoted,
 )
 
-__all__ = [
-    "ECLIPSE_EVENTS",
-    "QUARTERS",
-    "EclipseLog",
-    "PhaseLog",
-    "ShadowLog",
-    "read_eclipse_logs",
-    "read_phase_logs",
-    "read_shadow_logs",
-]
+__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "cell_text", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_rows", "time_sigma_s"]
 
-#: Eclipse events in their canonical spelling: umbral contacts, then feature timings.
-ECLIPSE_EVENTS = ("U1", "U2", "U3", "U4", "immersion", "emersion")
-#: Quarters of a half-moon timing.
-QUARTERS = ("first", "last")
 
-#: Largest accepted shadow length [m]; longer readings are typing errors.
-SHADOW_LIMIT_M = 1000.0
-#: Gnomon heights in a log must be below this [m].
-GNOMON_LIMIT_M = 100.0
 #: Largest accepted timing uncertainty [s]: beyond an hour a timing says nothing
 #: about a contact or a half moon, and the value is a unit typed wrongly.
 TIME_SIGMA_LIMIT_S = 3600.0
-#: Accepted air temperatures for refraction [deg C].
-TEMPERATURE_RANGE_C = (-80.0, 60.0)
-#: Accepted air pressures for refraction [hPa].
-PRESSURE_RANGE_HPA = (300.0, 1100.0)
 
-_UNIT_FACTORS_M = {"m": 1.0, "cm": 0.01, "mm": 0.001}
-_UNIT_WORDS = {"m": "metres", "cm": "centimetres", "mm": "millimetres"}
 _NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 
-_TIME_COLUMNS = ("time_utc", "time_local")
+#: Plain shadow rows take a direct path (same results as the full row checks; a test compares them).
+FAST_PATH = True
+TIME_COLUMNS = ("time_utc", "time_local")
 _TIME_EXAMPLES = {"time_utc": "2027-03-20T11:38:00Z", "time_local": "2027-03-20T12:38:00"}
 _SPAN_TEXT = f"{EPHEMERIS_FIRST_UTC[:10]} and {EPHEMERIS_LAST_UTC[:10]}"
 
@@ -100,7 +79,7 @@ _SPAN_TEXT = f"{EPHEMERIS_FIRST_UTC[:10]} and {EPHEMERIS_LAST_UTC[:10]}"
 # --- results -------------------------------------------------------------------
 
 
-class _Log:
+class LogRows:
     """Shared behaviour of the log results: length and row selection."""
 
     def __len__(self) -> int:
@@ -129,141 +108,6 @@ class _Log:
         return replace(self, **changes)
 
 
-@dataclass(frozen=True)
-class ShadowLog(_Log):
-    """The good rows of shadow logs, as equal-length arrays, and the problems found.
-
-    Attributes
-    ----------
-    file : numpy.ndarray of str
-        Log file of each row, relative to the campaign's folder when possible.
-    row : numpy.ndarray of int
-        1-based data row in that file.
-    site : numpy.ndarray of str
-        Site id.
-    time_utc : numpy.ndarray of datetime64[ms]
-        Time of the reading, UTC.
-    time_column : numpy.ndarray of str
-        ``"time_utc"`` or ``"time_local"``: how the time was given.
-    shadow_m : numpy.ndarray of float
-        Shadow length [m], converted from the column's unit.
-    shadow_column : numpy.ndarray of str
-        The length column it came from (``shadow_m``, ``shadow_cm`` or ``shadow_mm``).
-    gnomon_m : numpy.ndarray of float
-        Gnomon height from the log [m]; NaN when absent (use the campaign's).
-    edge : numpy.ndarray of object
-        Marked edge (``"umbra"``, ``"middle"``, ``"outer"``) or ``None`` when absent.
-    temperature_c : numpy.ndarray of float
-        Air temperature [deg C]; NaN when absent.
-    pressure_hpa : numpy.ndarray of float
-        Air pressure [hPa]; NaN when absent.
-    observer, note : numpy.ndarray of object
-        Free text; ``''`` when absent.
-    problems : tuple of RowProblem
-        Every rejected row or file.
-    rows_read : int
-        Data rows read, good and bad.
-    ignored_columns : tuple of str
-        Columns the reader does not know, in order of first appearance.
-    notes : tuple of str
-        One line per file read in a form other than the plain one (``;``
-        separators, decimal commas, UTF-16 ...), e.g.
-        ``"logs/a.csv: read as ';'-separated with decimal commas"``; not
-        problems: every reading in such a file is kept.
-    """
-
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
-    shadow_m: np.ndarray
-    shadow_column: np.ndarray
-    gnomon_m: np.ndarray
-    edge: np.ndarray
-    temperature_c: np.ndarray
-    pressure_hpa: np.ndarray
-    observer: np.ndarray
-    note: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class EclipseLog(_Log):
-    """The good rows of eclipse logs and the problems found.
-
-    Attributes
-    ----------
-    file, row, site, time_utc, time_column
-        As in :class:`ShadowLog`.
-    event : numpy.ndarray of str
-        ``U1``-``U4`` (umbral contacts) or ``immersion``/``emersion``.
-    feature : numpy.ndarray of object
-        Lunar feature of an immersion or emersion; ``''`` for contacts.
-    time_sigma_s : numpy.ndarray of float
-        The observer's timing uncertainty [s]; NaN when absent.
-    observer : numpy.ndarray of object
-        Free text; ``''`` when absent.
-    problems, rows_read, ignored_columns, notes
-        As in :class:`ShadowLog`.
-    """
-
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
-    event: np.ndarray
-    feature: np.ndarray
-    time_sigma_s: np.ndarray
-    observer: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class PhaseLog(_Log):
-    """The good rows of half-moon logs and the problems found.
-
-    Attributes
-    ----------
-    file, row, site, time_utc, time_column
-        As in :class:`ShadowLog`.
-    quarter : numpy.ndarray of str
-        ``first`` or ``last``.
-    elongation_deg : numpy.ndarray of float
-        Measured Sun-Moon angle at the judged half moon [deg]; NaN when absent.
-    illuminated_fraction : numpy.ndarray of float
-        Measured illuminated fraction [1]; NaN when absent.
-    time_sigma_s : numpy.ndarray of float
-        Timing uncertainty [s]; NaN when absent.
-    observer : numpy.ndarray of object
-        Free text; ``''`` when absent.
-    problems, rows_read, ignored_columns, notes
-        As in :class:`ShadowLog`.
-    """
-
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
-    quarter: np.ndarray
-    elongation_deg: np.ndarray
-    illuminated_fraction: np.ndarray
-    time_sigma_s: np.ndarray
-    observer: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
-
-
 # --- the shared core -----------------------------------------------------------
 
 #: Separators a log may use, and how a note names them.
@@ -287,7 +131,7 @@ _SAVE_AS = "save the file as CSV UTF-8"
 
 
 @dataclass(frozen=True)
-class _Slot:
+class Slot:
     """One logical column: a single name or a family of alternatives (units, time kinds)."""
 
     names: tuple[str, ...]
@@ -300,7 +144,7 @@ class _Slot:
 
 
 @dataclass
-class _Table:
+class Table:
     """The cells of one file, keyed by the chosen name of each slot, and how it was read."""
 
     label: str
@@ -348,7 +192,7 @@ class _Table:
         return value, None
 
 
-def _display_name(path: Path, campaign: Campaign) -> str:
+def display_name(path: Path, campaign: Campaign) -> str:
     """A log path as given relative to the campaign's folder when that is possible."""
     if campaign.path is None:
         return Path(path).as_posix()
@@ -377,7 +221,7 @@ def _utf16_without_bom(data: bytes) -> str | None:
     return None
 
 
-def _decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem | None]:
+def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem | None]:
     """The text of a file, how it was read when not as UTF-8, or the problem that stops it."""
 
     def refuse(message: str) -> tuple[None, None, RowProblem]:
@@ -421,7 +265,7 @@ def _decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem
         return data.decode("cp1252", errors="replace"), encoding, None
 
 
-def _is_skipped(cells: Sequence[str]) -> bool:
+def is_skipped(cells: Sequence[str]) -> bool:
     """Blank lines, lines of empty cells and comment lines (starting with ``#``)."""
     if not cells or all(not cell.strip(_BLANK_CHARS) for cell in cells):
         return True
@@ -440,7 +284,7 @@ def _sniff_delimiter(text: str, known: set[str]) -> str:
         reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
         try:
             header = next(
-                (cells for cells in itertools.islice(reader, _SNIFF_LINES) if not _is_skipped(cells)),
+                (cells for cells in itertools.islice(reader, _SNIFF_LINES) if not is_skipped(cells)),
                 [],
             )
         except csv.Error:
@@ -483,7 +327,7 @@ def _surplus_message(cells: Sequence[str], expected: int, delimiter: str) -> str
 
 
 def _choose_columns(
-    header: list[str], slots: Sequence[_Slot], label: str
+    header: list[str], slots: Sequence[Slot], label: str
 ) -> tuple[dict[str, str | None], list[RowProblem]]:
     """Which header name fills each slot, and the file-level problems of the header."""
     problems: list[RowProblem] = []
@@ -502,7 +346,7 @@ def _choose_columns(
         present = [name for name in slot.names if name in seen]
         chosen[slot.names[0]] = present[0] if len(present) == 1 else None
         if len(present) > 1:
-            if slot.names == _TIME_COLUMNS:
+            if slot.names == TIME_COLUMNS:
                 message = "both time_utc and time_local present; give one time column per file"
             else:
                 message = (
@@ -523,9 +367,9 @@ def _choose_columns(
     return chosen, problems
 
 
-def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
+def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
     """Read one CSV file into its data rows; file-level problems leave it without rows."""
-    table = _Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
+    table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError:
@@ -542,7 +386,7 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
         message = "not a usable file name (it holds a NUL character)"
         table.problems.append(RowProblem(label, None, None, message))
         return table
-    text, table.encoding, problem = _decode(data, label)
+    text, table.encoding, problem = decode(data, label)
     if problem is not None:
         table.problems.append(problem)
         return table
@@ -556,7 +400,7 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
     row_number = 0
     try:
         for cells in reader:
-            if _is_skipped(cells):
+            if is_skipped(cells):
                 continue
             if header is None:
                 header = [_normal_name(cell) for cell in cells]
@@ -609,7 +453,7 @@ def _read_table(path: Path, label: str, slots: Sequence[_Slot]) -> _Table:
     return table
 
 
-def _got(cell: str) -> str:
+def got(cell: str) -> str:
     return "an empty cell" if cell == "" else quoted(cell)
 
 
@@ -621,10 +465,10 @@ def _number(cell: str) -> float | None:
     return value if math.isfinite(value) else None
 
 
-class _Row:
+class Row:
     """The cells of one data row and the problems found in them."""
 
-    def __init__(self, table: _Table, row: int, cells: dict[str, str]) -> None:
+    def __init__(self, table: Table, row: int, cells: dict[str, str]) -> None:
         self.table = table
         self.row = row
         self.cells = cells
@@ -658,7 +502,7 @@ class _Row:
         value, reason = self.table.read_number(cell)
         if value is None or not ok(value):
             why = "" if reason is None else f" ({reason})"
-            self.problem(column, f"expected {expected}, got {_got(cell)}{why}")
+            self.problem(column, f"expected {expected}, got {got(cell)}{why}")
             return math.nan
         return value * factor
 
@@ -711,12 +555,12 @@ class _Row:
         return site_id, t
 
 
-def _read_all(
+def read_rows(
     campaign: Campaign,
     kind: str,
     paths: Iterable[str | os.PathLike[str]] | None,
-    slots: Sequence[_Slot],
-    parse_row: Callable[[_Row, Campaign], dict | None],
+    slots: Sequence[Slot],
+    parse_row: Callable[[Row, Campaign], dict | None],
     fast_row: Callable | None = None,
 ) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
     """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes.
@@ -732,13 +576,13 @@ def _read_all(
     notes: list[str] = []
     rows_read = 0
     for path in chosen_paths:
-        label = _display_name(Path(path), campaign)
+        label = display_name(Path(path), campaign)
         table = _read_table(Path(path), label, slots)
         problems.extend(table.problems)
         if table.note is not None:
             notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
-        fast = fast_row if (fast_row is not None and _FAST_PATH and table.delimiter == ","
+        fast = fast_row if (fast_row is not None and FAST_PATH and table.delimiter == ","
                             and not table.decimal_comma) else None
         for row_number, cells in table.rows:
             rows_read += 1
@@ -751,7 +595,7 @@ def _read_all(
                     values["row"] = row_number
                     good.append(values)
                     continue
-            row = _Row(table, row_number, cells)
+            row = Row(table, row_number, cells)
             values = parse_row(row, campaign)
             if row.problems or values is None:
                 problems.extend(row.problems)
@@ -762,7 +606,7 @@ def _read_all(
     return good, problems, rows_read, tuple(ignored), tuple(notes)
 
 
-def _arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
+def column_arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
     """Columns of the good rows as numpy arrays of the given dtypes."""
     return {
         name: np.array([values[name] for values in good], dtype=dtype)
@@ -770,7 +614,7 @@ def _arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
     }
 
 
-_COMMON_DTYPES: dict[str, object] = {
+COMMON_DTYPES: dict[str, object] = {
     "file": str,
     "row": np.int64,
     "site": str,
@@ -779,11 +623,11 @@ _COMMON_DTYPES: dict[str, object] = {
 }
 
 
-def _text(row: _Row, slot_name: str) -> str:
+def cell_text(row: Row, slot_name: str) -> str:
     return row.cell(slot_name)
 
 
-def _time_sigma_s(row: _Row) -> float:
+def time_sigma_s(row: Row) -> float:
     """The row's timing uncertainty [s]; NaN when absent or refused."""
     sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
     if sigma_s > TIME_SIGMA_LIMIT_S:
@@ -798,433 +642,10 @@ def _time_sigma_s(row: _Row) -> float:
 
 # --- shadows --------------------------------------------------------------------
 
-_SHADOW_SLOTS = (
-    _Slot(("site",), required=True),
-    _Slot(_TIME_COLUMNS, required=True),
-    _Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True, numeric=True),
-    _Slot(("gnomon_m", "gnomon_cm", "gnomon_mm"), numeric=True),
-    _Slot(("edge",)),
-    _Slot(("temperature_c",), numeric=True),
-    _Slot(("pressure_hpa",), numeric=True),
-    _Slot(("observer",)),
-    _Slot(("note",)),
-)
-
-
-def _unit_of(column: str) -> str:
-    return column.rsplit("_", 1)[1]
-
-
-def _parse_shadow_row(row: _Row, campaign: Campaign) -> dict:
-    site_id, t = row.site_and_time(campaign)
-    shadow_column = row.column("shadow_m")
-    unit = _unit_of(shadow_column)
-    shadow_m = row.number(
-        "shadow_m",
-        f"a positive number of {_UNIT_WORDS[unit]}",
-        lambda x: x > 0.0,
-        factor=_UNIT_FACTORS_M[unit],
-        required=True,
-    )
-    if shadow_m > SHADOW_LIMIT_M:
-        row.problem(
-            shadow_column,
-            f"expected a shadow length of at most {SHADOW_LIMIT_M:g} m, "
-            f"got {quoted(row.cell('shadow_m'))} ({shadow_m:g} m)",
-        )
-    gnomon_m = math.nan
-    gnomon_column = row.column("gnomon_m")
-    if gnomon_column is not None:
-        gnomon_unit = _unit_of(gnomon_column)
-        gnomon_m = row.number(
-            "gnomon_m",
-            f"a positive number of {_UNIT_WORDS[gnomon_unit]}",
-            lambda x: x > 0.0,
-            factor=_UNIT_FACTORS_M[gnomon_unit],
-        )
-        if gnomon_m >= GNOMON_LIMIT_M:
-            row.problem(
-                gnomon_column,
-                f"expected a gnomon height below {GNOMON_LIMIT_M:g} m, "
-                f"got {quoted(row.cell('gnomon_m'))} ({gnomon_m:g} m)",
-            )
-    edge_text = row.cell("edge")
-    edge = None
-    if edge_text:
-        edge = edge_text.lower()
-        if edge not in EDGES:
-            row.problem("edge", f"expected edge umbra, middle or outer, got {quoted(edge_text)}")
-    low_c, high_c = TEMPERATURE_RANGE_C
-    temperature_c = row.number(
-        "temperature_c",
-        f"a temperature between {low_c:g} and {high_c:g} degrees Celsius",
-        lambda x: low_c <= x <= high_c,
-    )
-    low_hpa, high_hpa = PRESSURE_RANGE_HPA
-    pressure_hpa = row.number(
-        "pressure_hpa",
-        f"a pressure between {low_hpa:g} and {high_hpa:g} hPa",
-        lambda x: low_hpa <= x <= high_hpa,
-    )
-    return {
-        "site": site_id,
-        "time_utc": t,
-        "time_column": row.column("time_utc"),
-        "shadow_m": shadow_m,
-        "shadow_column": shadow_column,
-        "gnomon_m": gnomon_m,
-        "edge": edge,
-        "temperature_c": temperature_c,
-        "pressure_hpa": pressure_hpa,
-        "observer": _text(row, "observer"),
-        "note": _text(row, "note"),
-    }
-
-
-@dataclass(frozen=True)
-class ShadowInstruments:
-    """Each shadow row's gnomon and errors, the log's own values first, else the campaign's.
-
-    ``ok`` marks the rows that have a gnomon height at all (a row of a site
-    without ``[site.gnomon]`` must give ``gnomon_m``); ``problems`` says why
-    the others are refused.
-    """
-
-    ok: np.ndarray
-    site_index: np.ndarray
-    gnomon_m: np.ndarray
-    gnomon_sigma_m: np.ndarray
-    shadow_sigma_m: np.ndarray
-    edge: np.ndarray
-    problems: tuple[RowProblem, ...]
-
-
-def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
-    """The gnomon, edge and stated errors of every row, with the campaign's defaults filled in.
-
-    Per-site values are gathered once and indexed by each row's site, so the
-    cost does not grow with a loop over rows.
-    """
-    from firstrung.campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
-
-    index = {s.id: i for i, s in enumerate(campaign.sites)}
-    ids, inverse = np.unique(np.asarray(log.site, dtype=str), return_inverse=True)
-    site_index = np.array([index[s] for s in ids], dtype=int)[inverse] if len(log) else np.zeros(0, int)
-    gnomons = [s.gnomon for s in campaign.sites]
-    has = np.array([g is not None for g in gnomons], bool)
-    height = np.array([g.height_m if g is not None else np.nan for g in gnomons], float)
-    height_sigma = np.array([g.height_sigma_m if g is not None else DEFAULT_HEIGHT_SIGMA_M for g in gnomons], float)
-    shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
-    site_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
-    row_height = np.asarray(log.gnomon_m, float)
-    ok = has[site_index] | np.isfinite(row_height)
-    problems = tuple(
-        RowProblem(
-            str(log.file[k]), int(log.row[k]), "gnomon_m",
-            f"site '{log.site[k]}' has no [site.gnomon] in the campaign file; give gnomon_m in the log or add it",
-        )
-        for k in np.flatnonzero(~ok)
-    )
-    row_edge = np.asarray(log.edge, dtype=object)
-    given = np.array([e is not None and e != "" for e in row_edge], bool) if len(log) else np.zeros(0, bool)
-    return ShadowInstruments(
-        ok=ok,
-        site_index=site_index,
-        gnomon_m=np.where(np.isfinite(row_height), row_height, height[site_index]),
-        gnomon_sigma_m=height_sigma[site_index],
-        shadow_sigma_m=shadow_sigma[site_index],
-        edge=np.where(given, row_edge, site_edge[site_index]) if len(log) else np.zeros(0, dtype=object),
-        problems=problems,
-    )
-
-
-#: Whether plain rows take the fast path (a test compares both paths on every corpus file).
-_FAST_PATH = True
-_PLAIN_UTC_RE = re.compile(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")
-_PLAIN_NUMBER_RE = re.compile(r"^\d+(?:\.\d+)?$")
-_SPAN_MS = (np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LAST_UTC, "ms"))
-
-
-def _plain(cell: str, low: float, high: float, factor: float = 1.0) -> float | None:
-    """A plain positive decimal within [low, high] after ``factor``, else None (the slow path decides)."""
-    if not _PLAIN_NUMBER_RE.match(cell):
-        return None
-    value = float(cell) * factor
-    return value if low <= value <= high else None
-
-
-def _fast_shadow_row(table: _Table, cells: dict[str, str], campaign: Campaign) -> dict | None:
-    """A plain shadow row (known site, ISO UTC time, plain numbers) read without the checks' detours."""
-    chosen = table.chosen
-    site_id = cells.get(chosen["site"], "")
-    if site_id not in campaign._site_by_id or chosen["time_utc"] != "time_utc":
-        return None
-    m = _PLAIN_UTC_RE.match(cells.get("time_utc", ""))
-    if m is None:
-        return None
-    try:
-        t = np.datetime64(f"{m.group(1)}T{m.group(2)}", "ms")
-    except ValueError:
-        return None
-    if not (_SPAN_MS[0] <= t <= _SPAN_MS[1]):
-        return None
-    shadow_column = chosen["shadow_m"]
-    shadow_m = _plain(cells.get(shadow_column, ""), 1e-300, SHADOW_LIMIT_M, _UNIT_FACTORS_M[_unit_of(shadow_column)])
-    if shadow_m is None or shadow_m <= 0.0:
-        return None
-    gnomon_m = math.nan
-    gnomon_column = chosen.get("gnomon_m")
-    if gnomon_column is not None and cells.get(gnomon_column, ""):
-        gnomon_m = _plain(cells[gnomon_column], 1e-300, GNOMON_LIMIT_M * (1 - 1e-12), _UNIT_FACTORS_M[_unit_of(gnomon_column)])
-        if gnomon_m is None or gnomon_m <= 0.0:
-            return None
-    edge = None
-    edge_column = chosen.get("edge")
-    if edge_column is not None and cells.get(edge_column, ""):
-        edge = cells[edge_column].lower()
-        if edge not in EDGES:
-            return None
-    weather = []
-    for slot, (low, high) in (("temperature_c", TEMPERATURE_RANGE_C), ("pressure_hpa", PRESSURE_RANGE_HPA)):
-        column = chosen.get(slot)
-        cell = cells.get(column, "") if column is not None else ""
-        if cell == "":
-            weather.append(math.nan)
-            continue
-        value = _plain(cell.lstrip("-") if slot == "temperature_c" else cell, 0.0, max(abs(low), high))
-        if value is None:
-            return None
-        value = -value if cell.startswith("-") else value
-        if not low <= value <= high:
-            return None
-        weather.append(value)
-    observer_column, note_column = chosen.get("observer"), chosen.get("note")
-    return {
-        "site": site_id,
-        "time_utc": t,
-        "time_column": "time_utc",
-        "shadow_m": shadow_m,
-        "shadow_column": shadow_column,
-        "gnomon_m": gnomon_m,
-        "edge": edge,
-        "temperature_c": weather[0],
-        "pressure_hpa": weather[1],
-        "observer": cells.get(observer_column, "") if observer_column is not None else "",
-        "note": cells.get(note_column, "") if note_column is not None else "",
-    }
-
-
-def read_shadow_logs(
-    campaign: Campaign, paths: Iterable[str | os.PathLike[str]] | None = None
-) -> ShadowLog:
-    """Read shadow logs: the good rows and a problem for each bad one.
-
-    Parameters
-    ----------
-    campaign : Campaign
-        Gives the known sites, their time zones and the default files.
-    paths : iterable of path-like, optional
-        Files to read instead of the campaign's ``[logs] shadows``.
-
-    Returns
-    -------
-    ShadowLog
-        Never raises on bad content: problems are in ``problems``.
-
-    Notes
-    -----
-    Columns: ``site``, ``time_utc`` or ``time_local``, exactly one of
-    ``shadow_m``/``shadow_cm``/``shadow_mm``; optional
-    ``gnomon_m``/``gnomon_cm``/``gnomon_mm``, ``edge``, ``temperature_c``,
-    ``pressure_hpa``, ``observer``, ``note``.
-    """
-    good, problems, rows_read, ignored, notes = _read_all(
-        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row, _fast_shadow_row
-    )
-    dtypes = dict(_COMMON_DTYPES)
-    dtypes.update(
-        shadow_m=float,
-        shadow_column=str,
-        gnomon_m=float,
-        edge=object,
-        temperature_c=float,
-        pressure_hpa=float,
-        observer=object,
-        note=object,
-    )
-    return ShadowLog(
-        **_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
-    )
-
 
 # --- eclipse --------------------------------------------------------------------
-
-_ECLIPSE_SLOTS = (
-    _Slot(("site",), required=True),
-    _Slot(_TIME_COLUMNS, required=True),
-    _Slot(("event",), required=True),
-    _Slot(("feature",)),
-    _Slot(("time_sigma_s",), numeric=True),
-    _Slot(("observer",)),
-)
-_EVENT_SPELLINGS = {event.lower(): event for event in ECLIPSE_EVENTS}
-
-
-def _parse_eclipse_row(row: _Row, campaign: Campaign) -> dict:
-    site_id, t = row.site_and_time(campaign)
-    event_text = row.cell("event")
-    event = _EVENT_SPELLINGS.get(event_text.lower())
-    feature = row.cell("feature")
-    if event is None:
-        row.problem(
-            "event",
-            f"expected an event U1, U2, U3, U4, immersion or emersion, got {_got(event_text)}",
-        )
-    elif event in ("immersion", "emersion") and not feature:
-        row.problem(
-            "feature",
-            f"expected the lunar feature of the {event} (e.g. Kepler), got an empty cell",
-        )
-    elif event.startswith("U") and feature:
-        row.problem(
-            "feature",
-            f"expected an empty cell for the umbral contact {event}, got {quoted(feature)}",
-        )
-    time_sigma_s = _time_sigma_s(row)
-    return {
-        "site": site_id,
-        "time_utc": t,
-        "time_column": row.column("time_utc"),
-        "event": event,
-        "feature": feature,
-        "time_sigma_s": time_sigma_s,
-        "observer": _text(row, "observer"),
-    }
-
-
-def read_eclipse_logs(
-    campaign: Campaign, paths: Iterable[str | os.PathLike[str]] | None = None
-) -> EclipseLog:
-    """Read lunar-eclipse timing logs: the good rows and a problem for each bad one.
-
-    Parameters
-    ----------
-    campaign : Campaign
-        Gives the known sites, their time zones and the default files.
-    paths : iterable of path-like, optional
-        Files to read instead of the campaign's ``[logs] eclipse``.
-
-    Returns
-    -------
-    EclipseLog
-        Never raises on bad content: problems are in ``problems``.
-
-    Notes
-    -----
-    Columns: ``site``, ``time_utc`` or ``time_local``, ``event`` (``U1``-``U4``
-    in any case, ``immersion``, ``emersion``); optional ``feature`` (required
-    for immersion and emersion, empty for umbral contacts), ``time_sigma_s``,
-    ``observer``.
-    """
-    good, problems, rows_read, ignored, notes = _read_all(
-        campaign, "eclipse", paths, _ECLIPSE_SLOTS, _parse_eclipse_row
-    )
-    dtypes = dict(_COMMON_DTYPES)
-    dtypes.update(event=str, feature=object, time_sigma_s=float, observer=object)
-    return EclipseLog(
-        **_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
-    )
 
 
 # --- phases ---------------------------------------------------------------------
 
-_PHASE_SLOTS = (
-    _Slot(("site",), required=True),
-    _Slot(_TIME_COLUMNS, required=True),
-    _Slot(("quarter",), required=True),
-    _Slot(("elongation_deg",), numeric=True),
-    _Slot(("illuminated_fraction",), numeric=True),
-    _Slot(("time_sigma_s",), numeric=True),
-    _Slot(("observer",)),
-)
 
-
-def _parse_phase_row(row: _Row, campaign: Campaign) -> dict:
-    site_id, t = row.site_and_time(campaign)
-    quarter_text = row.cell("quarter")
-    quarter = quarter_text.lower()
-    if quarter not in QUARTERS:
-        row.problem("quarter", f"expected quarter first or last, got {_got(quarter_text)}")
-    elongation_deg = row.number(
-        "elongation_deg",
-        "an elongation between 0 and 180 degrees (exclusive)",
-        lambda x: 0.0 < x < 180.0,
-    )
-    illuminated_fraction = row.number(
-        "illuminated_fraction", "an illuminated fraction between 0 and 1", lambda x: 0 <= x <= 1
-    )
-    if row.cell("elongation_deg") and row.cell("illuminated_fraction"):
-        row.problem(None, "give elongation_deg or illuminated_fraction in a row, not both")
-    time_sigma_s = _time_sigma_s(row)
-    return {
-        "site": site_id,
-        "time_utc": t,
-        "time_column": row.column("time_utc"),
-        "quarter": quarter,
-        "elongation_deg": elongation_deg,
-        "illuminated_fraction": illuminated_fraction,
-        "time_sigma_s": time_sigma_s,
-        "observer": _text(row, "observer"),
-    }
-
-
-def read_phase_logs(
-    campaign: Campaign, paths: Iterable[str | os.PathLike[str]] | None = None
-) -> PhaseLog:
-    """Read half-moon timing logs: the good rows and a problem for each bad one.
-
-    Parameters
-    ----------
-    campaign : Campaign
-        Gives the known sites, their time zones and the default files.
-    paths : iterable of path-like, optional
-        Files to read instead of the campaign's ``[logs] phases``.
-
-    Returns
-    -------
-    PhaseLog
-        Never raises on bad content: problems are in ``problems``.
-
-    Notes
-    -----
-    Columns: ``site``, ``time_utc`` or ``time_local``, ``quarter`` (``first``
-    or ``last``); optional ``elongation_deg`` (0-180 deg, exclusive) or
-    ``illuminated_fraction`` (0-1), not both in one row; ``time_sigma_s``,
-    ``observer``.
-    """
-    good, problems, rows_read, ignored, notes = _read_all(
-        campaign, "phases", paths, _PHASE_SLOTS, _parse_phase_row
-    )
-    dtypes = dict(_COMMON_DTYPES)
-    dtypes.update(
-        quarter=str,
-        elongation_deg=float,
-        illuminated_fraction=float,
-        time_sigma_s=float,
-        observer=object,
-    )
-    return PhaseLog(
-        **_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
-    )
