@@ -128,7 +128,8 @@ def bench_sun_positions(n_rows, n_sites, repeats):
 
 def bench_reduce(n_sites, per_site, repeats):
     """reduce shadows on a synthetic campaign (no baseline)."""
-    from firstrung.methods.shadows.reduction import ShadowReadings, SiteInput, reduce_shadows
+    from firstrung.methods.shadows.inputs import ShadowReadings, SiteInput
+    from firstrung.methods.shadows.reduction import reduce_shadows
     from firstrung.methods.shadows.rehearsal import (
         ShadowErrors,
         reading_times_utc,
@@ -203,7 +204,8 @@ def bench_check(n_sites, n_rows, repeats):
     import tempfile
 
     from firstrung.campaign import read_campaign
-    from firstrung.methods.shadows.check import check_shadow_rows, check_sites, shadow_rows
+    from firstrung.methods.shadows.check import check_shadow_rows
+    from firstrung.methods.shadows.check_statistics import check_sites, shadow_rows
     from firstrung.methods.shadows.log import read_shadow_logs
 
     rng = np.random.default_rng(5)

@@ -7,15 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from firstrung.campaign import (
-    Baseline,
-    Campaign,
-    EclipseSettings,
-    Gnomon,
-    Site,
-    parse_campaign,
-    read_campaign,
-)
+from firstrung.campaign import parse_campaign, read_campaign
+from firstrung.campaign_model import Baseline, Campaign, EclipseSettings, Gnomon, Site
 from firstrung.errors import InputError
 
 VALID = """\

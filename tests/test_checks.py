@@ -23,11 +23,10 @@ from firstrung import blunders
 from firstrung.ephemeris import solar_transit
 from firstrung.errors import EphemerisRangeError, RowProblem
 from firstrung.flags import Flag, problem_flags, summarize, without_error_rows
-from firstrung.methods.shadows.check import (
+from firstrung.methods.shadows.check import check_shadow_rows, log_flags
+from firstrung.methods.shadows.check_statistics import (
     CheckSite,
     ShadowRows,
-    check_shadow_rows,
-    log_flags,
     series_statistic,
     sun_altitude_rad,
 )
@@ -386,8 +385,9 @@ def _write_campaign(folder, sites, rows):
 
 def test_reduction_after_check_gives_the_clean_radius(tmp_path):
     from firstrung.campaign import read_campaign
+    from firstrung.methods.shadows.inputs import ShadowReadings
     from firstrung.methods.shadows.log import read_shadow_logs
-    from firstrung.methods.shadows.reduction import ShadowReadings, reduce_shadows
+    from firstrung.methods.shadows.reduction import reduce_shadows
     from firstrung.methods.shadows.run import baseline_inputs, shadow_readings, site_inputs
 
     rng = np.random.default_rng(21)

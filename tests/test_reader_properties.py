@@ -16,7 +16,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from firstrung.campaign import Campaign, parse_campaign, read_campaign
+from firstrung.campaign import parse_campaign, read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
 from firstrung.methods.eclipse.log import EclipseLog, read_eclipse_logs
 from firstrung.methods.phases.log import PhaseLog, read_phase_logs

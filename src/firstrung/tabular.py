@@ -48,7 +48,7 @@ from pathlib import Path
 
 import numpy as np
 
-from firstrung.campaign import Campaign
+from firstrung.campaign_model import Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.errors import RowProblem
 from firstrung.times import (

@@ -281,7 +281,7 @@ def test_feature_edge_times_bracket_greatest_and_refuse_penumbral():
     # at the computed instants Copernicus sits on the Danjon umbra's edge at its depth
     p = feature_points(t, 9.62, -20.08)
     g = p.geometry
-    from firstrung.methods.eclipse.reduction import umbra_radius_deg
+    from firstrung.methods.eclipse.umbra import umbra_radius_deg
 
     edge = umbra_radius_deg(g.moon_parallax_deg, g.sun_parallax_deg, g.sun_semidiameter_deg) * p.edge_scale + p.edge_offset_deg
     assert np.allclose(p.distance_deg, edge, atol=1e-6)

@@ -21,6 +21,7 @@ from firstrung.ephemeris import _skyfield_time
 from firstrung.ephemeris._core import _body, _loaded
 from firstrung.errors import EphemerisRangeError, InputError
 from firstrung.methods.phases import prediction as ep
+from firstrung.methods.phases.topocentric import both_up_windows, sun_moon_topocentric
 
 SECOND = 1.0
 MINUTE = 60.0
@@ -133,7 +134,7 @@ def test_geocentric_and_site_dichotomies_match_astropy(quarters_2025):
         ref = np.array([np.datetime64(r["dichotomy_utc"][:-1]) for r in sel], dtype="datetime64[us]")
         ours = ep.topocentric_dichotomy_utc(quarters_2025.dichotomy_utc, lat, lon, elev)
         worst_s = max(worst_s, float(np.abs(_s(ours - ref)).max()))
-        g = ep.sun_moon_topocentric(ours, lat, lon, elev)
+        g = sun_moon_topocentric(ours, lat, lon, elev)
         worst_e = max(worst_e, float(np.abs(g.elongation_deg - np.array([float(r["elongation_deg"]) for r in sel])).max()))
         offsets.append(_s(ours - quarters_2025.dichotomy_utc) / 60.0)
     assert worst_s < 1 * SECOND
@@ -157,7 +158,7 @@ def test_apparent_topocentric_elongation_and_altitudes_match_skyfield():
     observer = _body("earth") + wgs84.latlon(lat, lon, elevation_m=elev)
     moon = observer.at(t).observe(_body("moon")).apparent()
     sun = observer.at(t).observe(_body("sun")).apparent()
-    g = ep.sun_moon_topocentric(times, lat, lon, elev)
+    g = sun_moon_topocentric(times, lat, lon, elev)
     assert np.abs(g.apparent_elongation_deg - moon.separation_from(sun).degrees).max() < 0.5 * ARCSEC
     assert np.abs(g.moon_altitude_deg - moon.altaz()[0].degrees).max() < 0.5 * ARCSEC
     assert np.abs(g.sun_altitude_deg - sun.altaz()[0].degrees).max() < 0.5 * ARCSEC
@@ -173,7 +174,7 @@ def test_topocentric_quadrature_comes_after_first_and_before_last_half_moon(quar
     q = quarters_2025
     half = ep.topocentric_dichotomy_utc(q.dichotomy_utc, -33.9, 151.1, 40.0)
     quad = ep.topocentric_quadrature_utc(half, -33.9, 151.1, 40.0)
-    g = ep.sun_moon_topocentric(quad, -33.9, 151.1, 40.0)
+    g = sun_moon_topocentric(quad, -33.9, 151.1, 40.0)
     assert np.abs(g.elongation_deg - 90.0).max() < 0.001 * ARCSEC
     lag_min = _s(quad - half) / 60.0
     first = q.quarter == "first"
@@ -187,7 +188,7 @@ def test_windows_edges_against_skyfield_altitudes():
     center = np.array(["2027-03-15T16:09"], dtype="datetime64[us]")
     lat, lon, elev = np.array([47.8, 39.2]), np.array([8.9, 9.1]), np.array([450.0, 35.0])
     target = ep.topocentric_dichotomy_utc(center[:, None], lat, lon, elev)
-    w = ep.both_up_windows(center, target, lat, lon, elev, half_span_h=24, min_altitude_deg=10.0)
+    w = both_up_windows(center, target, lat, lon, elev, half_span_h=24, min_altitude_deg=10.0)
     assert len(w) >= 2
     for i in range(len(w)):
         observer = _body("earth") + wgs84.latlon(lat[w.site[i]], lon[w.site[i]], elevation_m=elev[w.site[i]])
@@ -213,16 +214,16 @@ def test_bad_ranges_are_refused():
     with pytest.raises(EphemerisRangeError):
         ep.quarters_between("2060-01-01T00:00Z", "2060-02-01T00:00Z")
     with pytest.raises(InputError):
-        ep.sun_moon_topocentric("2025-01-06T23:59:20", 46.2, 7.4)  # naive time
+        sun_moon_topocentric("2025-01-06T23:59:20", 46.2, 7.4)  # naive time
     with pytest.raises(InputError, match="min_altitude_deg"):
-        ep.both_up_windows(np.array(["2025-01-06"], "datetime64[us]"), np.array([["2025-01-06"]], "datetime64[us]"),
+        both_up_windows(np.array(["2025-01-06"], "datetime64[us]"), np.array([["2025-01-06"]], "datetime64[us]"),
                            [46.0], [7.0], [0.0], min_altitude_deg=95.0)
 
 
 def test_scalar_and_array_shapes():
-    g = ep.sun_moon_topocentric("2025-01-06T23:59:20Z", 46.2, 7.4)
+    g = sun_moon_topocentric("2025-01-06T23:59:20Z", 46.2, 7.4)
     assert np.shape(g.elongation_deg) == ()
-    g = ep.sun_moon_topocentric(np.array(["2025-01-06T23:59"], "datetime64[s]"), [46.2, -33.9], [7.4, 151.1])
+    g = sun_moon_topocentric(np.array(["2025-01-06T23:59"], "datetime64[s]"), [46.2, -33.9], [7.4, 151.1])
     assert g.elongation_deg.shape == (2,)
     t = ep.topocentric_dichotomy_utc(np.array(["2025-01-06T23:41"], "datetime64[s]")[:, None], [46.2, -33.9], [7.4, 151.1])
     assert t.shape == (1, 2)

@@ -17,15 +17,16 @@ import numpy as np
 import pytest
 
 from firstrung.errors import ComputationError, InputError
+from firstrung.methods.eclipse.chords import combine_timings, solve_chords
 from firstrung.methods.eclipse.reduction import (
-    combine_timings,
     distance_in_km,
     fit_umbra_enlargement,
+    reduce_eclipse_timings,
+)
+from firstrung.methods.eclipse.umbra import (
     moon_parallax_from_umbra_deg,
     penumbra_radius_deg,
-    reduce_eclipse_timings,
     shadow_rate_from_sky_rate_deg_per_h,
-    solve_chords,
     umbra_radius_deg,
 )
 from firstrung.uncertainty import Measured

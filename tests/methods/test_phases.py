@@ -18,7 +18,9 @@ import pytest
 from firstrung.errors import InputError
 from firstrung.methods.phases import prediction as ep
 from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.interval_method import interval_method
 from firstrung.methods.phases.run import PhaseSettings, run_phases
+from firstrung.methods.phases.topocentric import sun_moon_topocentric
 
 ARCMIN = 1.0 / 60.0
 ARCSEC = 1.0 / 3600.0
@@ -122,7 +124,7 @@ def _truth(first="2025-01-01", last="2025-12-31"):
     lon = np.array([s[2] for s in SITES])
     elev = np.array([s[3] for s in SITES])
     half = ep.topocentric_dichotomy_utc(q.dichotomy_utc[:, None], lat, lon, elev)
-    g = ep.sun_moon_topocentric(half, lat, lon, elev)
+    g = sun_moon_topocentric(half, lat, lon, elev)
     return q, half, g, (lat, lon, elev)
 
 
@@ -177,7 +179,7 @@ def test_perfect_timings_and_photo_series_give_the_true_ratio(tmp_path):
     for k in range(len(q)):
         for j, s in enumerate(SITES):
             shots = half[k, j] + np.array([-90, -45, 0, 45, 90]) * np.timedelta64(60, "s")
-            seen = ep.sun_moon_topocentric(shots, lat[j], lon[j], elev[j])
+            seen = sun_moon_topocentric(shots, lat[j], lon[j], elev[j])
             if seen.moon_altitude_deg.min() > 2:
                 rows.append([s[0], _z(half[k, j]), str(q.quarter[k]), "", "", "60", "timer"])
                 rows += [[s[0], _z(t), str(q.quarter[k]), "", f"{f:.7f}", "", "camera"]
@@ -235,7 +237,7 @@ def test_sixty_eight_percent_intervals_hold_the_truth_about_68_percent_of_the_ti
     j = rng.integers(0, len(SITES), n)
     sigma_s = 120.0
     t = half[k, j] + (rng.normal(0, sigma_s, n) * 1e6).astype("timedelta64[us]")
-    seen = ep.sun_moon_topocentric(t, lat[j], lon[j], elev[j])
+    seen = sun_moon_topocentric(t, lat[j], lon[j], elev[j])
     truth = (g.sun_distance_km / g.moon_distance_km)[k, j]
     inside = 0
     for i in range(n):
@@ -254,9 +256,9 @@ def test_interval_method_ignoring_the_moons_motion_is_far_off_and_the_correction
     j = 0
     times = half[:, j]
     quad = ep.topocentric_quadrature_utc(times, lat[j], lon[j], elev[j])
-    rate = ep.sun_moon_topocentric(quad, lat[j], lon[j], elev[j]).elongation_rate_deg_per_h
+    rate = sun_moon_topocentric(quad, lat[j], lon[j], elev[j]).elongation_rate_deg_per_h
     hours = (times - times[0]).astype(np.int64) / 3.6e9
-    result = m.interval_method(
+    result = interval_method(
         ["north"] * len(q), q.quarter, np.arange(len(q)), hours, np.full(len(q), 1 / 60),
         perfect_time_h=hours, quadrature_h=(quad - times[0]).astype(np.int64) / 3.6e9, rate_deg_per_h=rate,
     )

@@ -13,16 +13,13 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from firstrung.errors import ComputationError
-from firstrung.methods.shadows.reduction import (
-    BaselineInput,
-    ShadowReadings,
-    SiteInput,
+from firstrung.methods.shadows.altitude import (
     centre_altitude_deg,
     edge_altitude_deg,
-    monte_carlo_radius,
     penumbra_width_m,
-    reduce_shadows,
 )
+from firstrung.methods.shadows.inputs import BaselineInput, ShadowReadings, SiteInput
+from firstrung.methods.shadows.reduction import monte_carlo_radius, reduce_shadows
 from firstrung.methods.shadows.rehearsal import (
     ShadowErrors,
     reading_times_utc,

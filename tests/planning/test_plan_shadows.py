@@ -11,13 +11,14 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from firstrung.errors import InputError
+from firstrung.methods.shadows.inputs import ShadowReadings, SiteInput
 from firstrung.methods.shadows.prediction import (
     PlanSite,
     ShadowConstraints,
     plan_shadows,
     shadow_length_m,
 )
-from firstrung.methods.shadows.reduction import ShadowReadings, SiteInput, reduce_shadows
+from firstrung.methods.shadows.reduction import reduce_shadows
 from firstrung.methods.shadows.rehearsal import (
     ShadowErrors,
     reading_times_utc,

@@ -16,7 +16,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from firstrung import tabular as _logs
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
 from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize
 

@@ -8,7 +8,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from firstrung.app.ladder import Draw, Ladder, LadderInputs, climb, earth_radius_draw
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
 
 

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from firstrung.campaign import Campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import RowProblem
 from firstrung.tabular import (
     COMMON_DTYPES,

@@ -42,7 +42,7 @@ from firstrung.ephemeris._core import (
     ephemeris_span_utc,
 )
 from firstrung.errors import InputError
-from firstrung.methods.eclipse.reduction import CONVENTIONS, penumbra_radius_deg, umbra_radius_deg
+from firstrung.methods.eclipse.umbra import CONVENTIONS, penumbra_radius_deg, umbra_radius_deg
 
 #: Names of the events of a lunar eclipse, in time order (greatest eclipse between U2 and U3).
 EVENTS = ("P1", "U1", "U2", "greatest", "U3", "U4", "P4")

@@ -24,22 +24,27 @@ from importlib import resources
 
 import numpy as np
 
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
-from firstrung.methods.eclipse.log import read_eclipse_logs
-from firstrung.methods.eclipse.reduction import (
+from firstrung.methods.eclipse.chords import (
     CONTACTS,
-    CONVENTIONS,
     DEFAULT_CONTACT_SIGMA_S,
     DEFAULT_CRATER_SIGMA_S,
     CombinedTimings,
-    EclipseReduction,
-    EnlargementFit,
     FeatureOffsets,
     combine_timings,
+)
+from firstrung.methods.eclipse.log import read_eclipse_logs
+from firstrung.methods.eclipse.reduction import (
+    EclipseReduction,
+    EnlargementFit,
     distance_in_km,
     fit_umbra_enlargement,
     reduce_eclipse_timings,
+)
+from firstrung.methods.eclipse.umbra import (
+    CONVENTIONS,
     shadow_rate_from_sky_rate_deg_per_h,
     umbra_radius_deg,
 )

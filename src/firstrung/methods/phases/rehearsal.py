@@ -20,8 +20,8 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, min_altitude_d
     photographs the Moon five times 30 min apart and measures the lit
     fraction (0.01); further sites repeat the cycle.
     """
-    from firstrung.methods.phases.prediction import sun_moon_topocentric
     from firstrung.methods.phases.run import plan_phases
+    from firstrung.methods.phases.topocentric import sun_moon_topocentric
     from firstrung.refraction import apparent_from_true_altitude_deg
 
     plan = plan_phases(campaign, first_date, last_date)

@@ -16,10 +16,13 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
 from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.interval_method import IntervalMethod, interval_method
 from firstrung.methods.phases.log import read_phase_logs
+from firstrung.methods.phases.topocentric import both_up_windows, sun_moon_topocentric
 from firstrung.uncertainty import Measured
 
 __all__ = [
@@ -168,20 +171,20 @@ def plan_phases(campaign_or_path, first_date, last_date, settings: PlanSettings 
     q, s = len(quarters), lat.size
     if q:
         site_dich = ep.topocentric_dichotomy_utc(quarters.dichotomy_utc[:, None], lat, lon, elev)
-        at_dich = ep.sun_moon_topocentric(site_dich, lat, lon, elev, rates=False)
+        at_dich = sun_moon_topocentric(site_dich, lat, lon, elev, rates=False)
         sun_alt = _observed_altitude_deg(at_dich.sun_altitude_deg)
         moon_alt = _observed_altitude_deg(at_dich.moon_altitude_deg)
     else:
         site_dich = np.zeros((0, s), "datetime64[us]")
         at_dich = None
         sun_alt = moon_alt = np.zeros((0, s))
-    windows = ep.both_up_windows(
+    windows = both_up_windows(
         quarters.dichotomy_utc, site_dich, lat, lon, elev,
         half_span_h=settings.half_span_h, step_min=settings.step_min,
         min_altitude_deg=settings.min_altitude_deg, min_sun_elongation_deg=settings.min_sun_elongation_deg,
     )
     at_window = (
-        ep.sun_moon_topocentric(windows.closest_utc, lat[windows.site], lon[windows.site], elev[windows.site], rates=False)
+        sun_moon_topocentric(windows.closest_utc, lat[windows.site], lon[windows.site], elev[windows.site], rates=False)
         if len(windows) else None
     )
     window_sun = _observed_altitude_deg(at_window.sun_altitude_deg) if len(windows) else np.zeros(0)
@@ -348,7 +351,7 @@ class PhaseRun:
     estimates: tuple[HalfMoonEstimate, ...]
     combined: m.CombinedElongation
     by_kind: dict
-    interval: m.IntervalMethod | None
+    interval: IntervalMethod | None
     within_10_percent: m.Precision
     within_factor_2: m.Precision
     sentence: str
@@ -434,7 +437,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     sidx = np.array([site_index[s] for s in log.site], dtype=int)
     lat, lon, elev = lat_all[sidx], lon_all[sidx], elev_all[sidx]
     t = np.asarray(log.time_utc, dtype="datetime64[us]")
-    at_row = ep.sun_moon_topocentric(t, lat, lon, elev)
+    at_row = sun_moon_topocentric(t, lat, lon, elev)
 
     elong = np.asarray(log.elongation_deg, float)
     frac = np.asarray(log.illuminated_fraction, float)
@@ -465,9 +468,9 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     pq = np.array([p[0] for p in pairs])
     ps = np.array([p[1] for p in pairs])
     site_half = ep.topocentric_dichotomy_utc(quarters.dichotomy_utc[pq], lat_all[ps], lon_all[ps], elev_all[ps])
-    at_half = ep.sun_moon_topocentric(site_half, lat_all[ps], lon_all[ps], elev_all[ps])
+    at_half = sun_moon_topocentric(site_half, lat_all[ps], lon_all[ps], elev_all[ps])
     site_quad = ep.topocentric_quadrature_utc(site_half, lat_all[ps], lon_all[ps], elev_all[ps])
-    at_quad = ep.sun_moon_topocentric(site_quad, lat_all[ps], lon_all[ps], elev_all[ps])
+    at_quad = sun_moon_topocentric(site_quad, lat_all[ps], lon_all[ps], elev_all[ps])
     pair_of = {p: i for i, p in enumerate(pairs)}
 
     def expected(k):
@@ -521,7 +524,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         fe = np.array([elev[f[3]] for f in fits])
         target = np.array([np.clip(f[2].elongation_deg, 80.0, 100.0) for f in fits])
         t_half = ep.time_of_elongation_utc(near, target, fl, fo, fe)
-        at_fit = ep.sun_moon_topocentric(t_half, fl, fo, fe)
+        at_fit = sun_moon_topocentric(t_half, fl, fo, fe)
         for n, (key, rows, fit, nearest) in enumerate(fits):
             i, e_true, r_true = expected(nearest)
             rate = float(at_fit.elongation_rate_deg_per_h[n])
@@ -609,7 +612,7 @@ def _interval(estimates, pairs, pair_of, site_half, site_quad, at_quad, campaign
     def rel(tt):
         return (np.asarray(tt, dtype="datetime64[us]") - origin).astype(np.int64) / (3600 * _US_PER_S)
 
-    return m.interval_method(
+    return interval_method(
         site=[sites[k[1]] for k in keys],
         quarter=[merged[k][0].quarter for k in keys],
         quarter_index=[k[0] for k in keys],

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from firstrung.campaign import EDGES, Campaign
+from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.errors import RowProblem
 from firstrung.tabular import (
@@ -223,7 +223,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
     Per-site values are gathered once and indexed by each row's site, so the
     cost does not grow with a loop over rows.
     """
-    from firstrung.campaign import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
+    from firstrung.campaign_model import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
 
     index = {s.id: i for i, s in enumerate(campaign.sites)}
     ids, inverse = np.unique(np.asarray(log.site, dtype=str), return_inverse=True)

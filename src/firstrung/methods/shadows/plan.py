@@ -9,7 +9,8 @@ from zoneinfo import ZoneInfo
 import numpy as np
 
 from firstrung.calendar_export import CalendarEvent, events_to_ics
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
 from firstrung.methods.shadows.prediction import (
     PlanSite,

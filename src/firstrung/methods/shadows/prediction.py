@@ -17,14 +17,13 @@ import numpy as np
 
 from firstrung.constants import STANDARD_PRESSURE_HPA, STANDARD_TEMPERATURE_C
 from firstrung.errors import InputError
-from firstrung.methods.shadows.reduction import (
+from firstrung.methods.shadows.altitude import (
     EDGE_LIMB_SIGN,
-    POSITION_SIGMA_KM,
-    SiteInput,
     altitude_error_terms_rad,
-    north_south_positions,
     penumbra_width_m,
 )
+from firstrung.methods.shadows.fits import north_south_positions
+from firstrung.methods.shadows.inputs import POSITION_SIGMA_KM, SiteInput
 from firstrung.refraction import apparent_from_true_altitude_deg, refraction_from_apparent_deg
 
 #: Readings a site takes around noon in the plan's error model: every 2 min

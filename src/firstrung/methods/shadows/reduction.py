@@ -39,10 +39,26 @@ import numpy as np
 from firstrung.constants import IUGG_MEAN_RADIUS_KM, STANDARD_TEMPERATURE_C
 from firstrung.errors import ComputationError, InputError
 from firstrung.geodesy import (
-    baseline_north_south_km,
-    geodesic_inverse,
     meridian_arc_m,
     meridional_radius_of_curvature_km,
+)
+from firstrung.methods.shadows.altitude import (
+    altitude_error_terms_rad,
+    centre_altitude_deg,
+    edge_altitude_deg,
+)
+from firstrung.methods.shadows.fits import (
+    Positions,
+    SeriesFit,
+    fit_line,
+    fit_series,
+    north_south_positions,
+)
+from firstrung.methods.shadows.inputs import (
+    POSITION_SIGMA_KM,
+    BaselineInput,
+    ShadowReadings,
+    SiteInput,
 )
 from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
 from firstrung.uncertainty import (
@@ -52,25 +68,6 @@ from firstrung.uncertainty import (
     reciprocal_of_gaussian,
 )
 
-#: Signed multiple of the Sun's semi-diameter from the Sun's centre to the ray
-#: that casts each marked edge: the umbra tip comes from the upper limb.
-EDGE_LIMB_SIGN = {"umbra": 1.0, "middle": 0.0, "outer": -1.0}
-#: One-sigma error of placing each kind of edge, as a fraction of the penumbra
-#: width on the board (common practice: the eye finds the dark edge of a soft
-#: shadow to about a tenth of the penumbra, its middle and faint edge worse).
-EDGE_LOCATION_FRACTION = {"umbra": 0.10, "middle": 0.15, "outer": 0.25}
-#: Relative one-sigma error of the refraction with standard conditions assumed:
-#: unknown weather (+/- 15 K, +/- 25 hPa) changes it by about 6 %, and
-#: Bennett's formula itself is good to about 1 % above 15 deg (common practice).
-REFRACTION_SIGMA_FRACTION_STANDARD = 0.06
-#: The same when the log gives the temperature and pressure (common practice).
-REFRACTION_SIGMA_FRACTION_MEASURED = 0.02
-#: Prior one-sigma of a clock's offset [s]: weak, it only matters when the
-#: readings cannot show where noon fell (one reading, or all on one side).
-CLOCK_PRIOR_SIGMA_S = 600.0
-#: One-sigma error of a site's north-south position taken from its
-#: coordinates [km] (a map or a phone receiver, common practice).
-POSITION_SIGMA_KM = 0.05
 #: Readings are used when the Sun is at least this high [deg] and this near
 #: noon [h]; others are left out and counted.
 MIN_ALTITUDE_DEG = 5.0
@@ -81,8 +78,6 @@ OUTLIER_THRESHOLD_SIGMA = 3.5
 #: Probability below which the sites' scatter about the line is taken as real
 #: and the radius's sigma scaled up (a 5 % test, common practice).
 SCATTER_SIGNIFICANCE = 0.05
-#: Gauss-Newton iterations of the series fit (converges in 3-4).
-_FIT_ITERATIONS = 8
 
 BUDGET_SOURCES = (
     "shadow reading",
@@ -98,350 +93,16 @@ BUDGET_SOURCES = (
 # --- inputs ---------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class ShadowReadings:
-    """Shadow readings ready for reduction: one entry per reading, plain arrays.
-
-    ``site_index`` points into the ``sites`` tuple given to :func:`reduce_shadows`.
-    """
-
-    site_index: np.ndarray
-    time_utc: np.ndarray
-    shadow_m: np.ndarray
-    gnomon_m: np.ndarray
-    edge: np.ndarray
-    shadow_sigma_m: np.ndarray
-    gnomon_sigma_m: np.ndarray
-    temperature_c: np.ndarray
-    pressure_hpa: np.ndarray
-
-    def __len__(self) -> int:
-        return int(np.size(self.shadow_m))
-
-
-@dataclass(frozen=True)
-class SiteInput:
-    """What the reduction needs to know of a site."""
-
-    id: str
-    name: str
-    latitude_deg: float
-    longitude_deg: float
-    elevation_m: float
-
-
-@dataclass(frozen=True)
-class BaselineInput:
-    """A surveyed distance between two sites (indices into the sites tuple)."""
-
-    first: int
-    second: int
-    distance_km: float
-    sigma_km: float
-    bearing_deg: float | None
-
-
 # --- step 1 and 2: from a length to the Sun's centre --------------------------------------
-
-
-def edge_altitude_deg(gnomon_m, shadow_m):
-    """Apparent altitude of the ray that casts the marked shadow tip [deg].
-
-    >>> round(float(edge_altitude_deg(1.0, 1.0)), 6)
-    45.0
-    """
-    return np.degrees(np.arctan2(np.asarray(gnomon_m, float), np.asarray(shadow_m, float)))
-
-
-def penumbra_width_m(gnomon_m, altitude_deg, semidiameter_deg):
-    """Width of the penumbra on a level board [m]: the lower limb's tip minus the upper limb's.
-
-    >>> round(float(penumbra_width_m(1.0, 20.0, 0.2667)), 4)
-    0.0796
-    """
-    h = np.asarray(gnomon_m, float)
-    a = np.radians(np.asarray(altitude_deg, float))
-    s = np.radians(np.asarray(semidiameter_deg, float))
-    return h * (1.0 / np.tan(a - s) - 1.0 / np.tan(a + s))
-
-
-def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c, pressure_hpa):
-    """True (airless) altitude of the Sun's centre from the marked edge's apparent altitude [deg].
-
-    Refraction is removed from the ray of the limb that casts the edge, then
-    the limb is moved to the centre by the semi-diameter.
-
-    >>> round(float(centre_altitude_deg(45.0, "middle", 0.2667, 10.0, 1010.0)), 4)
-    44.9834
-    """
-    sign = _per_edge(edge, EDGE_LIMB_SIGN)
-    refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa)
-    return np.asarray(edge_apparent_deg) - refraction - sign * np.asarray(semidiameter_deg)
-
-
-def altitude_error_terms_rad(
-    gnomon_m, shadow_m, shadow_sigma_m, gnomon_sigma_m, edge, altitude_deg, semidiameter_deg,
-    refraction_deg, measured_weather,
-) -> dict[str, np.ndarray]:
-    """One-sigma error of the Sun's centre altitude from each input, per reading [rad].
-
-    ``shadow reading``: ``h sigma_L / (h^2 + L^2)``; ``gnomon height``:
-    ``L sigma_h / (h^2 + L^2)``; ``edge location``: the observer's placement
-    error, a fraction of the penumbra width (:data:`EDGE_LOCATION_FRACTION`),
-    seen from the gnomon's tip; ``refraction``: a fraction of the refraction
-    (:data:`REFRACTION_SIGMA_FRACTION_STANDARD` or ``_MEASURED``). The
-    reduction and the planner share these terms.
-
-    >>> t = altitude_error_terms_rad(1.0, 1.0, 0.002, 0.001, "umbra", 45.0, 0.2667, 0.0165, False)
-    >>> round(float(t["shadow reading"]) * 206264.8, 1)
-    206.3
-    """
-    h = np.asarray(gnomon_m, float)
-    length = np.asarray(shadow_m, float)
-    denom = h**2 + length**2
-    fraction = _per_edge(edge, EDGE_LOCATION_FRACTION)
-    width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg)
-    refraction_fraction = np.where(
-        measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD
-    )
-    return {
-        "shadow reading": h * np.asarray(shadow_sigma_m, float) / denom,
-        "gnomon height": length * np.asarray(gnomon_sigma_m, float) / denom,
-        "edge location": h * fraction * np.abs(width) / denom,
-        "refraction": np.radians(refraction_fraction * np.asarray(refraction_deg, float)),
-    }
-
-
-def _per_edge(edge, table: dict) -> np.ndarray:
-    """Look up a number per reading from its edge name, without a loop over readings."""
-    edge = np.asarray(edge, dtype=object)
-    names, inverse = np.unique(edge.astype(str), return_inverse=True)
-    unknown = [n for n in names if n not in table]
-    if unknown:
-        raise InputError(f"edge: expected one of {', '.join(table)}, got {unknown[0]!r}")
-    return np.array([table[n] for n in names], dtype=float)[inverse].reshape(edge.shape)
 
 
 # --- step 3: one site and day ---------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class SeriesFit:
-    """Fitted astronomical latitude and clock correction of each series (site and day)."""
-
-    latitude_rad: np.ndarray
-    clock_correction_s: np.ndarray  # seconds to ADD to the logged times
-    covariance: np.ndarray  # shape (n_series, 2, 2) in (rad, s)
-    chi2: np.ndarray
-    count: np.ndarray
-    gain_latitude: np.ndarray  # per reading: d(latitude)/d(altitude of that reading)
-    latitude_information: np.ndarray  # the latitude's normal-equation entry: 1/variance with the clock known
-
-
-def _altitude_model(lat, dec, ha):
-    sin_alt = np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)
-    return np.arcsin(np.clip(sin_alt, -1.0, 1.0))
-
-
-def fit_series(
-    group,
-    n_groups,
-    altitude_rad,
-    sigma_rad,
-    declination_rad,
-    hour_angle_rad,
-    declination_rate_rad_s,
-    hour_angle_rate_rad_s,
-    latitude_guess_rad,
-    clock_prior_sigma_s=CLOCK_PRIOR_SIGMA_S,
-) -> SeriesFit:
-    """Fit latitude and clock correction for every series at once (Gauss-Newton).
-
-    Model of reading k of series g: ``sin a_k = sin(phi) sin(dec) + cos(phi)
-    cos(dec) cos(H)`` with ``dec = dec_k + dec'_k u`` and ``H = H_k + H'_k u``,
-    u the clock correction of the series. The parameter arrays may carry a
-    leading axis of samples (Monte Carlo): ``altitude_rad`` of shape (S, n).
-
-    Parameters
-    ----------
-    group : int array (n,)
-        Series of each reading, 0..n_groups-1.
-    altitude_rad, sigma_rad : arrays (..., n)
-        True altitude of the Sun's centre and its reading error [rad].
-    declination_rad, hour_angle_rad : arrays (n,)
-        Apparent topocentric declination and hour angle at the logged time [rad].
-    declination_rate_rad_s, hour_angle_rate_rad_s : arrays (n,)
-        Their rates [rad/s].
-    latitude_guess_rad : array (n_groups,)
-        Starting latitude, which also picks the side of the Sun (the site's
-        geodetic latitude).
-
-    Returns
-    -------
-    SeriesFit
-    """
-    alt = np.atleast_2d(altitude_rad)
-    n_samples = alt.shape[0]
-    weight = 1.0 / np.broadcast_to(sigma_rad, alt.shape) ** 2
-    lat = np.broadcast_to(latitude_guess_rad, (n_samples, n_groups)).copy()
-    u = np.zeros((n_samples, n_groups))
-    flat = (np.arange(n_samples)[:, None] * n_groups + group[None, :]).ravel()
-    size = n_samples * n_groups
-    prior = 1.0 / clock_prior_sigma_s**2
-
-    def sums(values):
-        return np.bincount(flat, weights=values.ravel(), minlength=size).reshape(n_samples, n_groups)
-
-    def normal_terms(lat, u):
-        """Residuals, partial derivatives and normal-equation sums at (lat, u)."""
-        lat_k = lat[:, group]
-        u_k = u[:, group]
-        dec = declination_rad + declination_rate_rad_s * u_k
-        ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
-        model = _altitude_model(lat_k, dec, ha)
-        cos_alt = np.maximum(np.cos(model), 1e-9)
-        d_lat = (np.cos(lat_k) * np.sin(dec) - np.sin(lat_k) * np.cos(dec) * np.cos(ha)) / cos_alt
-        d_dec = (np.sin(lat_k) * np.cos(dec) - np.cos(lat_k) * np.sin(dec) * np.cos(ha)) / cos_alt
-        d_ha = -np.cos(lat_k) * np.cos(dec) * np.sin(ha) / cos_alt
-        d_u = d_ha * hour_angle_rate_rad_s + d_dec * declination_rate_rad_s
-        r = alt - model
-        n11 = sums(weight * d_lat * d_lat)
-        n12 = sums(weight * d_lat * d_u)
-        n22 = sums(weight * d_u * d_u) + prior
-        return r, d_lat, d_u, n11, n12, n22
-
-    for _ in range(_FIT_ITERATIONS):
-        r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
-        b1 = sums(weight * d_lat * r)
-        b2 = sums(weight * d_u * r) - prior * u
-        det = n11 * n22 - n12**2
-        lat = lat + (n22 * b1 - n12 * b2) / det
-        u = u + (n11 * b2 - n12 * b1) / det
-    # final model, residuals and covariance
-    r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
-    det = n11 * n22 - n12**2
-    cov = np.stack([np.stack([n22, -n12], -1), np.stack([-n12, n11], -1)], -2) / det[..., None, None]
-    # gain: d(latitude)/d(altitude_k) = row of C J^T W for the latitude parameter
-    c11 = (n22 / det)[:, group]
-    c12 = (-n12 / det)[:, group]
-    gain = (c11 * d_lat + c12 * d_u) * weight
-    chi2 = sums(weight * r**2) + prior * u**2
-    count = np.bincount(group, minlength=n_groups)
-    squeeze = np.ndim(altitude_rad) == 1
-    pick = (lambda a: a[0]) if squeeze else (lambda a: a)
-    return SeriesFit(pick(lat), pick(u), pick(cov), pick(chi2), count, pick(gain), pick(n11))
-
-
 # --- step 4: the radius from latitudes and positions --------------------------------------------
 
 
-@dataclass(frozen=True)
-class LineFit:
-    """Weighted line latitude = intercept + slope * position (slope = 1/R)."""
-
-    intercept_rad: float
-    slope_rad_per_km: float
-    covariance: np.ndarray
-    gain_slope: np.ndarray  # d(slope)/d(latitude_i)
-    chi2: float
-    dof: int
-
-
-def fit_line(position_km, latitude_rad, variance_rad2) -> LineFit:
-    """Weighted least-squares line through (position, latitude) with independent errors.
-
-    >>> f = fit_line(np.array([0.0, 100.0]), np.array([0.0, 100 / 6371.0]), np.array([1e-8, 1e-8]))
-    >>> round(1 / f.slope_rad_per_km, 3)
-    6371.0
-    """
-    x = np.asarray(position_km, float)
-    y = np.asarray(latitude_rad, float)
-    w = 1.0 / np.asarray(variance_rad2, float)
-    design = np.stack([np.ones_like(x), x], axis=1)
-    normal = design.T @ (w[:, None] * design)
-    cov = np.linalg.inv(normal)
-    operator = cov @ (design.T * w)
-    params = operator @ y
-    resid = y - design @ params
-    chi2 = float(np.sum(w * resid**2))
-    return LineFit(float(params[0]), float(params[1]), cov, operator[1], chi2, len(x) - 2)
-
-
 # --- positions along the meridian -------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Positions:
-    """North-south positions of the sites [km] and their error operators."""
-
-    position_km: np.ndarray
-    map_gain: np.ndarray  # d(position_i)/d(map observation j), map observations have POSITION_SIGMA_KM
-    baseline_gain: np.ndarray  # d(position_i)/d(baseline b)
-    baseline_sigma_km: np.ndarray
-    surveyed: np.ndarray  # bool: site position tied to a baseline
-
-
-def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[BaselineInput, ...]) -> Positions:
-    """Positions of the sites along the meridian, the map's replaced by surveyed baselines.
-
-    Sites joined by baselines form groups; inside a group only the baselines
-    give relative positions (least squares if they form loops) and the group
-    is placed by its first site's map position. The north-south part of a
-    baseline is ``distance * cos(bearing)``; without a bearing, the map's
-    bearing between the two sites is used.
-    """
-    n = len(sites)
-    lat = np.array([s.latitude_deg for s in sites])
-    map_km = meridian_arc_m(lat) / 1000.0
-    parent = list(range(n))
-
-    def root(i):
-        while parent[i] != i:
-            parent[i] = parent[parent[i]]
-            i = parent[i]
-        return i
-
-    rows, values, sigmas, kinds = [], [], [], []
-    for b in baselines:
-        if b.bearing_deg is not None:
-            ns = float(baseline_north_south_km(b.distance_km, b.bearing_deg))
-        else:
-            s1, s2 = sites[b.first], sites[b.second]
-            map_distance, azimuth, _ = geodesic_inverse(s1.latitude_deg, s1.longitude_deg, s2.latitude_deg, s2.longitude_deg)
-            ns = b.distance_km * (map_km[b.second] - map_km[b.first]) / float(map_distance)
-        row = np.zeros(n)
-        row[b.second], row[b.first] = 1.0, -1.0
-        rows.append(row)
-        values.append(ns)
-        sigmas.append(max(b.sigma_km, 1e-6))
-        kinds.append("baseline")
-        parent[root(b.first)] = root(b.second)
-    anchors = [i for i in range(n) if all(root(j) != root(i) for j in range(i))]
-    for i in anchors:
-        row = np.zeros(n)
-        row[i] = 1.0
-        rows.append(row)
-        values.append(map_km[i])
-        sigmas.append(POSITION_SIGMA_KM)
-        kinds.append("map")
-    design = np.array(rows)
-    w = 1.0 / np.array(sigmas) ** 2
-    normal = design.T @ (w[:, None] * design)
-    operator = np.linalg.solve(normal, design.T * w)
-    position = operator @ np.array(values)
-    kinds_a = np.array(kinds)
-    map_gain = np.zeros((n, n))
-    map_gain[:, anchors] = operator[:, kinds_a == "map"]
-    surveyed = np.zeros(n, bool)
-    for b in baselines:
-        surveyed[b.first] = surveyed[b.second] = True
-    return Positions(
-        position_km=position,
-        map_gain=map_gain,
-        baseline_gain=operator[:, kinds_a == "baseline"],
-        baseline_sigma_km=np.array([s for s, k in zip(sigmas, kinds, strict=True) if k == "baseline"]),
-        surveyed=surveyed,
-    )
 
 
 # --- results -----------------------------------------------------------------------------------

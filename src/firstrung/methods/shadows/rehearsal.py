@@ -18,7 +18,7 @@ from firstrung import blunders as blunder_kit
 from firstrung import ephemeris
 from firstrung.constants import STANDARD_TEMPERATURE_C
 from firstrung.jsonout import time_z as _z
-from firstrung.methods.shadows.reduction import (
+from firstrung.methods.shadows.altitude import (
     EDGE_LIMB_SIGN,
     EDGE_LOCATION_FRACTION,
     REFRACTION_SIGMA_FRACTION_STANDARD,

@@ -10,16 +10,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from firstrung.campaign import Campaign, read_campaign
+from firstrung.campaign import read_campaign
+from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError, RowProblem
+from firstrung.methods.shadows.inputs import BaselineInput, ShadowReadings, SiteInput
 from firstrung.methods.shadows.log import ShadowLog, read_shadow_logs, shadow_instruments
-from firstrung.methods.shadows.reduction import (
-    BaselineInput,
-    ShadowReadings,
-    ShadowReduction,
-    SiteInput,
-    reduce_shadows,
-)
+from firstrung.methods.shadows.reduction import ShadowReduction, reduce_shadows
 
 
 @dataclass(frozen=True)

@@ -56,8 +56,8 @@ def shadow_sheet_predictions(site, date) -> dict:
     (31, '2027-03-20T11:37')
     """
     from firstrung import ephemeris
+    from firstrung.methods.shadows.altitude import penumbra_width_m
     from firstrung.methods.shadows.prediction import shadow_length_m
-    from firstrung.methods.shadows.reduction import penumbra_width_m
     from firstrung.refraction import apparent_from_true_altitude_deg
 
     transit = ephemeris.solar_transit(np.datetime64(date, "D"), site.latitude_deg, site.longitude_deg, site.elevation_m)

@@ -1,0 +1,394 @@
+"""The shadow check's statistics: each row's observed and predicted altitude, the robust chi-square of a\nseries, and the explicit hypotheses (time shifts, signs, units, edges) it is compared under.\n"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass
+from zoneinfo import ZoneInfo
+
+import numpy as np
+
+from firstrung.campaign_model import Campaign
+from firstrung.constants import (
+    ASTRONOMICAL_UNIT_KM,
+    SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
+    WGS84_SEMI_MAJOR_AXIS_M,
+)
+from firstrung.errors import RowProblem
+from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, altitude_error_terms_rad
+from firstrung.refraction import refraction_from_apparent_deg
+
+#: Readings of one file and site more than this apart [h] belong to different series.
+SERIES_GAP_H = 6.0
+
+
+#: Prior one-sigma of a series' clock offset in the check [s]: a watch set by
+#: hand keeps within a few minutes (common practice). Tighter than the
+#: reduction's weak prior, so that offsets of a quarter of an hour and more
+#: are left to the explicit hypotheses.
+CHECK_CLOCK_SIGMA_S = 300.0
+
+
+#: Whole-hour clock shifts tried [h].
+TIME_SHIFTS_H = (-3, -2, -1, 1, 2, 3)
+
+
+#: Length-unit factors tried (logged length / length the Sun allows): mm/cm/m
+#: mix-ups and inches or feet read as a metric unit.
+LENGTH_FACTORS = (10.0, 100.0, 1000.0, 2.54, 25.4, 30.48, 0.1, 0.01, 0.001, 1 / 2.54, 1 / 25.4, 1 / 30.48)
+
+
+#: Each normalised residual contributes at most this squared to the statistic,
+#: so that one wild row cannot decide between explanations of a whole series.
+RESIDUAL_CAP_SIGMA = 3.0
+
+
+#: Huber constant of the reweighting (sigma).
+HUBER_SIGMA = 2.0
+
+
+#: IRLS iterations of the level-and-clock fit (converges in 2-3).
+_FIT_ITERATIONS = 4
+
+
+#: One-sigma timing error of a single logged reading [s]: times written to
+#: the whole minute have a rounding error of 60 / sqrt(12) = 17 s (common practice).
+READING_TIME_SIGMA_S = 20.0
+
+
+#: The Sun's mean hour-angle rate [rad/s]: 360 deg per mean solar day.
+_HOUR_ANGLE_RATE_RAD_S = 2.0 * np.pi / 86400.0
+
+
+_ARCMIN_PER_RAD = 60.0 * 180.0 / np.pi
+
+
+_FAMILY = {
+    "local-time-as-utc": "time",
+    "time-shift-hours": "time",
+    "longitude-sign": "time",
+    "latitude-sign": "latitude",
+    "length-unit": "unit",
+    "edge-convention": "edge",
+}
+
+
+#: Preference among explanations that the data cannot tell apart (lower first).
+_PREFERENCE = {
+    "local-time-as-utc": 0,
+    "time-shift-hours": 1,
+    "longitude-sign": 2,
+    "latitude-sign": 3,
+    "length-unit": 4,
+    "edge-convention": 5,
+}
+
+
+@dataclass(frozen=True)
+class CheckSite:
+    """What the check needs to know of a site."""
+
+    id: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float = 0.0
+    timezone: str | None = None
+
+
+@dataclass(frozen=True)
+class ShadowRows:
+    """Shadow rows to check, as equal-length arrays (one entry per good log row).
+
+    ``site_index`` points into the sites tuple; ``gnomon_m``, ``edge`` and the
+    sigmas are filled in from the campaign where the log gives none.
+    """
+
+    file: np.ndarray
+    row: np.ndarray
+    site_index: np.ndarray
+    time_utc: np.ndarray
+    time_column: np.ndarray
+    shadow_m: np.ndarray
+    shadow_column: np.ndarray
+    gnomon_m: np.ndarray
+    edge: np.ndarray
+    shadow_sigma_m: np.ndarray
+    gnomon_sigma_m: np.ndarray
+    temperature_c: np.ndarray
+    pressure_hpa: np.ndarray
+    observer: np.ndarray
+
+    def __len__(self) -> int:
+        return int(np.size(self.row))
+
+
+def check_sites(campaign: Campaign) -> tuple[CheckSite, ...]:
+    """The campaign's sites as the check takes them."""
+    return tuple(
+        CheckSite(s.id, s.latitude_deg, s.longitude_deg, s.elevation_m, s.timezone) for s in campaign.sites
+    )
+
+
+def shadow_rows(campaign: Campaign, log) -> tuple[ShadowRows, list[RowProblem]]:
+    """The good rows of a :class:`~firstrung.methods.shadows.log.ShadowLog` with the campaign's defaults filled in.
+
+    Rows of a site without a gnomon and without ``gnomon_m`` in the log cannot
+    be checked against the Sun; each becomes a problem.
+
+    >>> from firstrung.campaign import parse_campaign
+    >>> from firstrung.methods.shadows.log import ShadowLog
+    >>> c = parse_campaign('[[site]]\\nid = "a"\\nlatitude_deg = 45.0\\nlongitude_deg = 7.0\\n'
+    ...                    '[site.gnomon]\\nheight_m = 1.0\\n')
+    >>> empty = ShadowLog(*[np.array([])] * 13)
+    >>> len(shadow_rows(c, empty)[0])
+    0
+    """
+    from firstrung.methods.shadows.log import shadow_instruments
+
+    inst = shadow_instruments(campaign, log)
+    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
+    height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
+    rows = ShadowRows(
+        file=np.asarray(log.file, dtype=object)[ok],
+        row=np.asarray(log.row, dtype=np.int64)[ok],
+        site_index=site_index[ok],
+        time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
+        time_column=np.asarray(log.time_column, dtype=object)[ok],
+        shadow_m=np.asarray(log.shadow_m, float)[ok],
+        shadow_column=np.asarray(log.shadow_column, dtype=object)[ok],
+        gnomon_m=height[ok],
+        edge=edge[ok],
+        shadow_sigma_m=shadow_sigma[ok],
+        gnomon_sigma_m=height_sigma[ok],
+        temperature_c=np.asarray(log.temperature_c, float)[ok],
+        pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
+        observer=np.asarray(log.observer, dtype=object)[ok],
+    )
+    return rows, problems
+
+
+def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
+    """True (airless) topocentric altitude of the Sun's centre, its rate, hour angle and semi-diameter.
+
+    The geocentric apparent Sun comes from the ephemeris once per distinct
+    time; the step to the site is the spherical formula with the Sun's
+    parallax ``(a / d) cos(altitude)`` (diurnal aberration, 0.3", is left
+    out). Good to about 1" against :func:`firstrung.ephemeris.sun_position`,
+    far below the arcminutes a shadow reading is good to.
+
+    Parameters
+    ----------
+    time_utc : datetime64 array (n,)
+        Instants [UTC].
+    latitude_deg, longitude_deg : arrays (n,)
+        Sites [deg].
+
+    Returns
+    -------
+    altitude_rad, altitude_rate_rad_s, hour_angle_rad, semidiameter_deg : arrays (n,)
+
+    >>> t = np.array(["2027-06-21T11:30:00"], dtype="datetime64[ms]")
+    >>> a, rate, ha, sd = sun_altitude_rad(t, np.array([46.2]), np.array([7.4]))
+    >>> round(float(np.degrees(a[0])), 1), round(float(sd[0]) * 60, 2)
+    (67.2, 15.74)
+    """
+    from firstrung import ephemeris
+
+    t = np.asarray(time_utc, dtype="datetime64[us]")
+    ephemeris.check_in_span(t)
+    unique_t, inverse = np.unique(t, return_inverse=True)
+    xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
+    distance_km = np.sqrt(np.sum(xyz_km**2, axis=0))
+    ra = np.arctan2(xyz_km[1], xyz_km[0])[inverse]
+    dec = np.arcsin(xyz_km[2] / distance_km)[inverse]
+    distance_km = distance_km[inverse]
+    lat = np.radians(np.asarray(latitude_deg, float))
+    ha = gast_rad[inverse] + np.radians(np.asarray(longitude_deg, float)) - ra
+    ha = np.angle(np.exp(1j * ha))
+    sin_alt = np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)
+    alt = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
+    alt = alt - (WGS84_SEMI_MAJOR_AXIS_M / 1000.0 / distance_km) * np.cos(alt)
+    rate = -np.cos(lat) * np.cos(dec) * np.sin(ha) / np.maximum(np.cos(alt), 1e-6) * _HOUR_ANGLE_RATE_RAD_S
+    semidiameter_deg = SUN_SEMIDIAMETER_AT_1AU_ARCSEC / 3600.0 / (distance_km / ASTRONOMICAL_UNIT_KM)
+    return alt, rate, ha, semidiameter_deg
+
+
+@dataclass(frozen=True)
+class SeriesStatistic:
+    """Robust fit of level and clock offset per series, and the statistic (see :func:`series_statistic`)."""
+
+    statistic: np.ndarray  # (n_groups,)
+    level_rad: np.ndarray
+    level_sigma_rad: np.ndarray
+    clock_s: np.ndarray
+    mean_square: np.ndarray
+    z: np.ndarray  # (n,) normalised residual of each row about the fit
+
+
+def _sums(group, n_groups, values):
+    return np.bincount(group, weights=values, minlength=n_groups)
+
+
+def _group_median(values, group, n_groups, start, count):
+    """Median of ``values`` within each group, by one sort of all values with the groups kept apart."""
+    spread = float(np.max(np.abs(values))) if values.size else 0.0
+    gap = 2.0 * spread + 1.0
+    ordered = np.sort(group * gap + values) - np.repeat(np.arange(n_groups) * gap, count)
+    low = ordered[start + (count - 1) // 2]
+    high = ordered[start + count // 2]
+    return 0.5 * (low + high)
+
+
+def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+                     *, robust=True) -> SeriesStatistic:
+    """Robust chi-square of each series about a fitted level and clock offset.
+
+    Model of row i of series g: ``r_i = m_g + d_i u_g + e_i`` with ``d_i``
+    the rate of the predicted altitude, ``u_g`` the clock offset (prior sigma
+    CHECK_CLOCK_SIGMA_S) and ``e_i`` the reading error (sigma_random). The
+    statistic is ``sum min(z_i^2, C^2) + m^2 / (V_sys + var m) + u^2 / s_u^2``
+    with ``C`` = RESIDUAL_CAP_SIGMA and ``V_sys`` the series' mean systematic
+    variance (errors common to its rows: gnomon height, edge, refraction).
+    With ``robust`` the fit starts at the median and uses Huber weights;
+    without, it is plain weighted least squares and nothing is capped.
+
+    Parameters
+    ----------
+    group : int array (n,)
+        Series of each row, 0..n_groups-1.
+    residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2 : arrays (n,)
+        Observed minus predicted altitude [rad], its rate with time [rad/s],
+        the random and the systematic error [rad, rad^2].
+
+    Returns
+    -------
+    SeriesStatistic
+
+    >>> g = np.zeros(5, int)
+    >>> s = series_statistic(g, 1, np.full(5, 1e-3), np.zeros(5), np.full(5, 1e-3), np.full(5, 1e-6))
+    >>> round(float(s.statistic[0]), 2), round(float(s.level_rad[0]) * 1e3, 3)
+    (0.83, 1.0)
+    """
+    group = np.asarray(group, int)
+    r = np.asarray(residual_rad, float)
+    d = np.asarray(rate_rad_s, float)
+    w = 1.0 / np.asarray(sigma_random_rad, float) ** 2
+    count = np.bincount(group, minlength=n_groups)
+    prior = 1.0 / CHECK_CLOCK_SIGMA_S**2
+    if robust:
+        start = np.concatenate([[0], np.cumsum(count)[:-1]])
+        m = _group_median(r, group, n_groups, start, np.maximum(count, 0))
+    else:
+        m = _sums(group, n_groups, w * r) / np.maximum(_sums(group, n_groups, w), 1e-300)
+    u = np.zeros(n_groups)
+    weight = w
+    iterations = _FIT_ITERATIONS if robust else 1
+    for _ in range(iterations):
+        if robust:
+            z = (r - m[group] - d * u[group]) * np.sqrt(w)
+            weight = w * np.minimum(1.0, HUBER_SIGMA / np.maximum(np.abs(z), 1e-12))
+        a = _sums(group, n_groups, weight)
+        b = _sums(group, n_groups, weight * d)
+        c = _sums(group, n_groups, weight * d * d) + prior
+        b1 = _sums(group, n_groups, weight * r)
+        b2 = _sums(group, n_groups, weight * d * r)
+        det = a * c - b * b
+        m = (c * b1 - b * b2) / det
+        u = (a * b2 - b * b1) / det
+    var_m = c / det
+    z = (r - m[group] - d * u[group]) * np.sqrt(w)
+    z2 = np.minimum(z * z, RESIDUAL_CAP_SIGMA**2) if robust else z * z
+    scatter = _sums(group, n_groups, z2)
+    v_sys = _sums(group, n_groups, variance_systematic_rad2) / np.maximum(count, 1)
+    level_var = v_sys + var_m
+    statistic = scatter + m * m / level_var + u * u * prior
+    return SeriesStatistic(
+        statistic=statistic,
+        level_rad=m,
+        level_sigma_rad=np.sqrt(level_var),
+        clock_s=u,
+        mean_square=scatter / np.maximum(count, 1),
+        z=z,
+    )
+
+
+def _edge_sign(edge) -> np.ndarray:
+    edge = np.asarray(edge, dtype=object)
+    names, inverse = np.unique(edge.astype(str), return_inverse=True)
+    return np.array([EDGE_LIMB_SIGN.get(n, 0.0) for n in names], float)[inverse]
+
+
+def _observed(rows: ShadowRows, length_m, sign, semidiameter_deg, temperature_c, pressure_hpa):
+    """Observed centre altitude [rad] and the random and systematic error terms (as centre_altitude_deg)."""
+    apparent_deg = np.degrees(np.arctan2(rows.gnomon_m, length_m))
+    refraction_deg = refraction_from_apparent_deg(apparent_deg, temperature_c, pressure_hpa)
+    centre_deg = apparent_deg - refraction_deg - sign * semidiameter_deg
+    return np.radians(centre_deg), refraction_deg
+
+
+def _error_terms(rows: ShadowRows, length_m, altitude_deg, semidiameter_deg, refraction_deg, measured_weather,
+                 edge=None):
+    """(random reading variance, systematic variance) per row [rad^2], from altitude_error_terms_rad."""
+    random_var = np.zeros(len(rows))
+    systematic_var = np.zeros(len(rows))
+    edges = np.asarray(rows.edge if edge is None else edge, dtype=object).astype(str)
+    for name in np.unique(edges):  # at most three edge names
+        pick = edges == name
+        terms = altitude_error_terms_rad(
+            rows.gnomon_m[pick], length_m[pick], rows.shadow_sigma_m[pick], rows.gnomon_sigma_m[pick],
+            name, altitude_deg[pick], semidiameter_deg[pick], refraction_deg[pick], measured_weather[pick],
+        )
+        random_var[pick] = terms["shadow reading"] ** 2
+        systematic_var[pick] = terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
+    return random_var, systematic_var
+
+
+@dataclass(frozen=True)
+class _Hypothesis:
+    code: str
+    label: str
+    hours: float = 0.0
+    factor: float = 1.0
+    edge: str | None = None
+    longitude_sign: float = 1.0
+    latitude_sign: float = 1.0
+    local_as_utc: bool = False
+
+    @property
+    def moves_time(self) -> bool:
+        return self.hours != 0.0 or self.local_as_utc
+
+
+def _hypotheses() -> tuple[_Hypothesis, ...]:
+    out = [_Hypothesis("local-time-as-utc", "local time typed as UTC", local_as_utc=True)]
+    out += [_Hypothesis("time-shift-hours", f"times {h:+d} h", hours=float(h)) for h in TIME_SHIFTS_H]
+    out.append(_Hypothesis("longitude-sign", "longitude sign", longitude_sign=-1.0))
+    out.append(_Hypothesis("latitude-sign", "latitude sign", latitude_sign=-1.0))
+    out += [_Hypothesis("length-unit", f"lengths x {f:.6g}", factor=f) for f in LENGTH_FACTORS]
+    out += [_Hypothesis("edge-convention", f"{e} edge", edge=e) for e in EDGE_LIMB_SIGN]
+    return tuple(out)
+
+
+#: The alternative hypotheses tried on every series, in order.
+HYPOTHESES = _hypotheses()
+
+
+def _zone_offsets_h(sites, rows: ShadowRows, group, group_site, group_day) -> np.ndarray:
+    """Per row: the UTC offset [h] of its site's zone at local noon of its series' day (0 without a zone).
+
+    Only for rows given in ``time_utc``: typing local time there is the mistake tested.
+    """
+    offsets = np.zeros(len(group_site))
+    cache: dict[tuple[str, int], float] = {}
+    for g, (s, day) in enumerate(zip(group_site, group_day, strict=True)):  # one per series, not per row
+        zone = sites[s].timezone
+        if zone is None:
+            continue
+        key = (zone, int(day))
+        if key not in cache:
+            noon = _dt.datetime(1970, 1, 1, 12) + _dt.timedelta(days=int(day))
+            offset = ZoneInfo(zone).utcoffset(noon)
+            cache[key] = 0.0 if offset is None else offset.total_seconds() / 3600.0
+        offsets[g] = cache[key]
+    per_row = offsets[group]
+    return np.where(np.asarray(rows.time_column, dtype=object) == "time_utc", per_row, 0.0)

@@ -1,0 +1,63 @@
+"""What the shadow reduction takes: the readings, the sites and the surveyed baselines, and the\nsettings shared by its fits.\n"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Prior one-sigma of a clock's offset [s]: weak, it only matters when the
+#: readings cannot show where noon fell (one reading, or all on one side).
+CLOCK_PRIOR_SIGMA_S = 600.0
+
+
+#: One-sigma error of a site's north-south position taken from its
+#: coordinates [km] (a map or a phone receiver, common practice).
+POSITION_SIGMA_KM = 0.05
+
+
+#: Gauss-Newton iterations of the series fit (converges in 3-4).
+_FIT_ITERATIONS = 8
+
+
+@dataclass(frozen=True)
+class ShadowReadings:
+    """Shadow readings ready for reduction: one entry per reading, plain arrays.
+
+    ``site_index`` points into the ``sites`` tuple given to :func:`reduce_shadows`.
+    """
+
+    site_index: np.ndarray
+    time_utc: np.ndarray
+    shadow_m: np.ndarray
+    gnomon_m: np.ndarray
+    edge: np.ndarray
+    shadow_sigma_m: np.ndarray
+    gnomon_sigma_m: np.ndarray
+    temperature_c: np.ndarray
+    pressure_hpa: np.ndarray
+
+    def __len__(self) -> int:
+        return int(np.size(self.shadow_m))
+
+
+@dataclass(frozen=True)
+class SiteInput:
+    """What the reduction needs to know of a site."""
+
+    id: str
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float
+
+
+@dataclass(frozen=True)
+class BaselineInput:
+    """A surveyed distance between two sites (indices into the sites tuple)."""
+
+    first: int
+    second: int
+    distance_km: float
+    sigma_km: float
+    bearing_deg: float | None
