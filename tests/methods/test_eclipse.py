@@ -185,8 +185,9 @@ def test_contacts_from_the_ephemeris_recover_its_distance_within_0_01_percent():
 
 
 def test_synthetic_crater_timings_recover_the_enlargement_within_0_3_points():
+    from firstrung.methods.eclipse.craters import load_craters
     from firstrung.methods.eclipse.prediction import eclipse_near, feature_edge_times
-    from firstrung.methods.eclipse.run import MoonData, load_craters, reduce_one_eclipse
+    from firstrung.methods.eclipse.run import MoonData, reduce_one_eclipse
 
     e = eclipse_near("2029-12-20T22:42:00Z")
     table = load_craters()

@@ -150,3 +150,28 @@ def _prepared_time(time_utc: np.ndarray):
     t = _skyfield_time(time_utc)
     t._nutation_angles_radians = iau2000b_radians(t)
     return t
+
+
+def apparent_moon_and_sun_of_date_km(time_utc: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Geocentric apparent Moon and Sun, true equator and equinox of date, for a flat datetime64 array.
+
+    Returns
+    -------
+    moon_km, sun_km : numpy.ndarray, shape (3, n)
+        Position vectors [km] (light time, aberration and deflection as skyfield's ``apparent``).
+    """
+    return apparent_moon_and_sun_at(_prepared_time(time_utc))
+
+
+def apparent_moon_and_sun_at(t) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`apparent_moon_and_sun_of_date_km` at an already prepared skyfield Time ``t`` [km], (3, n)."""
+    from skyfield.functions import mxv
+
+    from firstrung.constants import ASTRONOMICAL_UNIT_KM
+
+    e = _body("earth").at(t)
+    moon = e.observe(_body("moon")).apparent()
+    sun = e.observe(_body("sun")).apparent()
+    moon_km = np.asarray(mxv(t.M, moon.position.au)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
+    sun_km = np.asarray(mxv(t.M, sun.position.au)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
+    return moon_km, sun_km

@@ -32,8 +32,8 @@ CRATER_TOLERANCE_S = 180.0
 def log_flags(campaign, log) -> list[Flag]:
     """Flags for eclipse timings far from their predicted instants or with the Moon down."""
     from firstrung.ephemeris import moon_position
+    from firstrung.methods.eclipse.craters import load_craters
     from firstrung.methods.eclipse.prediction import feature_edge_times, lunar_eclipses
-    from firstrung.methods.eclipse.run import load_craters
 
     if len(log) == 0:
         return []

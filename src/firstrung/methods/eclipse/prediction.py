@@ -35,8 +35,7 @@ from firstrung.constants import (
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
 )
 from firstrung.ephemeris._core import (
-    _body,
-    _prepared_time,
+    apparent_moon_and_sun_of_date_km,
     as_utc_datetime64,
     check_in_span,
     ephemeris_span_utc,
@@ -105,14 +104,7 @@ class ShadowGeometry:
 
 def _geometry(time_utc: np.ndarray) -> ShadowGeometry:
     """ShadowGeometry for a flat datetime64 array (no checks)."""
-    from skyfield.functions import mxv
-
-    t = _prepared_time(time_utc)
-    e = _body("earth").at(t)
-    moon = e.observe(_body("moon")).apparent()
-    sun = e.observe(_body("sun")).apparent()
-    m = np.asarray(mxv(t.M, moon.position.au)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
-    s = np.asarray(mxv(t.M, sun.position.au)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
+    m, s = apparent_moon_and_sun_of_date_km(time_utc)
     dm = np.sqrt(np.sum(m * m, axis=0))
     ds = np.sqrt(np.sum(s * s, axis=0))
     u = m / dm

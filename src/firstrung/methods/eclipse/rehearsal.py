@@ -25,7 +25,8 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, observers_per_
     crater). ``late_contact`` types one observer's first U1 four minutes late,
     for the outlier rejection.
     """
-    from firstrung.methods.eclipse.run import load_craters, plan_eclipses
+    from firstrung.methods.eclipse.craters import load_craters
+    from firstrung.methods.eclipse.run import plan_eclipses
 
     plan = plan_eclipses(campaign, first_date, last_date)
     from firstrung.methods.eclipse.prediction import feature_edge_times

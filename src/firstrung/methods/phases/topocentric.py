@@ -6,8 +6,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from firstrung.constants import ASTRONOMICAL_UNIT_KM, STANDARD_PRESSURE_HPA, STANDARD_TEMPERATURE_C
-from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
+from firstrung.constants import STANDARD_PRESSURE_HPA, STANDARD_TEMPERATURE_C
+from firstrung.ephemeris._core import (
+    _prepared_time,
+    apparent_moon_and_sun_at,
+    as_utc_datetime64,
+    check_in_span,
+)
 from firstrung.ephemeris.moon import _angle_deg
 from firstrung.errors import InputError
 from firstrung.geodesy import geodetic_to_itrs_km
@@ -89,19 +94,6 @@ def _refracted(e, n, altitude_deg):
     return np.stack([e * scale, n * scale, np.sin(apparent)])
 
 
-def _apparent_true_of_date_km(t):
-    """Apparent geocentric Moon and Sun in the true equator and equinox of date [km], (3, n)."""
-    from skyfield.functions import mxv
-
-    e = _body("earth").at(t)
-    moon = e.observe(_body("moon")).apparent().position.au
-    sun = e.observe(_body("sun")).apparent().position.au
-    matrix = t.M
-    moon_km = np.asarray(mxv(matrix, moon)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
-    sun_km = np.asarray(mxv(matrix, sun)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
-    return moon_km, sun_km
-
-
 def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, *, rates: bool = True) -> SunMoonTopocentric:
     """The Sun-Moon angle, the phase and the altitudes seen from sites at given times.
 
@@ -151,7 +143,7 @@ def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0,
     phase = _angle_deg(sun_km[:, :n] - moon_km[:, :n], -to_moon[:, :n])
 
     t_now = _prepared_time(t_flat)
-    moon_app, sun_app = _apparent_true_of_date_km(t_now)
+    moon_app, sun_app = apparent_moon_and_sun_at(t_now)
     gast = np.asarray(t_now.gast).reshape(-1) * (np.pi / 12.0)
     site_tod = _site_true_of_date_km(gast, lat, lon, elev)
     east, north, up = _local_frame(gast, lat, lon)
@@ -272,7 +264,7 @@ def both_up_windows(
         return HalfMoonWindows(empty, empty, no_time, no_time, no_time, np.zeros(0), np.zeros(0, bool))
 
     t = _prepared_time(flat)
-    moon_app, sun_app = _apparent_true_of_date_km(t)
+    moon_app, sun_app = apparent_moon_and_sun_at(t)
     gast = np.asarray(t.gast).reshape(-1) * (np.pi / 12.0)
     threshold = float(true_from_apparent_altitude_deg(min_altitude_deg, STANDARD_TEMPERATURE_C, STANDARD_PRESSURE_HPA))
     x, y, z = geodetic_to_itrs_km(lat, lon, elev)
