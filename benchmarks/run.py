@@ -205,15 +205,15 @@ def bench_check(n_sites, n_rows, repeats):
 
     from firstrung.campaign import read_campaign
     from firstrung.methods.shadows.check import check_shadow_rows
-    from firstrung.methods.shadows.check_statistics import check_sites, shadow_rows
-    from firstrung.methods.shadows.log import read_shadow_logs
+    from firstrung.methods.shadows.check_statistics import check_sites
+    from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
 
     rng = np.random.default_rng(5)
     with tempfile.TemporaryDirectory() as folder:
         path, n = _big_campaign(folder, n_sites, n_rows, rng)
         campaign = read_campaign(path)
         log = read_shadow_logs(campaign)
-        rows, _ = shadow_rows(campaign, log)
+        rows, _ = shadow_readings(campaign, log)
         sites = check_sites(campaign)
         t_ours, result, mem = timed(lambda: check_shadow_rows(sites, rows), repeats)
         t_cli = statistics.median(

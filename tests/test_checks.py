@@ -24,12 +24,8 @@ from firstrung.ephemeris import solar_transit
 from firstrung.errors import EphemerisRangeError, RowProblem
 from firstrung.flags import Flag, problem_flags, summarize, without_error_rows
 from firstrung.methods.shadows.check import check_shadow_rows, log_flags
-from firstrung.methods.shadows.check_statistics import (
-    CheckSite,
-    ShadowRows,
-    series_statistic,
-    sun_altitude_rad,
-)
+from firstrung.methods.shadows.check_statistics import CheckSite, series_statistic, sun_altitude_rad
+from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.rehearsal import (
     ShadowErrors,
     reading_times_utc,
@@ -125,7 +121,7 @@ def test_one_hour_clock_shift_at_one_site():
     sites, rows, trial = campaigns(rng, TRIALS)
     target = _first_site_of_each_trial(rows)
     rows["time_utc"] = blunders.clock_shift(rows["time_utc"], target, 1.0)  # the clock one hour fast
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "time-shift-hours")
     assert hits.mean() >= 0.95, hits.mean()
     assert {f.fields["hours"] for f in result.flags if f.code == "time-shift-hours"} == {-1.0}
@@ -137,7 +133,7 @@ def test_centimetres_typed_as_millimetres():
     sites, rows, trial = campaigns(rng, TRIALS)
     target = _first_site_of_each_trial(rows)
     rows["shadow_m"] = blunders.length_unit(rows["shadow_m"], target, 0.1)  # cm values in a shadow_mm column
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "length-unit")
     assert hits.mean() >= 0.95, hits.mean()
     factors = {f.fields["factor"] for f in result.flags if f.code == "length-unit"}
@@ -163,7 +159,7 @@ def test_longitude_sign():
         lons[4 * k], logged[4 * k] = blunders.mirrored(lam), lam
     sites, rows, trial = campaigns(rng, TRIALS, true_lons=lons, logged_lons=logged)
     target = _first_site_of_each_trial(rows)
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "longitude-sign")
     assert hits.mean() >= 0.95, hits.mean()
     flag = next(f for f in result.flags if f.code == "longitude-sign")
@@ -177,7 +173,7 @@ def test_the_other_edge_marked():
     true_edges = ["outer", "umbra", "umbra", "umbra"] * TRIALS
     sites, rows, trial = campaigns(rng, TRIALS, true_edges=true_edges, logged_edges=["umbra"] * (4 * TRIALS))
     target = _first_site_of_each_trial(rows)
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "edge-convention")
     assert hits.mean() >= 0.95, hits.mean()
     # the faint end's own placement error (0.25 penumbra, 8') sometimes puts the readings nearer the
@@ -196,7 +192,7 @@ def test_middle_for_umbra_is_found_about_as_often_as_the_stated_edge_error_allow
     true_edges = ["middle", "umbra", "umbra", "umbra"] * TRIALS
     sites, rows, trial = campaigns(rng, TRIALS, true_edges=true_edges, logged_edges=["umbra"] * (4 * TRIALS))
     target = _first_site_of_each_trial(rows)
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "edge-convention")
     assert 0.55 <= hits.mean() <= 0.95, hits.mean()
 
@@ -211,7 +207,7 @@ def test_one_wild_row():
         length = blunders.wild_row(length, i, rng)
         target[i] = True
     rows["shadow_m"] = length
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "outlier")
     assert hits.mean() >= 0.95, hits.mean()
     # a wild row is an error beyond 8 sigma, a warning from 4.5 sigma (a 5 % error of a short shadow)
@@ -232,7 +228,7 @@ def test_local_time_typed_as_utc_in_a_zone_that_no_whole_hour_shift_explains():
     sites, rows, trial = campaigns(rng, trials, true_lons=lons, zones=zones)
     target = _first_site_of_each_trial(rows)
     rows["time_utc"] = blunders.local_time_as_utc(rows["time_utc"], target, "Asia/Kolkata")
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "local-time-as-utc")
     assert hits.all()
     flag = next(f for f in result.flags if f.code == "local-time-as-utc")
@@ -245,7 +241,7 @@ def test_latitude_sign_near_a_solstice():
     lat = [-35.0, 40.0]
     sites, rows, _ = campaigns(rng, 1, sites_per_trial=2, date="2027-06-21", true_lons=[20.0, 10.0])
     sites, rows = _relocated(sites, rows, rng, true_lat=lat, logged_lat=[35.0, 40.0], date="2027-06-21")
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     codes = {(f.site, f.code) for f in result.flags}
     assert codes == {("s0", "latitude-sign")}
 
@@ -270,7 +266,7 @@ def _relocated(sites, rows, rng, *, true_lat, logged_lat, date):
 def test_clean_logs_with_realistic_noise_get_at_most_one_flag_per_thousand_rows():
     rng = np.random.default_rng(19)
     sites, rows, _ = campaigns(rng, 500)  # 2,000 sites, 62,000 rows
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     n = len(rows["row"])
     assert n >= 60_000
     assert len(result.flags) <= n / 1000, {f.code for f in result.flags}
@@ -287,7 +283,7 @@ def test_duplicate_rows_sun_below_horizon_and_far_from_noon():
     rows["time_utc"] = rows["time_utc"].copy()
     rows["time_utc"][20] += np.timedelta64(12, "h")
     rows["time_utc"][40] -= np.timedelta64(150, "m")
-    result = check_shadow_rows(sites, ShadowRows(**rows))
+    result = check_shadow_rows(sites, ShadowReadings(**rows))
     by_row = {}
     for f in result.flags:
         by_row.setdefault(f.row, set()).add(f.code)
@@ -358,7 +354,7 @@ def test_problem_flags_and_summary():
 
 
 def test_empty_rows_give_no_flags():
-    empty = ShadowRows(*[np.array([])] * 14)
+    empty = ShadowReadings(*[np.array([])] * 14)
     result = check_shadow_rows((CheckSite("a", 45.0, 7.0),), empty)
     assert result.flags == () and result.series == ()
 
@@ -386,9 +382,9 @@ def _write_campaign(folder, sites, rows):
 def test_reduction_after_check_gives_the_clean_radius(tmp_path):
     from firstrung.campaign import read_campaign
     from firstrung.methods.shadows.inputs import ShadowReadings
-    from firstrung.methods.shadows.log import read_shadow_logs
+    from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
     from firstrung.methods.shadows.reduction import reduce_shadows
-    from firstrung.methods.shadows.run import baseline_inputs, shadow_readings, site_inputs
+    from firstrung.methods.shadows.run import baseline_inputs, site_inputs
 
     rng = np.random.default_rng(21)
     lats = np.array([36.0, 41.0, 46.0, 51.0, 56.0])

@@ -82,22 +82,22 @@ from firstrung.methods.shadows.check_statistics import (
     SERIES_GAP_H,
     CheckSite,
     SeriesStatistic,
-    ShadowRows,
     _edge_sign,
     _error_terms,
     _observed,
     _zone_offsets_h,
     check_sites,
     series_statistic,
-    shadow_rows,
     sun_altitude_rad,
 )
+from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.log import shadow_readings
 from firstrung.refraction import standard_pressure_hpa
 
 __all__ = [
     "CheckSite",
     "ShadowCheck",
-    "ShadowRows",
+    "ShadowReadings",
     "check_campaign",
     "check_shadow_log",
     "check_shadow_rows",
@@ -153,14 +153,14 @@ class ShadowCheck:
 # --- the check ------------------------------------------------------------------------------------
 
 
-def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowRows) -> ShadowCheck:
+def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> ShadowCheck:
     """Flags for shadow rows that disagree with the Sun, and why.
 
     Parameters
     ----------
     sites : tuple of CheckSite
         ``rows.site_index`` points into it.
-    rows : ShadowRows
+    rows : ShadowReadings
         The rows to check (good rows of the logs, defaults filled in).
 
     Returns
@@ -175,10 +175,10 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowRows) -> ShadowC
     >>> syn = simulate_shadow_readings(np.zeros(3, int), t, [46.2], [7.4], [620.0], [1.0],
     ...                                np.array(["umbra"], dtype=object), ShadowErrors(),
     ...                                np.random.default_rng(1))
-    >>> rows = ShadowRows(np.array(["a.csv"] * 3, dtype=object), np.arange(1, 4), np.zeros(3, int), t,
-    ...     np.array(["time_utc"] * 3, dtype=object), syn.shadow_m * 10, np.array(["shadow_m"] * 3, dtype=object),
-    ...     syn.gnomon_m, syn.edge, np.full(3, 0.002), np.full(3, 0.001), np.full(3, np.nan),
-    ...     np.full(3, np.nan), np.array([""] * 3, dtype=object))
+    >>> rows = ShadowReadings(np.zeros(3, int), t, syn.shadow_m * 10, syn.gnomon_m, syn.edge, np.full(3, 0.002),
+    ...     np.full(3, 0.001), np.full(3, np.nan), np.full(3, np.nan), file=np.array(["a.csv"] * 3, dtype=object),
+    ...     row=np.arange(1, 4), time_column=np.array(["time_utc"] * 3, dtype=object),
+    ...     shadow_column=np.array(["shadow_m"] * 3, dtype=object), observer=np.array([""] * 3, dtype=object))
     >>> result = check_shadow_rows((CheckSite("ridge", 46.2, 7.4, 620.0),), rows)
     >>> [(f.row, f.code, f.fields["factor"]) for f in result.flags]
     [(1, 'length-unit', 10.0), (2, 'length-unit', 10.0), (3, 'length-unit', 10.0)]
@@ -370,7 +370,7 @@ def check_shadow_log(campaign: Campaign, log) -> tuple[ShadowCheck, list[Flag]]:
     Returns the check of the good rows and the flags for the rows the reader
     (or the gnomon lookup) refused.
     """
-    rows, extra = shadow_rows(campaign, log)
+    rows, extra = shadow_readings(campaign, log)
     result = check_shadow_rows(check_sites(campaign), rows)
     return result, problem_flags(tuple(log.problems) + tuple(extra))
 

@@ -14,10 +14,10 @@ from firstrung.methods.shadows.check_statistics import (
     LENGTH_FACTORS,
     CheckSite,
     SeriesStatistic,
-    ShadowRows,
     _group_median,
     _Hypothesis,
 )
+from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.reduction import MIN_ALTITUDE_DEG
 
 #: Fewest rows for a time, longitude, latitude or edge hypothesis (the shape
@@ -57,7 +57,7 @@ class _Context:
     statistic_best: float | None
     alternatives: tuple
     zone_offset_h: float
-    rows: ShadowRows
+    rows: ShadowReadings
     rows_g: np.ndarray
     fit: SeriesStatistic
     g: int

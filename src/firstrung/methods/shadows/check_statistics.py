@@ -14,8 +14,8 @@ from firstrung.constants import (
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
     WGS84_SEMI_MAJOR_AXIS_M,
 )
-from firstrung.errors import RowProblem
 from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, altitude_error_terms_rad
+from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.refraction import refraction_from_apparent_deg
 
 #: Readings of one file and site more than this apart [h] belong to different series.
@@ -95,76 +95,11 @@ class CheckSite:
     timezone: str | None = None
 
 
-@dataclass(frozen=True)
-class ShadowRows:
-    """Shadow rows to check, as equal-length arrays (one entry per good log row).
-
-    ``site_index`` points into the sites tuple; ``gnomon_m``, ``edge`` and the
-    sigmas are filled in from the campaign where the log gives none.
-    """
-
-    file: np.ndarray
-    row: np.ndarray
-    site_index: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
-    shadow_m: np.ndarray
-    shadow_column: np.ndarray
-    gnomon_m: np.ndarray
-    edge: np.ndarray
-    shadow_sigma_m: np.ndarray
-    gnomon_sigma_m: np.ndarray
-    temperature_c: np.ndarray
-    pressure_hpa: np.ndarray
-    observer: np.ndarray
-
-    def __len__(self) -> int:
-        return int(np.size(self.row))
-
-
 def check_sites(campaign: Campaign) -> tuple[CheckSite, ...]:
     """The campaign's sites as the check takes them."""
     return tuple(
         CheckSite(s.id, s.latitude_deg, s.longitude_deg, s.elevation_m, s.timezone) for s in campaign.sites
     )
-
-
-def shadow_rows(campaign: Campaign, log) -> tuple[ShadowRows, list[RowProblem]]:
-    """The good rows of a :class:`~firstrung.methods.shadows.log.ShadowLog` with the campaign's defaults filled in.
-
-    Rows of a site without a gnomon and without ``gnomon_m`` in the log cannot
-    be checked against the Sun; each becomes a problem.
-
-    >>> from firstrung.campaign import parse_campaign
-    >>> from firstrung.methods.shadows.log import ShadowLog
-    >>> c = parse_campaign('[[site]]\\nid = "a"\\nlatitude_deg = 45.0\\nlongitude_deg = 7.0\\n'
-    ...                    '[site.gnomon]\\nheight_m = 1.0\\n')
-    >>> empty = ShadowLog(*[np.array([])] * 13)
-    >>> len(shadow_rows(c, empty)[0])
-    0
-    """
-    from firstrung.methods.shadows.log import shadow_instruments
-
-    inst = shadow_instruments(campaign, log)
-    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
-    height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
-    rows = ShadowRows(
-        file=np.asarray(log.file, dtype=object)[ok],
-        row=np.asarray(log.row, dtype=np.int64)[ok],
-        site_index=site_index[ok],
-        time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
-        time_column=np.asarray(log.time_column, dtype=object)[ok],
-        shadow_m=np.asarray(log.shadow_m, float)[ok],
-        shadow_column=np.asarray(log.shadow_column, dtype=object)[ok],
-        gnomon_m=height[ok],
-        edge=edge[ok],
-        shadow_sigma_m=shadow_sigma[ok],
-        gnomon_sigma_m=height_sigma[ok],
-        temperature_c=np.asarray(log.temperature_c, float)[ok],
-        pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
-        observer=np.asarray(log.observer, dtype=object)[ok],
-    )
-    return rows, problems
 
 
 def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
@@ -318,7 +253,7 @@ def _edge_sign(edge) -> np.ndarray:
     return np.array([EDGE_LIMB_SIGN.get(n, 0.0) for n in names], float)[inverse]
 
 
-def _observed(rows: ShadowRows, length_m, sign, semidiameter_deg, temperature_c, pressure_hpa):
+def _observed(rows: ShadowReadings, length_m, sign, semidiameter_deg, temperature_c, pressure_hpa):
     """Observed centre altitude [rad] and the random and systematic error terms (as centre_altitude_deg)."""
     apparent_deg = np.degrees(np.arctan2(rows.gnomon_m, length_m))
     refraction_deg = refraction_from_apparent_deg(apparent_deg, temperature_c, pressure_hpa)
@@ -326,7 +261,7 @@ def _observed(rows: ShadowRows, length_m, sign, semidiameter_deg, temperature_c,
     return np.radians(centre_deg), refraction_deg
 
 
-def _error_terms(rows: ShadowRows, length_m, altitude_deg, semidiameter_deg, refraction_deg, measured_weather,
+def _error_terms(rows: ShadowReadings, length_m, altitude_deg, semidiameter_deg, refraction_deg, measured_weather,
                  edge=None):
     """(random reading variance, systematic variance) per row [rad^2], from altitude_error_terms_rad."""
     random_var = np.zeros(len(rows))
@@ -373,7 +308,7 @@ def _hypotheses() -> tuple[_Hypothesis, ...]:
 HYPOTHESES = _hypotheses()
 
 
-def _zone_offsets_h(sites, rows: ShadowRows, group, group_site, group_day) -> np.ndarray:
+def _zone_offsets_h(sites, rows: ShadowReadings, group, group_site, group_day) -> np.ndarray:
     """Per row: the UTC offset [h] of its site's zone at local noon of its series' day (0 without a zone).
 
     Only for rows given in ``time_utc``: typing local time there is the mistake tested.

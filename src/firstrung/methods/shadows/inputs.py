@@ -22,9 +22,13 @@ _FIT_ITERATIONS = 8
 
 @dataclass(frozen=True)
 class ShadowReadings:
-    """Shadow readings ready for reduction: one entry per reading, plain arrays.
+    """Shadow readings: one entry per reading, plain equal-length arrays (the one record of the
+    shadow method's readings, for its check and its reduction alike).
 
-    ``site_index`` points into the ``sites`` tuple given to :func:`reduce_shadows`.
+    ``site_index`` points into the campaign's (or the reduction's) ``sites`` tuple; ``gnomon_m``,
+    ``edge`` and the sigmas are filled in from the campaign where the log gives none. The last
+    fields say where each reading came from (file, 1-based data row, the time and length columns
+    used, the observer); readings made by a program may leave them out.
     """
 
     site_index: np.ndarray
@@ -36,6 +40,11 @@ class ShadowReadings:
     gnomon_sigma_m: np.ndarray
     temperature_c: np.ndarray
     pressure_hpa: np.ndarray
+    file: np.ndarray | None = None
+    row: np.ndarray | None = None
+    time_column: np.ndarray | None = None
+    shadow_column: np.ndarray | None = None
+    observer: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(np.size(self.shadow_m))

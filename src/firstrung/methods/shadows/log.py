@@ -19,6 +19,7 @@ import numpy as np
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.errors import RowProblem
+from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.tabular import (
     COMMON_DTYPES,
     TIME_COLUMNS,
@@ -383,3 +384,39 @@ def read_shadow_logs(
         ignored_columns=ignored,
         notes=notes,
     )
+
+
+def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings, list[RowProblem]]:
+    """The good rows of a :class:`~firstrung.methods.shadows.log.ShadowLog` with the campaign's defaults filled in.
+
+    Rows of a site without a gnomon and without ``gnomon_m`` in the log cannot
+    be checked against the Sun; each becomes a problem.
+
+    >>> from firstrung.campaign import parse_campaign
+    >>> from firstrung.methods.shadows.log import ShadowLog
+    >>> c = parse_campaign('[[site]]\\nid = "a"\\nlatitude_deg = 45.0\\nlongitude_deg = 7.0\\n'
+    ...                    '[site.gnomon]\\nheight_m = 1.0\\n')
+    >>> empty = ShadowLog(*[np.array([])] * 13)
+    >>> len(shadow_readings(c, empty)[0])
+    0
+    """
+    inst = shadow_instruments(campaign, log)
+    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
+    height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
+    readings = ShadowReadings(
+        file=np.asarray(log.file, dtype=object)[ok],
+        row=np.asarray(log.row, dtype=np.int64)[ok],
+        site_index=site_index[ok],
+        time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
+        time_column=np.asarray(log.time_column, dtype=object)[ok],
+        shadow_m=np.asarray(log.shadow_m, float)[ok],
+        shadow_column=np.asarray(log.shadow_column, dtype=object)[ok],
+        gnomon_m=height[ok],
+        edge=edge[ok],
+        shadow_sigma_m=shadow_sigma[ok],
+        gnomon_sigma_m=height_sigma[ok],
+        temperature_c=np.asarray(log.temperature_c, float)[ok],
+        pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
+        observer=np.asarray(log.observer, dtype=object)[ok],
+    )
+    return readings, problems

@@ -8,13 +8,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
-
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError, RowProblem
 from firstrung.methods.shadows.inputs import BaselineInput, ShadowReadings, SiteInput
-from firstrung.methods.shadows.log import ShadowLog, read_shadow_logs, shadow_instruments
+from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
 from firstrung.methods.shadows.reduction import ShadowReduction, reduce_shadows
 
 
@@ -46,25 +44,6 @@ def baseline_inputs(campaign: Campaign) -> tuple[BaselineInput, ...]:
         BaselineInput(index[b.sites[0]], index[b.sites[1]], b.distance_km, b.sigma_km, b.bearing_deg)
         for b in campaign.baselines
     )
-
-
-def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings, list[RowProblem]]:
-    """Fill in each row's gnomon, edge and errors from the campaign; refuse rows that lack a gnomon."""
-    inst = shadow_instruments(campaign, log)
-    ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
-    problems = list(inst.problems)
-    readings = ShadowReadings(
-        site_index=site_index[ok],
-        time_utc=np.asarray(log.time_utc)[ok],
-        shadow_m=np.asarray(log.shadow_m, float)[ok],
-        gnomon_m=height[ok],
-        edge=edge[ok],
-        shadow_sigma_m=inst.shadow_sigma_m[ok],
-        gnomon_sigma_m=inst.gnomon_sigma_m[ok],
-        temperature_c=np.asarray(log.temperature_c, float)[ok],
-        pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
-    )
-    return readings, problems
 
 
 def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
