@@ -26,7 +26,7 @@ EDGES = ("umbra", "middle", "outer")
 
 
 #: The kinds of log a campaign lists under ``[logs]``.
-LOG_KINDS = ("shadows", "eclipse", "phases")
+LOG_KINDS = ("shadows", "eclipse", "phases", "transits")
 
 
 #: Site ids: letters, digits, ``-`` and ``_``.

@@ -34,3 +34,11 @@ PHASES_CAUTION = (
     "look at it directly; point only at the Moon, keep well away from the Sun, and follow your "
     "host institution's safety rules. " + "Filters for direct viewing must meet ISO 12312-2."
 )
+
+TRANSIT_CAUTION = (
+    "A transit is timed on the Sun itself: project the Sun's image onto a white screen, or "
+    "observe only through a certified full-aperture solar filter mounted in front of the "
+    "telescope (ISO 12312-2 for direct viewing); never look through an unfiltered telescope, "
+    "finder or camera, never leave an instrument pointing at the Sun unattended, and keep "
+    "people away from the projected beam's focus. Follow your host institution's safety rules."
+)

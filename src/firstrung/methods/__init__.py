@@ -84,6 +84,12 @@ REGISTRY: tuple[Method, ...] = (
         "phases", "D_sun/D_moon with its 68 % interval, and how much better the angle or the timing must be.",
         "phases", "Half-moon logs: timings by eye, measured Sun-Moon angles and photo series of the lit fraction.",
     ),
+    Method(
+        "transit", "transits",
+        "transits", "Transits of Mercury and Venus: geocentric contacts, and each site's contacts and Sun altitude.",
+        "transit", "The solar parallax and the Sun's distance from timed contacts of a transit.",
+        "transit", "Transit logs: C1-C4 at every site of every transit of the range where the Sun is up.",
+    ),
 )
 
 

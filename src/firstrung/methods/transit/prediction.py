@@ -119,16 +119,18 @@ def observer_of_date_km(site_itrs_km: np.ndarray, gast_rad: np.ndarray) -> np.nd
     return np.stack([x * c - y * s, x * s + y * c, np.broadcast_to(z, np.shape(c))])
 
 
-def _contact_offset_rad(geometry, tt_jd, site_itrs_km, parallax_scale, internal):
+def _contact_offset_rad(geometry, tt_jd, site_itrs_km, parallax_scale, internal, radii_km=None):
     """Separation of the centres minus the contact's separation [rad]; zero at the contact."""
     planet, sun, _ = geometry.topocentric(tt_jd, site_itrs_km, parallax_scale)
     sep = _angle(planet, sun)
-    s_sun = np.arcsin(SUN_RADIUS_KM / np.sqrt(np.sum(sun**2, axis=0)))
-    s_planet = np.arcsin(geometry.planet_radius_km / np.sqrt(np.sum(planet**2, axis=0)))
+    sun_radius_km, planet_radius_km = radii_km or (SUN_RADIUS_KM, geometry.planet_radius_km)
+    s_sun = np.arcsin(sun_radius_km / np.sqrt(np.sum(sun**2, axis=0)))
+    s_planet = np.arcsin(planet_radius_km / np.sqrt(np.sum(planet**2, axis=0)))
     return sep - s_sun - np.where(internal, -s_planet, s_planet)
 
 
-def solve_contact(geometry, first_guess_tt_jd, site_itrs_km=None, parallax_scale=1.0, internal=False):
+def solve_contact(geometry, first_guess_tt_jd, site_itrs_km=None, parallax_scale=1.0, internal=False,
+                  radii_km=None):
     """The contact nearest each first guess, by Newton's method [TT JD]; NaN where none converges.
 
     Parameters
@@ -140,8 +142,10 @@ def solve_contact(geometry, first_guess_tt_jd, site_itrs_km=None, parallax_scale
         Sites' ITRS vectors [km]; None for the geocentre.
     parallax_scale : float
         Multiplies the sites' vectors (1 for DE421's distances) [1].
-    internal : bool
+    internal : bool or array of bool
         C2/C3 (difference of the semidiameters) rather than C1/C4 (sum).
+    radii_km : (float, float), optional
+        The Sun's and the planet's radii [km] (default: the almanac values above).
     """
     t = np.array(first_guess_tt_jd, dtype=float).reshape(-1)
     internal = np.broadcast_to(np.asarray(internal, dtype=bool), t.shape)
@@ -149,7 +153,7 @@ def solve_contact(geometry, first_guess_tt_jd, site_itrs_km=None, parallax_scale
     sites = None if site_itrs_km is None else np.concatenate([site_itrs_km, site_itrs_km], axis=1)
     twice = np.concatenate([internal, internal])
     for _ in range(_ITERATIONS):
-        g = _contact_offset_rad(geometry, np.concatenate([t, t + step_d]), sites, parallax_scale, twice)
+        g = _contact_offset_rad(geometry, np.concatenate([t, t + step_d]), sites, parallax_scale, twice, radii_km)
         g0, g1 = g[: t.size], g[t.size:]
         slope = (g1 - g0) / step_d
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -157,7 +161,7 @@ def solve_contact(geometry, first_guess_tt_jd, site_itrs_km=None, parallax_scale
         t = t - np.where(np.isfinite(move), move, 0.0)
         if np.all(np.abs(move[np.isfinite(move)]) < 1e-4 / SECONDS_PER_DAY):
             break
-    g = _contact_offset_rad(geometry, t, site_itrs_km, parallax_scale, internal)
+    g = _contact_offset_rad(geometry, t, site_itrs_km, parallax_scale, internal, radii_km)
     inside = np.abs(t - geometry.centre_tt_jd) < geometry.half_window_d
     return np.where((np.abs(g) < _TOLERANCE_RAD) & inside, t, np.nan)
 
@@ -448,16 +452,34 @@ def sun_altitude_and_position_angle(geometry, tt_jd, itrs, lat_rad, lon_rad):
     return altitude, pa
 
 
-def time_derivative_of_parallax_scale(transits: Transits, k: int, itrs: np.ndarray, contact: str,
-                                      scale: float = 1.0, step: float = 0.02) -> tuple[np.ndarray, np.ndarray]:
-    """Contacts at ``scale`` [TT JD] and their rate with the scale [s per unit scale], for sites ``itrs``."""
-    geometry = transits.geometries[k]
-    geo = transits.contacts_tt_jd[contact][k]
-    internal = contact in ("C2", "C3")
-    n = itrs.shape[1]
-    t0 = solve_contact(geometry, np.full(n, geo), itrs, scale, internal)
-    t1 = solve_contact(geometry, np.where(np.isfinite(t0), t0, geo), itrs, scale + step, internal)
-    return t0, (t1 - t0) * SECONDS_PER_DAY / step
+def predicted_contacts_tt_jd(transits: Transits, transit_index, contact_index, itrs, parallax_scale=1.0,
+                             radii_km=None) -> np.ndarray:
+    """Each row's contact seen from its site [TT JD] (NaN where it does not occur).
+
+    Parameters
+    ----------
+    transits : Transits
+    transit_index, contact_index : array of int, shape (m,)
+        Which transit and which contact (0-3 for C1-C4) each row is.
+    itrs : numpy.ndarray, shape (3, m)
+        Each row's site [km].
+    parallax_scale : float
+        Multiplies the sites' vectors [1].
+    radii_km : (float, float), optional
+        The Sun's and the planet's radii [km].
+    """
+    transit_index = np.asarray(transit_index, dtype=int).reshape(-1)
+    contact_index = np.asarray(contact_index, dtype=int).reshape(-1)
+    out = np.full(transit_index.size, np.nan)
+    for k in np.unique(transit_index):  # one pass per transit; rows within it are vectorised
+        rows = transit_index == k
+        geo = np.array([transits.contacts_tt_jd[c][k] for c in CONTACTS])[contact_index[rows]]
+        ok = np.isfinite(geo)
+        picked = np.flatnonzero(rows)[ok]
+        if picked.size:
+            out[picked] = solve_contact(transits.geometries[k], geo[ok], itrs[:, picked], parallax_scale,
+                                        _INTERNAL[contact_index[picked]], radii_km)
+    return out
 
 
 __all__ = [
@@ -471,6 +493,7 @@ __all__ = [
     "contacts_at_sites",
     "inferior_planet_transits",
     "observer_of_date_km",
+    "predicted_contacts_tt_jd",
     "site_itrs_km",
     "solve_contact",
 ]
