@@ -74,6 +74,8 @@ class LadderInputs:
     sun_moon_distance_ratio: Draw | None = None
     moon_angular_diameter_deg: Draw | None = None
     sun_angular_diameter_deg: Draw | None = None
+    #: The Sun's distance in au from a transit's solar parallax (replaces the half moon's when given).
+    sun_distance_au_transit: Draw | None = None
     sources: tuple[tuple[str, str], ...] = ()
     #: Modern values that fit this campaign better than the table's (key -> (value, source)),
     #: e.g. the Moon's distance on the eclipse night instead of its mean distance.
@@ -100,6 +102,8 @@ class Ladder:
     samples: int
     seed: int
     sources: tuple[tuple[str, str], ...]
+    #: Which rung gave the Sun's distance: "transit" or "half-moon".
+    sun_distance_method: str = "half-moon"
 
     def rung(self, key: str) -> Rung:
         return next(r for r in self.rungs if r.key == key)
@@ -138,7 +142,7 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
     rng = np.random.default_rng(seed)
     draws = {}
     order = ("earth_radius_km", "moon_distance_earth_radii", "sun_moon_distance_ratio",
-             "moon_angular_diameter_deg", "sun_angular_diameter_deg")
+             "moon_angular_diameter_deg", "sun_angular_diameter_deg", "sun_distance_au_transit")
     for name in order:  # fixed order: the same seed gives the same samples
         d = getattr(inputs, name)
         draws[name] = None if d is None else d.sample(rng, samples)
@@ -149,6 +153,10 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
     chain["moon_distance_km"] = None if r is None or dm_er is None else r * dm_er
     dm = chain["moon_distance_km"]
     chain["sun_distance_km"] = None if dm is None or ratio is None else dm * ratio
+    method = "half-moon"
+    if draws["sun_distance_au_transit"] is not None:  # the transit's parallax is the better rung for the Sun
+        chain["sun_distance_km"] = draws["sun_distance_au_transit"] * ASTRONOMICAL_UNIT_KM
+        method = "transit"
     ds = chain["sun_distance_km"]
     chain["sun_distance_au"] = None if ds is None else ds / ASTRONOMICAL_UNIT_KM
     am = draws["moon_angular_diameter_deg"]
@@ -178,7 +186,7 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
         z = (m.value - modern) / half if half and half > 0 and not (modern > m.value and m.high is None) else None
         note = "" if m.high is not None else "lower bound only: the data allow any larger value"
         rungs.append(Rung(key, m, modern, unit, source, m.value / modern if np.isfinite(m.value) else None, z, note))
-    return Ladder(tuple(rungs), samples, seed, inputs.sources)
+    return Ladder(tuple(rungs), samples, seed, inputs.sources, method)
 
 
 def earth_radius_draw(radius: Measured) -> Draw:

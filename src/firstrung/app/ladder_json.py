@@ -27,6 +27,7 @@ def ladder_to_json(run) -> dict:
                 "note": r.note,
             }
         )
+    out["sun_distance_method"] = lad.sun_distance_method
     out["comparison"] = comparison
     out["rung_sources"] = dict(lad.sources)
     out["problems"] = [str(p) for p in run.problems]

@@ -72,6 +72,22 @@ def _phase_draw(campaign_path, runs, sources, notes):
     return Draw("secant", math.radians(c.elongation_deg), math.radians(c.sigma_deg)), tuple(run.problems)
 
 
+def _transit_draw(campaign_path, runs, sources, notes):
+    """The Sun's distance in au from the transit rung: 1 / f, f the fitted scale (Gaussian)."""
+    from firstrung.methods.transit.run import run_transit
+
+    try:
+        run = run_transit(campaign_path)
+    except (InputError, ComputationError) as error:
+        notes.append(f"transit not reduced: {error}")
+        return None, ()
+    runs["transit"] = run
+    f = run.reduction.parallax_scale
+    dates = ", ".join(sorted({str(t)[:10] for t in run.transits.greatest_utc}))
+    sources.append(("sun_distance_km", f"solar parallax from timed transit contacts ({dates}; reduce transit)"))
+    return Draw("reciprocal", f.value, f.sigma or 0.0, 1.0), tuple(run.problems)
+
+
 def _sun_diameter_draw(campaign, sources):
     """The Sun's angular diameter on the campaign's shadow days, from the ephemeris (said so)."""
     from firstrung import ephemeris
@@ -110,12 +126,17 @@ def ladder_inputs(campaign_path):
     if campaign.logs.get("phases"):
         ratio, p = _phase_draw(campaign_path, runs, sources, notes)
         problems.extend(p)
+    transit = None
+    if campaign.logs.get("transits"):
+        transit, p = _transit_draw(campaign_path, runs, sources, notes)
+        problems.extend(p)
     inputs = LadderInputs(
         earth_radius_km=earth,
         moon_distance_earth_radii=moon,
         sun_moon_distance_ratio=ratio,
         moon_angular_diameter_deg=moon_diameter,
         sun_angular_diameter_deg=sun_diameter,
+        sun_distance_au_transit=transit,
         sources=tuple(sources),
         modern_overrides=tuple(overrides),
     )
