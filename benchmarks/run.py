@@ -315,6 +315,38 @@ def bench_scaling(counts, repeats):
     return out
 
 
+def _transit_campaign(folder, n_sites):
+    """A campaign of ``n_sites`` sites spread over the hemisphere that sees the 2032 transit."""
+    rng = np.random.default_rng(11)
+    lat = rng.uniform(-60.0, 60.0, n_sites)
+    lon = rng.uniform(-20.0, 140.0, n_sites)
+    text = '[campaign]\nname = "transit benchmark"\n' + "".join(
+        f'\n[[site]]\nid = "s{i}"\nlatitude_deg = {a:.4f}\nlongitude_deg = {b:.4f}\nelevation_m = 0\n'
+        for i, (a, b) in enumerate(zip(lat, lon, strict=True)))
+    path = os.path.join(folder, "transit.toml")
+    with open(path, "w", encoding="utf-8") as f:
+        f.write(text)
+    return path
+
+
+def bench_planet_transits(n_sites, first, last, work):
+    """``firstrung plan transits --json`` as a user runs it (fresh process, cold)."""
+    import json
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        path = _transit_campaign(folder, n_sites)
+        out = {}
+
+        def run():
+            out["p"] = subprocess.run([sys.executable, "-m", "firstrung", "plan", "transits", path, "--from", first,
+                                       "--to", last, "--json"], capture_output=True, check=True)
+
+        t = _once(run)
+        n = len(json.loads(out["p"].stdout)["transits"])
+    return ("plan transits", work, t, None, None, f"{n} transits, {n_sites} site(s)")
+
+
 def bench_demo():
     """``firstrung demo`` end to end, in a fresh process."""
     import tempfile
@@ -355,6 +387,9 @@ def main() -> None:
         *bench_check(100 if quick else 1000, 5_000 if quick else 100_000, 2 if quick else 3),
         bench_reduce(50 if quick else 500, 20, 3 if quick else 5),
         bench_eclipses(1 if quick else 3),
+        bench_planet_transits(1, "1900-01-01", "2050-12-31", "all transits 1900-2050"),
+        bench_planet_transits(100 if quick else 1000, "2032-11-13", "2032-11-13",
+                              f"{100 if quick else 1000} sites, 2032-11-13"),
         bench_quarters(10 if quick else 100, 1 if quick else 3),
         bench_ladder(100_000 if quick else 1_000_000, 3 if quick else 5),
         *bench_scaling((10, 100) if quick else (10, 100, 1000), 1 if quick else 3),
