@@ -127,6 +127,7 @@ def test_valid_campaign_round_trip(tmp_path):
         "shadows": (tmp_path / "logs/shadows.csv", tmp_path / "logs/more.csv"),
         "eclipse": (tmp_path / "logs/eclipse.csv",),
         "phases": (),
+        "transits": (),
     }
     assert campaign.eclipse == EclipseSettings(
         moon_diameter_arcmin=31.2,
@@ -444,7 +445,7 @@ def test_a_pair_has_one_baseline(tmp_path):
     [
         (
             'shadow = ["a.csv"]\n',
-            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases)",
+            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases, transits)",
         ),
         (
             "shadows = 3\n",
