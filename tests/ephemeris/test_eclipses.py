@@ -16,7 +16,6 @@ times are compared in TT: NASA UT + NASA Delta T against our UTC + (TT - UTC).
 
 from __future__ import annotations
 
-import time
 
 import numpy as np
 import pytest
@@ -172,14 +171,12 @@ def test_chauvenet_moves_contacts_as_published_and_geometric_more():
     assert 60.0 <= shift(g, d, "U1") <= 145.0
 
 
-def test_all_eclipses_1900_2050_in_under_5_s_and_as_many_as_skyfield_finds():
+def test_all_eclipses_1900_2050_as_many_as_skyfield_finds():
+    # Speed is measured by benchmarks/run.py as a whole command, not here (no timed unit tests).
     from skyfield import eclipselib
 
     ts, eph = _core._loaded()[:2]
-    start = time.perf_counter()
     e = lunar_eclipses("1900-01-01T00:00Z", "2050-12-31T23:59Z")
-    elapsed = time.perf_counter() - start
-    assert elapsed < 5.0, f"{elapsed:.2f} s"
     # skyfield's own search (Explanatory Supplement 11.2.3, Danjon) as the independent reference
     t, _, _ = eclipselib.lunar_eclipses(ts.utc(1900, 1, 1), ts.utc(2050, 12, 31, 23, 59), eph)
     assert len(e) == len(t) == 345

@@ -11,7 +11,6 @@ are labelled as such.
 from __future__ import annotations
 
 import csv
-import time
 from pathlib import Path
 
 import numpy as np
@@ -232,10 +231,8 @@ def test_scalar_and_array_shapes():
 # --- speed ---------------------------------------------------------------------------------------
 
 
-def test_a_year_of_quarters_for_100_sites_with_windows_is_fast():
-    # Target (issue 5): a year of quarters for 100 sites with windows, and its JSON, under 2 s.
-    # Measured 0.6-0.8 s on an idle core (1.2 s with the machine loaded); the bar here is loose so
-    # the test does not flake on a busy machine, but it catches a return to per-site loops (x10).
+def test_a_year_of_quarters_for_100_sites_with_windows():
+    # Its speed is measured by benchmarks/run.py as a whole command (no timed unit tests).
     from firstrung.campaign import parse_campaign
     from firstrung.methods.phases.present import phase_plan_to_json
     from firstrung.methods.phases.run import plan_phases
@@ -247,9 +244,6 @@ def test_a_year_of_quarters_for_100_sites_with_windows_is_fast():
                   f"longitude_deg = {rng.uniform(-180, 180):.3f}", f"elevation_m = {rng.uniform(0, 2000):.0f}"]
     campaign = parse_campaign("\n".join(lines))
     ep.quarters_between("2026-01-01T00:00Z", "2026-01-08T00:00Z")  # the ephemeris is loaded
-    started = time.perf_counter()
     plan = plan_phases(campaign, "2026-01-01", "2026-12-31")
     data = phase_plan_to_json(plan)
-    elapsed = time.perf_counter() - started
     assert len(data["quarters"]) >= 24 and len(plan.windows) > 2000
-    assert elapsed < 4.0
