@@ -243,7 +243,8 @@ def render_shadows(data: dict, verbose: bool) -> None:
         ("astro. lat (deg)", "right"), ("sigma (deg)", "right"), ("resid. (')", "right"), ("clock (s)", "right"),
     ):
         table.add_column(col, justify=just, no_wrap=col in ("site", "day"))
-    for s in data["sites"]:
+    shown, hidden = _sites_shown(data["sites"], verbose)
+    for s in shown:
         for k, d in enumerate(s["days"]):
             lat = d["astronomical_latitude_deg"] if len(s["days"]) > 1 else s["astronomical_latitude_deg"]
             table.add_row(
@@ -259,6 +260,8 @@ def render_shadows(data: dict, verbose: bool) -> None:
                 _pm(d["clock_offset_s"], 0),
             )
     out.print(table)
+    if hidden:
+        out.print(f"  {hidden} more site{'s' if hidden != 1 else ''} not shown (--verbose shows every site, --json gives them all)")
 
     budget = Table(title="Error budget of the radius", box=box.SIMPLE_HEAD)
     budget.add_column("input")
@@ -288,6 +291,26 @@ def render_shadows(data: dict, verbose: bool) -> None:
         out.print(noon)
         for a in data["assumptions"]:
             out.print(f"  - {a}")
+
+
+#: Site-days the Sites table shows without --verbose.
+SITE_ROWS_SHOWN = 40
+
+
+def _sites_shown(sites: list[dict], verbose: bool) -> tuple[list[dict], int]:
+    """The sites the table shows, in their order, and how many it leaves out.
+
+    Every site with --verbose or when they fit in :data:`SITE_ROWS_SHOWN`
+    rows; otherwise the outlying sites first, then the others, as many as fit.
+    """
+    if verbose or sum(len(s["days"]) for s in sites) <= SITE_ROWS_SHOWN:
+        return sites, 0
+    keep, rows = set(), 0
+    for k in [k for k, s in enumerate(sites) if s["outlier"]] + [k for k, s in enumerate(sites) if not s["outlier"]]:
+        if rows + len(sites[k]["days"]) <= SITE_ROWS_SHOWN:
+            keep.add(k)
+            rows += len(sites[k]["days"])
+    return [s for k, s in enumerate(sites) if k in keep], len(sites) - len(keep)
 
 
 def _escape(text: str) -> str:
