@@ -53,7 +53,8 @@ _TRANSIT_ITERATIONS = 3
 #: With 4-point Lagrange interpolation the error is below 1e-6" in direction
 #: and 1e-10 rad in sidereal time (a test holds this).
 _GRID_STEP_H = 1.0
-#: Use the grid when the distinct times outnumber the grid nodes this many times.
+#: Use the grid when the Sun positions a call (or a search's repeated calls on
+#: nearby times) would compute outnumber the grid nodes this many times.
 _GRID_MIN_GAIN = 3.0
 
 
@@ -108,12 +109,14 @@ def _sun_grid(start_tt_jd: float, nodes: int, step_days: float):
     return xyz, gast
 
 
-def _geocentric_sun(time_utc: np.ndarray):
+def _geocentric_sun(time_utc: np.ndarray, uses: int = 1):
     """Apparent geocentric Sun in the true equator and equinox of date, and GAST.
 
     Many times within a short span (a year of noons at a hundred sites) are
     served from an hourly grid of skyfield positions by 4-point Lagrange
-    interpolation; a few scattered times are computed directly.
+    interpolation; a few scattered times are computed directly. ``uses``:
+    how many calls on about the same times the caller makes (a search's
+    iterations), all served by one cached grid.
 
     Returns
     -------
@@ -128,7 +131,7 @@ def _geocentric_sun(time_utc: np.ndarray):
     # whole days with half a day of margin, so that the iterations of a search share one grid
     start = np.floor(tt.min() - 0.5)
     nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
-    if time_utc.size < _GRID_MIN_GAIN * nodes:
+    if time_utc.size * uses < _GRID_MIN_GAIN * nodes:
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
         return _direct_geocentric_sun(t)
@@ -184,6 +187,11 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
     >>> round(float(p.altitude_deg), 1)
     66.6
     """
+    return _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m)
+
+
+def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: int = 1) -> SunPosition:
+    """:func:`sun_position`, told how many calls on about the same times the caller makes."""
     t = as_utc_datetime64(time_utc)
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
     t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
@@ -192,7 +200,7 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
         raise InputError(f"latitude_deg: expected -90 to 90 deg, got {lat_b[~(np.abs(lat_b) <= 90)].ravel()[0]}")
     check_in_span(t_b)
     unique_t, inverse = np.unique(t_b.ravel(), return_inverse=True)
-    sun_xyz_km, gast_rad = _geocentric_sun(unique_t)
+    sun_xyz_km, gast_rad = _geocentric_sun(unique_t, uses)
     sun_xyz_km = sun_xyz_km[:, inverse]
     gast_rad = gast_rad[inverse]
     return _topocentric(sun_xyz_km, gast_rad, lat_b.ravel(), lon_b.ravel(), elev_b.ravel(), shape)
@@ -310,11 +318,12 @@ def solar_transit(date, latitude_deg, longitude_deg, elevation_m=0.0) -> SolarTr
     day_b, lat_b, lon_b, elev_b = np.broadcast_arrays(day, lat, lon, elev)
     offset_us = np.round((12.0 - lon_b / 15.0) * 3600e6).astype(np.int64)
     t = day_b.astype("datetime64[us]") + offset_us.astype("timedelta64[us]")
+    uses = _TRANSIT_ITERATIONS + 1  # every step of the search shares one grid when it pays
     for _ in range(_TRANSIT_ITERATIONS):
-        p = sun_position(t, lat_b, lon_b, elev_b)
+        p = _sun_position(t, lat_b, lon_b, elev_b, uses)
         step_us = np.round(p.hour_angle_deg / _MEAN_SOLAR_RATE_DEG_PER_S * 1e6).astype(np.int64)
         t = t - step_us.astype("timedelta64[us]")
-    p = sun_position(t, lat_b, lon_b, elev_b)
+    p = _sun_position(t, lat_b, lon_b, elev_b, uses)
     return SolarTransit(
         time_utc=t,
         altitude_deg=p.altitude_deg,

@@ -82,26 +82,28 @@ def plan_shadows(
     days = chosen_days(run.plan, top)
     if ics is not None:
         write_atomic(ics, calendar_bytes(run, days), inputs=[campaign, *run.campaign.logs.get("shadows", ())])
-    data = shadow_plan_to_json(run)
-    if json_output:
-        print_json(data)
+    if json_output:  # the JSON of every day and site only when it is printed
+        print_json(shadow_plan_to_json(run))
         return
-    _render(data, run, days, SOLAR_CAUTION, ics)
+    _render(run, days, SOLAR_CAUTION, ics)
 
 
-def _render(data: dict, run, days, caution: str, ics) -> None:
+def _render(run, days, caution: str, ics) -> None:
     from rich import box
     from rich.markup import escape
     from rich.table import Table
+
+    from firstrung.jsonout import number
+    from firstrung.methods.shadows.present_plan import site_day
 
     out = console()
     plan = run.plan
     n_ranked = int((plan.rank > 0).sum())
     out.print(
-        f"[bold]{escape(data['campaign'])}[/bold]: noon shadows, {data['from']} to {data['to']}; "
+        f"[bold]{escape(run.campaign.name)}[/bold]: noon shadows, {plan.dates[0]} to {plan.dates[-1]}; "
         f"{n_ranked} of {len(plan.dates)} days work at every site"
     )
-    out.print(f"  a perfect measurement at these sites gives {data['expected_radius_km']:.1f} km")
+    out.print(f"  a perfect measurement at these sites gives {number(plan.expected_radius_km, 3):.1f} km")
     if run.skipped_sites:
         out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
     table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
@@ -118,7 +120,7 @@ def _render(data: dict, run, days, caution: str, ics) -> None:
         row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
         if few:
             for j, _s in enumerate(plan.sites):
-                d = data["days"][k]["sites"][plan.sites[j].id]
+                d = site_day(plan, k, j)
                 clock = (d["transit_local"] or d["transit_utc"])[11:16]
                 zone = "" if d["transit_local"] else "Z"
                 row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
