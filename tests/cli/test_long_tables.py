@@ -60,3 +60,13 @@ def test_check_summary_shows_flagged_sites_only_unless_verbose(many_sites, capsy
     _, out, _ = run_cli(["check", campaign, "--verbose"], capsys, monkeypatch, columns=80)
     table = out.split("Rows per site and observer", 1)[1]
     assert len(set(re.findall(r"^\s+(m\d\d)\s", table, flags=re.M))) == N_SITES
+
+
+def test_report_draws_twelve_of_the_site_days_and_says_so(many_sites, capsys, monkeypatch):
+    out_file = many_sites.parent / "report.html"
+    code, _, err = run_cli(["report", many_sites, "-o", out_file, "--samples", "1000"], capsys, monkeypatch)
+    assert code == 0, err
+    html = out_file.read_text()
+    assert "12 of the 50 site-days drawn (the outlying sites first)" in html
+    # one panel title per drawn series: 'mNN 2027-03-2D' in the SVG text
+    assert len(set(re.findall(r">(m\d\d 2027-03-2[01])<", html))) == 12
