@@ -543,10 +543,10 @@ def print_table(rows: list[Row]) -> None:
 def print_scaling(points: list[Point]) -> None:
     print()
     print("scaling (whole command, cold, median)")
-    print(f"{'command':<16} {'sites':>7} {'rows':>10} {'s':>8} {'peak MB':>8}")
+    print(f"{'scaling: command':<24} {'sites':>7} {'rows':>10} {'s':>8} {'peak MB':>8}")
     for p in points:
         rows = f"{p.rows:,}" if p.rows is not None else "1 year"
-        print(f"{p.command:<16} {p.sites:>7,} {rows:>10} {_fmt_s(p.seconds):>8} {p.peak_mb:>8.0f}")
+        print(f"{'scaling: ' + p.command:<24} {p.sites:>7,} {rows:>10} {_fmt_s(p.seconds):>8} {p.peak_mb:>8.0f}")
     for command, text in exponents(points).items():
         print(f"  {command}: {text}")
 

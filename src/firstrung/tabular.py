@@ -42,6 +42,8 @@ import itertools
 import math
 import os
 import re
+import stat
+import sys
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, fields, replace
 from pathlib import Path
@@ -68,6 +70,13 @@ __all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot
 TIME_SIGMA_LIMIT_S = 3600.0
 
 _NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+
+#: Largest log file read [bytes]: about four million rows; a larger file is refused with a
+#: message (the text and its rows are held in memory while they are read).
+MAX_LOG_BYTES = 256 * 1024 * 1024
+#: No limit on a cell's length short of the file's (csv's default, 128 kB, stopped the whole file
+#: at one long note and lost every row after it).
+csv.field_size_limit(min(sys.maxsize, 2**31 - 1))
 
 #: Plain shadow rows take a direct path (same results as the full row checks; a test compares them).
 FAST_PATH = True
@@ -255,6 +264,15 @@ def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem 
     try:
         return data.decode("utf-8"), None, None
     except UnicodeDecodeError as error:
+        mixed = _utf8_with_stray_lines(data)
+        if mixed is not None:
+            text, stray = mixed
+            line, byte = stray[0]
+            encoding = (
+                f"UTF-8 text, with {len(stray)} line(s) that are not UTF-8 taken as Windows-1252 "
+                f"(line {line}: byte 0x{byte:02x}; check letters outside ASCII in the names and notes there)"
+            )
+            return text, encoding, None
         # Readings are ASCII (numbers, ISO times, site ids); only free text can
         # hold other letters, so reading the usual 8-bit spreadsheet encoding
         # loses nothing and at worst misspells a name.
@@ -263,6 +281,27 @@ def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem 
             f"{error.start}; check letters outside ASCII in names and notes)"
         )
         return data.decode("cp1252", errors="replace"), encoding, None
+
+
+def _utf8_with_stray_lines(data: bytes) -> tuple[str, list[tuple[int, int]]] | None:
+    """UTF-8 text with a few lines in an 8-bit encoding (one pasted from elsewhere), or None.
+
+    Each line that is UTF-8 is read as UTF-8, each other line as Windows-1252;
+    returns the text and the stray lines' numbers (from 1) with their first
+    non-UTF-8 byte. None unless some line holds real UTF-8 beyond ASCII
+    (otherwise the whole file is read as Windows-1252, as before).
+    """
+    parts, stray, utf8_letters = [], [], False
+    for number, line in enumerate(data.split(b"\n"), start=1):
+        try:
+            parts.append(line.decode("utf-8"))
+            utf8_letters = utf8_letters or not line.isascii()
+        except UnicodeDecodeError as error:
+            parts.append(line.decode("cp1252", errors="replace"))
+            stray.append((number, line[error.start]))
+    if not utf8_letters or not stray:
+        return None
+    return "\n".join(parts), stray
 
 
 def is_skipped(cells: Sequence[str]) -> bool:
@@ -371,6 +410,16 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
     """Read one CSV file into its data rows; file-level problems leave it without rows."""
     table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
     try:
+        info = os.stat(path)  # before opening: a FIFO would block the open, a device never end
+        if stat.S_ISREG(info.st_mode) and info.st_size > MAX_LOG_BYTES:
+            table.problems.append(RowProblem(label, None, None, (
+                f"{info.st_size / 1e6:,.0f} MB; logs over {MAX_LOG_BYTES / 1e6:,.0f} MB are not read "
+                "(split it into several files, or check that it is the log)")))
+            return table
+        if not stat.S_ISREG(info.st_mode) and not stat.S_ISDIR(info.st_mode):
+            table.problems.append(RowProblem(label, None, None, (
+                "not a regular file (a device, pipe or socket); expected a CSV file")))
+            return table
         data = Path(path).read_bytes()
     except FileNotFoundError:
         table.problems.append(RowProblem(label, None, None, "no such file"))
@@ -395,48 +444,55 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = _sniff_delimiter(text, known)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=table.delimiter)
+    lines = io.StringIO(text, newline="").readlines()
     header: list[str] | None = None
     row_number = 0
-    try:
-        for cells in reader:
-            if is_skipped(cells):
-                continue
-            if header is None:
-                header = [_normal_name(cell) for cell in cells]
-                table.chosen, problems = _choose_columns(header, slots, label)
-                table.problems.extend(problems)
-                if problems:
-                    return table
-                table.ignored = [name for name in header if name and name not in known]
-                continue
-            row_number += 1
-            if len(cells) > len(header) and any(cell.strip() for cell in cells[len(header) :]):
-                message = _surplus_message(cells, len(header), table.delimiter)
-                table.problems.append(RowProblem(label, row_number, None, message))
-                table.rows.append((row_number, {}))  # counted as read, not kept
-                continue
-            swallowed = _swallowed(cells, table.delimiter, len(header))
-            if swallowed is not None:
-                index, line_ends = swallowed
-                column = header[index] if index < len(header) and header[index] else None
-                message = (
-                    f"a double quote opens a cell that runs on over {line_ends} line end(s) and "
-                    "takes in lines that look like rows (a closing quote missing?); "
-                    "those lines are not read"
-                )
-                table.problems.append(RowProblem(label, row_number, column, message))
-                table.rows.append((row_number, {}))
-                continue
-            values = {}
-            for index, name in enumerate(header):
-                if name in known and name not in values:
-                    values[name] = cells[index].strip() if index < len(cells) else ""
-            table.rows.append((row_number, values))
-    except csv.Error as error:
-        table.problems.append(
-            RowProblem(label, None, None, f"CSV error at line {reader.line_num}: {error}")
-        )
+    first_line = 0  # the physical line the current reader starts at
+    while first_line is not None:
+        start, first_line = first_line, None
+        reader = csv.reader(itertools.islice(lines, start, None), delimiter=table.delimiter)
+        consumed = 0
+        try:
+            for cells in reader:
+                record_line, consumed = start + consumed, reader.line_num
+                if is_skipped(cells):
+                    continue
+                if header is None:
+                    header = [_normal_name(cell) for cell in cells]
+                    table.chosen, problems = _choose_columns(header, slots, label)
+                    table.problems.extend(problems)
+                    if problems:
+                        return table
+                    table.ignored = [name for name in header if name and name not in known]
+                    continue
+                row_number += 1
+                if len(cells) > len(header) and any(cell.strip() for cell in cells[len(header) :]):
+                    message = _surplus_message(cells, len(header), table.delimiter)
+                    table.problems.append(RowProblem(label, row_number, None, message))
+                    table.rows.append((row_number, {}))  # counted as read, not kept
+                    continue
+                swallowed = _swallowed(cells, table.delimiter, len(header))
+                if swallowed is not None:
+                    index, line_ends = swallowed
+                    column = header[index] if index < len(header) and header[index] else None
+                    message = (
+                        f"a double quote opens a cell that runs on over {line_ends} line end(s) and "
+                        "takes in lines that look like rows (a closing quote missing?); the row is "
+                        "left out and the lines after it are read as rows"
+                    )
+                    table.problems.append(RowProblem(label, row_number, column, message))
+                    table.rows.append((row_number, {}))
+                    first_line = record_line + 1  # read on from the next line, with a new reader
+                    break
+                values = {}
+                for index, name in enumerate(header):
+                    if name in known and name not in values:
+                        values[name] = cells[index].strip() if index < len(cells) else ""
+                table.rows.append((row_number, values))
+        except csv.Error as error:
+            table.problems.append(
+                RowProblem(label, None, None, f"CSV error at line {start + reader.line_num}: {error}")
+            )
     if header is None:
         required = ", ".join(slot.shown for slot in slots if slot.required)
         table.problems.append(
