@@ -40,6 +40,7 @@ import csv
 import io
 import itertools
 import math
+import operator
 import os
 import re
 import stat
@@ -78,7 +79,8 @@ MAX_LOG_BYTES = 256 * 1024 * 1024
 #: at one long note and lost every row after it).
 csv.field_size_limit(min(sys.maxsize, 2**31 - 1))
 
-#: Plain shadow rows take a direct path (same results as the full row checks; a test compares them).
+#: Plain rows of a kind with a column reader take it (same results as the full row checks, which
+#: read every row when this is off; a test compares the two on the whole bad-input corpus).
 FAST_PATH = True
 TIME_COLUMNS = ("time_utc", "time_local")
 _TIME_EXAMPLES = {"time_utc": "2027-03-20T11:38:00Z", "time_local": "2027-03-20T12:38:00"}
@@ -164,6 +166,14 @@ class Table:
     delimiter: str = ","
     decimal_comma: bool = False
     encoding: str | None = None
+    #: Read in one columnar pass (see :func:`_columns_pass`): the kept rows' numbers and their
+    #: cells column by column; ``rows`` then holds only the rows counted but not kept.
+    numbers: list[int] | None = None
+    columns: dict[str, list[str]] | None = None
+
+    def cells_of(self, k: int) -> dict[str, str]:
+        """The cells of the ``k``-th kept row of a columnar read, as the row-by-row read gives them."""
+        return {name: column[k] for name, column in self.columns.items()}
 
     @property
     def note(self) -> str | None:
@@ -406,8 +416,83 @@ def _choose_columns(
     return chosen, problems
 
 
-def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
-    """Read one CSV file into its data rows; file-level problems leave it without rows."""
+_FIRST_CELL = operator.itemgetter(0)
+_FIRST_CHAR = operator.itemgetter(slice(0, 1))
+
+
+def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: set[str]) -> bool:
+    """Read a file whose records are one line each in one pass, column by column.
+
+    The same rows, numbers, problems and cells as the row-by-row loop of
+    :func:`_read_table` (a test compares them on the whole bad-input corpus),
+    with the per-row work left to C (the csv module, ``zip``, ``map``). False,
+    with nothing changed, when a record spans lines (a quoted line end) or the
+    csv module stops: the loop then reads the file and says what it found.
+    """
+    try:
+        records = list(csv.reader(lines, delimiter=table.delimiter))
+    except csv.Error:
+        return False
+    if len(records) != len(lines):
+        return False
+    # a row can be skipped only when it is empty or its first cell starts with no letter or digit
+    lengths = np.fromiter(map(len, records), np.int64, len(records))
+    filled = np.flatnonzero(lengths > 0)
+    firsts = list(map(_FIRST_CHAR, map(_FIRST_CELL, records if filled.size == len(records) else
+                                       (records[k] for k in filled))))
+    codes = np.array(firsts, dtype="<U1").view(np.uint32) if firsts else np.zeros(0, np.uint32)
+    alnum = (codes - 48 < 10) | (codes - 65 < 26) | (codes - 97 < 26)
+    maybe = np.concatenate([np.flatnonzero(lengths == 0), filled[~alnum]])
+    skipped = {int(k) for k in maybe if is_skipped(records[k])}
+    data = [r for k, r in enumerate(records) if k not in skipped] if skipped else records
+    if not data:
+        return False  # an empty file: the loop's message
+    header = [_normal_name(cell) for cell in data[0]]
+    table.chosen, problems = _choose_columns(header, slots, table.label)
+    table.problems.extend(problems)
+    table.numbers, table.columns = [], {}
+    if problems:
+        return True
+    table.ignored = [name for name in header if name and name not in known]
+    data = data[1:]
+    width = len(header)
+    refused = set()
+    for k, cells in enumerate(data):
+        if len(cells) > width and any(cell.strip() for cell in cells[width:]):
+            message = _surplus_message(cells, width, table.delimiter)
+            table.problems.append(RowProblem(table.label, k + 1, None, message))
+            table.rows.append((k + 1, {}))  # counted as read, not kept
+            refused.add(k)
+    kept = [cells for k, cells in enumerate(data) if k not in refused] if refused else data
+    table.numbers = [k + 1 for k in range(len(data)) if k not in refused] if refused else list(range(1, len(data) + 1))
+    short = bool(kept) and min(map(len, kept)) < width
+    wanted = {}
+    for index, name in enumerate(header):
+        if name in known and name not in wanted:
+            wanted[name] = index
+    by_index = list(zip(*kept, strict=False)) if kept and not short else None  # every column at once, in C
+    for name, index in wanted.items():
+        if by_index is not None:
+            cells = by_index[index] if index < len(by_index) else ("",) * len(kept)
+        else:
+            cells = [c[index] if index < len(c) else "" for c in kept]
+        table.columns[name] = list(map(str.strip, cells))
+    if table.delimiter != ",":
+        numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
+        table.decimal_comma = any(
+            _DECIMAL_COMMA_RE.match(value)
+            for column in numeric
+            if column is not None
+            for value in table.columns.get(column, ())
+        )
+    return True
+
+
+def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = False) -> Table:
+    """Read one CSV file into its data rows; file-level problems leave it without rows.
+
+    ``columnar``: try :func:`_columns_pass` first (rows in ``numbers`` and ``columns``).
+    """
     table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
     try:
         info = os.stat(path)  # before opening: a FIFO would block the open, a device never end
@@ -445,6 +530,8 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
     known = {name for slot in slots for name in slot.names}
     table.delimiter = _sniff_delimiter(text, known)
     lines = io.StringIO(text, newline="").readlines()
+    if columnar and _columns_pass(table, lines, slots, known):
+        return table
     header: list[str] | None = None
     row_number = 0
     first_line = 0  # the physical line the current reader starts at
@@ -617,14 +704,8 @@ def read_rows(
     paths: Iterable[str | os.PathLike[str]] | None,
     slots: Sequence[Slot],
     parse_row: Callable[[Row, Campaign], dict | None],
-    fast_row: Callable | None = None,
 ) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
-    """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes.
-
-    ``fast_row(table, cells, campaign)`` may read a plain row directly (a few
-    microseconds); it returns ``None`` for anything unusual, which then goes
-    through ``parse_row`` and its exact messages.
-    """
+    """Read every file of one kind, row by row: good rows as dicts, problems, rows read, ignored, notes."""
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []
@@ -638,19 +719,10 @@ def read_rows(
         if table.note is not None:
             notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
-        fast = fast_row if (fast_row is not None and FAST_PATH and table.delimiter == ","
-                            and not table.decimal_comma) else None
         for row_number, cells in table.rows:
             rows_read += 1
             if not cells:
                 continue
-            if fast is not None:
-                values = fast(table, cells, campaign)
-                if values is not None:
-                    values["file"] = label
-                    values["row"] = row_number
-                    good.append(values)
-                    continue
             row = Row(table, row_number, cells)
             values = parse_row(row, campaign)
             if row.problems or values is None:
@@ -660,6 +732,84 @@ def read_rows(
             values["row"] = row_number
             good.append(values)
     return good, problems, rows_read, tuple(ignored), tuple(notes)
+
+
+def read_columns(
+    campaign: Campaign,
+    kind: str,
+    paths: Iterable[str | os.PathLike[str]] | None,
+    slots: Sequence[Slot],
+    parse_row: Callable[[Row, Campaign], dict | None],
+    fast_columns: Callable,
+    dtypes: dict[str, object],
+) -> tuple[dict[str, np.ndarray], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
+    """:func:`read_rows` with the good rows as columns, plain rows read a column at a time.
+
+    ``fast_columns(table, campaign)`` takes a columnar table and returns the
+    values of the plain rows (arrays, as ``dtypes`` says) and a mask of the
+    rows it read; every other row goes through ``parse_row`` and its exact
+    messages. The result is the same as :func:`read_rows` gives, row for row
+    (with ``FAST_PATH`` off every row takes that path).
+    """
+    if not FAST_PATH:
+        good, problems, rows_read, ignored, notes = read_rows(campaign, kind, paths, slots, parse_row)
+        return column_arrays(good, dtypes), problems, rows_read, ignored, notes
+    chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
+    parts: list[tuple[int, dict[str, np.ndarray]]] = []
+    problems: list[RowProblem] = []
+    ignored: list[str] = []
+    notes: list[str] = []
+    rows_read = 0
+    for file_index, path in enumerate(chosen_paths):
+        label = display_name(Path(path), campaign)
+        table = _read_table(Path(path), label, slots, columnar=True)
+        problems.extend(table.problems)
+        if table.note is not None:
+            notes.append(table.note)
+        ignored.extend(name for name in table.ignored if name not in ignored)
+        good: list[dict] = []
+        if table.columns is None:  # read row by row (quoted line ends, csv errors, empty files)
+            for row_number, cells in table.rows:
+                rows_read += 1
+                if cells:
+                    _parse_one(Row(table, row_number, cells), campaign, parse_row, label, good, problems)
+            parts.append((file_index, column_arrays(good, dtypes)))
+            continue
+        rows_read += len(table.numbers) + len(table.rows)
+        n = len(table.numbers)
+        handled = np.zeros(n, bool)
+        if n and table.delimiter == "," and not table.decimal_comma:
+            fast, handled = fast_columns(table, campaign)
+            if fast is not None:
+                fast["file"] = np.full(int(handled.sum()), label)
+                fast["row"] = np.asarray(table.numbers, dtype=np.int64)[handled]
+                parts.append((file_index, {name: fast[name] for name in dtypes}))
+        for k in np.flatnonzero(~handled):
+            _parse_one(Row(table, table.numbers[k], table.cells_of(k)), campaign, parse_row, label, good, problems)
+        if good:
+            parts.append((file_index, column_arrays(good, dtypes)))
+    if not parts:
+        return column_arrays([], dtypes), problems, rows_read, tuple(ignored), tuple(notes)
+    merged = {name: np.concatenate([p[name] for _, p in parts]) for name in dtypes}
+    # back to the files' order, and the rows' order inside each file
+    file_of = np.concatenate([np.full(len(p["row"]), k, dtype=np.int64) for k, p in parts])
+    order = np.lexsort((merged["row"], file_of))
+    if not np.array_equal(order, np.arange(order.size)):
+        merged = {name: values[order] for name, values in merged.items()}
+    for name, dtype in dtypes.items():
+        if merged[name].dtype.kind != np.dtype(dtype).kind:
+            merged[name] = merged[name].astype(dtype)
+    return merged, problems, rows_read, tuple(ignored), tuple(notes)
+
+
+def _parse_one(row: Row, campaign: Campaign, parse_row, label: str, good: list[dict], problems: list) -> None:
+    values = parse_row(row, campaign)
+    if row.problems or values is None:
+        problems.extend(row.problems)
+        return
+    values["file"] = label
+    values["row"] = row.row
+    good.append(values)
 
 
 def column_arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
