@@ -36,6 +36,7 @@ such file gets one line in the log's ``notes``:
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import itertools
@@ -170,6 +171,7 @@ class Table:
     #: cells column by column; ``rows`` then holds only the rows counted but not kept.
     numbers: list[int] | None = None
     columns: dict[str, list[str]] | None = None
+    path: Path | None = None
 
     def cells_of(self, k: int) -> dict[str, str]:
         """The cells of the ``k``-th kept row of a columnar read, as the row-by-row read gives them."""
@@ -420,6 +422,26 @@ _FIRST_CELL = operator.itemgetter(0)
 _FIRST_CHAR = operator.itemgetter(slice(0, 1))
 
 
+#: While :func:`raw_rows_kept` runs: every row of each file read in one columnar pass, by path.
+_RAW_KEPT: dict[str, tuple[tuple[str, ...], list[int], list[list[str]]]] | None = None
+
+
+@contextlib.contextmanager
+def raw_rows_kept():
+    """Keep, for the files read inside the block, their header and every data row as read.
+
+    Yields a dictionary: path (as ``str``) -> (header names, row numbers, the rows' cells).
+    A file read another way (a quoted line end, a bad header, not decodable) is
+    not in it; the caller reads those itself.
+    """
+    global _RAW_KEPT
+    previous, _RAW_KEPT = _RAW_KEPT, {}
+    try:
+        yield _RAW_KEPT
+    finally:
+        _RAW_KEPT = previous
+
+
 def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: set[str]) -> bool:
     """Read a file whose records are one line each in one pass, column by column.
 
@@ -455,6 +477,8 @@ def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: 
         return True
     table.ignored = [name for name in header if name and name not in known]
     data = data[1:]
+    if _RAW_KEPT is not None:  # the check's copy of every row: the same read, kept
+        _RAW_KEPT[str(table.path)] = (tuple(header), list(range(1, len(data) + 1)), data)
     width = len(header)
     refused = set()
     for k, cells in enumerate(data):
@@ -493,7 +517,7 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
 
     ``columnar``: try :func:`_columns_pass` first (rows in ``numbers`` and ``columns``).
     """
-    table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
+    table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[], path=Path(path))
     try:
         info = os.stat(path)  # before opening: a FIFO would block the open, a device never end
         if stat.S_ISREG(info.st_mode) and info.st_size > MAX_LOG_BYTES:
