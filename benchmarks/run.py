@@ -77,6 +77,7 @@ class Cold:
     runs: list[float]
     status: int
     stdout: str
+    cpu_s: float = 0.0  # median CPU time (user + system) of the runs: less sensitive to a shared machine
 
 
 #: Runs one command and reports its wall time and the peak resident memory of that command alone.
@@ -87,14 +88,15 @@ _LAUNCHER = (
     "t0 = time.perf_counter()\n"
     "status = subprocess.call(sys.argv[2:])\n"
     "seconds = time.perf_counter() - t0\n"
-    "peak_kb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
-    "open(sys.argv[1], 'w').write(f'{status} {seconds!r} {peak_kb}')\n"
+    "usage = resource.getrusage(resource.RUSAGE_CHILDREN)\n"
+    "cpu = usage.ru_utime + usage.ru_stime\n"
+    "open(sys.argv[1], 'w').write(f'{status} {seconds!r} {usage.ru_maxrss} {cpu!r}')\n"
 )
 
 
 def cold(args: list[str], repeats: int, ok=(0, 1)) -> Cold:
     """Run ``firstrung args`` ``repeats`` times, each in a new process; time and peak memory of each."""
-    times, peaks = [], []
+    times, peaks, cpus = [], [], []
     status, stdout = 0, ""
     for _ in range(repeats):
         with tempfile.TemporaryDirectory() as scratch:
@@ -102,14 +104,15 @@ def cold(args: list[str], repeats: int, ok=(0, 1)) -> Cold:
             with open(out_path, "wb") as out, open(err_path, "wb") as err:
                 subprocess.run([sys.executable, "-c", _LAUNCHER, str(report), *FIRSTRUNG, *args],
                                stdout=out, stderr=err, env=ENV, check=True)
-            status_text, seconds, peak_kb = report.read_text().split()
+            status_text, seconds, peak_kb, cpu = report.read_text().split()
             status = int(status_text)
             times.append(float(seconds))
+            cpus.append(float(cpu))
             peaks.append(int(peak_kb) / 1024.0)  # Linux reports kilobytes
             stdout = out_path.read_text("utf-8", "replace")
             if status not in ok:
                 raise RuntimeError(f"firstrung {' '.join(args)} exited {status}: {err_path.read_text()[-2000:]}")
-    return Cold(statistics.median(times), max(peaks), times, status, stdout)
+    return Cold(statistics.median(times), max(peaks), times, status, stdout, statistics.median(cpus))
 
 
 def warm(args: list[str], repeats: int) -> float:
@@ -419,6 +422,7 @@ class Point:
     rows: int | None
     seconds: float
     peak_mb: float
+    cpu_s: float = 0.0
 
 
 def fit_exponent(x: list[float], y: list[float]) -> float:
@@ -436,20 +440,20 @@ def scaling(work: Workloads, quick: bool, repeats: int) -> list[Point]:
         for rows in rows_axis:
             path, n = work.shadows(fixed_sites, rows)
             c = cold([*command, str(path)], repeats if rows < 1_000_000 else max(1, repeats - 2), ok=(0, 1, 2))
-            points.append(Point(" ".join(command), fixed_sites, n, c.seconds, c.peak_mb))
+            points.append(Point(" ".join(command), fixed_sites, n, c.seconds, c.peak_mb, c.cpu_s))
         for sites in sites_axis:
             if sites == fixed_sites:
                 continue
             path, n = work.shadows(sites, fixed_rows)
             c = cold([*command, str(path)], repeats, ok=(0, 1, 2))
-            points.append(Point(" ".join(command), sites, n, c.seconds, c.peak_mb))
+            points.append(Point(" ".join(command), sites, n, c.seconds, c.peak_mb, c.cpu_s))
     last = "2027-02-28" if quick else "2027-12-31"
     for sites in plan_axis:
         folder = work.root / f"plan{sites}"
         path = write_campaign(folder, sites, seed=1, with_logs=False)
         c = cold(["plan", "shadows", str(path), "--from", "2027-01-01", "--to", last],
                  repeats if sites <= 3_000 else max(1, repeats - 2))
-        points.append(Point("plan shadows", sites, None, c.seconds, c.peak_mb))
+        points.append(Point("plan shadows", sites, None, c.seconds, c.peak_mb, c.cpu_s))
     return points
 
 
@@ -527,7 +531,7 @@ def machine_line(quick: bool) -> str:
 
 
 def print_table(rows: list[Row]) -> None:
-    header = (f"{'path':<24} {'workload':<28} {'cold s':>8} {'peak MB':>8} {'warm s':>8} {'inner s':>8}  "
+    header = (f"{'path':<24} {'workload':<28} {'cold s':>8} {'cpu s':>8} {'peak MB':>8} {'warm s':>8} {'inner s':>8}  "
               "baselines (s, ratio to inner or cold)  agreement")
     print(header)
     print("-" * len(header))
@@ -536,37 +540,40 @@ def print_table(rows: list[Row]) -> None:
         base = "; ".join(f"{name} {_fmt_s(s)} = {s / ref:.1f}x" for name, s in r.baselines) if ref else ""
         cold_s = _fmt_s(r.cold.seconds) if r.cold else "-"
         peak = f"{r.cold.peak_mb:.0f}" if r.cold else "-"
-        print(f"{r.path:<24} {r.workload:<28} {cold_s:>8} {peak:>8} {_fmt_s(r.warm_s):>8} {_fmt_s(r.inner_s):>8}  "
+        cpu = _fmt_s(r.cold.cpu_s) if r.cold else "-"
+        print(f"{r.path:<24} {r.workload:<28} {cold_s:>8} {cpu:>8} {peak:>8} {_fmt_s(r.warm_s):>8} {_fmt_s(r.inner_s):>8}  "
               f"{base}  {r.agreement}")
 
 
 def print_scaling(points: list[Point]) -> None:
     print()
     print("scaling (whole command, cold, median)")
-    print(f"{'scaling: command':<24} {'sites':>7} {'rows':>10} {'s':>8} {'peak MB':>8}")
+    print(f"{'scaling: command':<24} {'sites':>7} {'rows':>10} {'s':>8} {'cpu s':>8} {'peak MB':>8}")
     for p in points:
         rows = f"{p.rows:,}" if p.rows is not None else "1 year"
-        print(f"{'scaling: ' + p.command:<24} {p.sites:>7,} {rows:>10} {_fmt_s(p.seconds):>8} {p.peak_mb:>8.0f}")
+        print(f"{'scaling: ' + p.command:<24} {p.sites:>7,} {rows:>10} {_fmt_s(p.seconds):>8} {_fmt_s(p.cpu_s):>8} "
+              f"{p.peak_mb:>8.0f}")
     for command, text in exponents(points).items():
         print(f"  {command}: {text}")
 
 
 def markdown(rows: list[Row], points: list[Point], header: str) -> str:
-    out = [header, "", "| path | workload | whole command, cold (s) | peak RSS (MB) | in process, warm (s) | "
+    out = [header, "", "| path | workload | whole command, cold (s) | its CPU (s) | peak RSS (MB) | in process, warm (s) | "
            "the computation alone (s) | baselines, run in full (s) | agreement | target |",
-           "|---|---|---:|---:|---:|---:|---|---|---|"]
+           "|---|---|---:|---:|---:|---:|---:|---|---|---|"]
     for r in rows:
         ref = r.inner_s if r.inner_s is not None else (r.cold.seconds if r.cold else None)
         base = "<br>".join(f"{name}: {_fmt_s(s)} ({s / ref:.1f}x {'the computation' if r.inner_s else 'the command'})"
                            for name, s in r.baselines) if ref else "-"
         out.append(f"| {r.path} | {r.workload} | {_fmt_s(r.cold.seconds) if r.cold else '-'} | "
+                   f"{_fmt_s(r.cold.cpu_s) if r.cold else '-'} | "
                    f"{f'{r.cold.peak_mb:.0f}' if r.cold else '-'} | {_fmt_s(r.warm_s)} | {_fmt_s(r.inner_s)} | "
                    f"{base or '-'} | {r.agreement or '-'} | {r.target or '-'} |")
     out += ["", "Scaling (whole command, cold, median of the runs; peak RSS the largest):", "",
-            "| command | sites | rows | time (s) | peak RSS (MB) |", "|---|---:|---:|---:|---:|"]
+            "| command | sites | rows | time (s) | CPU (s) | peak RSS (MB) |", "|---|---:|---:|---:|---:|---:|"]
     for p in points:
         out.append(f"| {p.command} | {p.sites:,} | {f'{p.rows:,}' if p.rows is not None else '1 year of days'} | "
-                   f"{_fmt_s(p.seconds)} | {p.peak_mb:.0f} |")
+                   f"{_fmt_s(p.seconds)} | {_fmt_s(p.cpu_s)} | {p.peak_mb:.0f} |")
     out.append("")
     for command, text in exponents(points).items():
         out.append(f"- {command}: {text}")
