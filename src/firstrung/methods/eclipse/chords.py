@@ -397,9 +397,9 @@ def solve_chords(
     chi2 = float(np.sum(best.fun**2))
     factor = 1.0
     if dof > 0:
-        from scipy.special import chdtrc  # chi-square survival function (scipy.stats.chi2.sf)
+        from firstrung.uncertainty import chi2_survival
 
-        if chdtrc(dof, chi2) < SCATTER_SIGNIFICANCE:
+        if chi2_survival(chi2, dof) < SCATTER_SIGNIFICANCE:
             factor = math.sqrt(chi2 / dof)
     time_res = -_time_residuals(p, timings, sm, v, along, normal, offsets, sun_cone_deg)
     mag_res = None

@@ -469,11 +469,11 @@ def _series_scatter_scale(fit: SeriesFit):
     reading error allows (the same 5 % test as between sites) has its reading
     term scaled by sqrt(chi2/dof); otherwise the stated error stands.
     """
-    from scipy.special import chdtrc  # the chi-square sf, without importing scipy.stats
+    from firstrung.uncertainty import chi2_survival
 
     dof = fit.count - 2
     chi2_dof = np.where(dof >= 2, fit.chi2 / np.maximum(dof, 1), np.nan)
-    significant = (dof >= 2) & (chdtrc(np.maximum(dof, 1), fit.chi2) < SCATTER_SIGNIFICANCE)
+    significant = (dof >= 2) & (chi2_survival(fit.chi2, np.maximum(dof, 1)) < SCATTER_SIGNIFICANCE)
     scale = np.where(significant & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
     return chi2_dof, scale
 
@@ -486,9 +486,9 @@ def _scatter_is_significant(chi2: float, dof: int) -> bool:
     above 1 would make the interval too wide on average. The test is the
     chi-square upper tail at SCATTER_SIGNIFICANCE.
     """
-    from scipy.special import chdtrc  # the chi-square sf, without importing scipy.stats
+    from firstrung.uncertainty import chi2_survival
 
-    return bool(chi2 / dof > 1.0 and chdtrc(dof, chi2) < SCATTER_SIGNIFICANCE)
+    return bool(chi2 / dof > 1.0 and chi2_survival(chi2, dof) < SCATTER_SIGNIFICANCE)
 
 
 def _radius_from(prep, positions: Positions, latitude, contributions, active):
