@@ -1,412 +1,650 @@
-"""Benchmarks: firstrung's heavy paths, each beside the straightforward way where there is one.
+"""Benchmarks: what a user gets from each command, beside fair baselines run in full.
 
-Prints one table: path, workload, firstrung's median of several runs, the
-baseline's median in the same run, their ratio, peak memory of firstrung's
-run (tracemalloc, Python and numpy allocations) and the agreement of the two
-results. ``--quick`` runs reduced workloads in well under a minute (the test
-suite runs it as a smoke test; no test asserts a time).
+Every path is timed as a whole command in a fresh process (``python -m
+firstrung ...``), the way a user pays for it: the median of several cold
+runs (a new interpreter each time, every import paid; the operating
+system's file cache is not dropped) and the peak resident memory of that
+process (``os.wait4``'s ``ru_maxrss``, the child alone). Beside it stands
+the same command run in process, warm (imports and ephemeris already
+loaded), to show what start-up and imports cost.
 
-Run: python benchmarks/run.py [--quick]
+Baselines are written as a competent user would write them and run in full
+in the same run, never timed on a sample and scaled:
+
+* skyfield: one ``observe(...).apparent().altaz()`` call per site with all of
+  that site's rows; ``almanac.find_transits`` per site for transits;
+* astropy: one vectorised ``get_body(...).transform_to(AltAz(...))`` call for
+  every row.
+
+Their agreement with firstrung is printed beside them. The scaling table
+times ``check``, ``reduce shadows`` and ``plan shadows`` over sites 10 to
+10,000 and rows 10^3 to 10^6 and fits the exponent of time in the workload
+(least squares in log-log). ``--quick`` runs reduced workloads in about a
+minute (the test suite smoke-runs it; no test asserts a time).
+
+The workloads are synthetic logs written by firstrung's own rehearsal
+(every row one the reader accepts; the script stops if not).
+
+Run: python benchmarks/run.py [--quick] [--markdown FILE]
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
+import importlib
+import io
+import json
+import math
 import os
 import platform
 import statistics
 import subprocess
 import sys
+import tempfile
 import time
-import tracemalloc
+from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 
+ROOT = Path(__file__).resolve().parent.parent
+FIRSTRUNG = [sys.executable, "-m", "firstrung"]
+ENV = dict(os.environ, COLUMNS="80", PYTHONHASHSEED="0")
 
-def timed(fn, repeats):
-    """Median wall time [s] of ``repeats`` calls, the last result, and the peak memory [MB] of one call."""
+
+def _lib(name: str, *modules: str):
+    """A library function by name from the first module that has it (the package's layout may move)."""
+    for module in modules:
+        try:
+            found = getattr(importlib.import_module(module), name, None)
+        except ImportError:
+            continue
+        if found is not None:
+            return found
+    raise ImportError(f"{name} not found in {', '.join(modules)}")
+
+
+# --- timing ------------------------------------------------------------------------------------
+
+
+@dataclass
+class Cold:
+    """Whole command in fresh processes: median seconds, peak resident MB (largest of the runs)."""
+
+    seconds: float
+    peak_mb: float
+    runs: list[float]
+    status: int
+    stdout: str
+    cpu_s: float = 0.0  # median CPU time (user + system) of the runs: less sensitive to a shared machine
+
+
+#: Runs one command and reports its wall time and the peak resident memory of that command alone.
+#: A small launcher does the fork: Linux hands a forked child the parent's high-water mark, so
+#: forking from this (large) benchmark process would overstate every child's peak.
+_LAUNCHER = (
+    "import resource, subprocess, sys, time\n"
+    "t0 = time.perf_counter()\n"
+    "status = subprocess.call(sys.argv[2:])\n"
+    "seconds = time.perf_counter() - t0\n"
+    "usage = resource.getrusage(resource.RUSAGE_CHILDREN)\n"
+    "cpu = usage.ru_utime + usage.ru_stime\n"
+    "open(sys.argv[1], 'w').write(f'{status} {seconds!r} {usage.ru_maxrss} {cpu!r}')\n"
+)
+
+
+def cold(args: list[str], repeats: int, ok=(0, 1)) -> Cold:
+    """Run ``firstrung args`` ``repeats`` times, each in a new process; time and peak memory of each."""
+    times, peaks, cpus = [], [], []
+    status, stdout = 0, ""
+    for _ in range(repeats):
+        with tempfile.TemporaryDirectory() as scratch:
+            report, out_path, err_path = (Path(scratch) / name for name in ("report", "out", "err"))
+            with open(out_path, "wb") as out, open(err_path, "wb") as err:
+                subprocess.run([sys.executable, "-c", _LAUNCHER, str(report), *FIRSTRUNG, *args],
+                               stdout=out, stderr=err, env=ENV, check=True)
+            status_text, seconds, peak_kb, cpu = report.read_text().split()
+            status = int(status_text)
+            times.append(float(seconds))
+            cpus.append(float(cpu))
+            peaks.append(int(peak_kb) / 1024.0)  # Linux reports kilobytes
+            stdout = out_path.read_text("utf-8", "replace")
+            if status not in ok:
+                raise RuntimeError(f"firstrung {' '.join(args)} exited {status}: {err_path.read_text()[-2000:]}")
+    return Cold(statistics.median(times), max(peaks), times, status, stdout, statistics.median(cpus))
+
+
+def warm(args: list[str], repeats: int) -> float:
+    """Median seconds of the same command run in this process after one untimed run (imports loaded)."""
+    from firstrung.cli import main
+
+    def once():
+        with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
+            try:
+                main(list(args))
+            except SystemExit:
+                pass
+
+    once()
     times = []
-    result = None
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        once()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def median_time(fn, repeats: int):
+    """Median seconds of ``repeats`` calls of ``fn`` and its last result."""
+    times, result = [], None
     for _ in range(repeats):
         t0 = time.perf_counter()
         result = fn()
         times.append(time.perf_counter() - t0)
-    tracemalloc.start()
-    fn()
-    _, peak = tracemalloc.get_traced_memory()
-    tracemalloc.stop()
-    return statistics.median(times), result, peak / 1e6
+    return statistics.median(times), result
 
 
-def synthetic_sites(n_sites, rng):
-    lat = rng.uniform(-55.0, 60.0, n_sites)
+# --- workloads ---------------------------------------------------------------------------------
+
+
+def synthetic_latitudes(n_sites: int, rng) -> np.ndarray:
+    """Sites 30-60 deg from the equator on either side: the noon Sun never reaches the zenith there.
+
+    So every noon shadow is long (over 10 cm for a 1 m gnomon all year) and no
+    reading rounds to a negative or zero millimetre count.
+    """
+    lat = rng.uniform(30.0, 60.0, n_sites)
+    return np.where(rng.random(n_sites) < 0.5, -lat, lat)
+
+
+def write_campaign(folder: Path, n_sites: int, seed: int, with_logs: bool = True, declared: int = 0) -> Path:
+    """A campaign file of ``n_sites`` synthetic sites (``declared`` of them when larger: the same first sites)."""
+    rng = np.random.default_rng(seed)
+    lat = synthetic_latitudes(n_sites, rng)
     lon = rng.uniform(-170.0, 170.0, n_sites)
-    elev = rng.uniform(0.0, 1500.0, n_sites)
-    return lat, lon, elev
-
-
-def bench_transits(n_sites, n_days, repeats):
-    """Planning shadow days (transits and predictions) against skyfield's find_transits, site by site."""
-    from skyfield import almanac
-    from skyfield.api import wgs84
-
-    from firstrung import ephemeris
-
-    rng = np.random.default_rng(1)
-    lat, lon, elev = synthetic_sites(n_sites, rng)
-    days = np.arange(np.datetime64("2027-01-01"), np.datetime64("2027-01-01") + np.timedelta64(n_days, "D"))
-
-    from firstrung.methods.shadows.prediction import PlanSite, ShadowConstraints, plan_shadows
-
-    sites = tuple(
-        PlanSite(f"s{i}", f"s{i}", lat[i], lon[i], elev[i], None, 1.0, 0.001, 0.002, "umbra") for i in range(n_sites)
-    )
-    last = str(days[-1])
-
-    def ours():  # the whole plan: transits, altitudes, shadows, sigma of R, constraints, special days
-        return plan_shadows(sites, str(days[0]), last, ShadowConstraints(max_shadow_m=3.0)).transit_utc
-
-    ts, _, earth, sun = ephemeris._loaded()
-
-    def baseline():
-        out = []
-        for i in range(n_sites):
-            site = earth + wgs84.latlon(lat[i], lon[i], elevation_m=elev[i])
-            start = ts.utc(2027, 1, 1, 12 - lon[i] / 15.0 - 12)
-            end = ts.utc(2027, 1, 1 + n_days, 12 - lon[i] / 15.0 - 12)
-            t = almanac.find_transits(site, sun, start, end)
-            out.append(t)
-        return out
-
-    t_ours, ours_result, mem = timed(ours, repeats)
-    t_base, base_result, _ = timed(baseline, max(1, repeats // 2))
-    # agreement: match each baseline transit to ours by day index
-    worst = 0.0
-    for i, t in enumerate(base_result):
-        dt64 = np.array([np.datetime64(x.replace(tzinfo=None), "us") for x in t.utc_datetime()])
-        ours_i = ours_result[:, i]
-        k = min(len(dt64), len(ours_i))
-        if k:
-            diff = np.abs((ours_i[:k] - dt64[:k]).astype(float)) / 1e6
-            worst = max(worst, float(np.max(diff)))
-    return ("plan shadows", f"{n_sites} sites x {n_days} days", t_ours, t_base, mem, f"max {worst:.3f} s")
-
-
-def bench_sun_positions(n_rows, n_sites, repeats):
-    """Topocentric Sun for many (site, time) rows: firstrung against skyfield topocentric alt/az and astropy AltAz."""
-    from firstrung import ephemeris
-
-    rng = np.random.default_rng(2)
-    lat, lon, elev = synthetic_sites(n_sites, rng)
-    site = rng.integers(0, n_sites, n_rows)
-    t = np.datetime64("2027-03-20T12:00") + (rng.uniform(-4, 4, n_rows) * 3600).astype("timedelta64[s]")
-
-    def ours():
-        return ephemeris.sun_position(t, lat[site], lon[site], elev[site]).altitude_deg
-
-    from skyfield.api import wgs84
-
-    ts, _, earth, sun = ephemeris._loaded()
-    sample = np.arange(min(n_rows, 2000))  # the baseline costs ~60 us a row; time a sample and scale
-
-    def baseline():
-        out = np.empty(sample.size)
-        for s_index in np.unique(site[sample]):
-            rows = sample[site[sample] == s_index]
-            topos = earth + wgs84.latlon(lat[s_index], lon[s_index], elevation_m=elev[s_index])
-            tt = ephemeris._skyfield_time(t[rows])
-            alt, _, _ = topos.at(tt).observe(sun).apparent().altaz()
-            out[rows - sample[0]] = alt.degrees
-        return out
-
-    t_ours, a, mem = timed(ours, repeats)
-    t_base, b, _ = timed(baseline, 1)
-    t_base *= n_rows / sample.size
-    agree = float(np.max(np.abs(a[sample] - b))) * 3600
-    return ("Sun alt for check rows", f"{n_rows} rows, {n_sites} sites", t_ours, t_base, mem, f'max {agree:.2f}"')
-
-
-def bench_reduce(n_sites, per_site, repeats):
-    """reduce shadows on a synthetic campaign (no baseline)."""
-    from firstrung.methods.shadows.inputs import ShadowReadings, SiteInput
-    from firstrung.methods.shadows.reduction import reduce_shadows
-    from firstrung.methods.shadows.rehearsal import (
-        ShadowErrors,
-        reading_times_utc,
-        simulate_shadow_readings,
-    )
-
-    rng = np.random.default_rng(3)
-    lat = rng.uniform(-50.0, 60.0, n_sites)
-    lon = rng.uniform(-20.0, 20.0, n_sites)
-    elev = np.full(n_sites, 100.0)
-    half = per_site - 1  # minutes, step 2 min -> per_site readings
-    times, pair = reading_times_utc(["2027-09-23"], lat, lon, elev, half_span_min=half, step_min=2.0)
-    idx = pair % n_sites
-    syn = simulate_shadow_readings(
-        idx, times, lat, lon, elev, np.ones(n_sites), np.array(["umbra"] * n_sites, dtype=object),
-        ShadowErrors.stated(0.002, 0.001, 20.0), rng,
-    )
-    k = len(idx)
-    readings = ShadowReadings(
-        idx, syn.time_utc, syn.shadow_m, syn.gnomon_m, syn.edge, np.full(k, 0.002), np.full(k, 0.001),
-        np.full(k, np.nan), np.full(k, np.nan),
-    )
-    sites = tuple(SiteInput(f"s{i}", f"s{i}", lat[i], lon[i], elev[i]) for i in range(n_sites))
-    t_ours, r, mem = timed(lambda: reduce_shadows(sites, readings), repeats)
-    return ("reduce shadows", f"{k} rows, {n_sites} sites", t_ours, None, mem,
-            f"R/expected {r.earth_radius_km.value / r.expected_radius_km:.4f}")
-
-
-def bench_ladder(samples, repeats):
-    """The ladder's Monte Carlo with every rung measured."""
-    from firstrung.app.ladder import Draw, LadderInputs, climb
-
-    inputs = LadderInputs(
-        earth_radius_km=Draw("reciprocal", 1 / 6371.0, 0.01 / 6371.0),
-        moon_distance_earth_radii=Draw("reciprocal_sine", float(np.arcsin(1 / 60.27)), 0.0002),
-        sun_moon_distance_ratio=Draw("secant", float(np.radians(89.85)), float(np.radians(0.05))),
-        moon_angular_diameter_deg=Draw("gaussian", 0.518, 0.002),
-        sun_angular_diameter_deg=Draw("gaussian", 0.533, 0.002),
-    )
-    t_ours, lad, mem = timed(lambda: climb(inputs, samples=samples, seed=1), repeats)
-    moon = lad.rung("moon_distance_km").measured
-    return ("ladder Monte Carlo", f"{samples:,} samples", t_ours, None, mem, f"Moon {moon.value / 384400:.3f} x modern")
-
-
-def _big_campaign(folder, n_sites, n_rows, rng):
-    """A synthetic campaign file and shadow log of about ``n_rows`` rows at ``n_sites`` sites."""
-    from firstrung.campaign import read_campaign
-    from firstrung.methods.shadows.rehearsal import LOG_COLUMNS as SHADOW_COLUMNS
-    from firstrung.methods.shadows.rehearsal import rehearsal_rows as shadow_rows
-    from firstrung.output import rows_to_csv
-
-    lat = rng.uniform(-50.0, 60.0, n_sites)
-    lon = rng.uniform(-170.0, 170.0, n_sites)
+    if declared > n_sites:
+        more = np.random.default_rng(seed + 1)
+        lat = np.concatenate([lat, synthetic_latitudes(declared - n_sites, more)])
+        lon = np.concatenate([lon, more.uniform(-170.0, 170.0, declared - n_sites)])
     parts = ['[campaign]\nname = "benchmark"\n']
-    for i in range(n_sites):
-        parts.append(f'[[site]]\nid = "s{i}"\nlatitude_deg = {lat[i]:.4f}\nlongitude_deg = {lon[i]:.4f}\n'
-                     'elevation_m = 100\n[site.gnomon]\nheight_m = 1.0\n')
-    parts.append('[logs]\nshadows = ["shadows.csv"]\n')
-    path = os.path.join(folder, "campaign.toml")
-    with open(path, "w") as f:
-        f.write("\n".join(parts))
-    days = max(1, int(np.ceil(n_rows / (n_sites * 17))))
-    rows = shadow_rows(read_campaign(path), "2027-03-20", str(np.datetime64("2027-03-20") + np.timedelta64(days - 1, "D")),
-                       1, half_span_min=16, step_min=2)[:n_rows]
-    with open(os.path.join(folder, "shadows.csv"), "w") as f:
-        f.write(rows_to_csv(rows, SHADOW_COLUMNS))
+    for i in range(lat.size):
+        parts.append(
+            f'[[site]]\nid = "s{i}"\nlatitude_deg = {lat[i]:.4f}\nlongitude_deg = {lon[i]:.4f}\n'
+            "elevation_m = 100\n[site.gnomon]\nheight_m = 1.0\nheight_sigma_m = 0.001\nshadow_sigma_m = 0.002\n"
+        )
+    if with_logs:
+        parts.append('[logs]\nshadows = ["shadows.csv"]\n')
+    folder.mkdir(parents=True, exist_ok=True)
+    path = folder / "campaign.toml"
+    path.write_text("\n".join(parts))
+    return path
+
+
+def shadow_workload(folder: Path, n_sites: int, n_rows: int, seed: int = 5, declared: int = 0) -> tuple[Path, int]:
+    """A campaign of ``n_sites`` sites and a shadow log of ``n_rows`` rows written by firstrung's rehearsal.
+
+    Each site logs ``k`` readings a day 2 minutes apart around its noon
+    (k = 17, fewer when there are few rows per site), over as many days as
+    the rows need. Every ``shadow_mm`` is a positive whole number.
+    """
+    path = write_campaign(folder, n_sites, seed)
+    per_site = max(1, n_rows // n_sites)
+    k = min(17, max(3, per_site))
+    days = max(1, math.ceil(n_rows / (n_sites * k)))
+    read_campaign = _lib("read_campaign", "firstrung.campaign")
+    shadow_rows = _lib("rehearsal_rows", "firstrung.methods.shadows.rehearsal")
+    start = np.datetime64("2027-03-20")
+    rows = shadow_rows(read_campaign(str(path)), str(start), str(start + np.timedelta64(days - 1, "D")), seed,
+                       half_span_min=(k - 1), step_min=2.0)
+    # the first rows in time (every site on the first days), then back in the log's order (site, time)
+    keep = sorted(sorted(range(len(rows)), key=lambda j: rows[j]["time_utc"])[:n_rows])
+    rows = [rows[j] for j in keep]
+    bad = [r["shadow_mm"] for r in rows if not r["shadow_mm"].isdigit() or int(r["shadow_mm"]) <= 0]
+    if bad:
+        raise RuntimeError(f"the benchmark generator wrote shadow_mm {bad[0]!r}: not a positive whole number")
+    with open(folder / "shadows.csv", "w", newline="") as f:
+        f.write("site,time_utc,shadow_mm,observer,note\n")
+        f.writelines(f"{r['site']},{r['time_utc']},{r['shadow_mm']},{r['observer']},{r['note']}\n" for r in rows)
+    if declared > n_sites:  # the same sites first, then many more that logged nothing
+        write_campaign(folder, n_sites, seed, declared=declared)
     return path, len(rows)
 
 
-def bench_check(n_sites, n_rows, repeats):
-    """check on a big shadow log: the check itself, and the whole command; baselines: skyfield and astropy alt/az."""
-    import tempfile
+class Workloads:
+    """Campaigns written once per run, by (sites, rows)."""
 
-    from firstrung.campaign import read_campaign
-    from firstrung.methods.shadows.check import check_shadow_rows
-    from firstrung.methods.shadows.check_statistics import check_sites
-    from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
+    def __init__(self, root: Path):
+        self.root = root
+        self.made: dict[tuple[int, int], tuple[Path, int]] = {}
 
-    rng = np.random.default_rng(5)
-    with tempfile.TemporaryDirectory() as folder:
-        path, n = _big_campaign(folder, n_sites, n_rows, rng)
-        campaign = read_campaign(path)
-        log = read_shadow_logs(campaign)
-        rows, _ = shadow_readings(campaign, log)
-        sites = check_sites(campaign)
-        t_ours, result, mem = timed(lambda: check_shadow_rows(sites, rows), repeats)
-        t_cli = statistics.median(
-            [_once(lambda: subprocess.run([sys.executable, "-m", "firstrung", "check", path, "--json"],
-                                          capture_output=True, check=False)) for _ in range(max(1, repeats // 2))]
-        )
-        # baselines on a sample of rows, scaled: skyfield's topocentric alt/az per site, astropy AltAz per row set
-        from skyfield.api import wgs84
-
-        from firstrung import ephemeris
-
-        ts, _, earth, sun = ephemeris._loaded()
-        lat = np.array([s.latitude_deg for s in sites])
-        lon = np.array([s.longitude_deg for s in sites])
-        sample = np.arange(0, len(rows), max(1, len(rows) // 2000))
-        t_rows = np.asarray(log.time_utc)[sample]
-        site_rows = np.asarray(rows.site_index)[sample]
-
-        def skyfield_baseline():
-            out = np.empty(sample.size)
-            for si in np.unique(site_rows):
-                k = site_rows == si
-                topos = earth + wgs84.latlon(lat[si], lon[si], elevation_m=100.0)
-                alt, _, _ = topos.at(ephemeris._skyfield_time(t_rows[k])).observe(sun).apparent().altaz()
-                out[k] = alt.degrees
-            return out
-
-        t_sky, alt_sky, _ = timed(skyfield_baseline, 1)
-        t_sky *= len(rows) / sample.size
-        try:
-            from astropy import units as u
-            from astropy.coordinates import AltAz, EarthLocation, get_body, solar_system_ephemeris
-            from astropy.time import Time
-            from astropy.utils import iers
-
-            iers.conf.auto_download = False
-            iers.conf.auto_max_age = None  # offline: predictive UT1 beyond the bundled table is fine for timing
-            import skyfield_data
-
-            solar_system_ephemeris.set(os.path.join(os.path.dirname(skyfield_data.__file__), "data", "de421.bsp"))
-            small = sample[:300]
-
-            def astropy_baseline():
-                loc = EarthLocation.from_geodetic(lon[np.asarray(rows.site_index)[small]] * u.deg,
-                                                  lat[np.asarray(rows.site_index)[small]] * u.deg, 100.0 * u.m)
-                t = Time(np.asarray(log.time_utc)[small].astype("datetime64[ms]").astype(str).tolist(), scale="utc")
-                return get_body("sun", t, loc).transform_to(AltAz(obstime=t, location=loc, pressure=0 * u.hPa)).alt.deg
-
-            t_ast, _, _ = timed(astropy_baseline, 1)
-            t_ast *= len(rows) / small.size
-        except Exception:  # astropy is a test extra; the table says when it is missing
-            t_ast = float("nan")
-        ours_alt = ephemeris.sun_position(t_rows, lat[site_rows], lon[site_rows], 100.0).altitude_deg
-        agree = float(np.max(np.abs(ours_alt - alt_sky))) * 3600
-    return [
-        ("check (the check)", f"{n:,} rows, {n_sites} sites", t_ours, t_sky, mem,
-         f'vs skyfield alt/az; max {agree:.2f}"; astropy {t_ast:.1f} s = {t_ast / t_ours:.0f}x'),
-        ("check (whole command)", f"{n:,} rows, {n_sites} sites", t_cli, t_sky, None, "read + check + JSON"),
-    ]
+    def shadows(self, n_sites: int, n_rows: int) -> tuple[Path, int]:
+        key = (n_sites, n_rows)
+        if key not in self.made:
+            self.made[key] = shadow_workload(self.root / f"c{n_sites}x{n_rows}", n_sites, n_rows)
+        return self.made[key]
 
 
-def bench_eclipses(repeats):
-    """Every lunar eclipse 1900-2050 with its contacts."""
-    from firstrung.methods.eclipse.prediction import lunar_eclipses
-
-    t_ours, e, mem = timed(lambda: lunar_eclipses(np.datetime64("1900-01-01T00:00"), np.datetime64("2050-12-31T23:59")), repeats)
-    return ("eclipses with contacts", "1900-2050", t_ours, None, mem, f"{len(e.greatest_utc)} eclipses")
+# --- results -----------------------------------------------------------------------------------
 
 
-def bench_quarters(n_sites, repeats):
-    """A year of quarters for many sites with the windows when both Sun and Moon are up."""
-    from firstrung.campaign import parse_campaign
-    from firstrung.methods.phases.run import plan_phases
-
-    rng = np.random.default_rng(6)
-    text = "".join(
-        f'[[site]]\nid = "s{i}"\nlatitude_deg = {rng.uniform(-50, 60):.3f}\nlongitude_deg = {rng.uniform(-170, 170):.3f}\n'
-        for i in range(n_sites)
-    )
-    campaign = parse_campaign(text)
-    t_ours, plan, mem = timed(lambda: plan_phases(campaign, "2027-01-01", "2027-12-31"), repeats)
-    return ("quarters with windows", f"{n_sites} sites x 1 year", t_ours, None, mem, f"{len(plan.quarters)} quarters")
+@dataclass
+class Row:
+    path: str
+    workload: str
+    cold: Cold | None = None
+    warm_s: float | None = None
+    inner_s: float | None = None
+    baselines: list[tuple[str, float]] = field(default_factory=list)
+    agreement: str = ""
+    target: str = ""
 
 
-def bench_scaling(counts, repeats):
-    """Transits for a year at 10, 100, 1,000 sites: cost per site should not grow."""
-    from firstrung import ephemeris
+def _fmt_s(x: float | None) -> str:
+    if x is None:
+        return "-"
+    return f"{x:.3f}" if x < 10 else f"{x:.1f}"
 
-    rng = np.random.default_rng(7)
-    days = np.arange(np.datetime64("2027-01-01"), np.datetime64("2028-01-01"))
-    out = []
-    for n in counts:
-        lat, lon, elev = synthetic_sites(n, rng)
-        def transits(lat=lat, lon=lon, elev=elev):
-            return ephemeris.solar_transit(days[:, None], lat[None, :], lon[None, :], elev[None, :])
 
-        t, _, mem = timed(transits, repeats)
-        out.append(("scaling: transits", f"{n} sites x 365 days", t, None, mem, f"{t / n * 1e3:.2f} ms per site"))
+# --- the check against skyfield and astropy -----------------------------------------------------
+
+
+def bench_check(work: Workloads, n_sites: int, n_rows: int, repeats: int, with_astropy: bool = True) -> Row:
+    """``check`` whole command cold; the check itself in process; skyfield per site and astropy in one call."""
+    path, n = work.shadows(n_sites, n_rows)
+    whole = cold(["check", str(path)], repeats)
+    warm_s = warm(["check", str(path)], max(1, repeats - 1))
+    data = json.loads(cold(["check", str(path), "--json"], 1).stdout)
+    if data["rows"]["read"] != n:
+        raise RuntimeError(f"check read {data['rows']['read']} of the {n} rows written")
+
+    read_campaign = _lib("read_campaign", "firstrung.campaign")
+    read_shadow_logs = _lib("read_shadow_logs", "firstrung.methods.shadows.log")
+    check_sites = _lib("check_sites", "firstrung.methods.shadows.check_statistics")
+    check_rows = _lib("shadow_rows", "firstrung.methods.shadows.check_statistics")
+    check_shadow_rows = _lib("check_shadow_rows", "firstrung.methods.shadows.check")
+    ephemeris = importlib.import_module("firstrung.ephemeris")
+
+    campaign = read_campaign(str(path))
+    log = read_shadow_logs(campaign)
+    rows, _ = check_rows(campaign, log)
+    sites = check_sites(campaign)
+    inner_s, _ = median_time(lambda: check_shadow_rows(sites, rows), repeats)
+
+    lat = np.array([s.latitude_deg for s in sites])
+    lon = np.array([s.longitude_deg for s in sites])
+    elev = np.array([s.elevation_m for s in sites])
+    site_of = np.asarray(rows.site_index)
+    t_utc = np.asarray(rows.time_utc).astype("datetime64[ns]")
+    ours = ephemeris.sun_position(t_utc, lat[site_of], lon[site_of], elev[site_of]).altitude_deg
+
+    sky_s, sky_alt = median_time(lambda: skyfield_altitudes(t_utc, site_of, lat, lon, elev), max(1, repeats // 2))
+    baselines = [("skyfield, one call per site", sky_s)]
+    agree = f'skyfield max {np.max(np.abs(ours - sky_alt)) * 3600:.2f}"'
+    if with_astropy:
+        ast_s, ast_alt = median_time(lambda: astropy_altitudes(t_utc, site_of, lat, lon, elev), 1)
+        baselines.append(("astropy, one vectorised call", ast_s))
+        agree += f'; astropy max {np.max(np.abs(ours - ast_alt)) * 3600:.2f}"'
+    return Row("check", f"{n:,} rows, {n_sites:,} sites", whole, warm_s, inner_s, baselines, agree)
+
+
+def skyfield_altitudes(t_utc, site_of, lat, lon, elev) -> np.ndarray:
+    """Airless topocentric altitude of the Sun [deg]: skyfield, one vectorised call per site with all its rows."""
+    from skyfield.api import wgs84
+
+    ts = _timescale()
+    eph = _skyfield_ephemeris()
+    earth, sun = eph["earth"], eph["sun"]
+    out = np.empty(t_utc.size)
+    year, month, day, second = _civil(t_utc)
+    order = np.argsort(site_of, kind="stable")
+    bounds = np.flatnonzero(np.diff(site_of[order])) + 1
+    for chunk in np.split(order, bounds):
+        i = site_of[chunk[0]]
+        observer = earth + wgs84.latlon(lat[i], lon[i], elevation_m=elev[i])
+        t = ts.utc(year[chunk], month[chunk], day[chunk], 0, 0, second[chunk])
+        alt, _, _ = observer.at(t).observe(sun).apparent().altaz()
+        out[chunk] = alt.degrees
     return out
 
 
-def _transit_campaign(folder, n_sites):
-    """A campaign of ``n_sites`` sites spread over the hemisphere that sees the 2032 transit."""
+def _civil(t_utc):
+    """Year, month, day and second of the day of UTC instants (so that skyfield applies the leap seconds)."""
+    months = t_utc.astype("datetime64[M]")
+    days = t_utc.astype("datetime64[D]")
+    year = months.astype("datetime64[Y]").astype(np.int64) + 1970
+    month = months.astype(np.int64) % 12 + 1
+    day = (days - months.astype("datetime64[D]")).astype(np.int64) + 1
+    second = (t_utc - days.astype(t_utc.dtype)).astype("timedelta64[ns]").astype(np.int64) / 1e9
+    return year, month, day, second
+
+
+def _timescale():
+    """skyfield's built-in timescale files, without the notice that their UT1 table has aged."""
+    import warnings
+
+    from skyfield.api import load
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return load.timescale(builtin=True)
+
+
+def _skyfield_ephemeris():
+    """DE421 from the skyfield-data package (no download)."""
+    import warnings
+
+    from skyfield.api import load_file
+    from skyfield_data import get_skyfield_data_path
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # the package's notice that its UT1 table has aged
+        return load_file(os.path.join(get_skyfield_data_path(), "de421.bsp"))
+
+
+def astropy_altitudes(t_utc, site_of, lat, lon, elev) -> np.ndarray:
+    """Airless topocentric altitude of the Sun [deg]: astropy, one vectorised call for every row (offline)."""
+    import warnings
+
+    from astropy import units as u
+    from astropy.coordinates import AltAz, EarthLocation, get_body, solar_system_ephemeris
+    from astropy.time import Time
+    from astropy.utils import iers
+    from skyfield_data import get_skyfield_data_path
+
+    iers.conf.auto_download = False
+    iers.conf.auto_max_age = None
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # predictive UT1 beyond the bundled table: harmless for the Sun's altitude
+        with solar_system_ephemeris.set(os.path.join(get_skyfield_data_path(), "de421.bsp")):
+            t = Time(t_utc, scale="utc")
+            loc = EarthLocation.from_geodetic(lon[site_of] * u.deg, lat[site_of] * u.deg, elev[site_of] * u.m)
+            frame = AltAz(obstime=t, location=loc, pressure=0 * u.hPa)
+            return get_body("sun", t, loc).transform_to(frame).alt.deg
+
+
+# --- plan shadows against skyfield's transits --------------------------------------------------
+
+
+def bench_plan_transits(work: Workloads, n_sites: int, repeats: int, quick: bool) -> Row:
+    """``plan shadows`` for a year (whole command) beside skyfield's ``find_transits`` per site."""
+    folder = work.root / f"plan{n_sites}"
+    path = write_campaign(folder, n_sites, seed=1, with_logs=False)
+    first, last = ("2027-01-01", "2027-02-28") if quick else ("2027-01-01", "2027-12-31")
+    args = ["plan", "shadows", str(path), "--from", first, "--to", last]
+    whole = cold(args, repeats)
+    warm_s = warm(args, max(1, repeats - 1))
+    data = json.loads(cold([*args, "--json"], 1).stdout)
+    read_campaign = _lib("read_campaign", "firstrung.campaign")
+    campaign = read_campaign(str(path))
+    sites = [(s.id, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in campaign.sites]
+
+    from skyfield import almanac
+    from skyfield.api import wgs84
+
+    ts = _timescale()
+    eph = _skyfield_ephemeris()
+    earth, sun = eph["earth"], eph["sun"]
+    d0 = np.datetime64(first)
+    n_days = int((np.datetime64(last) - d0).astype(int)) + 1
+
+    def baseline():
+        out = {}
+        for sid, la, lo, el in sites:
+            observer = earth + wgs84.latlon(la, lo, elevation_m=el)
+            start = ts.utc(2027, 1, 1, -lo / 15.0)  # local midnight of the first day
+            end = ts.utc(2027, 1, 1 + n_days, -lo / 15.0)
+            out[sid] = almanac.find_transits(observer, sun, start, end)
+        return out
+
+    base_s, transits = median_time(baseline, max(1, repeats // 2))
+    worst = 0.0
+    for k, day in enumerate(data["days"]):
+        for sid, t in transits.items():
+            if k >= len(t):
+                continue
+            ours = np.datetime64(day["sites"][sid]["transit_utc"].rstrip("Z"), "ms")
+            theirs = np.datetime64(t[k].utc_datetime().replace(tzinfo=None), "ms")
+            late = float((theirs - ours).astype(float)) / 1e3  # the JSON prints the second, cut
+            worst = max(worst, -late, late - 1.0, 0.0)
+    return Row("plan shadows", f"{n_sites:,} sites x {n_days} days", whole, warm_s, None,
+               [("skyfield find_transits, per site", base_s)],
+               f"skyfield's transits fall in the second printed: max {worst:.3f} s outside")
+
+
+# --- scaling ---------------------------------------------------------------------------------------
+
+
+@dataclass
+class Point:
+    command: str
+    sites: int
+    rows: int | None
+    seconds: float
+    peak_mb: float
+    cpu_s: float = 0.0
+
+
+def fit_exponent(x: list[float], y: list[float]) -> float:
+    """Least-squares slope of log(y) on log(x)."""
+    return float(np.polyfit(np.log(x), np.log(y), 1)[0])
+
+
+def scaling(work: Workloads, quick: bool, repeats: int) -> list[Point]:
+    points = []
+    rows_axis = [1_000, 4_000] if quick else [1_000, 10_000, 100_000, 1_000_000]
+    sites_axis = [10, 30] if quick else [10, 100, 1_000, 10_000]
+    fixed_sites, fixed_rows = (30, 4_000) if quick else (100, 100_000)
+    plan_axis = [10, 100] if quick else [10, 30, 100, 1_000, 3_000, 10_000]
+    for command in (["check"], ["reduce", "shadows"]):
+        for rows in rows_axis:
+            path, n = work.shadows(fixed_sites, rows)
+            c = cold([*command, str(path)], repeats if rows < 1_000_000 else max(1, repeats - 2), ok=(0, 1, 2))
+            points.append(Point(" ".join(command), fixed_sites, n, c.seconds, c.peak_mb, c.cpu_s))
+        for sites in sites_axis:
+            if sites == fixed_sites:
+                continue
+            path, n = work.shadows(sites, fixed_rows)
+            c = cold([*command, str(path)], repeats, ok=(0, 1, 2))
+            points.append(Point(" ".join(command), sites, n, c.seconds, c.peak_mb, c.cpu_s))
+    last = "2027-02-28" if quick else "2027-12-31"
+    for sites in plan_axis:
+        folder = work.root / f"plan{sites}"
+        path = write_campaign(folder, sites, seed=1, with_logs=False)
+        c = cold(["plan", "shadows", str(path), "--from", "2027-01-01", "--to", last],
+                 repeats if sites <= 3_000 else max(1, repeats - 2))
+        points.append(Point("plan shadows", sites, None, c.seconds, c.peak_mb, c.cpu_s))
+    return points
+
+
+def exponents(points: list[Point]) -> dict[str, str]:
+    out = {}
+    for command in ("check", "reduce shadows"):
+        by_rows = sorted((p.rows, p.seconds) for p in points if p.command == command and p.sites == _fixed_sites(points))
+        by_sites = sorted((p.sites, p.seconds) for p in points if p.command == command and p.rows == _fixed_rows(points))
+        parts = []
+        if len(by_rows) >= 2:
+            parts.append(f"time ~ rows^{fit_exponent(*zip(*by_rows, strict=True)):.2f} "
+                         f"({by_rows[0][0]:,} to {by_rows[-1][0]:,})")
+        if len(by_sites) >= 2:
+            parts.append(f"time ~ sites^{fit_exponent(*zip(*by_sites, strict=True)):.2f} at {_fixed_rows(points):,} rows "
+                         f"({by_sites[0][0]:,} to {by_sites[-1][0]:,})")
+        out[command] = "; ".join(parts)
+    plan = sorted((p.sites, p.seconds) for p in points if p.command == "plan shadows" and p.sites >= 100)
+    if len(plan) >= 2:
+        out["plan shadows"] = (f"time ~ sites^{fit_exponent(*zip(*plan, strict=True)):.2f} "
+                               f"({plan[0][0]:,} to {plan[-1][0]:,} sites)")
+    return out
+
+
+def _fixed_sites(points):
+    counts = {}
+    for p in points:
+        if p.rows is not None:
+            counts[p.sites] = counts.get(p.sites, 0) + 1
+    return max(counts, key=counts.get)
+
+
+def _fixed_rows(points):
+    fs = _fixed_sites(points)
+    rows = {p.rows for p in points if p.rows is not None and p.sites != fs}
+    return min(rows) if rows else None
+
+
+# --- other whole commands --------------------------------------------------------------------------
+
+
+def transit_campaign(folder: Path, n_sites: int) -> Path:
+    """A campaign of ``n_sites`` synthetic sites spread over the hemisphere that sees the 2032 transit."""
     rng = np.random.default_rng(11)
     lat = rng.uniform(-60.0, 60.0, n_sites)
     lon = rng.uniform(-20.0, 140.0, n_sites)
     text = '[campaign]\nname = "transit benchmark"\n' + "".join(
         f'\n[[site]]\nid = "s{i}"\nlatitude_deg = {a:.4f}\nlongitude_deg = {b:.4f}\nelevation_m = 0\n'
         for i, (a, b) in enumerate(zip(lat, lon, strict=True)))
-    path = os.path.join(folder, "transit.toml")
-    with open(path, "w", encoding="utf-8") as f:
-        f.write(text)
+    folder.mkdir(parents=True, exist_ok=True)
+    path = folder / f"transit-{n_sites}.toml"
+    path.write_text(text, encoding="utf-8")
     return path
 
 
-def bench_planet_transits(n_sites, first, last, work):
-    """``firstrung plan transits --json`` as a user runs it (fresh process, cold)."""
-    import json
-    import tempfile
-
-    with tempfile.TemporaryDirectory() as folder:
-        path = _transit_campaign(folder, n_sites)
-        out = {}
-
-        def run():
-            out["p"] = subprocess.run([sys.executable, "-m", "firstrung", "plan", "transits", path, "--from", first,
-                                       "--to", last, "--json"], capture_output=True, check=True)
-
-        t = _once(run)
-        n = len(json.loads(out["p"].stdout)["transits"])
-    return ("plan transits", work, t, None, None, f"{n} transits, {n_sites} site(s)")
+def bench_command(name: str, workload: str, args: list[str], repeats: int, target: str = "", ok=(0, 1)) -> Row:
+    whole = cold(args, repeats, ok=ok)
+    warm_s = warm(args, max(1, repeats - 1)) if repeats > 1 else None
+    return Row(name, workload, whole, warm_s, target=target)
 
 
-def bench_demo():
-    """``firstrung demo`` end to end, in a fresh process."""
-    import tempfile
-
-    with tempfile.TemporaryDirectory() as folder:
-        t = _once(lambda: subprocess.run([sys.executable, "-m", "firstrung", "demo", "-o", folder],
-                                         capture_output=True, check=True))
-    return ("demo end to end", "firstrung demo", t, None, None, "")
-
-
-def bench_cli_start(repeats):
-    """`firstrung --help` against `python -c "import typer"` (fresh processes)."""
-    def ours():
-        subprocess.run([sys.executable, "-m", "firstrung", "--help"], capture_output=True, check=True)
-
-    def baseline():
+def bench_cli_start(repeats: int) -> Row:
+    whole = cold(["--help"], repeats, ok=(0,))
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
         subprocess.run([sys.executable, "-c", "import typer"], capture_output=True, check=True)
+        times.append(time.perf_counter() - t0)
+    return Row("CLI start", "firstrung --help", whole, None, None,
+               [("python -c 'import typer'", statistics.median(times))])
 
-    t_ours = statistics.median([_once(ours) for _ in range(repeats)])
-    t_base = statistics.median([_once(baseline) for _ in range(repeats)])
-    return ("CLI start", "firstrung --help", t_ours, t_base, None, "")
+
+# --- output --------------------------------------------------------------------------------------
 
 
-def _once(fn):
-    t0 = time.perf_counter()
-    fn()
-    return time.perf_counter() - t0
+def machine_line(quick: bool) -> str:
+    import matplotlib
+    import scipy
+    import skyfield
+
+    try:
+        import astropy
+
+        astropy_v = astropy.__version__
+    except ImportError:
+        astropy_v = "missing"
+    return (f"firstrung benchmarks ({'quick' if quick else 'full'}) on {platform.machine()}, {os.cpu_count()} cores, "
+            f"Python {platform.python_version()}, numpy {np.__version__}, scipy {scipy.__version__}, "
+            f"skyfield {skyfield.__version__}, astropy {astropy_v}, matplotlib {matplotlib.__version__}")
+
+
+def print_table(rows: list[Row]) -> None:
+    header = (f"{'path':<24} {'workload':<28} {'cold s':>8} {'cpu s':>8} {'peak MB':>8} {'warm s':>8} {'inner s':>8}  "
+              "baselines (s, ratio to inner or cold)  agreement")
+    print(header)
+    print("-" * len(header))
+    for r in rows:
+        ref = r.inner_s if r.inner_s is not None else (r.cold.seconds if r.cold else None)
+        base = "; ".join(f"{name} {_fmt_s(s)} = {s / ref:.1f}x" for name, s in r.baselines) if ref else ""
+        cold_s = _fmt_s(r.cold.seconds) if r.cold else "-"
+        peak = f"{r.cold.peak_mb:.0f}" if r.cold else "-"
+        cpu = _fmt_s(r.cold.cpu_s) if r.cold else "-"
+        print(f"{r.path:<24} {r.workload:<28} {cold_s:>8} {cpu:>8} {peak:>8} {_fmt_s(r.warm_s):>8} {_fmt_s(r.inner_s):>8}  "
+              f"{base}  {r.agreement}")
+
+
+def print_scaling(points: list[Point]) -> None:
+    print()
+    print("scaling (whole command, cold, median)")
+    print(f"{'scaling: command':<24} {'sites':>7} {'rows':>10} {'s':>8} {'cpu s':>8} {'peak MB':>8}")
+    for p in points:
+        rows = f"{p.rows:,}" if p.rows is not None else "1 year"
+        print(f"{'scaling: ' + p.command:<24} {p.sites:>7,} {rows:>10} {_fmt_s(p.seconds):>8} {_fmt_s(p.cpu_s):>8} "
+              f"{p.peak_mb:>8.0f}")
+    for command, text in exponents(points).items():
+        print(f"  {command}: {text}")
+
+
+def markdown(rows: list[Row], points: list[Point], header: str) -> str:
+    out = [header, "", "| path | workload | whole command, cold (s) | its CPU (s) | peak RSS (MB) | in process, warm (s) | "
+           "the computation alone (s) | baselines, run in full (s) | agreement | target |",
+           "|---|---|---:|---:|---:|---:|---:|---|---|---|"]
+    for r in rows:
+        ref = r.inner_s if r.inner_s is not None else (r.cold.seconds if r.cold else None)
+        base = "<br>".join(f"{name}: {_fmt_s(s)} ({s / ref:.1f}x {'the computation' if r.inner_s else 'the command'})"
+                           for name, s in r.baselines) if ref else "-"
+        out.append(f"| {r.path} | {r.workload} | {_fmt_s(r.cold.seconds) if r.cold else '-'} | "
+                   f"{_fmt_s(r.cold.cpu_s) if r.cold else '-'} | "
+                   f"{f'{r.cold.peak_mb:.0f}' if r.cold else '-'} | {_fmt_s(r.warm_s)} | {_fmt_s(r.inner_s)} | "
+                   f"{base or '-'} | {r.agreement or '-'} | {r.target or '-'} |")
+    out += ["", "Scaling (whole command, cold, median of the runs; peak RSS the largest):", "",
+            "| command | sites | rows | time (s) | CPU (s) | peak RSS (MB) |", "|---|---:|---:|---:|---:|---:|"]
+    for p in points:
+        out.append(f"| {p.command} | {p.sites:,} | {f'{p.rows:,}' if p.rows is not None else '1 year of days'} | "
+                   f"{_fmt_s(p.seconds)} | {_fmt_s(p.cpu_s)} | {p.peak_mb:.0f} |")
+    out.append("")
+    for command, text in exponents(points).items():
+        out.append(f"- {command}: {text}")
+    return "\n".join(out) + "\n"
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--quick", action="store_true", help="reduced workloads, under a minute")
+    parser.add_argument("--quick", action="store_true", help="reduced workloads, about a minute")
+    parser.add_argument("--markdown", type=Path, help="also write the tables as Markdown to this file")
     args = parser.parse_args()
     quick = args.quick
-    rows = [
-        bench_transits(10 if quick else 100, 60 if quick else 365, 3 if quick else 5),
-        bench_sun_positions(10_000 if quick else 100_000, 100 if quick else 1000, 3 if quick else 5),
-        *bench_check(100 if quick else 1000, 5_000 if quick else 100_000, 2 if quick else 3),
-        bench_reduce(50 if quick else 500, 20, 3 if quick else 5),
-        bench_eclipses(1 if quick else 3),
-        bench_planet_transits(1, "1900-01-01", "2050-12-31", "all transits 1900-2050"),
-        bench_planet_transits(100 if quick else 1000, "2032-11-13", "2032-11-13",
-                              f"{100 if quick else 1000} sites, 2032-11-13"),
-        bench_quarters(10 if quick else 100, 1 if quick else 3),
-        bench_ladder(100_000 if quick else 1_000_000, 3 if quick else 5),
-        *bench_scaling((10, 100) if quick else (10, 100, 1000), 1 if quick else 3),
-        bench_cli_start(3 if quick else 15),
-    ]
-    if not quick:
-        rows.append(bench_demo())
-    print(f"firstrung benchmarks ({'quick' if quick else 'full'}) on {platform.machine()}, "
-          f"{os.cpu_count()} cores, Python {platform.python_version()}")
-    header = f"{'path':<24} {'workload':<28} {'firstrung':>10} {'baseline':>10} {'speed-up':>8} {'peak MB':>8}  agreement"
+    r = 1 if quick else 5  # cold runs per measurement (median)
+    with tempfile.TemporaryDirectory() as scratch:
+        work = Workloads(Path(scratch))
+        rows: list[Row] = []
+        rows.append(bench_plan_transits(work, 10 if quick else 100, r, quick))
+        if not quick:
+            rows.append(bench_plan_transits(work, 30, r, quick))
+        check = bench_check(work, 50 if quick else 1_000, 2_000 if quick else 100_000, r, with_astropy=not quick)
+        check.target = "" if quick else "cold < 1.2 s, < 300 MB; >= 3x skyfield, >= 8x astropy"
+        rows.append(check)
+        path, n = work.shadows(50 if quick else 500, 2_000 if quick else 10_000)
+        rows.append(bench_command("reduce shadows", f"{n:,} rows, {50 if quick else 500} sites",
+                                  ["reduce", "shadows", str(path)], r, "" if quick else "cold < 0.8 s"))
+        if not quick:
+            path, n = work.shadows(100, 1_000_000)
+            rows.append(bench_command("reduce shadows", f"{n:,} rows, 100 sites", ["reduce", "shadows", str(path)],
+                                      3, "< 15 s, < 1 GB"))
+            big, n = shadow_workload(work.root / "declared", 3, 3 * 17, declared=10_000)
+            rows.append(bench_command("reduce shadows", f"10,000 sites declared, 3 logged {n} rows",
+                                      ["reduce", "shadows", str(big)], 3, "cost grows with the data"))
+            path, n = work.shadows(500, 10_000)
+            out = work.root / "report.html"
+            rows.append(bench_command("report", f"{n:,} shadow rows, 500 sites", ["report", str(path), "-o", str(out)],
+                                      3, "< 10 s"))
+            rows.append(bench_command("eclipses", "plan eclipses 1900-2050",
+                                      ["plan", "eclipses", str(ROOT / "examples" / "campaign.toml"), "--from", "1900-01-01",
+                                       "--to", "2050-12-31"], 3))
+            one = transit_campaign(work.root / "transits", 1)
+            rows.append(bench_command("plan transits", "every transit 1900-2050, contacts",
+                                      ["plan", "transits", str(one), "--from", "1900-01-01", "--to", "2050-12-31",
+                                       "--json"], 3, "< 5 s"))
+            many = transit_campaign(work.root / "transits", 1_000)
+            rows.append(bench_command("plan transits", "2032-11-13 at 1,000 sites",
+                                      ["plan", "transits", str(many), "--from", "2032-11-01", "--to", "2032-11-30",
+                                       "--json"], 3, "< 2 s"))
+            demo_out = work.root / "demo"
+            rows.append(bench_command("demo", "firstrung demo", ["demo", "-o", str(demo_out)], 1))
+        rows.append(bench_cli_start(3 if quick else 15))
+        points = scaling(work, quick, 1 if quick else 3)
+    header = machine_line(quick)
     print(header)
-    print("-" * len(header))
-    for name, work, ours, base, mem, agree in rows:
-        base_s = f"{base:10.3f}" if base is not None else f"{'-':>10}"
-        ratio = f"{base / ours:7.1f}x" if base else f"{'-':>8}"
-        mem_s = f"{mem:8.1f}" if mem is not None else f"{'-':>8}"
-        print(f"{name:<24} {work:<28} {ours:10.3f} {base_s} {ratio} {mem_s}  {agree}")
+    print_table(rows)
+    print_scaling(points)
+    if args.markdown:
+        args.markdown.write_text(markdown(rows, points, header))
 
 
 if __name__ == "__main__":

@@ -385,12 +385,12 @@ LOG_CASES = [
         problems=["1:site: unknown site 'hill' (known: ridge, coast, plain)"],
         notes=[],
     ),
-    LogCase(
+    LogCase(  # the row with the open quote is refused; the line after it is read as the next row
         "shadows_unterminated_quote.csv",
         "shadows",
-        kept=1,
+        kept=2,
         problems=[
-            "2:note: a double quote opens a cell that runs on over 1 line end(s) and takes in lines that look like rows (a closing quote missing?); those lines are not read"
+            "2:note: a double quote opens a cell that runs on over 1 line end(s) and takes in lines that look like rows (a closing quote missing?); the row is left out and the lines after it are read as rows"
         ],
         notes=[],
     ),

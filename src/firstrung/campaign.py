@@ -73,6 +73,17 @@ GNOMON_HEIGHT_LIMIT_M = 100.0
 #: the longest shortest path between two points on the Earth's surface.
 BASELINE_LIMIT_KM = math.pi * WGS84_SEMI_MAJOR_AXIS_M / 1000.0
 
+def _distinct(paths) -> tuple[Path, ...]:
+    """The paths in order, each file once: ``logs/x.csv`` and ``./logs/x.csv`` (or a link to it) are one log."""
+    out, seen = [], set()
+    for path in paths:
+        key = os.path.normcase(os.path.realpath(path))
+        if key not in seen:
+            seen.add(key)
+            out.append(path)
+    return tuple(out)
+
+
 _TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse")
 _CAMPAIGN_KEYS = ("name",)
 _SITE_KEYS = ("id", "name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "gnomon")
@@ -512,7 +523,7 @@ class _Reader:
                     f'expected a list of paths such as ["logs/{kind}.csv"], got {_show(entry)}',
                 )
             paths = (Path(item) for item in items)
-            logs[kind] = tuple(path if folder is None else folder / path for path in paths)
+            logs[kind] = _distinct(path if folder is None else folder / path for path in paths)
         return logs
 
     def eclipse(self, value: object) -> EclipseSettings:

@@ -47,12 +47,13 @@ def to_png(fig) -> bytes:
     return buf.getvalue()
 
 
-def shadow_series_figure(series: list[dict]):
+def shadow_series_figure(series: list[dict], total: int | None = None):
     """Shadow length against time from noon for each site and day, with the fitted curve.
 
     ``series``: dicts with ``label``, ``minutes`` (readings, from the fitted
     apparent noon), ``shadow_m`` (readings), ``model_minutes`` and
-    ``model_shadow_m`` (the fitted culmination's curve).
+    ``model_shadow_m`` (the fitted culmination's curve). ``total``: how many
+    series the campaign has when only some are drawn (the title says so).
     """
     plt = _plt()
     n = max(len(series), 1)
@@ -72,9 +73,16 @@ def shadow_series_figure(series: list[dict]):
     for k in range(len(series), rows * cols):
         axes[k // cols][k % cols].set_visible(False)
     axes[0][0].legend(fontsize=6)
-    fig.suptitle("Shadow readings and the fitted culmination (dashed: the fitted local apparent noon)", fontsize=9)
+    title = "Shadow readings and the fitted culmination (dashed: the fitted local apparent noon)"
+    if total is not None and total > len(series):
+        title += f"\n{len(series)} of the {total} site-days drawn (the outlying sites first)"
+    fig.suptitle(title, fontsize=9)
     fig.tight_layout()
     return fig
+
+
+#: Sites named beside their points in the latitude figure (beyond it only the outliers are named).
+NAMED_SITES = 30
 
 
 def latitude_line_figure(position_km, latitude_deg, sigma_deg, names, outlier, intercept_deg, slope_deg_per_km):
@@ -91,7 +99,8 @@ def latitude_line_figure(position_km, latitude_deg, sigma_deg, names, outlier, i
     grid = np.linspace(x.min(), x.max(), 50)
     ax.plot(grid - x.min(), intercept_deg + slope_deg_per_km * grid, "-", lw=1, color="0.3",
             label=f"fit: R = {1 / np.radians(slope_deg_per_km):,.0f} km")
-    for xi, yi, name in zip(x, y, names, strict=True):
+    named = np.ones(x.size, bool) if x.size <= NAMED_SITES else out  # many sites: only the outliers named
+    for xi, yi, name in zip(x[named], y[named], np.asarray(names, dtype=object)[named], strict=True):
         ax.annotate(name, (xi - x.min(), yi), textcoords="offset points", xytext=(4, 4), fontsize=7)
     ax.set_xlabel("north-south distance from the southernmost site (km)")
     ax.set_ylabel("astronomical latitude (deg)")

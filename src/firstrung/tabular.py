@@ -36,12 +36,16 @@ such file gets one line in the log's ``notes``:
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import itertools
 import math
+import operator
 import os
 import re
+import stat
+import sys
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, fields, replace
 from pathlib import Path
@@ -69,7 +73,15 @@ TIME_SIGMA_LIMIT_S = 3600.0
 
 _NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 
-#: Plain shadow rows take a direct path (same results as the full row checks; a test compares them).
+#: Largest log file read [bytes]: about four million rows; a larger file is refused with a
+#: message (the text and its rows are held in memory while they are read).
+MAX_LOG_BYTES = 256 * 1024 * 1024
+#: No limit on a cell's length short of the file's (csv's default, 128 kB, stopped the whole file
+#: at one long note and lost every row after it).
+csv.field_size_limit(min(sys.maxsize, 2**31 - 1))
+
+#: Plain rows of a kind with a column reader take it (same results as the full row checks, which
+#: read every row when this is off; a test compares the two on the whole bad-input corpus).
 FAST_PATH = True
 TIME_COLUMNS = ("time_utc", "time_local")
 _TIME_EXAMPLES = {"time_utc": "2027-03-20T11:38:00Z", "time_local": "2027-03-20T12:38:00"}
@@ -155,6 +167,15 @@ class Table:
     delimiter: str = ","
     decimal_comma: bool = False
     encoding: str | None = None
+    #: Read in one columnar pass (see :func:`_columns_pass`): the kept rows' numbers and their
+    #: cells column by column; ``rows`` then holds only the rows counted but not kept.
+    numbers: list[int] | None = None
+    columns: dict[str, list[str]] | None = None
+    path: Path | None = None
+
+    def cells_of(self, k: int) -> dict[str, str]:
+        """The cells of the ``k``-th kept row of a columnar read, as the row-by-row read gives them."""
+        return {name: column[k] for name, column in self.columns.items()}
 
     @property
     def note(self) -> str | None:
@@ -255,6 +276,15 @@ def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem 
     try:
         return data.decode("utf-8"), None, None
     except UnicodeDecodeError as error:
+        mixed = _utf8_with_stray_lines(data)
+        if mixed is not None:
+            text, stray = mixed
+            line, byte = stray[0]
+            encoding = (
+                f"UTF-8 text, with {len(stray)} line(s) that are not UTF-8 taken as Windows-1252 "
+                f"(line {line}: byte 0x{byte:02x}; check letters outside ASCII in the names and notes there)"
+            )
+            return text, encoding, None
         # Readings are ASCII (numbers, ISO times, site ids); only free text can
         # hold other letters, so reading the usual 8-bit spreadsheet encoding
         # loses nothing and at worst misspells a name.
@@ -263,6 +293,27 @@ def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem 
             f"{error.start}; check letters outside ASCII in names and notes)"
         )
         return data.decode("cp1252", errors="replace"), encoding, None
+
+
+def _utf8_with_stray_lines(data: bytes) -> tuple[str, list[tuple[int, int]]] | None:
+    """UTF-8 text with a few lines in an 8-bit encoding (one pasted from elsewhere), or None.
+
+    Each line that is UTF-8 is read as UTF-8, each other line as Windows-1252;
+    returns the text and the stray lines' numbers (from 1) with their first
+    non-UTF-8 byte. None unless some line holds real UTF-8 beyond ASCII
+    (otherwise the whole file is read as Windows-1252, as before).
+    """
+    parts, stray, utf8_letters = [], [], False
+    for number, line in enumerate(data.split(b"\n"), start=1):
+        try:
+            parts.append(line.decode("utf-8"))
+            utf8_letters = utf8_letters or not line.isascii()
+        except UnicodeDecodeError as error:
+            parts.append(line.decode("cp1252", errors="replace"))
+            stray.append((number, line[error.start]))
+    if not utf8_letters or not stray:
+        return None
+    return "\n".join(parts), stray
 
 
 def is_skipped(cells: Sequence[str]) -> bool:
@@ -367,10 +418,117 @@ def _choose_columns(
     return chosen, problems
 
 
-def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
-    """Read one CSV file into its data rows; file-level problems leave it without rows."""
-    table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[])
+_FIRST_CELL = operator.itemgetter(0)
+_FIRST_CHAR = operator.itemgetter(slice(0, 1))
+
+
+#: While :func:`raw_rows_kept` runs: every row of each file read in one columnar pass, by path.
+_RAW_KEPT: dict[str, tuple[tuple[str, ...], list[int], list[list[str]]]] | None = None
+
+
+@contextlib.contextmanager
+def raw_rows_kept():
+    """Keep, for the files read inside the block, their header and every data row as read.
+
+    Yields a dictionary: path (as ``str``) -> (header names, row numbers, the rows' cells).
+    A file read another way (a quoted line end, a bad header, not decodable) is
+    not in it; the caller reads those itself.
+    """
+    global _RAW_KEPT
+    previous, _RAW_KEPT = _RAW_KEPT, {}
     try:
+        yield _RAW_KEPT
+    finally:
+        _RAW_KEPT = previous
+
+
+def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: set[str]) -> bool:
+    """Read a file whose records are one line each in one pass, column by column.
+
+    The same rows, numbers, problems and cells as the row-by-row loop of
+    :func:`_read_table` (a test compares them on the whole bad-input corpus),
+    with the per-row work left to C (the csv module, ``zip``, ``map``). False,
+    with nothing changed, when a record spans lines (a quoted line end) or the
+    csv module stops: the loop then reads the file and says what it found.
+    """
+    try:
+        records = list(csv.reader(lines, delimiter=table.delimiter))
+    except csv.Error:
+        return False
+    if len(records) != len(lines):
+        return False
+    # a row can be skipped only when it is empty or its first cell starts with no letter or digit
+    lengths = np.fromiter(map(len, records), np.int64, len(records))
+    filled = np.flatnonzero(lengths > 0)
+    firsts = list(map(_FIRST_CHAR, map(_FIRST_CELL, records if filled.size == len(records) else
+                                       (records[k] for k in filled))))
+    codes = np.array(firsts, dtype="<U1").view(np.uint32) if firsts else np.zeros(0, np.uint32)
+    alnum = (codes - 48 < 10) | (codes - 65 < 26) | (codes - 97 < 26)
+    maybe = np.concatenate([np.flatnonzero(lengths == 0), filled[~alnum]])
+    skipped = {int(k) for k in maybe if is_skipped(records[k])}
+    data = [r for k, r in enumerate(records) if k not in skipped] if skipped else records
+    if not data:
+        return False  # an empty file: the loop's message
+    header = [_normal_name(cell) for cell in data[0]]
+    table.chosen, problems = _choose_columns(header, slots, table.label)
+    table.problems.extend(problems)
+    table.numbers, table.columns = [], {}
+    if problems:
+        return True
+    table.ignored = [name for name in header if name and name not in known]
+    data = data[1:]
+    if _RAW_KEPT is not None:  # the check's copy of every row: the same read, kept
+        _RAW_KEPT[str(table.path)] = (tuple(header), list(range(1, len(data) + 1)), data)
+    width = len(header)
+    refused = set()
+    for k, cells in enumerate(data):
+        if len(cells) > width and any(cell.strip() for cell in cells[width:]):
+            message = _surplus_message(cells, width, table.delimiter)
+            table.problems.append(RowProblem(table.label, k + 1, None, message))
+            table.rows.append((k + 1, {}))  # counted as read, not kept
+            refused.add(k)
+    kept = [cells for k, cells in enumerate(data) if k not in refused] if refused else data
+    table.numbers = [k + 1 for k in range(len(data)) if k not in refused] if refused else list(range(1, len(data) + 1))
+    short = bool(kept) and min(map(len, kept)) < width
+    wanted = {}
+    for index, name in enumerate(header):
+        if name in known and name not in wanted:
+            wanted[name] = index
+    by_index = list(zip(*kept, strict=False)) if kept and not short else None  # every column at once, in C
+    for name, index in wanted.items():
+        if by_index is not None:
+            cells = by_index[index] if index < len(by_index) else ("",) * len(kept)
+        else:
+            cells = [c[index] if index < len(c) else "" for c in kept]
+        table.columns[name] = list(map(str.strip, cells))
+    if table.delimiter != ",":
+        numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
+        table.decimal_comma = any(
+            _DECIMAL_COMMA_RE.match(value)
+            for column in numeric
+            if column is not None
+            for value in table.columns.get(column, ())
+        )
+    return True
+
+
+def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = False) -> Table:
+    """Read one CSV file into its data rows; file-level problems leave it without rows.
+
+    ``columnar``: try :func:`_columns_pass` first (rows in ``numbers`` and ``columns``).
+    """
+    table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[], path=Path(path))
+    try:
+        info = os.stat(path)  # before opening: a FIFO would block the open, a device never end
+        if stat.S_ISREG(info.st_mode) and info.st_size > MAX_LOG_BYTES:
+            table.problems.append(RowProblem(label, None, None, (
+                f"{info.st_size / 1e6:,.0f} MB; logs over {MAX_LOG_BYTES / 1e6:,.0f} MB are not read "
+                "(split it into several files, or check that it is the log)")))
+            return table
+        if not stat.S_ISREG(info.st_mode) and not stat.S_ISDIR(info.st_mode):
+            table.problems.append(RowProblem(label, None, None, (
+                "not a regular file (a device, pipe or socket); expected a CSV file")))
+            return table
         data = Path(path).read_bytes()
     except FileNotFoundError:
         table.problems.append(RowProblem(label, None, None, "no such file"))
@@ -395,48 +553,57 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot]) -> Table:
 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = _sniff_delimiter(text, known)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=table.delimiter)
+    lines = io.StringIO(text, newline="").readlines()
+    if columnar and _columns_pass(table, lines, slots, known):
+        return table
     header: list[str] | None = None
     row_number = 0
-    try:
-        for cells in reader:
-            if is_skipped(cells):
-                continue
-            if header is None:
-                header = [_normal_name(cell) for cell in cells]
-                table.chosen, problems = _choose_columns(header, slots, label)
-                table.problems.extend(problems)
-                if problems:
-                    return table
-                table.ignored = [name for name in header if name and name not in known]
-                continue
-            row_number += 1
-            if len(cells) > len(header) and any(cell.strip() for cell in cells[len(header) :]):
-                message = _surplus_message(cells, len(header), table.delimiter)
-                table.problems.append(RowProblem(label, row_number, None, message))
-                table.rows.append((row_number, {}))  # counted as read, not kept
-                continue
-            swallowed = _swallowed(cells, table.delimiter, len(header))
-            if swallowed is not None:
-                index, line_ends = swallowed
-                column = header[index] if index < len(header) and header[index] else None
-                message = (
-                    f"a double quote opens a cell that runs on over {line_ends} line end(s) and "
-                    "takes in lines that look like rows (a closing quote missing?); "
-                    "those lines are not read"
-                )
-                table.problems.append(RowProblem(label, row_number, column, message))
-                table.rows.append((row_number, {}))
-                continue
-            values = {}
-            for index, name in enumerate(header):
-                if name in known and name not in values:
-                    values[name] = cells[index].strip() if index < len(cells) else ""
-            table.rows.append((row_number, values))
-    except csv.Error as error:
-        table.problems.append(
-            RowProblem(label, None, None, f"CSV error at line {reader.line_num}: {error}")
-        )
+    first_line = 0  # the physical line the current reader starts at
+    while first_line is not None:
+        start, first_line = first_line, None
+        reader = csv.reader(itertools.islice(lines, start, None), delimiter=table.delimiter)
+        consumed = 0
+        try:
+            for cells in reader:
+                record_line, consumed = start + consumed, reader.line_num
+                if is_skipped(cells):
+                    continue
+                if header is None:
+                    header = [_normal_name(cell) for cell in cells]
+                    table.chosen, problems = _choose_columns(header, slots, label)
+                    table.problems.extend(problems)
+                    if problems:
+                        return table
+                    table.ignored = [name for name in header if name and name not in known]
+                    continue
+                row_number += 1
+                if len(cells) > len(header) and any(cell.strip() for cell in cells[len(header) :]):
+                    message = _surplus_message(cells, len(header), table.delimiter)
+                    table.problems.append(RowProblem(label, row_number, None, message))
+                    table.rows.append((row_number, {}))  # counted as read, not kept
+                    continue
+                swallowed = _swallowed(cells, table.delimiter, len(header))
+                if swallowed is not None:
+                    index, line_ends = swallowed
+                    column = header[index] if index < len(header) and header[index] else None
+                    message = (
+                        f"a double quote opens a cell that runs on over {line_ends} line end(s) and "
+                        "takes in lines that look like rows (a closing quote missing?); the row is "
+                        "left out and the lines after it are read as rows"
+                    )
+                    table.problems.append(RowProblem(label, row_number, column, message))
+                    table.rows.append((row_number, {}))
+                    first_line = record_line + 1  # read on from the next line, with a new reader
+                    break
+                values = {}
+                for index, name in enumerate(header):
+                    if name in known and name not in values:
+                        values[name] = cells[index].strip() if index < len(cells) else ""
+                table.rows.append((row_number, values))
+        except csv.Error as error:
+            table.problems.append(
+                RowProblem(label, None, None, f"CSV error at line {start + reader.line_num}: {error}")
+            )
     if header is None:
         required = ", ".join(slot.shown for slot in slots if slot.required)
         table.problems.append(
@@ -561,14 +728,8 @@ def read_rows(
     paths: Iterable[str | os.PathLike[str]] | None,
     slots: Sequence[Slot],
     parse_row: Callable[[Row, Campaign], dict | None],
-    fast_row: Callable | None = None,
 ) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
-    """Read every file of one kind: good rows as dicts, problems, rows read, ignored, notes.
-
-    ``fast_row(table, cells, campaign)`` may read a plain row directly (a few
-    microseconds); it returns ``None`` for anything unusual, which then goes
-    through ``parse_row`` and its exact messages.
-    """
+    """Read every file of one kind, row by row: good rows as dicts, problems, rows read, ignored, notes."""
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []
@@ -582,19 +743,10 @@ def read_rows(
         if table.note is not None:
             notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
-        fast = fast_row if (fast_row is not None and FAST_PATH and table.delimiter == ","
-                            and not table.decimal_comma) else None
         for row_number, cells in table.rows:
             rows_read += 1
             if not cells:
                 continue
-            if fast is not None:
-                values = fast(table, cells, campaign)
-                if values is not None:
-                    values["file"] = label
-                    values["row"] = row_number
-                    good.append(values)
-                    continue
             row = Row(table, row_number, cells)
             values = parse_row(row, campaign)
             if row.problems or values is None:
@@ -604,6 +756,84 @@ def read_rows(
             values["row"] = row_number
             good.append(values)
     return good, problems, rows_read, tuple(ignored), tuple(notes)
+
+
+def read_columns(
+    campaign: Campaign,
+    kind: str,
+    paths: Iterable[str | os.PathLike[str]] | None,
+    slots: Sequence[Slot],
+    parse_row: Callable[[Row, Campaign], dict | None],
+    fast_columns: Callable,
+    dtypes: dict[str, object],
+) -> tuple[dict[str, np.ndarray], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
+    """:func:`read_rows` with the good rows as columns, plain rows read a column at a time.
+
+    ``fast_columns(table, campaign)`` takes a columnar table and returns the
+    values of the plain rows (arrays, as ``dtypes`` says) and a mask of the
+    rows it read; every other row goes through ``parse_row`` and its exact
+    messages. The result is the same as :func:`read_rows` gives, row for row
+    (with ``FAST_PATH`` off every row takes that path).
+    """
+    if not FAST_PATH:
+        good, problems, rows_read, ignored, notes = read_rows(campaign, kind, paths, slots, parse_row)
+        return column_arrays(good, dtypes), problems, rows_read, ignored, notes
+    chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
+    parts: list[tuple[int, dict[str, np.ndarray]]] = []
+    problems: list[RowProblem] = []
+    ignored: list[str] = []
+    notes: list[str] = []
+    rows_read = 0
+    for file_index, path in enumerate(chosen_paths):
+        label = display_name(Path(path), campaign)
+        table = _read_table(Path(path), label, slots, columnar=True)
+        problems.extend(table.problems)
+        if table.note is not None:
+            notes.append(table.note)
+        ignored.extend(name for name in table.ignored if name not in ignored)
+        good: list[dict] = []
+        if table.columns is None:  # read row by row (quoted line ends, csv errors, empty files)
+            for row_number, cells in table.rows:
+                rows_read += 1
+                if cells:
+                    _parse_one(Row(table, row_number, cells), campaign, parse_row, label, good, problems)
+            parts.append((file_index, column_arrays(good, dtypes)))
+            continue
+        rows_read += len(table.numbers) + len(table.rows)
+        n = len(table.numbers)
+        handled = np.zeros(n, bool)
+        if n and table.delimiter == "," and not table.decimal_comma:
+            fast, handled = fast_columns(table, campaign)
+            if fast is not None:
+                fast["file"] = np.full(int(handled.sum()), label)
+                fast["row"] = np.asarray(table.numbers, dtype=np.int64)[handled]
+                parts.append((file_index, {name: fast[name] for name in dtypes}))
+        for k in np.flatnonzero(~handled):
+            _parse_one(Row(table, table.numbers[k], table.cells_of(k)), campaign, parse_row, label, good, problems)
+        if good:
+            parts.append((file_index, column_arrays(good, dtypes)))
+    if not parts:
+        return column_arrays([], dtypes), problems, rows_read, tuple(ignored), tuple(notes)
+    merged = {name: np.concatenate([p[name] for _, p in parts]) for name in dtypes}
+    # back to the files' order, and the rows' order inside each file
+    file_of = np.concatenate([np.full(len(p["row"]), k, dtype=np.int64) for k, p in parts])
+    order = np.lexsort((merged["row"], file_of))
+    if not np.array_equal(order, np.arange(order.size)):
+        merged = {name: values[order] for name, values in merged.items()}
+    for name, dtype in dtypes.items():
+        if merged[name].dtype.kind != np.dtype(dtype).kind:
+            merged[name] = merged[name].astype(dtype)
+    return merged, problems, rows_read, tuple(ignored), tuple(notes)
+
+
+def _parse_one(row: Row, campaign: Campaign, parse_row, label: str, good: list[dict], problems: list) -> None:
+    values = parse_row(row, campaign)
+    if row.problems or values is None:
+        problems.extend(row.problems)
+        return
+    values["file"] = label
+    values["row"] = row.row
+    good.append(values)
 
 
 def column_arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:

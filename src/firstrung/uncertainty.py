@@ -121,3 +121,40 @@ def budget_from_contributions(contributions: dict[str, float], unit: str) -> tup
     """Error budget from independent one-sigma contributions, largest first."""
     terms = [BudgetTerm(k, float(abs(v)), unit) for k, v in contributions.items()]
     return tuple(sorted(terms, key=lambda t: (-t.sigma, t.source)))
+
+
+def chi2_survival(chi2, dof):
+    """P(X >= chi2) for a chi-square variable X with ``dof`` (whole) degrees of freedom.
+
+    The closed forms for whole degrees of freedom (Abramowitz & Stegun 1964,
+    section 26.4, from memory): with y = chi2 / 2,
+    even dof: exp(-y) sum_{i<dof/2} y^i / i!;
+    odd dof: erfc(sqrt(y)) + exp(-y) sum_{i=1}^{(dof-1)/2} y^(i-1/2) / Gamma(i+1/2);
+    each term summed in logarithms, so no term overflows. Arrays broadcast.
+    Equal to ``scipy.stats.chi2.sf`` to about 1e-14 relative (a test holds
+    this), without importing scipy.
+
+    >>> round(float(chi2_survival(3.841458820694124, 1)), 6)   # the 5 % point of one degree of freedom
+    0.05
+    """
+    x, k = np.broadcast_arrays(np.asarray(chi2, float), np.asarray(dof, np.int64))
+    if np.any(k < 1):
+        raise ValueError("chi2_survival: degrees of freedom must be whole numbers >= 1")
+    y = np.maximum(x, 0.0) / 2.0
+    log_y = np.log(np.where(y > 0, y, 1.0))
+    odd = k % 2 == 1
+    total = np.where(odd, np.vectorize(math.erfc, otypes=[float])(np.sqrt(y)) if x.size else 0.0, 0.0)
+    top = int(k.max()) // 2 if k.size else 0
+    for i in range(top + 1):  # even: i = 0 .. dof/2 - 1; odd: i = 1 .. (dof-1)/2, power i - 1/2
+        even_term = (~odd) & (i < k // 2)
+        odd_term = odd & (i >= 1) & (i <= (k - 1) // 2)
+        if not (even_term.any() or odd_term.any()):
+            continue
+        power = np.where(odd, i - 0.5, float(i))
+        log_gamma = np.where(odd, math.lgamma(i + 0.5) if i >= 1 else 0.0, math.lgamma(i + 1.0))
+        with np.errstate(over="ignore", under="ignore"):
+            term = np.exp(-y + power * log_y - log_gamma)
+        term = np.where(y > 0, term, np.where((i == 0) & ~odd, 1.0, 0.0))
+        total = total + np.where(even_term | odd_term, term, 0.0)
+    out = np.minimum(total, 1.0)
+    return out if out.ndim else float(out)

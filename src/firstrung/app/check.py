@@ -32,6 +32,14 @@ class RawFile:
     header: tuple[str, ...]
     rows: tuple[tuple[int, tuple[str, ...]], ...]
 
+    def column_cells(self, column: str) -> list[str]:
+        """Every row's cell of a column (stripped, '' when absent), as :meth:`cell` gives them."""
+        wanted = column.strip().lower()
+        k = next((k for k, name in enumerate(self.header) if name == wanted), None)
+        if k is None:
+            return [""] * len(self.rows)
+        return [cells[k].strip() if k < len(cells) else "" for _, cells in self.rows]
+
     def cell(self, cells: tuple[str, ...], column: str) -> str:
         """The cell of a column (matched like the readers: case and spaces ignored), '' when absent."""
         wanted = column.strip().lower()
@@ -82,12 +90,13 @@ def _text_of(data: bytes, label: str) -> str | None:
     return text[1:] if text.startswith("\ufeff") else text
 
 
-def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
+def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tuple[RawFile, ...]:
     """Every data row of a kind's log files, as text cells, numbered as the readers number them.
 
     The same decoding, separator, skipped lines and header names as
     the log readers (:mod:`firstrung.tabular`); files that cannot be read give no rows (the
-    reader's problem says why).
+    reader's problem says why). ``kept``: the rows the readers kept while the
+    check read them (:func:`firstrung.tabular.raw_rows_kept`); those files are not read again.
     """
     slots = getattr(_logs, _SLOTS.get(kind, ""), ())
     known = {name for slot in slots for name in slot.names}
@@ -95,6 +104,10 @@ def read_raw_rows(campaign: Campaign, kind: str) -> tuple[RawFile, ...]:
     out = []
     for path in campaign.logs.get(kind, ()):
         label = _logs.display_name(Path(path), campaign)
+        if kept is not None and str(Path(path)) in kept:  # already read by the check: no second read
+            header, numbers, cells = kept[str(Path(path))]
+            out.append(RawFile(kind, label, Path(path), header, tuple(zip(numbers, cells, strict=True))))
+            continue
         try:
             text = _text_of(Path(path).read_bytes(), label)
         except (OSError, ValueError):
@@ -141,13 +154,17 @@ def run_check(campaign_path) -> CheckRun:
     files: list[RawFile] = []
     noon_only = None
     for kind in kinds:
-        result = log_checks[kind](campaign)
+        with _logs.raw_rows_kept() as kept:
+            result = log_checks[kind](campaign)
         flags.extend(result.flags)
         series.extend(result.series)
         noon_only = result.noon_only if result.noon_only is not None else noon_only
-        files.extend(read_raw_rows(campaign, kind))
-    site_of = {(f.label, n): f.cell(cells, "site") for f in files for n, cells in f.rows}
-    observer_of = {(f.label, n): f.cell(cells, "observer") for f in files for n, cells in f.rows}
+        files.extend(read_raw_rows(campaign, kind, kept))
+    site_of, observer_of = {}, {}
+    for f in files:
+        keys = [(f.label, n) for n, _ in f.rows]
+        site_of.update(zip(keys, f.column_cells("site"), strict=True))
+        observer_of.update(zip(keys, f.column_cells("observer"), strict=True))
     flags = [
         f if (f.site is not None or f.row is None) else _with_site(f, site_of.get((f.file, f.row)), observer_of)
         for f in flags
@@ -191,9 +208,11 @@ def status_csv(run: CheckRun) -> str:
     writer = csv.writer(buf, lineterminator="\n")
     writer.writerow(columns + ["status", "flags", "source_file", "source_row"] + (["log"] if several else []))
     for f in run.files:
-        for number, cells in f.rows:
+        by_column = [f.column_cells(c) for c in columns]
+        for (number, _), values in zip(f.rows, zip(*by_column, strict=True) if by_column else [()] * len(f.rows),
+                                       strict=True):
+            values = list(values)
             key = (f.label, number)
-            values = [f.cell(cells, c) for c in columns]
             extra = [f.kind] if several else []
             writer.writerow(values + [STATUS_WORDS[worst.get(key)], ";".join(codes.get(key, [])), f.label, number] + extra)
     return buf.getvalue()

@@ -66,46 +66,62 @@ class Report:
     runs: dict = None  # the reductions and the check it was built from, by name
 
 
-def _shadow_series(run) -> list[dict]:
-    """Readings and the fitted curve of every (site, day) series, in minutes from the fitted noon."""
+#: Panels of the shadow-series figure: every series up to this many, else the outlying sites' first.
+SERIES_SHOWN = 12
+
+
+def _shadow_series(run) -> tuple[list[dict], int]:
+    """Readings and the fitted curve of the (site, day) series drawn, in minutes from the fitted noon.
+
+    Every series when there are at most :data:`SERIES_SHOWN`; otherwise the
+    outlying sites' series first, then the others in order, that many. Also
+    returns how many series there are in all.
+    """
     from firstrung import ephemeris
     from firstrung.methods.shadows.prediction import shadow_length_m
 
     r = run.reduction
     readings = run.readings
     sites = {s.id: i for i, s in enumerate(run.campaign.sites)}
+    every = [(site, d) for site in r.sites for d in site.series]
+    if len(every) > SERIES_SHOWN:
+        ranked = [p for p in every if p[0].outlier] + [p for p in every if not p[0].outlier]
+        chosen = {id(p[1]) for p in ranked[:SERIES_SHOWN]}
+        every = [p for p in every if id(p[1]) in chosen]
+    site_index = np.asarray(readings.site_index)
+    order = np.argsort(site_index, kind="stable")
+    bounds = np.searchsorted(site_index[order], np.arange(len(run.campaign.sites) + 1))
     out = []
-    for site in r.sites:
+    for site, d in every:
         i = sites[site.id]
         camp_site = run.campaign.sites[i]
-        for d in site.series:
-            mask = readings.site_index == i
-            day = np.datetime64(d.date, "D")
-            t = readings.time_utc[mask].astype("datetime64[us]")
-            local_day = (t + (np.round(camp_site.longitude_deg / 15 * 3600e6)).astype(np.int64).astype("timedelta64[us]")).astype("datetime64[D]")
-            sel = local_day == day
-            if not np.any(sel):
-                continue
-            offset_us = int(round(d.clock_offset_s.value * 1e6))
-            true_t = t[sel] - np.timedelta64(offset_us, "us")
-            minutes = (true_t - d.transit_utc.astype("datetime64[us]")).astype(np.int64) / 60e6
-            grid_min = np.linspace(minutes.min() - 2, minutes.max() + 2, 60)
-            grid_t = d.transit_utc.astype("datetime64[us]") + (grid_min * 60e6).astype(np.int64).astype("timedelta64[us]")
-            pos = ephemeris.sun_position(grid_t, camp_site.latitude_deg, camp_site.longitude_deg, camp_site.elevation_m)
-            lat = np.radians(d.latitude_deg.value)
-            dec, ha = np.radians(pos.declination_deg), np.radians(pos.hour_angle_deg)
-            alt = np.degrees(np.arcsin(np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)))
-            edge = readings.edge[mask][sel][0]
-            height = float(readings.gnomon_m[mask][sel][0])
-            model = shadow_length_m(height, alt, pos.semidiameter_deg, np.array([edge] * grid_t.size, dtype=object))
-            out.append({
-                "label": f"{site.id} {d.date}",
-                "minutes": minutes,
-                "shadow_m": readings.shadow_m[mask][sel],
-                "model_minutes": grid_min,
-                "model_shadow_m": model,
-            })
-    return out
+        mask = np.sort(order[bounds[i]:bounds[i + 1]])  # this site's readings, in the log's order
+        day = np.datetime64(d.date, "D")
+        t = readings.time_utc[mask].astype("datetime64[us]")
+        local_day = (t + (np.round(camp_site.longitude_deg / 15 * 3600e6)).astype(np.int64).astype("timedelta64[us]")).astype("datetime64[D]")
+        sel = local_day == day
+        if not np.any(sel):
+            continue
+        offset_us = int(round(d.clock_offset_s.value * 1e6))
+        true_t = t[sel] - np.timedelta64(offset_us, "us")
+        minutes = (true_t - d.transit_utc.astype("datetime64[us]")).astype(np.int64) / 60e6
+        grid_min = np.linspace(minutes.min() - 2, minutes.max() + 2, 60)
+        grid_t = d.transit_utc.astype("datetime64[us]") + (grid_min * 60e6).astype(np.int64).astype("timedelta64[us]")
+        pos = ephemeris.sun_position(grid_t, camp_site.latitude_deg, camp_site.longitude_deg, camp_site.elevation_m)
+        lat = np.radians(d.latitude_deg.value)
+        dec, ha = np.radians(pos.declination_deg), np.radians(pos.hour_angle_deg)
+        alt = np.degrees(np.arcsin(np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)))
+        edge = readings.edge[mask][sel][0]
+        height = float(readings.gnomon_m[mask][sel][0])
+        model = shadow_length_m(height, alt, pos.semidiameter_deg, np.array([edge] * grid_t.size, dtype=object))
+        out.append({
+            "label": f"{site.id} {d.date}",
+            "minutes": minutes,
+            "shadow_m": readings.shadow_m[mask][sel],
+            "model_minutes": grid_min,
+            "model_shadow_m": model,
+        })
+    return out, sum(len(site.series) for site in r.sites)
 
 
 def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step: None) -> Report:
@@ -131,7 +147,8 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
         progress("drawing the shadow fits")
         run = lad.rung_runs["shadows"]
         shadows = shadow_run_to_json(run)
-        figs["shadow_series"] = figures.shadow_series_figure(_shadow_series(run))
+        series, total = _shadow_series(run)
+        figs["shadow_series"] = figures.shadow_series_figure(series, total)
         red = run.reduction
         pos = np.array([s.north_south_km for s in red.sites])
         lat = np.array([s.astronomical_latitude_deg.value for s in red.sites])

@@ -86,10 +86,14 @@ def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
     summary = Table(title="Rows per site and observer", box=box.SIMPLE_HEAD, title_justify="left")
     for col in ("site", "observer", "read", "accepted", "flagged", "errors", "warnings"):
         summary.add_column(col, justify="left" if col in ("site", "observer") else "right")
-    for s in data["summary"]:
+    shown, hidden, hidden_flagged = _summary_shown(data["summary"], verbose)
+    for s in shown:
         summary.add_row(escape(s["site"] or "(none)"), escape(s["observer"] or "(all)"), str(s["read"]),
                         str(s["accepted"]), str(s["flagged"]), str(s["errors"]), str(s["warnings"]))
     out.print(summary)
+    if hidden:
+        quiet = "" if hidden_flagged else ", none flagged"
+        out.print(f"  {hidden} more site{'s' if hidden != 1 else ''} not shown{quiet} (--verbose or --json shows all)")
     counts = data["counts"]
     out.print(
         f"  {rows['read']} rows read, {rows['accepted']} accepted, {rows['flagged']} flagged "
@@ -107,6 +111,33 @@ def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
             )
     if accepted is not None:
         out.print(f"  wrote {escape(str(accepted))} (every row with its status)")
+
+
+#: Rows of the per-site summary shown without --verbose.
+SUMMARY_ROWS_SHOWN = 40
+
+
+def _summary_shown(rows: list[dict], verbose: bool) -> tuple[list[dict], int, int]:
+    """The summary rows shown, the sites left out and how many of those have flags.
+
+    Every row with --verbose or when they fit in :data:`SUMMARY_ROWS_SHOWN`;
+    otherwise the sites with flags (each with its observers), as many as fit.
+    """
+    if verbose or len(rows) <= SUMMARY_ROWS_SHOWN:
+        return rows, 0, 0
+    by_site: dict[str | None, list[dict]] = {}
+    for r in rows:
+        by_site.setdefault(r["site"], []).append(r)
+    shown: list[dict] = []
+    hidden = hidden_flagged = 0
+    for site_rows in by_site.values():
+        flagged = any(r["flagged"] for r in site_rows)
+        if flagged and len(shown) + len(site_rows) <= SUMMARY_ROWS_SHOWN:
+            shown.extend(site_rows)
+        else:
+            hidden += 1
+            hidden_flagged += flagged
+    return shown, hidden, hidden_flagged
 
 
 def _collapsed(items: list[dict], verbose: bool) -> list[dict]:

@@ -16,7 +16,7 @@ import numpy as np
 
 from firstrung.constants import ASTRONOMICAL_UNIT_KM, MOON_MEAN_RADIUS_KM
 from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
-from firstrung.ephemeris.sun import _topocentric
+from firstrung.ephemeris.sun import SunPosition, _topocentric
 
 
 @dataclass(frozen=True)
@@ -133,7 +133,8 @@ def moon_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> Moo
     app = _body("earth").at(ts).observe(_body("moon")).apparent()
     xyz_km = np.asarray(mxv(ts.M, app.position.au)).reshape(3, -1) * ASTRONOMICAL_UNIT_KM
     gast = np.asarray(ts.gast).reshape(-1) * (np.pi / 12.0)
-    p = _topocentric(xyz_km[:, inverse], gast[inverse], lat_b.ravel(), lon_b.ravel(), elev_b.ravel(), shape)
+    p = SunPosition(**{k: v.reshape(shape) for k, v in _topocentric(
+        xyz_km[:, inverse], gast[inverse], lat_b.ravel(), lon_b.ravel(), elev_b.ravel()).items()})
     distance_km = p.distance_au * ASTRONOMICAL_UNIT_KM
     return MoonPosition(
         altitude_deg=p.altitude_deg,

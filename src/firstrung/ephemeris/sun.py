@@ -53,7 +53,10 @@ _TRANSIT_ITERATIONS = 3
 #: With 4-point Lagrange interpolation the error is below 1e-6" in direction
 #: and 1e-10 rad in sidereal time (a test holds this).
 _GRID_STEP_H = 1.0
-#: Use the grid when the distinct times outnumber the grid nodes this many times.
+#: (time, site) pairs the topocentric step takes at a time (bounds its temporary arrays).
+_TOPOCENTRIC_CHUNK = 1 << 17
+#: Use the grid when the Sun positions a call (or a search's repeated calls on
+#: nearby times) would compute outnumber the grid nodes this many times.
 _GRID_MIN_GAIN = 3.0
 
 
@@ -72,7 +75,13 @@ def _tt_jd(time_utc: np.ndarray) -> np.ndarray:
     """TT Julian dates of UTC datetime64 times, with TT-UTC looked up once per UTC day."""
     t = np.asarray(time_utc, dtype="datetime64[us]")
     days = t.astype("datetime64[D]")
-    unique_days, inverse = np.unique(days, return_inverse=True)
+    day_number = days.astype(np.int64)
+    first, last = (int(day_number.min()), int(day_number.max())) if day_number.size else (0, -1)
+    if day_number.size > 4 * (last - first + 1):  # many times over few days: every day of the span, no sort
+        unique_days = np.arange(first, last + 1).astype("datetime64[D]")
+        inverse = day_number - first
+    else:
+        unique_days, inverse = np.unique(days, return_inverse=True)
     offset_days = np.asarray(_skyfield_time(unique_days.astype("datetime64[us]")).tt) - (
         unique_days.astype(np.int64) + 2440587.5
     )
@@ -108,12 +117,31 @@ def _sun_grid(start_tt_jd: float, nodes: int, step_days: float):
     return xyz, gast
 
 
-def _geocentric_sun(time_utc: np.ndarray):
+@functools.lru_cache(maxsize=4)
+def _sun_grid_stacked(start_tt_jd: float, nodes: int, step_days: float) -> np.ndarray:
+    """The grid's x, y, z and unwrapped GAST as one (4, nodes) array: one interpolation serves all four."""
+    xyz, gast = _sun_grid(start_tt_jd, nodes, step_days)
+    stacked = np.vstack([xyz, gast[None, :]])
+    stacked.setflags(write=False)
+    return stacked
+
+
+def _grid_pays(time_utc: np.ndarray, evaluations: int) -> bool:
+    """Whether ``evaluations`` Sun positions over the span of these times are cheaper from the grid."""
+    ends = _tt_jd(np.array([time_utc.min(), time_utc.max()], dtype="datetime64[us]"))
+    nodes = int(round((np.ceil(ends[1] + 0.5) - np.floor(ends[0] - 0.5)) / (_GRID_STEP_H / 24.0))) + 1
+    return evaluations >= _GRID_MIN_GAIN * nodes
+
+
+def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = None):
     """Apparent geocentric Sun in the true equator and equinox of date, and GAST.
 
     Many times within a short span (a year of noons at a hundred sites) are
     served from an hourly grid of skyfield positions by 4-point Lagrange
-    interpolation; a few scattered times are computed directly.
+    interpolation; a few scattered times are computed directly. ``uses``:
+    how many calls on about the same times the caller makes (a search's
+    iterations), all served by one cached grid. ``grid``: True or False to
+    choose the grid or the direct computation outright.
 
     Returns
     -------
@@ -128,14 +156,12 @@ def _geocentric_sun(time_utc: np.ndarray):
     # whole days with half a day of margin, so that the iterations of a search share one grid
     start = np.floor(tt.min() - 0.5)
     nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
-    if time_utc.size < _GRID_MIN_GAIN * nodes:
+    if not grid and (grid is False or time_utc.size * uses < _GRID_MIN_GAIN * nodes):
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
         return _direct_geocentric_sun(t)
-    xyz, gast = _sun_grid(float(start), nodes, step)
-    xyz_i = _lagrange4(tt, start, step, xyz)
-    gast_i = np.mod(_lagrange4(tt, start, step, gast), 2.0 * np.pi)
-    return xyz_i, gast_i
+    both = _lagrange4(tt, start, step, _sun_grid_stacked(float(start), nodes, step))
+    return both[:3], np.mod(both[3], 2.0 * np.pi)
 
 
 @dataclass(frozen=True)
@@ -184,6 +210,15 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
     >>> round(float(p.altitude_deg), 1)
     66.6
     """
+    return _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m)
+
+
+def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: int = 1,
+                  hour_angle_only: bool = False):
+    """:func:`sun_position`, told how many calls on about the same times the caller makes.
+
+    ``hour_angle_only``: return only the hour angle [deg] (a search's steps need nothing else).
+    """
     t = as_utc_datetime64(time_utc)
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
     t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
@@ -191,15 +226,33 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
     if np.any(~np.isfinite(lat_b) | (np.abs(lat_b) > 90.0)):
         raise InputError(f"latitude_deg: expected -90 to 90 deg, got {lat_b[~(np.abs(lat_b) <= 90)].ravel()[0]}")
     check_in_span(t_b)
-    unique_t, inverse = np.unique(t_b.ravel(), return_inverse=True)
-    sun_xyz_km, gast_rad = _geocentric_sun(unique_t)
-    sun_xyz_km = sun_xyz_km[:, inverse]
-    gast_rad = gast_rad[inverse]
-    return _topocentric(sun_xyz_km, gast_rad, lat_b.ravel(), lon_b.ravel(), elev_b.ravel(), shape)
+    flat_t = t_b.ravel()
+    if flat_t.size > _TOPOCENTRIC_CHUNK and _grid_pays(flat_t, flat_t.size * uses):
+        # many times served by the grid: interpolated where they are, without sorting out repeats
+        sun_xyz_km, gast_rad = _geocentric_sun(flat_t, uses, grid=True)
+        inverse = None
+    else:
+        unique_t, inverse = np.unique(flat_t, return_inverse=True)
+        sun_xyz_km, gast_rad = _geocentric_sun(unique_t, uses)
+        inverse = inverse.ravel()
+    lat_f, lon_f, elev_f = lat_b.ravel(), lon_b.ravel(), elev_b.ravel()
+    n = lat_f.size
+    fields = ("hour_angle_deg",) if hour_angle_only else tuple(SunPosition.__dataclass_fields__)
+    out = {f: np.empty(n) for f in fields}
+    # the same arithmetic a slice at a time, so that the temporaries stay small
+    for a in range(0, max(n, 1), _TOPOCENTRIC_CHUNK):
+        part = slice(a, a + _TOPOCENTRIC_CHUNK)
+        k = part if inverse is None else inverse[part]
+        p = _topocentric(sun_xyz_km[:, k], gast_rad[k], lat_f[part], lon_f[part], elev_f[part], hour_angle_only)
+        for f in fields:
+            out[f][part] = p[f]
+    if hour_angle_only:
+        return out["hour_angle_deg"].reshape(shape)
+    return SunPosition(**{f: v.reshape(shape) for f, v in out.items()})
 
 
-def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, shape) -> SunPosition:
-    """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle."""
+def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only: bool = False) -> dict:
+    """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle (flat arrays)."""
     x, y, z = geodetic_to_itrs_km(lat_deg, lon_deg, elev_m)
     cos_g, sin_g = np.cos(gast_rad), np.sin(gast_rad)
     site = np.stack([x * cos_g - y * sin_g, x * sin_g + y * cos_g, z])
@@ -214,7 +267,9 @@ def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, shape) -> SunPo
     dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
     lat_rad = np.radians(lat_deg)
     ha_rad = gast_rad + np.radians(lon_deg) - ra_rad
-    ha_rad = np.angle(np.exp(1j * ha_rad))
+    ha_rad = np.arctan2(np.sin(ha_rad), np.cos(ha_rad))  # the same numbers as np.angle(np.exp(1j * ha)), sooner
+    if hour_angle_only:
+        return {"hour_angle_deg": np.degrees(ha_rad)}
     sin_alt = np.sin(lat_rad) * np.sin(dec_rad) + np.cos(lat_rad) * np.cos(dec_rad) * np.cos(ha_rad)
     alt_rad = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
     az_rad = np.arctan2(
@@ -222,15 +277,15 @@ def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, shape) -> SunPo
         np.sin(dec_rad) * np.cos(lat_rad) - np.cos(dec_rad) * np.sin(lat_rad) * np.cos(ha_rad),
     )
     distance_au = distance_km / ASTRONOMICAL_UNIT_KM
-    return SunPosition(
-        altitude_deg=np.degrees(alt_rad).reshape(shape),
-        azimuth_deg=np.mod(np.degrees(az_rad), 360.0).reshape(shape),
-        hour_angle_deg=np.degrees(ha_rad).reshape(shape),
-        declination_deg=np.degrees(dec_rad).reshape(shape),
-        right_ascension_deg=np.mod(np.degrees(ra_rad), 360.0).reshape(shape),
-        distance_au=distance_au.reshape(shape),
-        semidiameter_deg=(SUN_SEMIDIAMETER_AT_1AU_ARCSEC / 3600.0 / distance_au).reshape(shape),
-    )
+    return {
+        "altitude_deg": np.degrees(alt_rad),
+        "azimuth_deg": np.mod(np.degrees(az_rad), 360.0),
+        "hour_angle_deg": np.degrees(ha_rad),
+        "declination_deg": np.degrees(dec_rad),
+        "right_ascension_deg": np.mod(np.degrees(ra_rad), 360.0),
+        "distance_au": distance_au,
+        "semidiameter_deg": SUN_SEMIDIAMETER_AT_1AU_ARCSEC / 3600.0 / distance_au,
+    }
 
 
 @dataclass(frozen=True)
@@ -310,11 +365,12 @@ def solar_transit(date, latitude_deg, longitude_deg, elevation_m=0.0) -> SolarTr
     day_b, lat_b, lon_b, elev_b = np.broadcast_arrays(day, lat, lon, elev)
     offset_us = np.round((12.0 - lon_b / 15.0) * 3600e6).astype(np.int64)
     t = day_b.astype("datetime64[us]") + offset_us.astype("timedelta64[us]")
+    uses = _TRANSIT_ITERATIONS + 1  # every step of the search shares one grid when it pays
     for _ in range(_TRANSIT_ITERATIONS):
-        p = sun_position(t, lat_b, lon_b, elev_b)
-        step_us = np.round(p.hour_angle_deg / _MEAN_SOLAR_RATE_DEG_PER_S * 1e6).astype(np.int64)
+        hour_angle_deg = _sun_position(t, lat_b, lon_b, elev_b, uses, hour_angle_only=True)
+        step_us = np.round(hour_angle_deg / _MEAN_SOLAR_RATE_DEG_PER_S * 1e6).astype(np.int64)
         t = t - step_us.astype("timedelta64[us]")
-    p = sun_position(t, lat_b, lon_b, elev_b)
+    p = _sun_position(t, lat_b, lon_b, elev_b, uses)
     return SolarTransit(
         time_utc=t,
         altitude_deg=p.altitude_deg,

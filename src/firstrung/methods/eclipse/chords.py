@@ -397,9 +397,9 @@ def solve_chords(
     chi2 = float(np.sum(best.fun**2))
     factor = 1.0
     if dof > 0:
-        from scipy.stats import chi2 as chi2_dist
+        from firstrung.uncertainty import chi2_survival
 
-        if chi2_dist.sf(chi2, dof) < SCATTER_SIGNIFICANCE:
+        if chi2_survival(chi2, dof) < SCATTER_SIGNIFICANCE:
             factor = math.sqrt(chi2 / dof)
     time_res = -_time_residuals(p, timings, sm, v, along, normal, offsets, sun_cone_deg)
     mag_res = None

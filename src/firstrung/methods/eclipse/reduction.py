@@ -381,9 +381,9 @@ def fit_umbra_enlargement(
     dof = k - 1
     factor = 1.0
     if dof > 0:
-        from scipy.stats import chi2 as chi2_dist
+        from firstrung.uncertainty import chi2_survival
 
-        if chi2_dist.sf(chi2, dof) < SCATTER_SIGNIFICANCE:
+        if chi2_survival(chi2, dof) < SCATTER_SIGNIFICANCE:
             factor = math.sqrt(chi2 / dof)
     enlargement = _gauss(100 * (a - 1), 100 * sa * factor, "%")
     flat = equatorial = None
@@ -401,9 +401,9 @@ def fit_umbra_enlargement(
         chi2_f = float(np.sum(w * res**2))
         f2 = 1.0
         if k > 2:
-            from scipy.stats import chi2 as chi2_dist
+            from firstrung.uncertainty import chi2_survival
 
-            if chi2_dist.sf(chi2_f, k - 2) < SCATTER_SIGNIFICANCE:
+            if chi2_survival(chi2_f, k - 2) < SCATTER_SIGNIFICANCE:
                 f2 = math.sqrt(chi2_f / (k - 2))
         cov = cov * f2**2
         aa, bb = coef

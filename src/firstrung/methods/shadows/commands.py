@@ -82,26 +82,28 @@ def plan_shadows(
     days = chosen_days(run.plan, top)
     if ics is not None:
         write_atomic(ics, calendar_bytes(run, days), inputs=[campaign, *run.campaign.logs.get("shadows", ())])
-    data = shadow_plan_to_json(run)
-    if json_output:
-        print_json(data)
+    if json_output:  # the JSON of every day and site only when it is printed
+        print_json(shadow_plan_to_json(run))
         return
-    _render(data, run, days, SOLAR_CAUTION, ics)
+    _render(run, days, SOLAR_CAUTION, ics)
 
 
-def _render(data: dict, run, days, caution: str, ics) -> None:
+def _render(run, days, caution: str, ics) -> None:
     from rich import box
     from rich.markup import escape
     from rich.table import Table
+
+    from firstrung.jsonout import number
+    from firstrung.methods.shadows.present_plan import site_day
 
     out = console()
     plan = run.plan
     n_ranked = int((plan.rank > 0).sum())
     out.print(
-        f"[bold]{escape(data['campaign'])}[/bold]: noon shadows, {data['from']} to {data['to']}; "
+        f"[bold]{escape(run.campaign.name)}[/bold]: noon shadows, {plan.dates[0]} to {plan.dates[-1]}; "
         f"{n_ranked} of {len(plan.dates)} days work at every site"
     )
-    out.print(f"  a perfect measurement at these sites gives {data['expected_radius_km']:.1f} km")
+    out.print(f"  a perfect measurement at these sites gives {number(plan.expected_radius_km, 3):.1f} km")
     if run.skipped_sites:
         out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
     table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
@@ -118,7 +120,7 @@ def _render(data: dict, run, days, caution: str, ics) -> None:
         row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
         if few:
             for j, _s in enumerate(plan.sites):
-                d = data["days"][k]["sites"][plan.sites[j].id]
+                d = site_day(plan, k, j)
                 clock = (d["transit_local"] or d["transit_utc"])[11:16]
                 zone = "" if d["transit_local"] else "Z"
                 row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
@@ -243,7 +245,8 @@ def render_shadows(data: dict, verbose: bool) -> None:
         ("astro. lat (deg)", "right"), ("sigma (deg)", "right"), ("resid. (')", "right"), ("clock (s)", "right"),
     ):
         table.add_column(col, justify=just, no_wrap=col in ("site", "day"))
-    for s in data["sites"]:
+    shown, hidden = _sites_shown(data["sites"], verbose)
+    for s in shown:
         for k, d in enumerate(s["days"]):
             lat = d["astronomical_latitude_deg"] if len(s["days"]) > 1 else s["astronomical_latitude_deg"]
             table.add_row(
@@ -259,6 +262,8 @@ def render_shadows(data: dict, verbose: bool) -> None:
                 _pm(d["clock_offset_s"], 0),
             )
     out.print(table)
+    if hidden:
+        out.print(f"  {hidden} more site{'s' if hidden != 1 else ''} not shown (--verbose shows every site, --json gives them all)")
 
     budget = Table(title="Error budget of the radius", box=box.SIMPLE_HEAD)
     budget.add_column("input")
@@ -288,6 +293,26 @@ def render_shadows(data: dict, verbose: bool) -> None:
         out.print(noon)
         for a in data["assumptions"]:
             out.print(f"  - {a}")
+
+
+#: Site-days the Sites table shows without --verbose.
+SITE_ROWS_SHOWN = 40
+
+
+def _sites_shown(sites: list[dict], verbose: bool) -> tuple[list[dict], int]:
+    """The sites the table shows, in their order, and how many it leaves out.
+
+    Every site with --verbose or when they fit in :data:`SITE_ROWS_SHOWN`
+    rows; otherwise the outlying sites first, then the others, as many as fit.
+    """
+    if verbose or sum(len(s["days"]) for s in sites) <= SITE_ROWS_SHOWN:
+        return sites, 0
+    keep, rows = set(), 0
+    for k in [k for k, s in enumerate(sites) if s["outlier"]] + [k for k, s in enumerate(sites) if not s["outlier"]]:
+        if rows + len(sites[k]["days"]) <= SITE_ROWS_SHOWN:
+            keep.add(k)
+            rows += len(sites[k]["days"])
+    return [s for k, s in enumerate(sites) if k in keep], len(sites) - len(keep)
 
 
 def _escape(text: str) -> str:

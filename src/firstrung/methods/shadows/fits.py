@@ -161,13 +161,56 @@ def fit_line(position_km, latitude_rad, variance_rad2) -> LineFit:
 
 @dataclass(frozen=True)
 class Positions:
-    """North-south positions of the sites [km] and their error operators."""
+    """North-south positions of the sites [km] and their error operators, group by group.
+
+    Sites joined by surveyed baselines form a group placed by one map
+    position, its first site's (its anchor); a site without a baseline is a
+    group of its own. Every operator touches only its own group, so memory
+    and time grow with the sites and baselines, never with their square.
+    """
 
     position_km: np.ndarray
-    map_gain: np.ndarray  # d(position_i)/d(map observation j), map observations have POSITION_SIGMA_KM
-    baseline_gain: np.ndarray  # d(position_i)/d(baseline b)
+    anchor: np.ndarray  # index of the site whose map position places site i's group
+    map_gain: np.ndarray  # d(position_i)/d(map observation of anchor[i]); map observations have POSITION_SIGMA_KM
+    baseline_blocks: tuple[tuple[np.ndarray, np.ndarray, np.ndarray], ...]  # (sites, baselines, d(position)/d(baseline))
     baseline_sigma_km: np.ndarray
     surveyed: np.ndarray  # bool: site position tied to a baseline
+
+    def variance_km2(self) -> np.ndarray:
+        """Variance of each site's position [km^2]: the map's share and the baselines'."""
+        var = POSITION_SIGMA_KM**2 * self.map_gain**2
+        for sites, bases, gain in self.baseline_blocks:
+            var[sites] += (gain**2) @ (self.baseline_sigma_km[bases] ** 2)
+        return var
+
+    def map_quadratic(self, g: np.ndarray) -> np.ndarray:
+        """g C_map g over the last axis of ``g``: the map positions' share of the variance of a linear function."""
+        u = np.asarray(g, float) * self.map_gain
+        if np.array_equal(self.anchor, np.arange(self.anchor.size)):
+            return POSITION_SIGMA_KM**2 * np.sum(u**2, axis=-1)
+        order = np.argsort(self.anchor, kind="stable")
+        starts = np.flatnonzero(np.r_[True, np.diff(self.anchor[order]) != 0])
+        per_group = np.add.reduceat(u[..., order], starts, axis=-1)
+        return POSITION_SIGMA_KM**2 * np.sum(per_group**2, axis=-1)
+
+    def baseline_quadratic(self, g: np.ndarray) -> np.ndarray:
+        """g C_baselines g over the last axis of ``g``."""
+        g = np.asarray(g, float)
+        out = np.zeros(g.shape[:-1])
+        for sites, bases, gain in self.baseline_blocks:
+            out = out + np.sum((g[..., sites] @ gain) ** 2 * self.baseline_sigma_km[bases] ** 2, axis=-1)
+        return out
+
+    def draw(self, rng: np.random.Generator, samples: int) -> np.ndarray:
+        """``samples`` draws of every site's position (samples x sites), the map's errors then the baselines'."""
+        n = self.position_km.size
+        map_error = POSITION_SIGMA_KM * rng.standard_normal((samples, n))
+        pos = self.position_km[None, :] + map_error[:, self.anchor] * self.map_gain
+        if self.baseline_sigma_km.size:
+            base_error = rng.standard_normal((samples, self.baseline_sigma_km.size)) * self.baseline_sigma_km
+            for sites, bases, gain in self.baseline_blocks:
+                pos[:, sites] += base_error[:, bases] @ gain.T
+        return pos
 
 
 def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[BaselineInput, ...]) -> Positions:
@@ -177,11 +220,11 @@ def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[Baselin
     give relative positions (least squares if they form loops) and the group
     is placed by its first site's map position. The north-south part of a
     baseline is ``distance * cos(bearing)``; without a bearing, the map's
-    bearing between the two sites is used.
+    bearing between the two sites is used. Each group is solved on its own.
     """
     n = len(sites)
-    lat = np.array([s.latitude_deg for s in sites])
-    map_km = meridian_arc_m(lat) / 1000.0
+    lat = np.array([s.latitude_deg for s in sites], float)
+    map_km = meridian_arc_m(lat) / 1000.0 if n else np.zeros(0)
     parent = list(range(n))
 
     def root(i):
@@ -190,7 +233,7 @@ def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[Baselin
             i = parent[i]
         return i
 
-    rows, values, sigmas, kinds = [], [], [], []
+    values, sigmas = [], []
     for b in baselines:
         if b.bearing_deg is not None:
             ns = float(baseline_north_south_km(b.distance_km, b.bearing_deg))
@@ -198,36 +241,42 @@ def north_south_positions(sites: tuple[SiteInput, ...], baselines: tuple[Baselin
             s1, s2 = sites[b.first], sites[b.second]
             map_distance, azimuth, _ = geodesic_inverse(s1.latitude_deg, s1.longitude_deg, s2.latitude_deg, s2.longitude_deg)
             ns = b.distance_km * (map_km[b.second] - map_km[b.first]) / float(map_distance)
-        row = np.zeros(n)
-        row[b.second], row[b.first] = 1.0, -1.0
-        rows.append(row)
         values.append(ns)
         sigmas.append(max(b.sigma_km, 1e-6))
-        kinds.append("baseline")
         parent[root(b.first)] = root(b.second)
-    anchors = [i for i in range(n) if all(root(j) != root(i) for j in range(i))]
-    for i in anchors:
-        row = np.zeros(n)
-        row[i] = 1.0
-        rows.append(row)
-        values.append(map_km[i])
-        sigmas.append(POSITION_SIGMA_KM)
-        kinds.append("map")
-    design = np.array(rows)
-    w = 1.0 / np.array(sigmas) ** 2
-    normal = design.T @ (w[:, None] * design)
-    operator = np.linalg.solve(normal, design.T * w)
-    position = operator @ np.array(values)
-    kinds_a = np.array(kinds)
-    map_gain = np.zeros((n, n))
-    map_gain[:, anchors] = operator[:, kinds_a == "map"]
+    group = np.array([root(i) for i in range(n)], dtype=np.int64)
+    first_of: dict[int, int] = {}
+    for i, r in enumerate(group.tolist()):
+        first_of.setdefault(r, i)
+    anchor = np.array([first_of[r] for r in group.tolist()], dtype=np.int64)
+    position = np.array(map_km, float)
+    map_gain = np.ones(n)
+    blocks = []
+    in_group: dict[int, list[int]] = {}
+    for k, b in enumerate(baselines):
+        in_group.setdefault(int(anchor[b.first]), []).append(k)
+    for a, bases in in_group.items():
+        members = np.flatnonzero(anchor == a)
+        local = {int(i): j for j, i in enumerate(members)}
+        m = members.size
+        design = np.zeros((len(bases) + 1, m))
+        for r, k in enumerate(bases):
+            design[r, local[baselines[k].second]], design[r, local[baselines[k].first]] = 1.0, -1.0
+        design[-1, local[a]] = 1.0
+        w = 1.0 / np.array([sigmas[k] for k in bases] + [POSITION_SIGMA_KM]) ** 2
+        normal = design.T @ (w[:, None] * design)
+        operator = np.linalg.solve(normal, design.T * w)
+        position[members] = operator @ np.array([values[k] for k in bases] + [map_km[a]])
+        map_gain[members] = operator[:, -1]
+        blocks.append((members, np.array(bases, dtype=np.int64), operator[:, :-1]))
     surveyed = np.zeros(n, bool)
     for b in baselines:
         surveyed[b.first] = surveyed[b.second] = True
     return Positions(
         position_km=position,
+        anchor=anchor,
         map_gain=map_gain,
-        baseline_gain=operator[:, kinds_a == "baseline"],
-        baseline_sigma_km=np.array([s for s, k in zip(sigmas, kinds, strict=True) if k == "baseline"]),
+        baseline_blocks=tuple(blocks),
+        baseline_sigma_km=np.array(sigmas, float),
         surveyed=surveyed,
     )

@@ -28,8 +28,7 @@ from firstrung.tabular import (
     Slot,
     Table,
     cell_text,
-    column_arrays,
-    read_rows,
+    read_columns,
 )
 from firstrung.times import quoted
 
@@ -278,65 +277,146 @@ def _plain(cell: str, low: float, high: float, factor: float = 1.0) -> float | N
     return value if low <= value <= high else None
 
 
-def _fast_shadow_row(table: Table, cells: dict[str, str], campaign: Campaign) -> dict | None:
-    """A plain shadow row (known site, ISO UTC time, plain numbers) read without the checks' detours."""
-    chosen = table.chosen
-    site_id = cells.get(chosen["site"], "")
-    if site_id not in campaign._site_by_id or chosen["time_utc"] != "time_utc":
-        return None
-    m = _PLAIN_UTC_RE.match(cells.get("time_utc", ""))
-    if m is None:
-        return None
+#: Longest cell the column checks look at as a plain number (longer ones go the long way).
+_PLAIN_WIDTH = 32
+
+
+def _codes(cells, width: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The cells no longer than ``width`` as a (cells, width) array of code points, their indices and lengths."""
+    lengths = np.fromiter(map(len, cells), np.int64, len(cells))
+    index = np.flatnonzero((lengths > 0) & (lengths <= width))
+    text = np.array(cells, dtype=object)[index].astype(f"<U{width}")
+    return text.view(np.uint32).reshape(index.size, width), index, lengths[index]
+
+
+def _plain_cells(cells: list[str], low: float, high: float, factor: float) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_plain` on a column, vectorised: the values (NaN where not plain) and where they are plain.
+
+    Plain: digits, at most one point with digits on both sides (``^\\d+(?:\\.\\d+)?$``).
+    """
+    n = len(cells)
+    values = np.full(n, np.nan)
+    plain = np.zeros(n, bool)
+    codes, index, lengths = _codes(cells, _PLAIN_WIDTH)
+    if index.size:
+        digit = codes - 48 < 10
+        dot = codes == 46
+        inside = np.arange(_PLAIN_WIDTH)[None, :] < lengths[:, None]
+        last = codes[np.arange(index.size), lengths - 1]
+        good = (np.all(digit | dot | ~inside, axis=1) & (dot.sum(axis=1) <= 1)
+                & (codes[:, 0] - 48 < 10) & (last - 48 < 10))
+        pick = index[good]
+        value = np.array(cells, dtype=object)[pick].astype(float) * factor
+        ok = (value >= low) & (value <= high)
+        values[pick[ok]] = value[ok]
+        plain[pick[ok]] = True
+    return values, plain
+
+
+def _utc_times(cells: list[str]) -> np.ndarray:
+    """Plain UTC times (as :data:`_PLAIN_UTC_RE` takes them) to datetime64[ms]; NaT for anything else.
+
+    The usual ``YYYY-MM-DDTHH:MM:SSZ`` is checked a column at a time; other forms one by one.
+    """
+    n = len(cells)
+    iso = np.full(n, "NaT", dtype="<U23")
+    codes, index, _ = _codes(cells, 20)
+    if index.size:
+        digit = codes - 48 < 10
+        at = np.array([0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18])
+        usual = (np.all(digit[:, at], axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45) & (codes[:, 10] == 84)
+                 & (codes[:, 13] == 58) & (codes[:, 16] == 58) & (codes[:, 19] == 90))
+        done = index[usual]
+        iso[done] = np.array(cells, dtype=object)[done].astype("<U19")
+    else:
+        done = index
+    rest = np.ones(n, bool)
+    rest[done] = False
+    for k in np.flatnonzero(rest):
+        m = _PLAIN_UTC_RE.match(cells[k])
+        if m is not None:
+            iso[k] = f"{m.group(1)}T{m.group(2)}"
     try:
-        t = np.datetime64(f"{m.group(1)}T{m.group(2)}", "ms")
-    except ValueError:
-        return None
-    if not (_SPAN_MS[0] <= t <= _SPAN_MS[1]):
-        return None
+        return iso.astype("datetime64[ms]")
+    except ValueError:  # a date that does not exist: that row alone goes the long way
+        return np.array([_datetime_or_nat(str(text)) for text in iso], dtype="datetime64[ms]")
+
+
+def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None, np.ndarray]:
+    """Plain shadow rows (known site, ISO UTC time, plain numbers) of a columnar table, all at once.
+
+    Returns their values and a mask of the rows read; the others go through
+    the full row checks (:func:`_parse_shadow_row`) for their exact messages."""
+    chosen, columns = table.chosen, table.columns
+    n = len(table.numbers)
+    handled = np.zeros(n, bool)
+    if chosen["time_utc"] != "time_utc":
+        return None, handled
+    site_cells = columns[chosen["site"]]
+    sites = np.array(site_cells, dtype=object)
+    ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)
+    t = _utc_times(columns["time_utc"])
+    ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
     shadow_column = chosen["shadow_m"]
-    shadow_m = _plain(cells.get(shadow_column, ""), 1e-300, SHADOW_LIMIT_M, _UNIT_FACTORS_M[_unit_of(shadow_column)])
-    if shadow_m is None or shadow_m <= 0.0:
-        return None
-    gnomon_m = math.nan
+    shadow_m, plain = _plain_cells(columns[shadow_column], 1e-300, SHADOW_LIMIT_M,
+                                   _UNIT_FACTORS_M[_unit_of(shadow_column)])
+    ok &= plain & (shadow_m > 0.0)
+    gnomon_m = np.full(n, np.nan)
     gnomon_column = chosen.get("gnomon_m")
-    if gnomon_column is not None and cells.get(gnomon_column, ""):
-        gnomon_m = _plain(cells[gnomon_column], 1e-300, GNOMON_LIMIT_M * (1 - 1e-12), _UNIT_FACTORS_M[_unit_of(gnomon_column)])
-        if gnomon_m is None or gnomon_m <= 0.0:
-            return None
-    edge = None
+    if gnomon_column is not None:
+        cells = columns[gnomon_column]
+        given = np.fromiter((c != "" for c in cells), bool, n)
+        value, plain = _plain_cells(cells, 1e-300, GNOMON_LIMIT_M * (1 - 1e-12), _UNIT_FACTORS_M[_unit_of(gnomon_column)])
+        ok &= ~given | (plain & (value > 0.0))
+        gnomon_m = np.where(given, value, np.nan)
+    edge = np.full(n, None, dtype=object)
     edge_column = chosen.get("edge")
-    if edge_column is not None and cells.get(edge_column, ""):
-        edge = cells[edge_column].lower()
-        if edge not in EDGES:
-            return None
-    weather = []
+    if edge_column is not None:
+        for k, cell in enumerate(columns[edge_column]):
+            if cell:
+                edge[k] = cell.lower()
+                ok[k] &= edge[k] in EDGES
+    weather = {}
     for slot, (low, high) in (("temperature_c", TEMPERATURE_RANGE_C), ("pressure_hpa", PRESSURE_RANGE_HPA)):
+        values = np.full(n, np.nan)
         column = chosen.get(slot)
-        cell = cells.get(column, "") if column is not None else ""
-        if cell == "":
-            weather.append(math.nan)
-            continue
-        value = _plain(cell.lstrip("-") if slot == "temperature_c" else cell, 0.0, max(abs(low), high))
-        if value is None:
-            return None
-        value = -value if cell.startswith("-") else value
-        if not low <= value <= high:
-            return None
-        weather.append(value)
+        if column is not None:
+            for k, cell in enumerate(columns[column]):
+                if cell == "":
+                    continue
+                value = _plain(cell.lstrip("-") if slot == "temperature_c" else cell, 0.0, max(abs(low), high))
+                if value is None:
+                    ok[k] = False
+                    continue
+                value = -value if cell.startswith("-") else value
+                ok[k] &= low <= value <= high
+                values[k] = value
+        weather[slot] = values
     observer_column, note_column = chosen.get("observer"), chosen.get("note")
+    blank = np.full(n, "", dtype=object)
+    observer = np.array(columns[observer_column], dtype=object) if observer_column is not None else blank
+    note = np.array(columns[note_column], dtype=object) if note_column is not None else blank
+    m = int(ok.sum())
     return {
-        "site": site_id,
-        "time_utc": t,
-        "time_column": "time_utc",
-        "shadow_m": shadow_m,
-        "shadow_column": shadow_column,
-        "gnomon_m": gnomon_m,
-        "edge": edge,
-        "temperature_c": weather[0],
-        "pressure_hpa": weather[1],
-        "observer": cells.get(observer_column, "") if observer_column is not None else "",
-        "note": cells.get(note_column, "") if note_column is not None else "",
-    }
+        "site": sites[ok].astype(str),
+        "time_utc": t[ok],
+        "time_column": np.full(m, "time_utc"),
+        "shadow_m": shadow_m[ok],
+        "shadow_column": np.full(m, shadow_column),
+        "gnomon_m": gnomon_m[ok],
+        "edge": edge[ok],
+        "temperature_c": weather["temperature_c"][ok],
+        "pressure_hpa": weather["pressure_hpa"][ok],
+        "observer": observer[ok],
+        "note": note[ok],
+    }, ok
+
+
+def _datetime_or_nat(text: str) -> np.datetime64:
+    try:
+        return np.datetime64(text, "ms")
+    except ValueError:
+        return np.datetime64("NaT", "ms")
 
 
 def read_shadow_logs(
@@ -363,9 +443,6 @@ def read_shadow_logs(
     ``gnomon_m``/``gnomon_cm``/``gnomon_mm``, ``edge``, ``temperature_c``,
     ``pressure_hpa``, ``observer``, ``note``.
     """
-    good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row, _fast_shadow_row
-    )
     dtypes = dict(COMMON_DTYPES)
     dtypes.update(
         shadow_m=float,
@@ -377,8 +454,11 @@ def read_shadow_logs(
         observer=object,
         note=object,
     )
+    columns, problems, rows_read, ignored, notes = read_columns(
+        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row, _fast_shadow_columns, dtypes
+    )
     return ShadowLog(
-        **column_arrays(good, dtypes),
+        **columns,
         problems=tuple(problems),
         rows_read=rows_read,
         ignored_columns=ignored,

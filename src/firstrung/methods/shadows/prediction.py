@@ -23,7 +23,7 @@ from firstrung.methods.shadows.altitude import (
     penumbra_width_m,
 )
 from firstrung.methods.shadows.fits import north_south_positions
-from firstrung.methods.shadows.inputs import POSITION_SIGMA_KM, SiteInput
+from firstrung.methods.shadows.inputs import SiteInput
 from firstrung.refraction import apparent_from_true_altitude_deg, refraction_from_apparent_deg
 
 #: Readings a site takes around noon in the plan's error model: every 2 min
@@ -171,8 +171,6 @@ def plan_shadows(
     site_inputs = tuple(SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in sites)
     positions = north_south_positions(site_inputs, tuple(baselines))
     x = positions.position_km
-    map_cov = POSITION_SIGMA_KM**2 * positions.map_gain @ positions.map_gain.T
-    base_cov = (positions.baseline_gain * positions.baseline_sigma_km**2) @ positions.baseline_gain.T
     w = 1.0 / sigma_lat**2
     xbar = np.sum(w * x, axis=1, keepdims=True) / np.sum(w, axis=1, keepdims=True)
     sxx = np.sum(w * (x - xbar) ** 2, axis=1, keepdims=True)
@@ -181,7 +179,7 @@ def plan_shadows(
     slope = np.sum(gain * np.radians(lat)[None, :], axis=1)
     var_slope = np.sum(gain**2 * sigma_lat**2, axis=1)
     g_pos = -slope[:, None] * gain
-    var_slope = var_slope + np.einsum("di,ij,dj->d", g_pos, map_cov + base_cov, g_pos)
+    var_slope = var_slope + positions.map_quadratic(g_pos) + positions.baseline_quadratic(g_pos)
     radius = 1.0 / slope
     sigma_radius = radius**2 * np.sqrt(var_slope)
     # constraints

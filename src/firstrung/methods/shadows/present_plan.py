@@ -5,25 +5,29 @@ from __future__ import annotations
 from firstrung.jsonout import number, time_z
 
 
-def shadow_plan_to_json(run) -> dict:
+def site_day(plan, k: int, j: int) -> dict:
+    """JSON of one site on one day of a plan (``days[k].sites.<id>``)."""
     from firstrung.methods.shadows.plan import local_time_iso
 
+    s = plan.sites[j]
+    return {
+        "transit_utc": time_z(plan.transit_utc[k, j]),
+        "transit_local": local_time_iso(plan.transit_utc[k, j], s.timezone),
+        "altitude_deg": number(plan.altitude_deg[k, j], 5),
+        "altitude_airless_deg": number(plan.altitude_airless_deg[k, j], 5),
+        "declination_deg": number(plan.declination_deg[k, j], 5),
+        "shadow_m": number(plan.shadow_m[k, j], 4),
+        "penumbra_m": number(plan.penumbra_m[k, j], 4),
+        "shadow_direction": str(plan.shadow_direction[k, j]),
+        "sigma_latitude_deg": number(plan.sigma_latitude_deg[k, j], 5),
+    }
+
+
+def shadow_plan_to_json(run) -> dict:
     plan = run.plan
     days = []
     for k, date in enumerate(plan.dates):
-        sites = {}
-        for j, s in enumerate(plan.sites):
-            sites[s.id] = {
-                "transit_utc": time_z(plan.transit_utc[k, j]),
-                "transit_local": local_time_iso(plan.transit_utc[k, j], s.timezone),
-                "altitude_deg": number(plan.altitude_deg[k, j], 5),
-                "altitude_airless_deg": number(plan.altitude_airless_deg[k, j], 5),
-                "declination_deg": number(plan.declination_deg[k, j], 5),
-                "shadow_m": number(plan.shadow_m[k, j], 4),
-                "penumbra_m": number(plan.penumbra_m[k, j], 4),
-                "shadow_direction": str(plan.shadow_direction[k, j]),
-                "sigma_latitude_deg": number(plan.sigma_latitude_deg[k, j], 5),
-            }
+        sites = {s.id: site_day(plan, k, j) for j, s in enumerate(plan.sites)}
         days.append(
             {
                 "date": str(date),

@@ -55,7 +55,6 @@ from firstrung.methods.shadows.fits import (
     north_south_positions,
 )
 from firstrung.methods.shadows.inputs import (
-    POSITION_SIGMA_KM,
     BaselineInput,
     ShadowReadings,
     SiteInput,
@@ -323,18 +322,34 @@ def _gnomon_sigma(prep: _Prepared):
 
 
 def _leave_one_out(position, latitude, variance, active):
-    """Normalized leave-one-out residual of each active site (NaN where it cannot be formed)."""
+    """Normalized leave-one-out residual of each active site (NaN where it cannot be formed).
+
+    For site i, the residual from the weighted line through the other active
+    sites divided by its standard error, sigma_i^2 + x_i' C_(i) x_i. All of
+    them from the one fit through every active site (deleted residuals):
+    with h_i = w_i x_i' C x_i the leverage, the residual is e_i / (1 - h_i)
+    and x_i' C_(i) x_i = x_i' C x_i / (1 - h_i) (Sherman-Morrison), so the
+    cost is linear in the sites.
+    """
     out = np.full(len(position), np.nan)
     idx = np.flatnonzero(active)
     if idx.size < 4:
         return out
-    for i in idx:  # one small fit per site: a handful of sites, not a hot path
-        others = idx[idx != i]
-        f = fit_line(position[others], latitude[others], variance[others])
-        x = np.array([1.0, position[i]])
-        predicted = f.intercept_rad + f.slope_rad_per_km * position[i]
-        var = variance[i] + x @ f.covariance @ x
-        out[i] = (latitude[i] - predicted) / np.sqrt(var)
+    w = 1.0 / variance[idx]
+    x0 = np.sum(w * position[idx]) / np.sum(w)  # centred positions: a well-conditioned 2 x 2
+    x = position[idx] - x0
+    y = latitude[idx]
+    sw, sx, sxx = np.sum(w), np.sum(w * x), np.sum(w * x * x)
+    det = sw * sxx - sx * sx
+    c00, c01, c11 = sxx / det, -sx / det, sw / det  # C = (X' W X)^-1 with rows (1, x)
+    intercept = c00 * np.sum(w * y) + c01 * np.sum(w * x * y)
+    slope = c01 * np.sum(w * y) + c11 * np.sum(w * x * y)
+    q = c00 + 2.0 * c01 * x + c11 * x * x
+    keep = 1.0 - w * q
+    residual = y - (intercept + slope * x)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = (residual / keep) / np.sqrt(variance[idx] + q / keep)
+    out[idx] = np.where(keep > 1e-12, z, np.nan)
     return out
 
 
@@ -392,6 +407,9 @@ def reduce_shadows(
     loo = _leave_one_out(positions.position_km, latitude, site_variance, present)
     site_results = []
     series_results = _series_results(prep, fit, per_series, total, scale, chi2_dof)
+    series_of: dict[str, list[SeriesResult]] = {}
+    for r in series_results:
+        series_of.setdefault(r.site_id, []).append(r)
     for i, s in enumerate(prep.sites):
         if not present[i]:
             continue
@@ -411,7 +429,7 @@ def reduce_shadows(
                 residual_arcmin=float(np.degrees(residual) * 60.0),
                 normalized_residual=float(loo[i]) if np.isfinite(loo[i]) else float(final_z[i]),
                 outlier=i in outliers,
-                series=tuple(r for r in series_results if r.site_id == s.id),
+                series=tuple(series_of.get(s.id, ())),
             )
         )
     lat_active = np.array([s.latitude_deg for s in prep.sites])[active]
@@ -451,11 +469,11 @@ def _series_scatter_scale(fit: SeriesFit):
     reading error allows (the same 5 % test as between sites) has its reading
     term scaled by sqrt(chi2/dof); otherwise the stated error stands.
     """
-    from scipy.stats import chi2 as chi2_distribution
+    from firstrung.uncertainty import chi2_survival
 
     dof = fit.count - 2
     chi2_dof = np.where(dof >= 2, fit.chi2 / np.maximum(dof, 1), np.nan)
-    significant = (dof >= 2) & (chi2_distribution.sf(fit.chi2, np.maximum(dof, 1)) < SCATTER_SIGNIFICANCE)
+    significant = (dof >= 2) & (chi2_survival(fit.chi2, np.maximum(dof, 1)) < SCATTER_SIGNIFICANCE)
     scale = np.where(significant & (chi2_dof > 1.0), np.sqrt(np.nan_to_num(chi2_dof, nan=1.0)), 1.0)
     return chi2_dof, scale
 
@@ -468,9 +486,9 @@ def _scatter_is_significant(chi2: float, dof: int) -> bool:
     above 1 would make the interval too wide on average. The test is the
     chi-square upper tail at SCATTER_SIGNIFICANCE.
     """
-    from scipy.stats import chi2 as chi2_distribution
+    from firstrung.uncertainty import chi2_survival
 
-    return bool(chi2 / dof > 1.0 and chi2_distribution.sf(chi2, dof) < SCATTER_SIGNIFICANCE)
+    return bool(chi2 / dof > 1.0 and chi2_survival(chi2, dof) < SCATTER_SIGNIFICANCE)
 
 
 def _radius_from(prep, positions: Positions, latitude, contributions, active):
@@ -478,9 +496,7 @@ def _radius_from(prep, positions: Positions, latitude, contributions, active):
     n = len(prep.sites)
     pos = positions.position_km
     base_var = sum(c**2 for c in contributions.values())
-    map_cov = POSITION_SIGMA_KM**2 * positions.map_gain @ positions.map_gain.T
-    base_cov = (positions.baseline_gain * positions.baseline_sigma_km**2) @ positions.baseline_gain.T
-    pos_var = np.diag(map_cov + base_cov)
+    pos_var = positions.variance_km2()
     slope = 1.0 / IUGG_MEAN_RADIUS_KM
     for _ in range(2):
         variance = base_var + slope**2 * pos_var
@@ -498,8 +514,8 @@ def _radius_from(prep, positions: Positions, latitude, contributions, active):
         budget_slope[name] = float(np.sqrt(np.sum((gain * c) ** 2)))
     # positions: d(slope)/d(position_i) = -slope * gain_i (to first order)
     g_pos = -slope * gain
-    budget_slope["site positions"] = float(np.sqrt(max(g_pos @ map_cov @ g_pos, 0.0)))
-    budget_slope["baselines"] = float(np.sqrt(max(g_pos @ base_cov @ g_pos, 0.0)))
+    budget_slope["site positions"] = float(np.sqrt(max(positions.map_quadratic(g_pos), 0.0)))
+    budget_slope["baselines"] = float(np.sqrt(max(positions.baseline_quadratic(g_pos), 0.0)))
     sigma_slope_stated = float(np.sqrt(sum(v**2 for v in budget_slope.values())))
     chi2_scale = 1.0
     if line.dof >= 1 and _scatter_is_significant(line.chi2, line.dof):
@@ -609,9 +625,7 @@ def monte_carlo_radius(
     for g in range(len(prep.group_site)):  # series count is small (sites x days)
         latitude[:, prep.group_site[g]] += frac[g] * fit.latitude_rad[:, g]
     positions = north_south_positions(prep.sites, prep.baselines)
-    pos = positions.position_km[None, :] + POSITION_SIGMA_KM * rng.standard_normal((samples, n_sites)) @ positions.map_gain.T
-    if positions.baseline_sigma_km.size:
-        pos = pos + (rng.standard_normal((samples, positions.baseline_sigma_km.size)) * positions.baseline_sigma_km) @ positions.baseline_gain.T
+    pos = positions.draw(rng, samples)
     active = present & np.array([s.id not in outlier_ids for s in prep.sites])
     variance = sum(c**2 for c in contributions.values())[active]
     x = pos[:, active]
