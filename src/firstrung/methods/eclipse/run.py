@@ -306,11 +306,37 @@ def _earth_radius(campaign_path, campaign: Campaign, earth_radius_km, earth_radi
         from firstrung.methods.shadows.run import run_shadows
 
         try:
-            r = run_shadows(campaign_path).reduction.earth_radius_km
-            return r, "the campaign's own shadow measurements (reduce shadows)"
+            return equatorial_radius_from_shadows(run_shadows(campaign_path).reduction)
         except (InputError, ComputationError):
             return None, None
     return None, None
+
+
+def equatorial_radius_from_shadows(reduction) -> tuple[Measured, str]:
+    """The Earth radius a shadow reduction measured, carried to the one the eclipse rung counts in.
+
+    Noon shadows measure the meridional radius of curvature at the sites'
+    latitudes (a perfect campaign returns ``expected_radius_km``); the
+    eclipse's distance is in WGS84 equatorial radii (the conventions'
+    parallax is ``asin(a / d)``). The ellipsoid's own ratio of the two at the
+    sites' latitudes (an exact factor, 1.002 at 45 deg, 1.007 in the tropics)
+    carries one to the other; the relative error is unchanged.
+
+    >>> from types import SimpleNamespace
+    >>> r = equatorial_radius_from_shadows(SimpleNamespace(
+    ...     earth_radius_km=Measured(6366.0, 60.0, 6306.0, 6426.0, "km"), expected_radius_km=6366.0))
+    >>> round(r[0].value, 3), round(r[0].sigma, 3)
+    (6378.137, 60.114)
+    """
+    from firstrung.constants import SHADOW_EARTH_RADIUS_KM
+
+    factor = SHADOW_EARTH_RADIUS_KM / float(reduction.expected_radius_km)
+    source = (
+        "the campaign's own shadow measurements (reduce shadows), carried from the meridional radius of "
+        f"curvature at the sites' latitudes ({reduction.expected_radius_km:.1f} km on WGS84) to the equatorial "
+        f"radius by the ellipsoid's ratio x{factor:.5f}"
+    )
+    return reduction.earth_radius_km.scaled(factor, "km"), source
 
 
 def _crater_geometry(eclipse, epoch, timings: CombinedTimings, craters: CraterTable, convention: str):
