@@ -118,8 +118,8 @@ def phase_plan_to_json(plan) -> dict:
         },
         "definitions": {
             "quadrature_utc": "almanac quarter: apparent geocentric ecliptic longitudes of Moon and Sun differ by 90 or 270 deg",
-            "dichotomy_utc": "true half moon: geometric Sun-Moon-Earth angle 90 deg (geocentric)",
-            "sites.dichotomy_utc": "true half moon seen from the site: geometric Sun-Moon-observer angle 90 deg",
+            "dichotomy_utc": "true half moon: Sun-Moon-Earth angle 90 deg, the Moon lit by the Sun's apparent place (geocentric)",
+            "sites.dichotomy_utc": "true half moon seen from the site: Sun-Moon-observer angle 90 deg, the Moon lit by the Sun's apparent place",
             "windows": "Sun and Moon centres both above the minimum observed altitude (standard refraction) "
                        "and the Moon at least the minimum angle from the Sun",
         },

@@ -19,9 +19,11 @@ What each kind of observation gives (one small step per function):
 
 1. a **measured elongation** (the observer measures the Sun-Moon angle at the
    moment they judge the Moon half lit): the instrument sees refracted,
-   aberrated directions; :func:`corrected_elongation_deg` removes both with
-   the ephemeris's *directions* (refraction up to a few arcminutes near the
-   horizon, aberration about 20"); its error combines the instrument's and
+   aberrated directions; the Moon is lit by the same aberrated Sun (its light
+   left the Sun where the observer sees it), so the aberration belongs to the
+   triangle and stays; :func:`corrected_elongation_deg` removes refraction
+   (up to a few arcminutes near the horizon) and the sub-arcsecond rest with
+   the ephemeris's *directions*; its error combines the instrument's and
    the judgement's (the elongation moves about 0.5 deg/h);
 2. a **timing** of the half moon: E comes from the ephemeris's directions of
    the Sun and the Moon at the observed time, seen from the site (no

@@ -318,7 +318,7 @@ class PhaseSettings:
 class HalfMoonEstimate:
     """One estimate of the elongation at half moon: a row, or a series of images.
 
-    ``elongation_deg`` is the geometric Sun-Moon angle seen from the site at
+    ``elongation_deg`` is the triangle's Sun-Moon angle (the Sun where its light left it) seen from the site at
     the (judged or fitted) half moon, ``sun_moon_distance_ratio`` the ratio
     from it; ``expected_ratio`` is the ephemeris's for that site and quarter.
     """
@@ -490,7 +490,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
             e = m.corrected_elongation_deg(float(elong[k]), seen_minus_geometric)
             sigma = m.elongation_sigma_deg(settings.elongation_sigma_deg, judge, rate)
             kind = "elongation"
-            corrections = {"refraction": refraction, "aberration and parallax": seen_minus_geometric - refraction}
+            corrections = {"refraction": refraction, "parallax and the Moon's own aberration": seen_minus_geometric - refraction}
         else:
             e = float(at_row.elongation_deg[k])
             sigma = m.elongation_sigma_from_timing_deg(judge, rate)
@@ -560,12 +560,13 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     interval = _interval(estimates, pairs, pair_of, site_half, site_quad, at_quad, campaign)
 
     assumptions = [
-        "the right angle is at the Moon at the true half moon (geometric Sun-Moon-observer angle 90 deg); "
+        "the right angle is at the Moon at the true half moon (Sun-Moon-observer angle 90 deg, the Moon lit by "
+        "the Sun's apparent place: light time and aberration, as the observer sees it); "
         "the ratio is that of the observer's distances, which differs from the geocentric one by less than 1.7 %",
         "timings and fitted half phases give E from the ephemeris's directions of the Sun and the Moon seen "
         "from the site; no ephemeris distance enters the result",
-        "measured angles are reduced to geometric ones: standard refraction (10 deg C, 1010 hPa) and "
-        "aberration removed with the ephemeris's directions",
+        "measured angles are reduced to the triangle's: standard refraction (10 deg C, 1010 hPa) removed with "
+        "the ephemeris's directions; the Sun's aberration stays (it lights the Moon from the same place)",
         f"instrument error of a measured angle {settings.elongation_sigma_deg:g} deg (option)",
         f"illuminated fractions measured to {settings.fraction_sigma:g} (option); a series' slope is fixed "
         "by the geometry unless its images determine it to 10 %",

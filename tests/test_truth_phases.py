@@ -1,0 +1,135 @@
+"""The half moon is lit by the Sun's apparent place; its errors are shared as they are in the field.
+
+Independent reference: skyfield with DE421. The physical half moon is where,
+in the Moon's own frame, the sunlight arriving (``moon.at(t).observe(sun)
+.apparent()``: light time and the aberration of the Moon's barycentric
+velocity, 20.8") makes a right angle with the light the Moon sends to the
+observer (aimed at where the observer will be, aberrated the other way).
+The ratio of the distances is skyfield's topocentric Sun and Moon distances.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+import os
+
+import numpy as np
+import pytest
+
+from truth_helpers import write_campaign
+
+C_KM_S = 299_792.458  # SI
+#: Invented sites: mid-northern, southern, tropical.
+SITES = [("ridge", 46.2, 7.4, 620.0), ("harbour", -33.9, 151.1, 40.0), ("isle", 15.5, -61.3, 300.0)]
+
+
+@pytest.fixture(scope="module")
+def sky():
+    from skyfield.api import Loader, wgs84
+
+    import skyfield_data
+
+    load = Loader(os.path.join(os.path.dirname(skyfield_data.__file__), "data"), verbose=False)
+    return load.timescale(builtin=True), load("de421.bsp"), wgs84
+
+
+def _t(ts, t64):
+    return ts.from_datetime(np.datetime64(t64, "us").astype(dt.datetime).replace(tzinfo=dt.UTC))
+
+
+def physical_phase_angle_deg(sky, site, t64):
+    """Sun-Moon-observer angle in the Moon's frame, from skyfield alone."""
+    ts, eph, wgs84 = sky
+    t = _t(ts, t64)
+    moon = eph["moon"].at(t)
+    sunlight = moon.observe(eph["sun"]).apparent().position.km
+    observer = eph["earth"] + wgs84.latlon(site[1], site[2], site[3])
+    o = observer.at(t).position.km
+    tau = np.linalg.norm(o - moon.position.km) / C_KM_S
+    o_later = observer.at(ts.tt_jd(t.tt + tau / 86400.0)).position.km
+    k = (o_later - moon.position.km) / np.linalg.norm(o_later - moon.position.km)
+    beta = moon.velocity.km_per_s / C_KM_S
+    k = k - beta + np.dot(k, beta) * k
+    u = sunlight / np.linalg.norm(sunlight)
+    return math.degrees(math.atan2(np.linalg.norm(np.cross(u, k)), np.dot(u, k)))
+
+
+def physical_half_moon(sky, site, near):
+    """The instant the skyfield angle is 90 deg (secant method to 1 ms)."""
+    t0, t1 = np.datetime64(near, "us"), np.datetime64(near, "us") + np.timedelta64(300, "s")
+    f0, f1 = physical_phase_angle_deg(sky, site, t0) - 90, physical_phase_angle_deg(sky, site, t1) - 90
+    for _ in range(20):
+        step = -f1 * (t1 - t0).astype(np.int64) / (f1 - f0)
+        t0, f0 = t1, f1
+        t1 = t1 + np.timedelta64(int(round(step)), "us")
+        f1 = physical_phase_angle_deg(sky, site, t1) - 90
+        if abs(step) < 1000:
+            break
+    return t1
+
+
+@pytest.fixture(scope="module")
+def halves(sky):
+    from firstrung.ephemeris import phases as ep
+
+    q = ep.quarters_between("2026-03-01T00:00Z", "2026-05-01T00:00Z")
+    out = []
+    for site in SITES:
+        ours = ep.topocentric_dichotomy_utc(q.dichotomy_utc, *site[1:])
+        for k in range(len(q)):
+            out.append((site, str(q.quarter[k]), ours[k], physical_half_moon(sky, site, ours[k])))
+    return out
+
+
+def test_the_half_moon_is_where_the_apparent_sun_lights_it(halves):
+    # before: the geometric Sun put the half moon 38-70 s late (the angle 20" off)
+    for site, _, ours, ref in halves:
+        assert abs((ours - ref).astype(np.int64)) / 1e6 < 1.0
+
+
+def test_a_perfect_timing_of_the_physical_half_moon_gives_the_true_ratio(tmp_path, sky, halves):
+    from firstrung.ephemeris.phases import sun_moon_topocentric
+    from firstrung.runs.phases import run_phases
+
+    ts, eph, wgs84 = sky
+    rows, truth = [], {}
+    for site, quarter, _, ref in halves:
+        g = sun_moon_topocentric(ref, *site[1:], rates=False)
+        if g.moon_altitude_deg > 5:
+            rows.append([site[0], str(np.datetime64(ref, "ms")) + "Z", quarter, "", "", "1", "perfect"])
+            observer = eph["earth"] + wgs84.latlon(site[1], site[2], site[3])
+            at = observer.at(_t(ts, ref))
+            truth[(site[0], str(np.datetime64(ref, "ms")))] = (
+                at.observe(eph["sun"]).distance().km / at.observe(eph["moon"]).distance().km)
+    assert len(rows) >= 4
+    run = run_phases(write_campaign(tmp_path, [s + (False,) for s in SITES], phases=rows))
+    for x in run.estimates:
+        ratio = truth[(x.site, str(np.datetime64(x.time_utc, "ms")))]
+        # before: 3.5-3.9 % off (E from the geometric Sun at the physical instant, 20")
+        assert x.sun_moon_distance_ratio.value == pytest.approx(ratio, rel=0.003)
+
+
+def test_a_measured_angle_keeps_the_suns_aberration(tmp_path, sky, halves):
+    # what an instrument reads at the physical half moon: the apparent places, refracted at standard
+    # conditions (Bennett, which the reduction removes again); the truth is skyfield's distances.
+    # Before, 20" of "aberration" was taken off the reading: the ratio came out 4 % off.
+    from firstrung.ephemeris.phases import sun_moon_topocentric
+    from firstrung.runs.phases import PhaseSettings, run_phases
+
+    ts, eph, wgs84 = sky
+    rows, truth = [], {}
+    for site, quarter, _, ref in halves:
+        g = sun_moon_topocentric(ref, *site[1:], rates=False)
+        if g.moon_altitude_deg > 15 and g.sun_altitude_deg > 15:
+            rows.append([site[0], str(np.datetime64(ref, "ms")) + "Z", quarter, f"{float(g.observed_elongation_deg):.6f}",
+                         "", "1", "perfect"])
+            observer = eph["earth"] + wgs84.latlon(site[1], site[2], site[3])
+            at = observer.at(_t(ts, ref))
+            truth[site[0], str(np.datetime64(ref, "ms"))] = (
+                at.observe(eph["sun"]).distance().km / at.observe(eph["moon"]).distance().km)
+    assert rows
+    run = run_phases(write_campaign(tmp_path, [s + (False,) for s in SITES], phases=rows),
+                     PhaseSettings(elongation_sigma_deg=0.0001))
+    for x in run.estimates:
+        assert x.sun_moon_distance_ratio.value == pytest.approx(truth[x.site, str(np.datetime64(x.time_utc, "ms"))], rel=0.003)
