@@ -298,20 +298,35 @@ class PhaseSettings:
     elongation_sigma_deg : float
         The instrument's error of a measured Sun-Moon angle [deg].
     time_sigma_s : float
-        Error of judging the half moon by eye, for rows without ``time_sigma_s`` [s].
+        Error of judging "exactly half lit", for rows without ``time_sigma_s``
+        [s]. By eye the half moon is good to hours: the terminator is
+        straight at half moon and bows by only about 4" half an hour away
+        (the Moon's 933" radius times sin 0.25 deg), while the eye resolves
+        about 1', reached some 7 h away; 2 h is assumed (common practice).
+        The judgement is shared by everyone who looks at the same Moon: the
+        smallest judgement error among a quarter's observers is common to all
+        of them and does not average down.
     fraction_sigma : float
         Error of an illuminated fraction measured on an image [1].
+    fraction_zero_point_sigma : float
+        Error shared by every fraction of one photo series (a photometric zero
+        point: exposure, processing, the threshold of "lit") [1]; half the
+        per-image error by default.
     """
 
     elongation_sigma_deg: float = 0.25
-    time_sigma_s: float = 1800.0
+    time_sigma_s: float = 7200.0
     fraction_sigma: float = 0.01
+    fraction_zero_point_sigma: float = 0.005
 
     def check(self) -> None:
         for name, value in (("elongation_sigma_deg", self.elongation_sigma_deg), ("time_sigma_s", self.time_sigma_s),
                             ("fraction_sigma", self.fraction_sigma)):
             if not (np.isfinite(value) and value > 0):
                 raise InputError(f"{name}: received {value!r}; expected a positive error")
+        for name, value in (("fraction_zero_point_sigma", self.fraction_zero_point_sigma),):
+            if not (np.isfinite(value) and value >= 0):
+                raise InputError(f"{name}: received {value!r}; expected a non-negative error")
 
 
 @dataclass(frozen=True)
@@ -340,6 +355,8 @@ class HalfMoonEstimate:
     rows: tuple[str, ...]
     corrections_deg: dict = field(default_factory=dict)
     fit: m.HalfPhaseFit | None = None
+    #: The part of ``elongation_deg.sigma`` shared with every estimate judged at the same Moon [deg].
+    shared_sigma_deg: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -504,6 +521,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
             rate_deg_per_h=rate, expected_elongation_deg=e_true, expected_ratio=r_true,
             site_dichotomy_utc=site_half[i], rows=(_label(log, k),), corrections_deg=corrections,
         ))
+    estimates = _shared_judgement(estimates)
 
     series_rows = np.flatnonzero(keep & is_frac)
     groups: dict[tuple, list[int]] = {}
@@ -514,7 +532,8 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         rows = np.array(sorted(rows, key=lambda r: t[r]))
         clock = np.where(np.isfinite(tsig[rows]), tsig[rows], 0.0)
         fit = m.fit_half_phase(at_row.elongation_deg[rows], frac[rows], settings.fraction_sigma,
-                               m.elongation_sigma_from_timing_deg(clock, at_row.elongation_rate_deg_per_h[rows]))
+                               m.elongation_sigma_from_timing_deg(clock, at_row.elongation_rate_deg_per_h[rows]),
+                               fraction_zero_point_sigma=settings.fraction_zero_point_sigma)
         nearest = rows[np.argmin(np.abs(frac[rows] - 0.5))]
         fits.append((key, rows, fit, nearest))
     if fits:
@@ -543,12 +562,16 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
 
     e_all = np.array([x.elongation_deg.value for x in estimates])
     s_all = np.array([x.elongation_deg.sigma for x in estimates])
-    combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all)
+    shared_all = np.array([x.shared_sigma_deg for x in estimates])
+    # estimates judged at the same Moon share the judgement; a series is its own group
+    group = np.array([f"quarter {x.quarter_index}" if x.kind != "fraction series" else f"series {n}"
+                      for n, x in enumerate(estimates)], dtype=object)
+    combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all, shared_all, group)
     by_kind = {}
     for kind in ("elongation", "timing", "fraction series"):
         sel = np.array([x.kind == kind for x in estimates])
         if sel.any():
-            by_kind[kind] = m.combine_elongations(np.clip(e_all[sel], 0, 180), s_all[sel])
+            by_kind[kind] = m.combine_elongations(np.clip(e_all[sel], 0, 180), s_all[sel], shared_all[sel], group[sel])
 
     expected_e = float(np.mean([x.expected_elongation_deg for x in estimates]))
     expected_r = float(np.mean([x.expected_ratio for x in estimates]))
@@ -568,15 +591,20 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         "measured angles are reduced to the triangle's: standard refraction (10 deg C, 1010 hPa) removed with "
         "the ephemeris's directions; the Sun's aberration stays (it lights the Moon from the same place)",
         f"instrument error of a measured angle {settings.elongation_sigma_deg:g} deg (option)",
-        f"illuminated fractions measured to {settings.fraction_sigma:g} (option); a series' slope is fixed "
+        f"illuminated fractions measured to {settings.fraction_sigma:g} (option), with a zero point shared by "
+        f"each series of {settings.fraction_zero_point_sigma:g} (option); a series' slope is fixed "
         "by the geometry unless its images determine it to 10 %",
-        "estimates are combined by a weighted mean of 90 deg - E, scaled by sqrt(chi2/dof) when above 1",
+        "judging \"exactly half lit\" carries an error shared by all who look at the same Moon: the smallest "
+        "judgement error among a quarter's timings and angles is common to them all (it does not average down)",
+        "estimates are combined by generalised least squares in 90 deg - E (shared errors do not average "
+        "down), scaled by sqrt(chi2/dof) when above 1",
         "the 68 % interval of the ratio is the image of E +/- sigma; no upper bound when E + sigma reaches 90 deg",
     ]
     if defaulted_time:
         assumptions.append(
             f"{defaulted_time} row(s) without time_sigma_s: judging the half moon by eye to "
-            f"{settings.time_sigma_s / 60:g} min assumed (option)"
+            f"{settings.time_sigma_s / 60:g} min assumed (option; the terminator bows by only 4\" half an hour "
+            "from half moon, the eye resolves about 1')"
         )
     accepted = int(keep.sum())
     return PhaseRun(
@@ -587,6 +615,25 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         assumptions=tuple(assumptions),
         rows_left_out_flagged=left_out_flagged
     )
+
+
+def _shared_judgement(estimates):
+    """Mark the judgement shared by the timings and angles of each quarter (the same Moon).
+
+    Nobody judging one Moon beats the ambiguity of its look: the smallest
+    judgement error of the quarter's timings and angles is common to them
+    all; each keeps its own error above that.
+    """
+    import dataclasses
+
+    floor: dict[int, float] = {}
+    for x in estimates:
+        floor[x.quarter_index] = min(floor.get(x.quarter_index, np.inf), x.time_sigma_s)
+    return [
+        dataclasses.replace(x, shared_sigma_deg=float(min(
+            m.elongation_sigma_from_timing_deg(floor[x.quarter_index], x.rate_deg_per_h), x.elongation_deg.sigma)))
+        for x in estimates
+    ]
 
 
 def _interval(estimates, pairs, pair_of, site_half, site_quad, at_quad, campaign):
