@@ -133,3 +133,72 @@ def test_a_measured_angle_keeps_the_suns_aberration(tmp_path, sky, halves):
                      PhaseSettings(elongation_sigma_deg=0.0001))
     for x in run.estimates:
         assert x.sun_moon_distance_ratio.value == pytest.approx(truth[x.site, str(np.datetime64(x.time_utc, "ms"))], rel=0.003)
+
+
+def _site_truth(sky, site, t64):
+    """Skyfield: the site's Sun/Moon distance ratio and the Moon's illuminated fraction there."""
+    ts, eph, wgs84 = sky
+    observer = eph["earth"] + wgs84.latlon(site[1], site[2], site[3])
+    at = observer.at(_t(ts, t64))
+    moon = at.observe(eph["moon"]).apparent()
+    return at.observe(eph["sun"]).distance().km / moon.distance().km, float(moon.fraction_illuminated(eph["sun"]))
+
+
+def _moon_up(halves):
+    """The first half moon of the fixture with the Moon above 20 deg for 1.5 h either side."""
+    from firstrung.ephemeris.phases import sun_moon_topocentric
+
+    for site, quarter, ours, ref in halves:
+        span = ref + np.arange(-2, 3) * np.timedelta64(45, "m")
+        if sun_moon_topocentric(span, *site[1:], rates=False).moon_altitude_deg.min() > 20:
+            return site, quarter, ours, ref
+    raise AssertionError("no half moon high enough")
+
+
+def test_a_photo_series_zero_point_is_shared_and_covered(tmp_path, sky, halves):
+    # a whole series read 0.005 too bright (half the per-image error): before, the ratio came out
+    # 78 against 372 with a finite interval that excluded the truth
+    from firstrung.runs.phases import run_phases
+
+    site, quarter, _, ref = _moon_up(halves)
+    rows = []
+    for minutes in (-90, -45, 0, 45, 90):
+        t = ref + np.timedelta64(minutes * 60, "s")
+        _, k = _site_truth(sky, site, t)
+        rows.append([site[0], str(np.datetime64(t, "ms")) + "Z", quarter, "", f"{k + 0.005:.6f}", "", "camera"])
+    truth, _ = _site_truth(sky, site, ref)
+    run = run_phases(write_campaign(tmp_path, [site + (False,)], phases=rows))
+    r = run.sun_moon_distance_ratio
+    assert r.low <= truth and (r.high is None or truth <= r.high)
+
+
+def test_a_judgement_shared_by_every_observer_of_one_moon_is_covered(tmp_path, sky, halves):
+    # four observers of one half moon, all 20 min late (a shared judgement), each stating 20 min:
+    # before, the errors averaged down to 10 min and the interval excluded the truth in every run
+    from firstrung.runs.phases import run_phases
+
+    site, quarter, _, ref = _moon_up(halves)
+    rng = np.random.default_rng(4)
+    rows = []
+    for n in range(4):
+        t = ref + np.timedelta64(int((1200 + rng.normal(0, 60)) * 1e3), "ms")
+        rows.append([site[0], str(np.datetime64(t, "ms")) + "Z", quarter, "", "", "1200", f"observer {n}"])
+    truth, _ = _site_truth(sky, site, ref)
+    run = run_phases(write_campaign(tmp_path, [site + (False,)], phases=rows))
+    e = run.combined
+    true_e = math.degrees(math.acos(1 / truth))
+    assert abs(e.elongation_deg - true_e) <= 1.1 * e.sigma_deg  # the shared 20 min is one sigma, not two
+
+
+def test_elongation_beyond_90_degrees_is_called_biased_and_a_lone_bound_is_84_percent():
+    from firstrung.methods.phases import ratio_from_elongation
+    from firstrung.serialize.phases import statement
+
+    def as_dict(q):
+        return {"value": None if not math.isfinite(q.value) else q.value, "low": q.low, "high": q.high}
+
+    text = statement(as_dict(ratio_from_elongation(90.064, 0.018)), 90.064, 0.018)
+    assert "no finite" in text and "3.6 sigma" in text and "biased" in text and "allow any" not in text
+    text = statement(as_dict(ratio_from_elongation(89.9, 0.2)), 89.9, 0.2)
+    # P(ratio > 1/sin(delta + sigma)) = P(E_true < E + sigma) = 84 % for a Gaussian E
+    assert "84 %" in text and "(68 %)" not in text
