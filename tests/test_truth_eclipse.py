@@ -154,3 +154,23 @@ def test_an_unknown_moon_site_is_one_clear_line(tmp_path):
     with pytest.raises(InputError) as caught:
         run_eclipse(path)
     assert "eclipse.moon_site" in str(caught.value) and "norte" in str(caught.value)
+
+
+def test_observers_scatter_widens_an_event_only_when_it_is_significant():
+    from firstrung.methods.eclipse import combine_timings
+
+    # four timings scattering as their stated 30 s allow (chi^2 = 3.6 on 3 dof, p = 0.30): the
+    # propagated 15 s stands; before, the larger of it and std/sqrt(n) (17.8 s) was taken
+    c = combine_timings(["U1"] * 4, [""] * 4, [0.0, 40.0, -40.0, 10.0], [30.0] * 4)
+    assert c.sigma_s[0] == pytest.approx(15.0, rel=1e-9)
+    # a scatter four times the stated errors is real: scaled by sqrt(chi^2 / dof)
+    c = combine_timings(["U1"] * 4, [""] * 4, [0.0, 160.0, -160.0, 40.0], [30.0] * 4)
+    t = np.array([0.0, 160.0, -160.0, 40.0])
+    assert c.sigma_s[0] == pytest.approx(15.0 * math.sqrt(np.sum((t - t.mean()) ** 2) / 900.0 / 3), rel=1e-9)
+
+
+def test_json_times_are_rounded_to_the_second():
+    from firstrung.serialize import time_z
+
+    assert time_z(np.datetime64("2029-06-26T03:22:13.6")) == "2029-06-26T03:22:14Z"
+    assert time_z(np.datetime64("2029-06-26T03:22:13.4")) == "2029-06-26T03:22:13Z"

@@ -202,3 +202,19 @@ def test_elongation_beyond_90_degrees_is_called_biased_and_a_lone_bound_is_84_pe
     text = statement(as_dict(ratio_from_elongation(89.9, 0.2)), 89.9, 0.2)
     # P(ratio > 1/sin(delta + sigma)) = P(E_true < E + sigma) = 84 % for a Gaussian E
     assert "84 %" in text and "(68 %)" not in text
+
+
+def test_the_interval_methods_note_states_the_spread_of_single_intervals():
+    # from the ephemeris: consecutive geocentric half moons of 2000-2050 differ from half a mean
+    # synodic month (Meeus 49.1) by at most 31.9 h, not 60 h
+    from firstrung.ephemeris import phases as ep
+
+    q = ep.quarters_between("2000-01-01T00:00Z", "2050-01-01T00:00Z")
+    hours = q.dichotomy_utc.astype("datetime64[s]").astype(np.int64) / 3600.0
+    spread = np.abs(np.diff(hours) - 29.530588861 * 12).max()
+    assert 30.0 < spread < 33.0
+    import inspect
+
+    from firstrung.serialize import phases as sp
+
+    assert "+/- 32 h" in inspect.getsource(sp) and "+/- 60 h" not in inspect.getsource(sp)

@@ -203,7 +203,7 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
 def _aware(t):
     import datetime as dt
 
-    seconds = int(np.datetime64(t, "s").astype(np.int64))  # truncated, as the JSON times are
+    seconds = int(np.datetime64(t, "s").astype(np.int64))  # truncated, as the calendar's UID is
     return dt.datetime(1970, 1, 1, tzinfo=dt.UTC) + dt.timedelta(seconds=seconds)
 
 
