@@ -91,3 +91,25 @@ def test_the_moon_in_km_uses_the_equatorial_radius_carried_from_the_shadows(perf
     assert run.earth_radius_km.value == pytest.approx(6378.137, rel=5e-4)
     truth_km = r.ephemeris_distance_earth_radii * 6378.137
     assert r.moon_distance_km.value == pytest.approx(truth_km, rel=1e-3)
+
+
+def test_board_level_and_gnomon_plumb_enter_the_shadow_budget():
+    # geometry (no reference needed beyond trigonometry): a board tilted by tau along the shadow
+    # moves the marked altitude by tau cos^2 a; a rod leaning by psi, by psi sin^2 a
+    from firstrung.methods.shadows import BOARD_LEVEL_SIGMA_RAD, GNOMON_PLUMB_SIGMA_RAD, altitude_error_terms_rad
+
+    h, length = 1.0, 1.7320508  # altitude 30 deg
+    terms = altitude_error_terms_rad(h, length, 0.002, 0.001, "umbra", 30.0, 0.2667, 0.03, False)
+    a = math.atan2(h, length)
+    tilted = math.atan2(h, h / (math.tan(a) + math.tan(BOARD_LEVEL_SIGMA_RAD)))  # exact, ray on a tilted plane
+    assert float(terms["board level"]) == pytest.approx(tilted - a, rel=0.01)
+    leaned = math.atan2(h, length - h * math.tan(GNOMON_PLUMB_SIGMA_RAD))
+    assert float(terms["gnomon plumb"]) == pytest.approx(leaned - a, rel=0.01)
+
+
+def test_the_shadow_reduction_names_level_and_plumb_in_its_budget(perfect):
+    from firstrung.runs.shadows import run_shadows
+
+    path, _, _ = perfect
+    names = {b.source for b in run_shadows(path).reduction.budget}
+    assert {"board level", "gnomon plumb"} <= names
