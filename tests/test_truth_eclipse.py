@@ -32,9 +32,8 @@ MOON_RADIUS_KM = 1737.4  # IAU/WGCCRE mean lunar radius
 
 @pytest.fixture(scope="module")
 def sky():
-    from skyfield.api import Loader, wgs84
-
     import skyfield_data
+    from skyfield.api import Loader, wgs84
 
     load = Loader(os.path.join(os.path.dirname(skyfield_data.__file__), "data"), verbose=False)
     return load.timescale(builtin=True), load("de421.bsp"), wgs84
@@ -71,8 +70,8 @@ def _campaign(folder, site, e, rate, diameter, extra=""):
 
 @pytest.mark.parametrize("sid", ["norte", "andes", "patagonia"])
 def test_a_sites_sky_rate_and_diameter_give_the_geocentric_distance(tmp_path, sky, sid):
-    from firstrung.ephemeris.eclipses import eclipse_near
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.run import run_eclipse
 
     e = eclipse_near(ECLIPSE)
     u1, u4 = e.contacts_utc["U1"][0], e.contacts_utc["U4"][0]
@@ -87,8 +86,8 @@ def test_a_sites_sky_rate_and_diameter_give_the_geocentric_distance(tmp_path, sk
 
 
 def test_the_rate_interval_and_the_diameter_instant_are_the_observers(tmp_path, sky):
-    from firstrung.ephemeris.eclipses import eclipse_near
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.run import run_eclipse
 
     e = eclipse_near(ECLIPSE)
     g = e.greatest_utc[0]
@@ -105,8 +104,8 @@ def test_the_rate_interval_and_the_diameter_instant_are_the_observers(tmp_path, 
 
 
 def test_the_diameter_alone_is_reduced_for_augmentation(tmp_path, sky):
-    from firstrung.ephemeris.eclipses import eclipse_near
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.run import run_eclipse
 
     e = eclipse_near(ECLIPSE)
     site = SITES["norte"]
@@ -145,9 +144,9 @@ def test_where_and_when_the_moon_was_measured_is_checked(tmp_path, extra, expect
 
 
 def test_an_unknown_moon_site_is_one_clear_line(tmp_path):
-    from firstrung.ephemeris.eclipses import eclipse_near
     from firstrung.errors import InputError
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.run import run_eclipse
 
     e = eclipse_near(ECLIPSE)
     path = _campaign(tmp_path, SITES["norte"], e, 0.4, 32.0, 'moon_site = "nowhere"\n')
@@ -157,7 +156,7 @@ def test_an_unknown_moon_site_is_one_clear_line(tmp_path):
 
 
 def test_observers_scatter_widens_an_event_only_when_it_is_significant():
-    from firstrung.methods.eclipse import combine_timings
+    from firstrung.methods.eclipse.chords import combine_timings
 
     # four timings scattering as their stated 30 s allow (chi^2 = 3.6 on 3 dof, p = 0.30): the
     # propagated 15 s stands; before, the larger of it and std/sqrt(n) (17.8 s) was taken
@@ -170,7 +169,7 @@ def test_observers_scatter_widens_an_event_only_when_it_is_significant():
 
 
 def test_json_times_are_rounded_to_the_second():
-    from firstrung.serialize import time_z
+    from firstrung.jsonout import time_z
 
     assert time_z(np.datetime64("2029-06-26T03:22:13.6")) == "2029-06-26T03:22:14Z"
     assert time_z(np.datetime64("2029-06-26T03:22:13.4")) == "2029-06-26T03:22:13Z"

@@ -14,7 +14,12 @@ import math
 import numpy as np
 import pytest
 
-from truth_helpers import perfect_contact_rows, perfect_half_moon_rows, perfect_shadow_rows, write_campaign
+from truth_helpers import (
+    perfect_contact_rows,
+    perfect_half_moon_rows,
+    perfect_shadow_rows,
+    write_campaign,
+)
 
 #: Two tropical sites on one meridian (invented), where the meridional radius is farthest
 #: from the equatorial one (0.6 %).
@@ -23,10 +28,10 @@ ECLIPSE_GREATEST = "2029-06-26T03:22:00Z"  # total lunar eclipse (from memory; f
 
 
 def _skyfield():
-    from skyfield.api import Loader, wgs84
     import os
 
     import skyfield_data
+    from skyfield.api import Loader, wgs84
 
     folder = os.path.join(os.path.dirname(skyfield_data.__file__), "data")
     load = Loader(folder, verbose=False)
@@ -35,7 +40,7 @@ def _skyfield():
 
 @pytest.fixture(scope="module")
 def perfect(tmp_path_factory):
-    from firstrung.ephemeris.eclipses import eclipse_near
+    from firstrung.methods.eclipse.prediction import eclipse_near
 
     e = eclipse_near(ECLIPSE_GREATEST)
     folder = tmp_path_factory.mktemp("perfect")
@@ -47,7 +52,7 @@ def perfect(tmp_path_factory):
 
 
 def test_perfect_tropical_ladder_gives_the_moon_within_0_1_percent(perfect):
-    from firstrung.runs.ladder import run_ladder
+    from firstrung.app.ladder_run import run_ladder
 
     path, e, phases = perfect
     ts, eph, wgs84 = _skyfield()
@@ -59,7 +64,7 @@ def test_perfect_tropical_ladder_gives_the_moon_within_0_1_percent(perfect):
 
 
 def test_perfect_ladder_brings_the_moon_to_the_half_moon_epoch_for_the_sun(perfect):
-    from firstrung.runs.ladder import run_ladder
+    from firstrung.app.ladder_run import run_ladder
 
     path, e, phases = perfect
     ts, eph, wgs84 = _skyfield()
@@ -79,7 +84,7 @@ def test_perfect_ladder_brings_the_moon_to_the_half_moon_epoch_for_the_sun(perfe
 
 def test_the_moon_in_km_uses_the_equatorial_radius_carried_from_the_shadows(perfect):
     from firstrung.constants import WGS84_FLATTENING
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.run import run_eclipse
 
     path, e, _ = perfect
     run = run_eclipse(path)
@@ -96,7 +101,11 @@ def test_the_moon_in_km_uses_the_equatorial_radius_carried_from_the_shadows(perf
 def test_board_level_and_gnomon_plumb_enter_the_shadow_budget():
     # geometry (no reference needed beyond trigonometry): a board tilted by tau along the shadow
     # moves the marked altitude by tau cos^2 a; a rod leaning by psi, by psi sin^2 a
-    from firstrung.methods.shadows import BOARD_LEVEL_SIGMA_RAD, GNOMON_PLUMB_SIGMA_RAD, altitude_error_terms_rad
+    from firstrung.methods.shadows.altitude import (
+        BOARD_LEVEL_SIGMA_RAD,
+        GNOMON_PLUMB_SIGMA_RAD,
+        altitude_error_terms_rad,
+    )
 
     h, length = 1.0, 1.7320508  # altitude 30 deg
     terms = altitude_error_terms_rad(h, length, 0.002, 0.001, "umbra", 30.0, 0.2667, 0.03, False)
@@ -108,7 +117,7 @@ def test_board_level_and_gnomon_plumb_enter_the_shadow_budget():
 
 
 def test_the_shadow_reduction_names_level_and_plumb_in_its_budget(perfect):
-    from firstrung.runs.shadows import run_shadows
+    from firstrung.methods.shadows.run import run_shadows
 
     path, _, _ = perfect
     names = {b.source for b in run_shadows(path).reduction.budget}

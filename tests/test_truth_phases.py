@@ -26,9 +26,8 @@ SITES = [("ridge", 46.2, 7.4, 620.0), ("harbour", -33.9, 151.1, 40.0), ("isle", 
 
 @pytest.fixture(scope="module")
 def sky():
-    from skyfield.api import Loader, wgs84
-
     import skyfield_data
+    from skyfield.api import Loader, wgs84
 
     load = Loader(os.path.join(os.path.dirname(skyfield_data.__file__), "data"), verbose=False)
     return load.timescale(builtin=True), load("de421.bsp"), wgs84
@@ -71,7 +70,7 @@ def physical_half_moon(sky, site, near):
 
 @pytest.fixture(scope="module")
 def halves(sky):
-    from firstrung.ephemeris import phases as ep
+    from firstrung.methods.phases import prediction as ep
 
     q = ep.quarters_between("2026-03-01T00:00Z", "2026-05-01T00:00Z")
     out = []
@@ -84,13 +83,13 @@ def halves(sky):
 
 def test_the_half_moon_is_where_the_apparent_sun_lights_it(halves):
     # before: the geometric Sun put the half moon 38-70 s late (the angle 20" off)
-    for site, _, ours, ref in halves:
+    for _site, _, ours, ref in halves:
         assert abs((ours - ref).astype(np.int64)) / 1e6 < 1.0
 
 
 def test_a_perfect_timing_of_the_physical_half_moon_gives_the_true_ratio(tmp_path, sky, halves):
-    from firstrung.ephemeris.phases import sun_moon_topocentric
-    from firstrung.runs.phases import run_phases
+    from firstrung.methods.phases.run import run_phases
+    from firstrung.methods.phases.topocentric import sun_moon_topocentric
 
     ts, eph, wgs84 = sky
     rows, truth = [], {}
@@ -114,8 +113,8 @@ def test_a_measured_angle_keeps_the_suns_aberration(tmp_path, sky, halves):
     # what an instrument reads at the physical half moon: the apparent places, refracted at standard
     # conditions (Bennett, which the reduction removes again); the truth is skyfield's distances.
     # Before, 20" of "aberration" was taken off the reading: the ratio came out 4 % off.
-    from firstrung.ephemeris.phases import sun_moon_topocentric
-    from firstrung.runs.phases import PhaseSettings, run_phases
+    from firstrung.methods.phases.run import PhaseSettings, run_phases
+    from firstrung.methods.phases.topocentric import sun_moon_topocentric
 
     ts, eph, wgs84 = sky
     rows, truth = [], {}
@@ -146,7 +145,7 @@ def _site_truth(sky, site, t64):
 
 def _moon_up(halves):
     """The first half moon of the fixture with the Moon above 20 deg for 1.5 h either side."""
-    from firstrung.ephemeris.phases import sun_moon_topocentric
+    from firstrung.methods.phases.topocentric import sun_moon_topocentric
 
     for site, quarter, ours, ref in halves:
         span = ref + np.arange(-2, 3) * np.timedelta64(45, "m")
@@ -158,7 +157,7 @@ def _moon_up(halves):
 def test_a_photo_series_zero_point_is_shared_and_covered(tmp_path, sky, halves):
     # a whole series read 0.005 too bright (half the per-image error): before, the ratio came out
     # 78 against 372 with a finite interval that excluded the truth
-    from firstrung.runs.phases import run_phases
+    from firstrung.methods.phases.run import run_phases
 
     site, quarter, _, ref = _moon_up(halves)
     rows = []
@@ -175,7 +174,7 @@ def test_a_photo_series_zero_point_is_shared_and_covered(tmp_path, sky, halves):
 def test_a_judgement_shared_by_every_observer_of_one_moon_is_covered(tmp_path, sky, halves):
     # four observers of one half moon, all 20 min late (a shared judgement), each stating 20 min:
     # before, the errors averaged down to 10 min and the interval excluded the truth in every run
-    from firstrung.runs.phases import run_phases
+    from firstrung.methods.phases.run import run_phases
 
     site, quarter, _, ref = _moon_up(halves)
     rng = np.random.default_rng(4)
@@ -191,8 +190,8 @@ def test_a_judgement_shared_by_every_observer_of_one_moon_is_covered(tmp_path, s
 
 
 def test_elongation_beyond_90_degrees_is_called_biased_and_a_lone_bound_is_84_percent():
-    from firstrung.methods.phases import ratio_from_elongation
-    from firstrung.serialize.phases import statement
+    from firstrung.methods.phases.present import statement
+    from firstrung.methods.phases.reduction import ratio_from_elongation
 
     def as_dict(q):
         return {"value": None if not math.isfinite(q.value) else q.value, "low": q.low, "high": q.high}
@@ -207,7 +206,7 @@ def test_elongation_beyond_90_degrees_is_called_biased_and_a_lone_bound_is_84_pe
 def test_the_interval_methods_note_states_the_spread_of_single_intervals():
     # from the ephemeris: consecutive geocentric half moons of 2000-2050 differ from half a mean
     # synodic month (Meeus 49.1) by at most 31.9 h, not 60 h
-    from firstrung.ephemeris import phases as ep
+    from firstrung.methods.phases import prediction as ep
 
     q = ep.quarters_between("2000-01-01T00:00Z", "2050-01-01T00:00Z")
     hours = q.dichotomy_utc.astype("datetime64[s]").astype(np.int64) / 3600.0
@@ -215,6 +214,6 @@ def test_the_interval_methods_note_states_the_spread_of_single_intervals():
     assert 30.0 < spread < 33.0
     import inspect
 
-    from firstrung.serialize import phases as sp
+    from firstrung.methods.phases import present as sp
 
     assert "+/- 32 h" in inspect.getsource(sp) and "+/- 60 h" not in inspect.getsource(sp)

@@ -23,9 +23,8 @@ from truth_helpers import write_campaign, z
 
 @functools.lru_cache(maxsize=1)
 def _sky():
-    from skyfield.api import Loader, wgs84
-
     import skyfield_data
+    from skyfield.api import Loader, wgs84
 
     load = Loader(os.path.join(os.path.dirname(skyfield_data.__file__), "data"), verbose=False)
     return load.timescale(builtin=True), load("de421.bsp"), wgs84
@@ -55,8 +54,9 @@ def summary(name, hits, bias, extra=None):
 
 def shadows(n, seed=1):
     from firstrung.campaign import read_campaign
-    from firstrung.rehearsal import SHADOW_COLUMNS, shadow_rows
-    from firstrung.runs.shadows import run_shadows
+    from firstrung.methods.shadows.rehearsal import LOG_COLUMNS as SHADOW_COLUMNS
+    from firstrung.methods.shadows.rehearsal import rehearsal_rows as shadow_rows
+    from firstrung.methods.shadows.run import run_shadows
 
     hits, bias = [], []
     sites = [("north", 52.0, 5.0, 10.0), ("mid", 46.0, 6.0, 400.0), ("south", 40.0, 4.0, 50.0)]
@@ -92,9 +92,10 @@ def _topocentric_moon(site, t1, t2, td):
 
 def eclipse(n, seed=2, observed_moon=False):
     from firstrung.campaign import read_campaign
-    from firstrung.ephemeris.eclipses import eclipse_near
-    from firstrung.rehearsal import ECLIPSE_COLUMNS, eclipse_rows
-    from firstrung.runs.eclipse import run_eclipse
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.rehearsal import LOG_COLUMNS as ECLIPSE_COLUMNS
+    from firstrung.methods.eclipse.rehearsal import rehearsal_rows as eclipse_rows
+    from firstrung.methods.eclipse.run import run_eclipse
 
     rng = np.random.default_rng(seed)
     hits, bias = [], []
@@ -137,7 +138,8 @@ PHASE_SITES = [("ridge", 46.2, 7.4, 620.0), ("coast", 43.3, 5.4, 20.0), ("vale",
 
 def _physical_halves():
     """The ephemeris's half moons (the tool's physical ones) at each site, 2026, with the Moon up."""
-    from firstrung.ephemeris import phases as ep
+    from firstrung.methods.phases import prediction as ep
+    from firstrung.methods.phases import topocentric as tp
 
     q = ep.quarters_between("2026-01-01T00:00Z", "2027-01-01T00:00Z")
     lat = np.array([s[1] for s in PHASE_SITES])
@@ -146,7 +148,7 @@ def _physical_halves():
     half = ep.topocentric_dichotomy_utc(q.dichotomy_utc[:, None], lat, lon, elev)
     up = np.zeros(half.shape, bool)
     for d in (-90, 0, 90):
-        up_d = ep.sun_moon_topocentric(half + np.timedelta64(d, "m"), lat, lon, elev, rates=False).moon_altitude_deg > 15
+        up_d = tp.sun_moon_topocentric(half + np.timedelta64(d, "m"), lat, lon, elev, rates=False).moon_altitude_deg > 15
         up = up_d if d == -90 else up & up_d
     return q, half, up
 
@@ -158,7 +160,7 @@ def _true_fraction(site, t):
 
 
 def phases(n, scenario, seed=3):
-    from firstrung.runs.phases import run_phases
+    from firstrung.methods.phases.run import run_phases
 
     q, half, up = _physical_halves()
     usable = [k for k in range(len(q)) if up[k].sum() >= 2]

@@ -45,7 +45,11 @@ def write_campaign(folder, sites, *, shadows=None, eclipse=None, phases=None, ex
 
 def perfect_shadow_rows(sites, dates):
     """Noise-free umbra-edge shadow lengths (0.01 mm) every 2 min around each site's noon."""
-    from firstrung.simulation import ShadowErrors, reading_times_utc, simulate_shadow_readings
+    from firstrung.methods.shadows.rehearsal import (
+        ShadowErrors,
+        reading_times_utc,
+        simulate_shadow_readings,
+    )
 
     lat = np.array([s[1] for s in sites], float)
     lon = np.array([s[2] for s in sites], float)
@@ -69,11 +73,12 @@ def perfect_contact_rows(eclipse, site_id, sigma_s=20.0):
 
 def perfect_half_moon_rows(site, first_date, last_date, sigma_s=60.0, min_altitude_deg=10.0):
     """Timings of a site's own true half moons (the physical one) where the Moon is up."""
-    from firstrung.ephemeris import phases as ep
+    from firstrung.methods.phases import prediction as ep
+    from firstrung.methods.phases import topocentric as tp
 
     sid, lat, lon, elev = site
     q = ep.quarters_between(np.datetime64(first_date, "us"), np.datetime64(last_date, "us"))
     half = ep.topocentric_dichotomy_utc(q.dichotomy_utc, lat, lon, elev)
-    g = ep.sun_moon_topocentric(half, lat, lon, elev, rates=False)
+    g = tp.sun_moon_topocentric(half, lat, lon, elev, rates=False)
     return [[sid, z(h), str(qq), "", "", f"{sigma_s:g}", "perfect"]
             for h, qq, alt in zip(half, q.quarter, g.moon_altitude_deg, strict=True) if alt > min_altitude_deg]

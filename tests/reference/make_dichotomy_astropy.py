@@ -30,7 +30,12 @@ import os
 import numpy as np
 import skyfield_data
 from astropy import units as u
-from astropy.coordinates import EarthLocation, get_body_barycentric, get_body_barycentric_posvel, solar_system_ephemeris
+from astropy.coordinates import (
+    EarthLocation,
+    get_body_barycentric,
+    get_body_barycentric_posvel,
+    solar_system_ephemeris,
+)
 from astropy.time import Time
 from astropy.utils import iers
 

@@ -25,9 +25,7 @@ class LadderRun:
 
 def _eclipse_draws(campaign_path, runs, sources, notes, overrides):
     """The Moon's parallax (Gaussian in the chord fit) and angular diameter from the first reduced eclipse."""
-    from firstrung.methods.eclipse.run import run_eclipse
-
-    from firstrung.methods.eclipse.run import equatorial_radius_from_shadows
+    from firstrung.methods.eclipse.run import equatorial_radius_from_shadows, run_eclipse
 
     shadows = runs.get("shadows")
     measured = None if shadows is None else equatorial_radius_from_shadows(shadows.reduction)

@@ -53,7 +53,10 @@ class ObservedMoon:
 
         Values the observers did not measure (the ephemeris's) pass through unchanged.
         """
-        from firstrung.methods.eclipse.topocentric_moon import geocentric_over_topocentric, geocentric_rate_from_sky_rate
+        from firstrung.methods.eclipse.topocentric_moon import (
+            geocentric_over_topocentric,
+            geocentric_rate_from_sky_rate,
+        )
 
         d = float(distance_earth_radii)
         sm, v = semidiameter_deg, rate_deg_per_h

@@ -34,6 +34,13 @@ from firstrung.methods.eclipse.chords import (
 )
 from firstrung.methods.eclipse.craters import CraterTable, load_craters
 from firstrung.methods.eclipse.log import read_eclipse_logs
+from firstrung.methods.eclipse.observed_moon import (
+    ObservedMoon,
+    _observed_moon,
+    _reduce_observed_moon,
+    _site_counts,
+    equatorial_radius_from_shadows,
+)
 from firstrung.methods.eclipse.reduction import (
     EclipseReduction,
     EnlargementFit,
@@ -45,13 +52,6 @@ from firstrung.methods.eclipse.umbra import (
     CONVENTIONS,
     shadow_rate_from_sky_rate_deg_per_h,
     umbra_radius_deg,
-)
-from firstrung.methods.eclipse.observed_moon import (
-    ObservedMoon,
-    _observed_moon,
-    _reduce_observed_moon,
-    _site_counts,
-    equatorial_radius_from_shadows,
 )
 from firstrung.uncertainty import Measured
 

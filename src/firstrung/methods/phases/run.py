@@ -22,6 +22,7 @@ from firstrung.errors import ComputationError, InputError, RowProblem
 from firstrung.methods.phases import reduction as m
 from firstrung.methods.phases.interval_method import IntervalMethod, interval_method
 from firstrung.methods.phases.log import read_phase_logs
+from firstrung.methods.phases.shared import mark_shared_judgement, shared_groups
 from firstrung.methods.phases.topocentric import both_up_windows, sun_moon_topocentric
 from firstrung.uncertainty import Measured
 
@@ -521,7 +522,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
             rate_deg_per_h=rate, expected_elongation_deg=e_true, expected_ratio=r_true,
             site_dichotomy_utc=site_half[i], rows=(_label(log, k),), corrections_deg=corrections,
         ))
-    estimates = _shared_judgement(estimates)
+    estimates = mark_shared_judgement(estimates)
 
     series_rows = np.flatnonzero(keep & is_frac)
     groups: dict[tuple, list[int]] = {}
@@ -562,10 +563,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
 
     e_all = np.array([x.elongation_deg.value for x in estimates])
     s_all = np.array([x.elongation_deg.sigma for x in estimates])
-    shared_all = np.array([x.shared_sigma_deg for x in estimates])
-    # estimates judged at the same Moon share the judgement; a series is its own group
-    group = np.array([f"quarter {x.quarter_index}" if x.kind != "fraction series" else f"series {n}"
-                      for n, x in enumerate(estimates)], dtype=object)
+    shared_all, group = shared_groups(estimates)
     combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all, shared_all, group)
     by_kind = {}
     for kind in ("elongation", "timing", "fraction series"):
@@ -615,25 +613,6 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         assumptions=tuple(assumptions),
         rows_left_out_flagged=left_out_flagged
     )
-
-
-def _shared_judgement(estimates):
-    """Mark the judgement shared by the timings and angles of each quarter (the same Moon).
-
-    Nobody judging one Moon beats the ambiguity of its look: the smallest
-    judgement error of the quarter's timings and angles is common to them
-    all; each keeps its own error above that.
-    """
-    import dataclasses
-
-    floor: dict[int, float] = {}
-    for x in estimates:
-        floor[x.quarter_index] = min(floor.get(x.quarter_index, np.inf), x.time_sigma_s)
-    return [
-        dataclasses.replace(x, shared_sigma_deg=float(min(
-            m.elongation_sigma_from_timing_deg(floor[x.quarter_index], x.rate_deg_per_h), x.elongation_deg.sigma)))
-        for x in estimates
-    ]
 
 
 def _interval(estimates, pairs, pair_of, site_half, site_quad, at_quad, campaign):

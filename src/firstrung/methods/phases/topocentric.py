@@ -22,8 +22,8 @@ from firstrung.methods.phases.prediction import (
     _flat_inputs,
     _physical_phase_angle_deg,
     _site_gcrs_km,
-    _site_velocity_km_s,
     _site_true_of_date_km,
+    _site_velocity_km_s,
     _triangle_gcrs,
     _us,
 )
