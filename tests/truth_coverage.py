@@ -130,6 +130,76 @@ def eclipse(n, seed=2, observed_moon=False):
     return summary(name, hits, bias)
 
 
+def _umbra_contacts(when, enlargement):
+    """U1-U4 of the eclipse for an umbra ``enlargement`` times Danjon's (from the ephemeris's geometry on a
+    5 s grid, linear interpolation); the geometry is computed once per eclipse."""
+    key = when
+    if key not in _GEOMETRY:
+        try:
+            from firstrung.methods.eclipse.prediction import eclipse_near, shadow_geometry
+        except ImportError:
+            from firstrung.ephemeris.eclipses import eclipse_near, shadow_geometry
+        e = eclipse_near(when)
+        g0 = np.datetime64(e.greatest_utc[0], "us")
+        t = g0 + (np.arange(-4 * 720, 4 * 720 + 1) * 5_000_000).astype("timedelta64[us]")
+        g = shadow_geometry(t)
+        _GEOMETRY[key] = (e, t, g.separation_deg, g.moon_semidiameter_deg, g.umbra_deg("danjon"))
+    e, t, sep, sm, ru = _GEOMETRY[key]
+    mid = int(np.argmin(sep))
+    out = {}
+    for name, sign, part in (("U1", 1, slice(0, mid + 1)), ("U2", -1, slice(0, mid + 1)),
+                             ("U3", -1, slice(mid, None)), ("U4", 1, slice(mid, None))):
+        f = sep[part] - (ru[part] * enlargement + sign * sm[part])
+        k = np.flatnonzero(np.sign(f[:-1]) != np.sign(f[1:]))
+        if k.size == 0:
+            continue
+        k = int(k[0])
+        tt = t[part]
+        frac = f[k] / (f[k] - f[k + 1])
+        out[name] = tt[k] + np.timedelta64(int(round(frac * 5e6)), "us")
+    return e, out
+
+
+_GEOMETRY: dict = {}
+
+
+def eclipse_enlargement(n, seed=5, fixed=None):
+    """Contacts only (40 s, two observers at two sites) of an umbra whose enlargement differs from Danjon's:
+    drawn from the spread the reduction states (half the Danjon-Chauvenet difference), or ``fixed``."""
+    try:
+        from firstrung.methods.eclipse.run import run_eclipse
+    except ImportError:
+        from firstrung.runs.eclipse import run_eclipse
+    rng = np.random.default_rng(seed)
+    hits, bias = [], []
+    for i in range(n):
+        when, sites = ECLIPSES[i % len(ECLIPSES)]
+        e0, _ = _umbra_contacts(when, 1.0)
+        pm, ps, ss = (float(np.asarray(x)[0]) for x in (e0.moon_parallax_deg, e0.sun_parallax_deg, e0.sun_semidiameter_deg))
+        danjon = 1.01 * pm + ps - ss
+        chauvenet = 1.02 * (0.99834 * pm + ps - ss)
+        spread = abs(chauvenet - danjon) / 2 / danjon
+        factor = 1.0 + (fixed if fixed is not None else rng.normal(0, spread))
+        e, contacts = _umbra_contacts(when, factor)
+        rows = []
+        for site in sites:
+            for o in range(2):
+                for name, t in contacts.items():
+                    err = rng.normal(0, 40.0)
+                    rows.append([site[0], z(t + np.timedelta64(int(err * 1e6), "us")), name, "", "40", f"{site[0]} {o}"])
+        folder = Path(tempfile.mkdtemp())
+        path = write_campaign(folder, sites, eclipse=rows)
+        results = [r for r in run_eclipse(path).results if r.reduction is not None]
+        if not results:
+            continue
+        r = results[0]
+        m, truth = r.reduction.moon_distance_earth_radii, r.ephemeris_distance_earth_radii
+        hits.append(m.low <= truth <= (m.high if m.high is not None else math.inf))
+        bias.append(m.value / truth - 1)
+    what = f"umbra {fixed * 100:+.1f} % from Danjon's" if fixed is not None else "umbra's enlargement drawn at the stated spread"
+    return summary(f"eclipse: {what}, contacts only 40 s", hits, bias)
+
+
 # --- half moon -----------------------------------------------------------------------------
 
 PHASE_SITES = [("ridge", 46.2, 7.4, 620.0), ("coast", 43.3, 5.4, 20.0), ("vale", 48.1, 11.6, 520.0),
@@ -138,8 +208,12 @@ PHASE_SITES = [("ridge", 46.2, 7.4, 620.0), ("coast", 43.3, 5.4, 20.0), ("vale",
 
 def _physical_halves():
     """The ephemeris's half moons (the tool's physical ones) at each site, 2026, with the Moon up."""
-    from firstrung.methods.phases import prediction as ep
-    from firstrung.methods.phases import topocentric as tp
+    try:
+        from firstrung.methods.phases import prediction as ep
+        from firstrung.methods.phases import topocentric as tp
+    except ImportError:  # the layout before the reshape, for "before" runs
+        from firstrung.ephemeris import phases as ep
+        tp = ep
 
     q = ep.quarters_between("2026-01-01T00:00Z", "2027-01-01T00:00Z")
     lat = np.array([s[1] for s in PHASE_SITES])
@@ -160,7 +234,10 @@ def _true_fraction(site, t):
 
 
 def phases(n, scenario, seed=3):
-    from firstrung.methods.phases.run import run_phases
+    try:
+        from firstrung.methods.phases.run import run_phases
+    except ImportError:
+        from firstrung.runs.phases import run_phases
 
     q, half, up = _physical_halves()
     usable = [k for k in range(len(q)) if up[k].sum() >= 2]
@@ -203,6 +280,8 @@ SCENARIOS = {
     "shadows": lambda n: shadows(n),
     "eclipse": lambda n: eclipse(n),
     "eclipse-observed": lambda n: eclipse(n, observed_moon=True),
+    "eclipse-enlargement": lambda n: eclipse_enlargement(n),
+    "eclipse-enlargement-fixed": lambda n: eclipse_enlargement(n, fixed=0.005),
     "phases-independent": lambda n: phases(n, "independent judgement 20 min"),
     "phases-shared": lambda n: phases(n, "shared judgement N(0, 20 min)"),
     "phases-shared-fixed": lambda n: phases(n, "shared judgement +20 min (fixed)"),
