@@ -32,3 +32,9 @@ def test_eclipse_with_the_observers_topocentric_moon_covers():
 def test_half_moon_with_shared_errors_covers(scenario):
     out = tc.phases(40, scenario, seed=12)
     assert _band(out), out
+
+
+def test_eclipse_with_an_umbra_off_danjons_rule_covers():
+    # the real enlargement varies from eclipse to eclipse; drawn at the spread the reduction states
+    out = tc.eclipse_enlargement(18, seed=13)
+    assert out["campaigns"] >= 15 and _band(out), out

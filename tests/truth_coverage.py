@@ -132,7 +132,7 @@ def eclipse(n, seed=2, observed_moon=False):
 
 def _umbra_contacts(when, enlargement):
     """U1-U4 of the eclipse for an umbra ``enlargement`` times Danjon's (from the ephemeris's geometry on a
-    5 s grid, linear interpolation); the geometry is computed once per eclipse."""
+    20 s grid, linear interpolation: under 0.01 s off); the geometry is computed once per eclipse."""
     key = when
     if key not in _GEOMETRY:
         try:
@@ -141,7 +141,7 @@ def _umbra_contacts(when, enlargement):
             from firstrung.ephemeris.eclipses import eclipse_near, shadow_geometry
         e = eclipse_near(when)
         g0 = np.datetime64(e.greatest_utc[0], "us")
-        t = g0 + (np.arange(-4 * 720, 4 * 720 + 1) * 5_000_000).astype("timedelta64[us]")
+        t = g0 + (np.arange(-4 * 180, 4 * 180 + 1) * 20_000_000).astype("timedelta64[us]")
         g = shadow_geometry(t)
         _GEOMETRY[key] = (e, t, g.separation_deg, g.moon_semidiameter_deg, g.umbra_deg("danjon"))
     e, t, sep, sm, ru = _GEOMETRY[key]
@@ -156,7 +156,7 @@ def _umbra_contacts(when, enlargement):
         k = int(k[0])
         tt = t[part]
         frac = f[k] / (f[k] - f[k + 1])
-        out[name] = tt[k] + np.timedelta64(int(round(frac * 5e6)), "us")
+        out[name] = tt[k] + np.timedelta64(int(round(frac * 20e6)), "us")
     return e, out
 
 
