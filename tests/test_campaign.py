@@ -490,7 +490,8 @@ def test_missing_log_files_are_not_reported_here(tmp_path):
             "moon_rate = 0.5\n",
             "eclipse.moon_rate: unknown key 'moon_rate' (allowed: moon_diameter_arcmin, "
             "moon_diameter_sigma_arcmin, moon_rate_deg_per_h, moon_rate_sigma_deg_per_h, "
-            "moon_sky_rate_deg_per_h, moon_sky_rate_sigma_deg_per_h)",
+            "moon_sky_rate_deg_per_h, moon_sky_rate_sigma_deg_per_h, moon_site, moon_from_utc, moon_to_utc, "
+            "moon_diameter_utc)",
         ),
     ],
 )

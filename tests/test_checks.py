@@ -186,15 +186,17 @@ def test_the_other_edge_marked():
 
 def test_middle_for_umbra_is_found_about_as_often_as_the_stated_edge_error_allows():
     # One semi-diameter (16') against a stated middle-edge placement error of 0.15 penumbra (4.8')
-    # plus 1 mm of gnomon height: about 3.2 sigma, so no test can find it 95 % of the time while
-    # keeping clean logs clean; the check finds it in roughly three cases out of four.
+    # plus 1 mm of gnomon height and the board's level and the rod's plumb (1 mm per m each, up to
+    # 3.4'): about 2.8 sigma, so no test can find it 95 % of the time while keeping clean logs
+    # clean; the check finds it in roughly two cases out of five (three in four before the level
+    # and plumb entered the stated errors).
     rng = np.random.default_rng(15)
     true_edges = ["middle", "umbra", "umbra", "umbra"] * TRIALS
     sites, rows, trial = campaigns(rng, TRIALS, true_edges=true_edges, logged_edges=["umbra"] * (4 * TRIALS))
     target = _first_site_of_each_trial(rows)
     result = check_shadow_rows(sites, ShadowReadings(**rows))
     hits = right_code_on_right_rows(result, rows, trial, target, "edge-convention")
-    assert 0.55 <= hits.mean() <= 0.95, hits.mean()
+    assert 0.25 <= hits.mean() <= 0.95, hits.mean()
 
 
 def test_one_wild_row():

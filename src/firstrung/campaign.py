@@ -27,6 +27,7 @@ baselines are counted from 1 in these keys, in the order of the file.
 
 from __future__ import annotations
 
+import datetime as dt
 import math
 import os
 import re
@@ -97,6 +98,9 @@ _ECLIPSE_KEYS = (
     "moon_sky_rate_deg_per_h",
     "moon_sky_rate_sigma_deg_per_h",
 )
+#: Where and when the observers measured the Moon (its place on the sky from a site differs
+#: from the geocentric one): a site id and ISO 8601 UTC times.
+_ECLIPSE_WHERE_KEYS = ("moon_site", "moon_from_utc", "moon_to_utc", "moon_diameter_utc")
 
 #: Integers longer than this are shown by their length in messages.
 _SHOWN_DIGITS = 20
@@ -530,7 +534,29 @@ class _Reader:
         if value is None:
             return EclipseSettings()
         table = self.table(value, "eclipse", "[eclipse]")
-        self.check_keys(table, "eclipse", _ECLIPSE_KEYS)
+        self.check_keys(table, "eclipse", _ECLIPSE_KEYS + _ECLIPSE_WHERE_KEYS)
+        where = {"moon_site": self.text(table, "eclipse", "moon_site", "a site id as text")}
+        expected_time = "an ISO 8601 UTC time such as 2029-06-26T03:22:00Z"
+        for key in _ECLIPSE_WHERE_KEYS[1:]:
+            raw = table.get(key)
+            if raw is None:
+                where[key] = None
+                continue
+            stamp = None
+            if isinstance(raw, str):
+                try:
+                    stamp = dt.datetime.fromisoformat(raw.strip().replace("Z", "+00:00").replace("z", "+00:00"))
+                except ValueError:
+                    stamp = None
+            elif isinstance(raw, dt.datetime):
+                stamp = raw
+            if stamp is None or stamp.utcoffset() != dt.timedelta(0):
+                raise self.error(f"eclipse.{key}", f"expected {expected_time}, got {_show(raw)}")
+            where[key] = stamp.replace(tzinfo=None).isoformat()
+        if (where["moon_from_utc"] is None) != (where["moon_to_utc"] is None):
+            raise self.error("eclipse.moon_to_utc", "give moon_from_utc and moon_to_utc together (the rate's interval)")
+        if where["moon_from_utc"] is not None and not where["moon_to_utc"] > where["moon_from_utc"]:
+            raise self.error("eclipse.moon_to_utc", "expected a time after eclipse.moon_from_utc")
         numbers = {}
         for key in _ECLIPSE_KEYS:
             unit = "arcmin" if key.endswith("_arcmin") else "deg/h"
@@ -557,4 +583,4 @@ class _Reader:
                 "give moon_rate_deg_per_h (relative to the Earth's shadow) or "
                 "moon_sky_rate_deg_per_h (against the stars), not both",
             )
-        return EclipseSettings(**numbers)
+        return EclipseSettings(**numbers, **where)

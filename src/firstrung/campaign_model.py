@@ -138,6 +138,13 @@ class EclipseSettings:
     moon_rate_sigma_deg_per_h: float | None = None
     moon_sky_rate_deg_per_h: float | None = None
     moon_sky_rate_sigma_deg_per_h: float | None = None
+    #: The site where the Moon's diameter and rate were measured (default: the site with the
+    #: most timings of the eclipse), the interval of the rate and the instant of the diameter
+    #: (defaults: the umbral phase U1-U4, greatest eclipse), UTC.
+    moon_site: str | None = None
+    moon_from_utc: str | None = None
+    moon_to_utc: str | None = None
+    moon_diameter_utc: str | None = None
 
 
 def _empty_logs() -> dict[str, tuple[Path, ...]]:

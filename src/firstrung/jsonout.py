@@ -24,8 +24,15 @@ def dumps(obj: dict) -> str:
 
 
 def time_z(t) -> str:
-    """ISO 8601 UTC to the second, ending in Z."""
-    return str(np.datetime64(t, "s")) + "Z"
+    """ISO 8601 UTC rounded to the nearest second (half a second up), ending in Z.
+
+    >>> time_z(np.datetime64("2025-09-07T18:11:49.6"))
+    '2025-09-07T18:11:50Z'
+    >>> time_z(np.datetime64("2025-09-07T18:11:49.4"))
+    '2025-09-07T18:11:49Z'
+    """
+    us = np.datetime64(t, "us")
+    return str((us + np.timedelta64(500_000, "us")).astype("datetime64[s]")) + "Z"
 
 
 def quantity(m: Measured) -> dict:

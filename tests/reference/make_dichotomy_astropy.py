@@ -11,8 +11,13 @@ None of firstrung's or skyfield's code is used.
 For each first and last quarter of 2025 (started from where the geocentric
 Sun-Moon angle crosses 90 deg, sampled every 6 h), the time when the Sun-Moon-Earth angle (geocentric) and the
 Sun-Moon-observer angle (each invented site) is 90 deg is found by the secant
-method to 1 ms. Written: the geocentric and the per-site instants (UTC), and the
-geometric Sun-Moon angle seen from the Earth's centre / the site at that instant.
+method to 1 ms. The angle is the physical one, in the Moon's own frame: the
+sunlight that reaches the Moon (light time from the Sun, aberration by the
+Moon's barycentric velocity) against the light it sends to the observer
+(first-order special relativity, computed here in the barycentric frame).
+Written: the geocentric and the per-site instants (UTC), and the triangle's
+Sun-Moon angle seen from the Earth's centre / the site at that instant (the
+Sun where the light reaching the Moon left it, the Moon geometric).
 
 Run: python tests/reference/make_dichotomy_astropy.py  (about half a minute).
 """
@@ -25,7 +30,12 @@ import os
 import numpy as np
 import skyfield_data
 from astropy import units as u
-from astropy.coordinates import EarthLocation, get_body_barycentric, solar_system_ephemeris
+from astropy.coordinates import (
+    EarthLocation,
+    get_body_barycentric,
+    get_body_barycentric_posvel,
+    solar_system_ephemeris,
+)
 from astropy.time import Time
 from astropy.utils import iers
 
@@ -53,16 +63,51 @@ def _bodies_km(t):
     return earth, moon, sun
 
 
+C_KM_S = 299_792.458  # speed of light, SI (exact)
+
+
+def _unit(v):
+    return v / np.linalg.norm(v, axis=0)
+
+
+def _retarded_sun_km(t, receiver_km):
+    """The Sun's barycentric position when the light reaching ``receiver_km`` at t left it (light time iterated)."""
+    tau = np.linalg.norm(get_body_barycentric("sun", t).xyz.to_value(u.km) - receiver_km, axis=0) / C_KM_S
+    for _ in range(3):
+        sun = get_body_barycentric("sun", t - tau * u.s).xyz.to_value(u.km)
+        tau = np.linalg.norm(sun - receiver_km, axis=0) / C_KM_S
+    return sun
+
+
+def _observer_km(t, location):
+    earth = get_body_barycentric("earth", t).xyz.to_value(u.km)
+    return earth if location is None else earth + location.get_gcrs(t).cartesian.xyz.to_value(u.km)
+
+
 def _phase_angle_deg(t, location):
-    earth, moon, sun = _bodies_km(t)
-    observer = earth if location is None else earth + location.get_gcrs(t).cartesian.xyz.to_value(u.km)
-    return _angle_deg(sun - moon, observer - moon)
+    """The Sun-Moon-observer angle in the Moon's own frame: the sunlight arriving there (light time from
+    the Sun, aberration by the Moon's barycentric velocity) against the light leaving for the observer
+    (aimed at where the observer will be 1.3 s later, aberrated by the same velocity the other way)."""
+    moon_pv = get_body_barycentric_posvel("moon", t)
+    moon = moon_pv[0].xyz.to_value(u.km)
+    beta = moon_pv[1].xyz.to_value(u.km / u.s) / C_KM_S
+    to_sun = _unit(_retarded_sun_km(t, moon) - moon)
+    to_sun = _unit(to_sun + beta - np.sum(to_sun * beta, axis=0) * to_sun)
+    tau = np.linalg.norm(_observer_km(t, location) - moon, axis=0) / C_KM_S
+    out = _unit(_observer_km(t + tau * u.s, location) - moon)
+    out = _unit(out - beta + np.sum(out * beta, axis=0) * out)
+    return _angle_deg(to_sun, out)
 
 
 def _elongation_deg(t, location):
-    earth, moon, sun = _bodies_km(t)
-    observer = earth if location is None else earth + location.get_gcrs(t).cartesian.xyz.to_value(u.km)
-    return _angle_deg(sun - observer, moon - observer)
+    """The triangle's angle at the observer: the Sun where the light reaching the Moon left it, in the
+    Earth's frame (the geocentric Sun at the retarded time), and the Moon's geometric place."""
+    earth, moon, _ = _bodies_km(t)
+    sun = _retarded_sun_km(t, moon)
+    tau = np.linalg.norm(sun - moon, axis=0) / C_KM_S
+    sun_geocentric = sun - get_body_barycentric("earth", t - tau * u.s).xyz.to_value(u.km)
+    observer = _observer_km(t, location) - earth
+    return _angle_deg(sun_geocentric - observer, moon - earth - observer)
 
 
 def _solve(guess, location):

@@ -80,6 +80,14 @@ class LadderInputs:
     #: Modern values that fit this campaign better than the table's (key -> (value, source)),
     #: e.g. the Moon's distance on the eclipse night instead of its mean distance.
     modern_overrides: tuple[tuple[str, float, str], ...] = ()
+    #: The Earth radius the eclipse rung's distance is counted in (the WGS84 equatorial radius,
+    #: the conventions' parallax) over the radius the shadow rung measured (the meridional radius
+    #: of curvature at the sites' latitudes): the ellipsoid's own ratio, an exact factor [1].
+    equatorial_radius_factor: float = 1.0
+    #: The Moon's distance seen from the half-moon observers at their half moons over its
+    #: geocentric distance on the eclipse night (the ephemeris's ratio of distances, a stated
+    #: assumption): brings the eclipse rung to the half-moon rung's epoch [1].
+    half_moon_distance_factor: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -104,6 +112,9 @@ class Ladder:
     sources: tuple[tuple[str, str], ...]
     #: Which rung gave the Sun's distance: "transit" or "half-moon".
     sun_distance_method: str = "half-moon"
+    #: The exact factors the chain applied (see :class:`LadderInputs`).
+    equatorial_radius_factor: float = 1.0
+    half_moon_distance_factor: float = 1.0
 
     def rung(self, key: str) -> Rung:
         return next(r for r in self.rungs if r.key == key)
@@ -150,9 +161,10 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
     dm_er = draws["moon_distance_earth_radii"]
     ratio = draws["sun_moon_distance_ratio"]
     chain = {"earth_radius_km": r}
-    chain["moon_distance_km"] = None if r is None or dm_er is None else r * dm_er
+    chain["moon_distance_km"] = None if r is None or dm_er is None else r * inputs.equatorial_radius_factor * dm_er
     dm = chain["moon_distance_km"]
-    chain["sun_distance_km"] = None if dm is None or ratio is None else dm * ratio
+    # the half-moon ratio holds for the Moon's distance at the half moon, not on the eclipse night
+    chain["sun_distance_km"] = None if dm is None or ratio is None else dm * inputs.half_moon_distance_factor * ratio
     method = "half-moon"
     if draws["sun_distance_au_transit"] is not None:  # the transit's parallax is the better rung for the Sun
         chain["sun_distance_km"] = draws["sun_distance_au_transit"] * ASTRONOMICAL_UNIT_KM
@@ -186,7 +198,9 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
         z = (m.value - modern) / half if half and half > 0 and not (modern > m.value and m.high is None) else None
         note = "" if m.high is not None else "lower bound only: the data allow any larger value"
         rungs.append(Rung(key, m, modern, unit, source, m.value / modern if np.isfinite(m.value) else None, z, note))
-    return Ladder(tuple(rungs), samples, seed, inputs.sources, method)
+    return Ladder(tuple(rungs), samples, seed, inputs.sources, sun_distance_method=method,
+                  equatorial_radius_factor=inputs.equatorial_radius_factor,
+                  half_moon_distance_factor=inputs.half_moon_distance_factor)
 
 
 def earth_radius_draw(radius: Measured) -> Draw:

@@ -30,6 +30,9 @@ def ladder_to_json(run) -> dict:
     out["sun_distance_method"] = lad.sun_distance_method
     out["comparison"] = comparison
     out["rung_sources"] = dict(lad.sources)
+    # exact factors: the shadows' radius to the equatorial one; the eclipse night's Moon to the half moon's
+    out["equatorial_radius_factor"] = number(lad.equatorial_radius_factor, 6)
+    out["half_moon_distance_factor"] = number(lad.half_moon_distance_factor, 6)
     out["problems"] = [str(p) for p in run.problems]
     out["notes"] = list(run.notes)
     out["method"] = (

@@ -34,6 +34,13 @@ from firstrung.methods.eclipse.chords import (
 )
 from firstrung.methods.eclipse.craters import CraterTable, load_craters
 from firstrung.methods.eclipse.log import read_eclipse_logs
+from firstrung.methods.eclipse.observed_moon import (
+    ObservedMoon,
+    _observed_moon,
+    _reduce_observed_moon,
+    _site_counts,
+    equatorial_radius_from_shadows,
+)
 from firstrung.methods.eclipse.reduction import (
     EclipseReduction,
     EnlargementFit,
@@ -196,7 +203,7 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
 def _aware(t):
     import datetime as dt
 
-    seconds = int(np.datetime64(t, "s").astype(np.int64))  # truncated, as the JSON times are
+    seconds = int(np.datetime64(t, "s").astype(np.int64))  # truncated, as the calendar's UID is
     return dt.datetime(1970, 1, 1, tzinfo=dt.UTC) + dt.timedelta(seconds=seconds)
 
 
@@ -213,6 +220,9 @@ class MoonData:
     rate_sigma_deg_per_h: float
     semidiameter_source: str  # "observers" or "ephemeris"
     rate_source: str  # "observers", "observers (sky rate)" or "ephemeris"
+    #: What the observers measured from their site, before it is reduced to the Earth's
+    #: centre (None when the ephemeris supplies both values).
+    observed: ObservedMoon | None = None
 
     @property
     def observational(self) -> bool:
@@ -255,7 +265,7 @@ class EclipseRun:
     rows_left_out_flagged: int = 0
 
 
-def _moon_data(campaign: Campaign, eclipse) -> MoonData:
+def _moon_data(campaign: Campaign, eclipse, site_counts: dict | None = None) -> MoonData:
     s = campaign.eclipse
     sm_e = float(eclipse.moon_semidiameter_deg[0])
     v_e = float(eclipse.moon_rate_deg_per_h[0])
@@ -274,7 +284,13 @@ def _moon_data(campaign: Campaign, eclipse) -> MoonData:
         v_src = "observers (sky rate)"
     else:
         v, v_sig, v_src = v_e, 0.0, "ephemeris"
-    return MoonData(sm, sm_sig, v, v_sig, sm_src, v_src)
+    if sm_src == "ephemeris" and v_src == "ephemeris":
+        return MoonData(sm, sm_sig, v, v_sig, sm_src, v_src)
+    observed = _observed_moon(campaign, eclipse, sm if sm_src != "ephemeris" else None, sm_sig,
+                              v if v_src == "observers" else s.moon_sky_rate_deg_per_h if v_src != "ephemeris" else None,
+                              v_sig, "sky" if v_src == "observers (sky rate)" else "shadow" if v_src == "observers" else None,
+                              site_counts or {})
+    return MoonData(sm, sm_sig, v, v_sig, sm_src, v_src, observed)
 
 
 def _moon_assumptions(m: MoonData) -> list[str]:
@@ -282,15 +298,22 @@ def _moon_assumptions(m: MoonData) -> list[str]:
     if m.semidiameter_source == "ephemeris":
         out.append("the Moon's angular diameter is the ephemeris's (DE421) at greatest eclipse, not measured: ephemeris-assisted")
     else:
-        out.append("the Moon's angular diameter as measured by the observers (taken as geocentric)")
+        out.append("the Moon's angular diameter as measured by the observers, reduced from their site to the Earth's "
+                   "centre (the Moon is nearer a site: it looks larger) with the distance found")
     if m.rate_source == "ephemeris":
         out.append("the Moon's rate across the shadow is the ephemeris's (DE421) at greatest eclipse, not measured: ephemeris-assisted")
     elif m.rate_source == "observers (sky rate)":
-        out.append("the observers' rate against the stars less the shadow's own motion (the Sun's, 0.0411 deg/h)")
+        out.append("the observers' rate against the stars, seen from their turning site over their interval, reduced to "
+                   "the Earth's centre with the distance found, less the shadow's own motion of the date (the Sun's)")
     else:
-        out.append("the Moon's rate across the shadow as measured by the observers")
+        out.append("the Moon's rate across the shadow as measured by the observers, reduced from their site to the "
+                   "Earth's centre with the distance found")
+    if m.observed is not None:
+        out.append(f"the observers' Moon {m.observed.site_choice}; the reduction to the Earth's centre uses the "
+                   "ephemeris's directions only and is iterated with the distance it gives")
     if m.observational:
-        out.append("purely observational: no ephemeris distance enters the result (the Sun's size and parallax of the date are almanac values)")
+        out.append("purely observational: no ephemeris distance enters the result (the Sun's size and parallax of the "
+                   "date are almanac values; directions from the ephemeris)")
     return out
 
 
@@ -306,8 +329,7 @@ def _earth_radius(campaign_path, campaign: Campaign, earth_radius_km, earth_radi
         from firstrung.methods.shadows.run import run_shadows
 
         try:
-            r = run_shadows(campaign_path).reduction.earth_radius_km
-            return r, "the campaign's own shadow measurements (reduce shadows)"
+            return equatorial_radius_from_shadows(run_shadows(campaign_path).reduction)
         except (InputError, ComputationError):
             return None, None
     return None, None
@@ -369,14 +391,21 @@ def reduce_one_eclipse(
     offsets, points = _crater_geometry(eclipse, epoch_utc, timings, craters, convention)
     notes = _moon_assumptions(moon)
     reduction = problem = None
-    try:
-        reduction = reduce_eclipse_timings(
-            timings, moon.semidiameter_deg, moon.semidiameter_sigma_deg, moon.rate_deg_per_h,
-            moon.rate_sigma_deg_per_h, float(eclipse.sun_semidiameter_deg[0]), float(eclipse.sun_parallax_deg[0]),
+
+    def reduce(m: MoonData):
+        return reduce_eclipse_timings(
+            timings, m.semidiameter_deg, m.semidiameter_sigma_deg, m.rate_deg_per_h,
+            m.rate_sigma_deg_per_h, float(eclipse.sun_semidiameter_deg[0]), float(eclipse.sun_parallax_deg[0]),
             convention=convention, track_position_angle_deg=float(eclipse.track_position_angle_deg[0]),
             offsets=offsets, greatest_magnitude=magnitude, greatest_magnitude_sigma=magnitude_sigma,
             assumptions=tuple(notes),
         )
+
+    try:
+        if moon.observed is None:
+            reduction = reduce(moon)
+        else:
+            reduction, moon = _reduce_observed_moon(reduce, moon)
     except ComputationError as error:
         problem = str(error)
     enlargement = en_problem = None
@@ -532,7 +561,8 @@ def run_eclipse(
         timings = combine_timings(log.event[rows].astype(object), feature, time_s, sigma, labels)
         results.append(
             reduce_one_eclipse(
-                one, timings, _moon_data(campaign, one), craters, epoch_utc=epoch, convention=convention,
+                one, timings, _moon_data(campaign, one, _site_counts(log.site[rows])), craters, epoch_utc=epoch,
+                convention=convention,
                 magnitude=magnitude, magnitude_sigma=magnitude_sigma, earth_radius=earth_radius, rows=len(rows),
             )
         )

@@ -132,10 +132,13 @@ def reduce_phases(
     ] = 0.25,
     time_sigma_min: Annotated[
         float, typer.Option("--time-sigma-min", help="Error of judging the half moon, for rows without time_sigma_s [min].")
-    ] = 30.0,
+    ] = 120.0,
     fraction_sigma: Annotated[
         float, typer.Option("--fraction-sigma", help="Error of an illuminated fraction measured on an image.")
     ] = 0.01,
+    zero_point_sigma: Annotated[
+        float, typer.Option("--zero-point-sigma", help="Error of the fractions shared by one photo series (zero point).")
+    ] = 0.005,
     include_flagged: IncludeFlaggedOption = False,
 ) -> None:
     """D_sun/D_moon with its 68 % interval, and how much better the angle or the timing must be.
@@ -146,7 +149,7 @@ def reduce_phases(
     from firstrung.methods.phases.run import PhaseSettings, run_phases
 
     settings = PhaseSettings(elongation_sigma_deg=elongation_sigma_deg, time_sigma_s=time_sigma_min * 60.0,
-                             fraction_sigma=fraction_sigma)
+                             fraction_sigma=fraction_sigma, fraction_zero_point_sigma=zero_point_sigma)
     run = run_phases(campaign, settings, include_flagged=include_flagged)
     data = phase_run_to_json(run)
     if json_output:

@@ -7,17 +7,22 @@ Three instants are distinguished:
   from the Earth's centre; the definition skyfield's ``almanac.moon_phases``
   and the national almanacs use;
 - **geocentric dichotomy**: the Sun-Moon-Earth angle (the phase angle) is
-  90 deg, from *geometric* positions (no light time, no aberration). It
+  90 deg, with the Sun where the light lighting the Moon left it (its
+  apparent place: light time and aberration) and the Moon geometric. It
   comes 15-20 min before first quarter and 16-22 min after last quarter,
   because the Sun is at a finite distance (Aristarchus' triangle);
 - **topocentric dichotomy**: the Sun-Moon-observer angle is 90 deg. The
   Moon's parallax (about 1 deg) moves it by up to about +/- 2 h from the
   geocentric instant, so each site has its own half moon.
 
-Geometric positions are used for every triangle: aberration moves the
-apparent elongation by about 20" (reference-values section 5), which is 4 %
-of the distance ratio. Apparent places (with parallax and refraction) are
-used only for what an observer sees: altitudes and a measured angle.
+Every triangle takes the Sun where its light left it (the apparent Sun,
+about 20" from the geometric one along the ecliptic): the terminator is
+drawn by that light, so the physical half moon comes 40-70 s before the
+geometric one, and an elongation measured at the half moon includes the
+same 20" (which is 4 % of the distance ratio). With that Sun the angle at
+the Moon is 90 deg and ``1 / cos E`` is the ratio of the distances. Apparent
+places with parallax and refraction are used for what an observer sees:
+altitudes and a measured angle.
 
 The light time from the Moon (1.3 s) is neglected in the phase angle: the
 terminator an observer sees moves by far less in that time than any
@@ -30,6 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from firstrung.constants import EARTH_ROTATION_RATE_RAD_PER_S, SPEED_OF_LIGHT_KM_PER_S
 from firstrung.ephemeris._core import _body, _prepared_time, as_utc_datetime64, check_in_span
 from firstrung.ephemeris.moon import _angle_deg, sun_moon_geocentric
 from firstrung.errors import InputError
@@ -79,12 +85,57 @@ def _wrap_deg(x):
 
 
 def _geometric_gcrs_km(time_utc: np.ndarray):
-    """Geometric geocentric Moon and Sun (GCRS axes) [km], and the skyfield Time."""
+    """The geocentric Moon and the Sun of the half-moon triangle (GCRS axes) [km], and the skyfield Time.
+
+    The Moon is geometric; the Sun is where the light that reaches the Moon
+    left it: the Sun's apparent geocentric place (light time and aberration,
+    about 20" from the geometric direction along the ecliptic), at its
+    distance. The Earth and the Moon share the Sun's aberration to 1 km/s in
+    30 (0.7"), so the light that lights the Moon comes from the same place
+    as the light that reaches the observer; the eclipse code takes the
+    shadow's axis from the same apparent Sun.
+    """
+    moon_km, _, sun_km, t = _triangle_gcrs(time_utc)
+    return moon_km, sun_km, t
+
+
+def _triangle_gcrs(time_utc: np.ndarray):
+    """As :func:`_geometric_gcrs_km`, with the Moon's geocentric velocity [km/s] second."""
     t = _prepared_time(time_utc)
     earth, sun, moon = _body("earth"), _body("sun"), _body("moon")
-    moon_km = np.asarray((moon - earth).at(t).position.km).reshape(3, -1)
-    sun_km = np.asarray((sun - earth).at(t).position.km).reshape(3, -1)
-    return moon_km, sun_km, t
+    m = (moon - earth).at(t)
+    moon_km = np.asarray(m.position.km).reshape(3, -1)
+    moon_v = np.asarray(m.velocity.km_per_s).reshape(3, -1)
+    sun_km = np.asarray(earth.at(t).observe(sun).apparent().position.km).reshape(3, -1)
+    return moon_km, moon_v, sun_km, t
+
+
+def _physical_phase_angle_deg(moon_km, moon_v_km_s, sun_km, observer_km, observer_v_km_s=0.0):
+    """The Sun-Moon-observer angle in the Moon's own frame [deg].
+
+    In the Earth's frame the sunlight reaching the Moon comes from the Sun's
+    apparent place; the Moon moves at about 1 km/s in that frame, which
+    turns the incoming light by up to 0.7" towards its motion and the light
+    it sends to the observer (aimed at where the observer will be when it
+    arrives) the other way (first-order aberration). Without this the half
+    moon is off by about 1.5 s.
+    """
+    beta = np.asarray(moon_v_km_s) / SPEED_OF_LIGHT_KM_PER_S
+
+    def unit(v):
+        return v / np.sqrt(np.sum(v * v, axis=0))
+
+    incoming = unit(sun_km - moon_km)
+    incoming = incoming + beta - np.sum(incoming * beta, axis=0) * incoming
+    tau = np.sqrt(np.sum((observer_km - moon_km) ** 2, axis=0)) / SPEED_OF_LIGHT_KM_PER_S
+    outgoing = unit(observer_km + np.asarray(observer_v_km_s) * tau - moon_km)
+    outgoing = outgoing - beta + np.sum(outgoing * beta, axis=0) * outgoing
+    return _angle_deg(incoming, outgoing)
+
+
+def _site_velocity_km_s(site_km):
+    """A site's velocity from the Earth's turning about the GCRS z axis [km/s] (precession neglected)."""
+    return EARTH_ROTATION_RATE_RAD_PER_S * np.stack([-site_km[1], site_km[0], np.zeros_like(site_km[2])])
 
 
 def _site_true_of_date_km(gast_rad, latitude_deg, longitude_deg, elevation_m) -> np.ndarray:
@@ -155,8 +206,8 @@ def _longitude_difference_deg(time_utc: np.ndarray) -> np.ndarray:
 
 
 def _geocentric_phase_angle_deg(time_utc: np.ndarray) -> np.ndarray:
-    moon_km, sun_km, _ = _geometric_gcrs_km(time_utc)
-    return _angle_deg(sun_km - moon_km, -moon_km)
+    moon_km, moon_v, sun_km, _ = _triangle_gcrs(time_utc)
+    return _physical_phase_angle_deg(moon_km, moon_v, sun_km, np.zeros_like(moon_km))
 
 
 def quadratures_between(start_utc, stop_utc) -> tuple[np.ndarray, np.ndarray]:
@@ -215,7 +266,7 @@ def quadratures_between(start_utc, stop_utc) -> tuple[np.ndarray, np.ndarray]:
 
 
 def geocentric_dichotomy_utc(near_utc) -> np.ndarray:
-    """Geocentric true half moon: the geometric Sun-Moon-Earth angle is 90 deg.
+    """Geocentric true half moon: the Sun-Moon-Earth angle is 90 deg (the Sun where its light left it).
 
     Parameters
     ----------
@@ -231,7 +282,7 @@ def geocentric_dichotomy_utc(near_utc) -> np.ndarray:
     --------
     >>> t = geocentric_dichotomy_utc(np.array(["2025-01-06T23:56:18"], dtype="datetime64[s]"))
     >>> str(t[0].astype("datetime64[s]"))
-    '2025-01-06T23:40:59'
+    '2025-01-06T23:40:20'
     """
     near = np.asarray(as_utc_datetime64(near_utc), dtype="datetime64[us]")
     check_in_span(near)
@@ -244,7 +295,7 @@ class Quarters:
 
     All arrays have one entry per quarter, in time order. ``dichotomy_utc``
     is the geocentric true half moon; the elongation, distances and ratio
-    are the geometric ones at that instant, so ``distance_ratio`` equals
+    are those of the triangle at that instant (the Sun where its light left it), so ``distance_ratio`` equals
     ``1 / cos(elongation)`` (the right angle is at the Moon).
     """
 
@@ -286,13 +337,14 @@ def quarters_between(start_utc, stop_utc) -> Quarters:
     --------
     >>> q = quarters_between("2025-01-01T00:00Z", "2025-01-15T00:00Z")
     >>> round(float(q.dichotomy_minus_quadrature_s[0]) / 60, 1), round(float(q.elongation_deg[0]), 3)
-    (-15.3, 89.856)
+    (-16.0, 89.856)
     """
     quadrature, kind = quadratures_between(start_utc, stop_utc)
     dichotomy = geocentric_dichotomy_utc(quadrature) if len(quadrature) else quadrature
     if len(dichotomy):
         g = sun_moon_geocentric(dichotomy)
-        elongation, apparent = g.elongation_geometric_deg, g.elongation_apparent_deg
+        moon_tri, sun_tri, _ = _geometric_gcrs_km(dichotomy)
+        elongation, apparent = _angle_deg(moon_tri, sun_tri), g.elongation_apparent_deg
         moon_km = np.sqrt(np.sum(g.moon_geometric_km**2, axis=0))
         sun_km = np.sqrt(np.sum(g.sun_geometric_km**2, axis=0))
     else:
@@ -304,9 +356,9 @@ def quarters_between(start_utc, stop_utc) -> Quarters:
 
 
 def _topocentric_phase_angle_deg(time_utc, lat, lon, elev) -> np.ndarray:
-    moon_km, sun_km, t = _geometric_gcrs_km(time_utc)
+    moon_km, moon_v, sun_km, t = _triangle_gcrs(time_utc)
     site_km = _site_gcrs_km(t, lat, lon, elev)
-    return _angle_deg(sun_km - moon_km, site_km - moon_km)
+    return _physical_phase_angle_deg(moon_km, moon_v, sun_km, site_km, _site_velocity_km_s(site_km))
 
 
 def _topocentric_elongation_deg(time_utc, lat, lon, elev) -> np.ndarray:
@@ -316,7 +368,7 @@ def _topocentric_elongation_deg(time_utc, lat, lon, elev) -> np.ndarray:
 
 
 def topocentric_dichotomy_utc(near_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
-    """True half moon seen from a site: the geometric Sun-Moon-observer angle is 90 deg.
+    """True half moon seen from a site: the Sun-Moon-observer angle is 90 deg (the Sun where its light left it).
 
     Parameters
     ----------
@@ -334,7 +386,7 @@ def topocentric_dichotomy_utc(near_utc, latitude_deg, longitude_deg, elevation_m
     --------
     >>> t = topocentric_dichotomy_utc(np.datetime64("2025-01-06T23:41:00"), 46.2, 7.4, 620.0)
     >>> str(np.datetime64(t, "m"))   # 93 min after the geocentric instant: the Moon is low
-    '2025-01-07T01:14'
+    '2025-01-07T01:13'
     """
     t, lat, lon, elev, shape = _flat_inputs(near_utc, latitude_deg, longitude_deg, elevation_m)
     result = _newton(lambda x: _topocentric_phase_angle_deg(x, lat, lon, elev), t.astype("datetime64[us]"), 90.0)
@@ -342,7 +394,7 @@ def topocentric_dichotomy_utc(near_utc, latitude_deg, longitude_deg, elevation_m
 
 
 def time_of_elongation_utc(near_utc, elongation_deg, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
-    """When the geometric Sun-Moon angle seen from a site reaches a given value, near a given time.
+    """When the Sun-Moon angle of the triangle seen from a site reaches a given value, near a given time.
 
     Parameters
     ----------
@@ -361,7 +413,7 @@ def time_of_elongation_utc(near_utc, elongation_deg, latitude_deg, longitude_deg
     --------
     >>> t = time_of_elongation_utc(np.datetime64("2025-01-07T01:00"), 89.8552, 46.2, 7.4, 620.0)
     >>> str(np.datetime64(t, "m"))
-    '2025-01-07T01:14'
+    '2025-01-07T01:13'
     """
     t, lat, lon, elev, shape = _flat_inputs(near_utc, latitude_deg, longitude_deg, elevation_m)
     target = np.broadcast_to(np.asarray(elongation_deg, dtype=float), shape).ravel()
@@ -370,7 +422,7 @@ def time_of_elongation_utc(near_utc, elongation_deg, latitude_deg, longitude_deg
 
 
 def topocentric_quadrature_utc(near_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> np.ndarray:
-    """When the geometric Sun-Moon angle seen from a site is exactly 90 deg.
+    """When the Sun-Moon angle of the triangle seen from a site is exactly 90 deg.
 
     This is where a half moon would be if the Sun were infinitely far away;
     the interval method compares half-moon timings against it.

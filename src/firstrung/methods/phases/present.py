@@ -118,8 +118,8 @@ def phase_plan_to_json(plan) -> dict:
         },
         "definitions": {
             "quadrature_utc": "almanac quarter: apparent geocentric ecliptic longitudes of Moon and Sun differ by 90 or 270 deg",
-            "dichotomy_utc": "true half moon: geometric Sun-Moon-Earth angle 90 deg (geocentric)",
-            "sites.dichotomy_utc": "true half moon seen from the site: geometric Sun-Moon-observer angle 90 deg",
+            "dichotomy_utc": "true half moon: Sun-Moon-Earth angle 90 deg, the Moon lit by the Sun's apparent place (geocentric)",
+            "sites.dichotomy_utc": "true half moon seen from the site: Sun-Moon-observer angle 90 deg, the Moon lit by the Sun's apparent place",
             "windows": "Sun and Moon centres both above the minimum observed altitude (standard refraction) "
                        "and the Moon at least the minimum angle from the Sun",
         },
@@ -177,13 +177,26 @@ def _combined(c) -> dict:
     }
 
 
-def statement(ratio: dict) -> str:
-    """The result in words: the interval, or the lower bound only."""
+def statement(ratio: dict, elongation_deg: float | None = None, sigma_deg: float | None = None) -> str:
+    """The result in words: the interval, the one-sided bound, or why no finite ratio fits.
+
+    ``low`` alone is the ratio at E + sigma: the truth lies above it with 84 %
+    probability (one-sided), not 68 %. When E - sigma is beyond 90 deg the
+    data rule out every finite ratio (the angle at the Moon would be
+    obtuse): that points to biased timings or angles, and is said so.
+    """
     if ratio["low"] is None:
-        return "the data allow any Sun/Moon distance ratio (E + sigma reaches 90 deg and E - sigma is beyond it)"
+        if elongation_deg is not None and sigma_deg:
+            z = (elongation_deg - 90.0) / sigma_deg
+            return (f"no finite Sun/Moon distance ratio fits: E = {elongation_deg:.3f} ± {sigma_deg:.3f} deg lies "
+                    f"{z:.1f} sigma beyond 90 deg, where the Sun would be on the near side of the right angle; "
+                    "the timings or angles are probably biased (late first-quarter or early last-quarter "
+                    "judgements, a mis-set instrument): check them")
+        return ("no finite Sun/Moon distance ratio fits: E - sigma lies beyond 90 deg; the timings or angles are "
+                "probably biased: check them")
     if ratio["high"] is None:
-        return (f"D_sun/D_moon is at least {ratio['low']:.0f} (68 %); there is no upper bound: "
-                "the elongation may reach 90 deg within its error")
+        return (f"D_sun/D_moon is at least {ratio['low']:.0f} (84 %, one-sided: the image of E + sigma); there is "
+                "no upper bound: the elongation may reach 90 deg within its error")
     value = "infinite" if ratio["value"] is None else f"{ratio['value']:.0f}"
     return f"D_sun/D_moon = {value} (68 % interval {ratio['low']:.0f} to {ratio['high']:.0f})"
 
@@ -207,7 +220,7 @@ def phase_run_to_json(run) -> dict:
                 else _num(i.uncorrected_perfect_ratio, _RATIO_DIGITS),
                 "single_interval_spread_h": _num(i.interval_spread_h, 2) if i.interval_spread_h is not None else None,
                 "note": "uniform lunar motion assumed: the Moon's uneven motion shifts single intervals by up to "
-                        "about +/- 60 h, far more than the 70 min the Sun's distance causes; "
+                        "about +/- 32 h (31.9 h at most in 2000-2050, DE421), far more than the 70 min the Sun's distance causes; "
                         "perfect_timings_ratio is what this method gives for exact timings of the same half moons",
             },
             "corrected": None if i.corrected_ratio is None else {
@@ -224,7 +237,7 @@ def phase_run_to_json(run) -> dict:
         "elongation_deg": c["elongation_deg"],
         "lower_bound_95": c["lower_bound_95"],
         "only_lower_bound": ratio["high"] is None,
-        "statement": statement(ratio),
+        "statement": statement(ratio, run.combined.elongation_deg, run.combined.sigma_deg),
         "expected_ratio": _num(expected, _RATIO_DIGITS),
         "expected_elongation_deg": _num(run.expected_elongation_deg, 6),
         "ratio_to_expected": _num(ratio["value"] / expected, 4) if ratio["value"] is not None else None,

@@ -19,9 +19,11 @@ What each kind of observation gives (one small step per function):
 
 1. a **measured elongation** (the observer measures the Sun-Moon angle at the
    moment they judge the Moon half lit): the instrument sees refracted,
-   aberrated directions; :func:`corrected_elongation_deg` removes both with
-   the ephemeris's *directions* (refraction up to a few arcminutes near the
-   horizon, aberration about 20"); its error combines the instrument's and
+   aberrated directions; the Moon is lit by the same aberrated Sun (its light
+   left the Sun where the observer sees it), so the aberration belongs to the
+   triangle and stays; :func:`corrected_elongation_deg` removes refraction
+   (up to a few arcminutes near the horizon) and the sub-arcsecond rest with
+   the ephemeris's *directions*; its error combines the instrument's and
    the judgement's (the elongation moves about 0.5 deg/h);
 2. a **timing** of the half moon: E comes from the ephemeris's directions of
    the Sun and the Moon at the observed time, seen from the site (no
@@ -302,7 +304,8 @@ class HalfPhaseFit:
     chi2_per_dof: float | None
 
 
-def fit_half_phase(elongation_deg, illuminated_fraction, fraction_sigma, elongation_sigma_deg=0.0) -> HalfPhaseFit:
+def fit_half_phase(elongation_deg, illuminated_fraction, fraction_sigma, elongation_sigma_deg=0.0,
+                   fraction_zero_point_sigma: float = 0.0) -> HalfPhaseFit:
     """Elongation at half phase from images of the Moon around it.
 
     Each image gives ``y = asin(2k - 1) = 90 deg - i`` (Meeus 1998, eq. 48.1
@@ -325,6 +328,12 @@ def fit_half_phase(elongation_deg, illuminated_fraction, fraction_sigma, elongat
         One-sigma error of k [1], > 0.
     elongation_sigma_deg : float or array_like, optional
         Error of E from each image's clock [deg].
+    fraction_zero_point_sigma : float, optional
+        Error shared by every fraction of the series (a photometric zero
+        point: the same exposure, processing and threshold) [1]. It moves
+        all ``y`` alike, so it shifts ``E_half`` by ``2 dk / (b cos y)`` and
+        no scatter about the fit reveals it: it is added after the fit
+        (0.005 of zero point is 0.57 deg of E, four times 90 deg - E).
 
     Returns
     -------
@@ -388,6 +397,9 @@ def fit_half_phase(elongation_deg, illuminated_fraction, fraction_sigma, elongat
     chi2_dof = chi2 / dof if dof > 0 else None
     if chi2_dof is not None and chi2_dof > 1.0:
         var_half *= chi2_dof
+    zp = float(checked("fraction_zero_point_sigma", fraction_zero_point_sigma, 0.0, 1.0, "1"))
+    if zp > 0:
+        var_half += (math.degrees(2.0 * zp) / b) ** 2  # dy/dk = 2 / cos y, y = 0 at half phase
     return HalfPhaseFit(float(half), math.sqrt(var_half), float(b), bool(free), int(n), chi2_dof)
 
 
@@ -415,16 +427,27 @@ class CombinedElongation:
         return ratio_from_elongation(self.elongation_deg, self.sigma_deg)
 
 
-def combine_elongations(elongation_deg, sigma_deg) -> CombinedElongation:
+def combine_elongations(elongation_deg, sigma_deg, shared_sigma_deg=None, group=None) -> CombinedElongation:
     """Combine half-moon elongations from many observers: weighted mean in delta = 90 deg - E.
 
     The errors are Gaussian in E, not in the ratio: averaging ratios would
-    be dominated by the observers whose E came closest to 90 deg.
+    be dominated by the observers whose E came closest to 90 deg. Errors
+    shared by several estimates (the judgement of "exactly half lit" by all
+    who look at the same Moon) do not average down: with ``shared_sigma_deg``
+    and ``group`` each group is averaged first (weights 1/sigma^2; its own
+    errors average down, the shared part stays whole), then the groups as
+    independent estimates; the scale factor comes from the groups' scatter.
+    For a shared part common to the group this is the generalised
+    least-squares mean (Sherman-Morrison: its weights are the own ones).
 
     Parameters
     ----------
     elongation_deg, sigma_deg : array_like
-        Each estimate and its one-sigma error [deg].
+        Each estimate and its total one-sigma error [deg].
+    shared_sigma_deg : array_like, optional
+        The part of each sigma shared with the other estimates of its group [deg].
+    group : array_like, optional
+        Group label of each estimate (estimates of one group share that part).
 
     Returns
     -------
@@ -440,6 +463,11 @@ def combine_elongations(elongation_deg, sigma_deg) -> CombinedElongation:
     >>> c = combine_elongations([89.80, 89.90], [0.05, 0.05])
     >>> round(c.elongation_deg, 3), round(c.sigma_deg, 4), round(c.scale, 2)
     (89.85, 0.05, 1.41)
+
+    Two observers of one Moon sharing their whole judgement error gain nothing:
+
+    >>> round(combine_elongations([89.85, 89.85], [0.3, 0.3], [0.3, 0.3], [1, 1]).sigma_deg, 3)
+    0.3
     """
     e = np.atleast_1d(checked("elongation_deg", elongation_deg, 0.0, 180.0, "deg"))
     s = np.atleast_1d(checked("sigma_deg", sigma_deg, 0.0, 180.0, "deg"))
@@ -447,14 +475,38 @@ def combine_elongations(elongation_deg, sigma_deg) -> CombinedElongation:
         raise ComputationError("no half-moon estimate to combine")
     if e.shape != s.shape or np.any(s <= 0):
         raise InputError("sigma_deg: expected one positive error per elongation")
-    w = 1.0 / s**2
     delta = 90.0 - e
-    mean = float((w * delta).sum() / w.sum())
+    if shared_sigma_deg is None:
+        w = 1.0 / s**2
+        mean = float((w * delta).sum() / w.sum())
+        sigma = math.sqrt(1.0 / float(w.sum()))
+        chi2_dof = None
+        scale = 1.0
+        if e.size > 1:
+            chi2_dof = float((w * (delta - mean) ** 2).sum()) / (e.size - 1)
+            scale = max(1.0, math.sqrt(chi2_dof))
+        return CombinedElongation(90.0 - mean, sigma * scale, int(e.size), chi2_dof, scale)
+    shared = np.broadcast_to(np.asarray(shared_sigma_deg, dtype=float), e.shape)
+    labels = np.asarray(group if group is not None else np.arange(e.size), dtype=object)
+    own = np.sqrt(np.maximum(s**2 - shared**2, 0.0))
+    # each group first: weights 1/sigma^2, its own errors average down, the shared part does not
+    keys = sorted(set(labels.tolist()), key=str)
+    g_delta, g_var = [], []
+    for key in keys:
+        sel = labels == key
+        w = 1.0 / s[sel] ** 2
+        w = w / w.sum()
+        g_delta.append(float((w * delta[sel]).sum()))
+        g_var.append(float((w**2 * own[sel] ** 2).sum()) + float((w * shared[sel]).sum()) ** 2)
+    g_delta, g_var = np.array(g_delta), np.array(g_var)
+    # then the groups, independent of one another
+    w = 1.0 / g_var
+    mean = float((w * g_delta).sum() / w.sum())
     sigma = math.sqrt(1.0 / float(w.sum()))
     chi2_dof = None
     scale = 1.0
-    if e.size > 1:
-        chi2_dof = float((w * (delta - mean) ** 2).sum()) / (e.size - 1)
+    if len(keys) > 1:
+        chi2_dof = float((w * (g_delta - mean) ** 2).sum()) / (len(keys) - 1)
         scale = max(1.0, math.sqrt(chi2_dof))
     return CombinedElongation(90.0 - mean, sigma * scale, int(e.size), chi2_dof, scale)
 

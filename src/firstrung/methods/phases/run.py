@@ -22,6 +22,7 @@ from firstrung.errors import ComputationError, InputError, RowProblem
 from firstrung.methods.phases import reduction as m
 from firstrung.methods.phases.interval_method import IntervalMethod, interval_method
 from firstrung.methods.phases.log import read_phase_logs
+from firstrung.methods.phases.shared import mark_shared_judgement, shared_groups
 from firstrung.methods.phases.topocentric import both_up_windows, sun_moon_topocentric
 from firstrung.uncertainty import Measured
 
@@ -298,27 +299,42 @@ class PhaseSettings:
     elongation_sigma_deg : float
         The instrument's error of a measured Sun-Moon angle [deg].
     time_sigma_s : float
-        Error of judging the half moon by eye, for rows without ``time_sigma_s`` [s].
+        Error of judging "exactly half lit", for rows without ``time_sigma_s``
+        [s]. By eye the half moon is good to hours: the terminator is
+        straight at half moon and bows by only about 4" half an hour away
+        (the Moon's 933" radius times sin 0.25 deg), while the eye resolves
+        about 1', reached some 7 h away; 2 h is assumed (common practice).
+        The judgement is shared by everyone who looks at the same Moon: the
+        smallest judgement error among a quarter's observers is common to all
+        of them and does not average down.
     fraction_sigma : float
         Error of an illuminated fraction measured on an image [1].
+    fraction_zero_point_sigma : float
+        Error shared by every fraction of one photo series (a photometric zero
+        point: exposure, processing, the threshold of "lit") [1]; half the
+        per-image error by default.
     """
 
     elongation_sigma_deg: float = 0.25
-    time_sigma_s: float = 1800.0
+    time_sigma_s: float = 7200.0
     fraction_sigma: float = 0.01
+    fraction_zero_point_sigma: float = 0.005
 
     def check(self) -> None:
         for name, value in (("elongation_sigma_deg", self.elongation_sigma_deg), ("time_sigma_s", self.time_sigma_s),
                             ("fraction_sigma", self.fraction_sigma)):
             if not (np.isfinite(value) and value > 0):
                 raise InputError(f"{name}: received {value!r}; expected a positive error")
+        for name, value in (("fraction_zero_point_sigma", self.fraction_zero_point_sigma),):
+            if not (np.isfinite(value) and value >= 0):
+                raise InputError(f"{name}: received {value!r}; expected a non-negative error")
 
 
 @dataclass(frozen=True)
 class HalfMoonEstimate:
     """One estimate of the elongation at half moon: a row, or a series of images.
 
-    ``elongation_deg`` is the geometric Sun-Moon angle seen from the site at
+    ``elongation_deg`` is the triangle's Sun-Moon angle (the Sun where its light left it) seen from the site at
     the (judged or fitted) half moon, ``sun_moon_distance_ratio`` the ratio
     from it; ``expected_ratio`` is the ephemeris's for that site and quarter.
     """
@@ -340,6 +356,8 @@ class HalfMoonEstimate:
     rows: tuple[str, ...]
     corrections_deg: dict = field(default_factory=dict)
     fit: m.HalfPhaseFit | None = None
+    #: The part of ``elongation_deg.sigma`` shared with every estimate judged at the same Moon [deg].
+    shared_sigma_deg: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -490,7 +508,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
             e = m.corrected_elongation_deg(float(elong[k]), seen_minus_geometric)
             sigma = m.elongation_sigma_deg(settings.elongation_sigma_deg, judge, rate)
             kind = "elongation"
-            corrections = {"refraction": refraction, "aberration and parallax": seen_minus_geometric - refraction}
+            corrections = {"refraction": refraction, "parallax and the Moon's own aberration": seen_minus_geometric - refraction}
         else:
             e = float(at_row.elongation_deg[k])
             sigma = m.elongation_sigma_from_timing_deg(judge, rate)
@@ -504,6 +522,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
             rate_deg_per_h=rate, expected_elongation_deg=e_true, expected_ratio=r_true,
             site_dichotomy_utc=site_half[i], rows=(_label(log, k),), corrections_deg=corrections,
         ))
+    estimates = mark_shared_judgement(estimates)
 
     series_rows = np.flatnonzero(keep & is_frac)
     groups: dict[tuple, list[int]] = {}
@@ -514,7 +533,8 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         rows = np.array(sorted(rows, key=lambda r: t[r]))
         clock = np.where(np.isfinite(tsig[rows]), tsig[rows], 0.0)
         fit = m.fit_half_phase(at_row.elongation_deg[rows], frac[rows], settings.fraction_sigma,
-                               m.elongation_sigma_from_timing_deg(clock, at_row.elongation_rate_deg_per_h[rows]))
+                               m.elongation_sigma_from_timing_deg(clock, at_row.elongation_rate_deg_per_h[rows]),
+                               fraction_zero_point_sigma=settings.fraction_zero_point_sigma)
         nearest = rows[np.argmin(np.abs(frac[rows] - 0.5))]
         fits.append((key, rows, fit, nearest))
     if fits:
@@ -543,12 +563,13 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
 
     e_all = np.array([x.elongation_deg.value for x in estimates])
     s_all = np.array([x.elongation_deg.sigma for x in estimates])
-    combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all)
+    shared_all, group = shared_groups(estimates)
+    combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all, shared_all, group)
     by_kind = {}
     for kind in ("elongation", "timing", "fraction series"):
         sel = np.array([x.kind == kind for x in estimates])
         if sel.any():
-            by_kind[kind] = m.combine_elongations(np.clip(e_all[sel], 0, 180), s_all[sel])
+            by_kind[kind] = m.combine_elongations(np.clip(e_all[sel], 0, 180), s_all[sel], shared_all[sel], group[sel])
 
     expected_e = float(np.mean([x.expected_elongation_deg for x in estimates]))
     expected_r = float(np.mean([x.expected_ratio for x in estimates]))
@@ -560,22 +581,28 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     interval = _interval(estimates, pairs, pair_of, site_half, site_quad, at_quad, campaign)
 
     assumptions = [
-        "the right angle is at the Moon at the true half moon (geometric Sun-Moon-observer angle 90 deg); "
+        "the right angle is at the Moon at the true half moon (Sun-Moon-observer angle 90 deg, the Moon lit by "
+        "the Sun's apparent place: light time and aberration, as the observer sees it); "
         "the ratio is that of the observer's distances, which differs from the geocentric one by less than 1.7 %",
         "timings and fitted half phases give E from the ephemeris's directions of the Sun and the Moon seen "
         "from the site; no ephemeris distance enters the result",
-        "measured angles are reduced to geometric ones: standard refraction (10 deg C, 1010 hPa) and "
-        "aberration removed with the ephemeris's directions",
+        "measured angles are reduced to the triangle's: standard refraction (10 deg C, 1010 hPa) removed with "
+        "the ephemeris's directions; the Sun's aberration stays (it lights the Moon from the same place)",
         f"instrument error of a measured angle {settings.elongation_sigma_deg:g} deg (option)",
-        f"illuminated fractions measured to {settings.fraction_sigma:g} (option); a series' slope is fixed "
+        f"illuminated fractions measured to {settings.fraction_sigma:g} (option), with a zero point shared by "
+        f"each series of {settings.fraction_zero_point_sigma:g} (option); a series' slope is fixed "
         "by the geometry unless its images determine it to 10 %",
-        "estimates are combined by a weighted mean of 90 deg - E, scaled by sqrt(chi2/dof) when above 1",
+        "judging \"exactly half lit\" carries an error shared by all who look at the same Moon: the smallest "
+        "judgement error among a quarter's timings and angles is common to them all (it does not average down)",
+        "estimates are combined by generalised least squares in 90 deg - E (shared errors do not average "
+        "down), scaled by sqrt(chi2/dof) when above 1",
         "the 68 % interval of the ratio is the image of E +/- sigma; no upper bound when E + sigma reaches 90 deg",
     ]
     if defaulted_time:
         assumptions.append(
             f"{defaulted_time} row(s) without time_sigma_s: judging the half moon by eye to "
-            f"{settings.time_sigma_s / 60:g} min assumed (option)"
+            f"{settings.time_sigma_s / 60:g} min assumed (option; the terminator bows by only 4\" half an hour "
+            "from half moon, the eye resolves about 1')"
         )
     accepted = int(keep.sum())
     return PhaseRun(

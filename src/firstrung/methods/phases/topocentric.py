@@ -20,9 +20,11 @@ from firstrung.methods.phases.prediction import (
     _RATE_STEP_S,
     _US_PER_S,
     _flat_inputs,
-    _geometric_gcrs_km,
+    _physical_phase_angle_deg,
     _site_gcrs_km,
     _site_true_of_date_km,
+    _site_velocity_km_s,
+    _triangle_gcrs,
     _us,
 )
 from firstrung.refraction import apparent_from_true_altitude_deg, true_from_apparent_altitude_deg
@@ -35,12 +37,13 @@ class SunMoonTopocentric:
     Attributes
     ----------
     elongation_deg : ndarray
-        Geometric Sun-Moon angle at the observer [deg]: the angle of
-        Aristarchus' triangle.
+        Sun-Moon angle at the observer, the Sun where its light left it
+        (apparent, airless, without the site's parallax of the Sun) and the
+        Moon geometric [deg]: the angle of Aristarchus' triangle.
     elongation_rate_deg_per_h : ndarray
         Its rate of change [deg/h] (central difference over +/- 5 min).
     phase_angle_deg : ndarray
-        Geometric Sun-Moon-observer angle [deg]; 90 at the site's half moon.
+        Sun-Moon-observer angle, the same Sun [deg]; 90 at the site's (physical) half moon.
     illuminated_fraction : ndarray
         ``(1 + cos i) / 2`` for that phase angle [1].
     apparent_elongation_deg : ndarray
@@ -120,9 +123,9 @@ def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0,
 
     Examples
     --------
-    >>> g = sun_moon_topocentric("2025-01-07T01:14:13.45Z", 46.2, 7.4, 620.0)
+    >>> g = sun_moon_topocentric("2025-01-07T01:13:37.97Z", 46.2, 7.4, 620.0)
     >>> round(float(g.phase_angle_deg), 4), round(float(g.elongation_deg), 4)
-    (90.0, 89.8552)
+    (90.0, 89.855)
     """
     t_flat, lat, lon, elev, shape = _flat_inputs(time_utc, latitude_deg, longitude_deg, elevation_m)
     t_flat = t_flat.astype("datetime64[us]")
@@ -131,7 +134,7 @@ def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0,
     copies = 3 if rates else 1
     times = np.concatenate([t_flat, t_flat - step, t_flat + step][:copies])
     lat3, lon3, elev3 = (np.concatenate([x] * copies) for x in (lat, lon, elev))
-    moon_km, sun_km, t = _geometric_gcrs_km(times)
+    moon_km, moon_v, sun_km, t = _triangle_gcrs(times)
     site_km = _site_gcrs_km(t, lat3, lon3, elev3)
     to_sun, to_moon = sun_km - site_km, moon_km - site_km
     elongation3 = _angle_deg(to_sun, to_moon)
@@ -140,7 +143,8 @@ def sun_moon_topocentric(time_utc, latitude_deg, longitude_deg, elevation_m=0.0,
         rate = (elongation3[2 * n :] - elongation3[n : 2 * n]) / (2 * _RATE_STEP_S / 3600.0)
     else:
         rate = np.full(n, np.nan)
-    phase = _angle_deg(sun_km[:, :n] - moon_km[:, :n], -to_moon[:, :n])
+    phase = _physical_phase_angle_deg(moon_km[:, :n], moon_v[:, :n], sun_km[:, :n], site_km[:, :n],
+                                      _site_velocity_km_s(site_km[:, :n]))
 
     t_now = _prepared_time(t_flat)
     moon_app, sun_app = apparent_moon_and_sun_at(t_now)

@@ -16,6 +16,13 @@ EDGE_LIMB_SIGN = {"umbra": 1.0, "middle": 0.0, "outer": -1.0}
 #: width on the board (common practice: the eye finds the dark edge of a soft
 #: shadow to about a tenth of the penumbra, its middle and faint edge worse).
 EDGE_LOCATION_FRACTION = {"umbra": 0.10, "middle": 0.15, "outer": 0.25}
+#: One-sigma tilt of the shadow board along the shadow [rad]: a spirit level reads about
+#: 1 mm per m (common practice). A tilt tau moves the altitude by tau cos^2(a).
+BOARD_LEVEL_SIGMA_RAD = 1.0e-3
+#: One-sigma lean of the gnomon from the vertical along the shadow [rad]: set with a plumb
+#: line or a square to about 1 mm per m (common practice). The tip then stands h psi off the
+#: foot the shadow is measured from: the altitude moves by psi sin^2(a).
+GNOMON_PLUMB_SIGMA_RAD = 1.0e-3
 
 
 #: Relative one-sigma error of the refraction with standard conditions assumed:
@@ -92,6 +99,8 @@ def altitude_error_terms_rad(
         "shadow reading": h * np.asarray(shadow_sigma_m, float) / denom,
         "gnomon height": length * np.asarray(gnomon_sigma_m, float) / denom,
         "edge location": h * fraction * np.abs(width) / denom,
+        "board level": BOARD_LEVEL_SIGMA_RAD * length**2 / denom,
+        "gnomon plumb": GNOMON_PLUMB_SIGMA_RAD * h**2 / denom,
         "refraction": np.radians(refraction_fraction * np.asarray(refraction_deg, float)),
     }
 

@@ -274,7 +274,8 @@ def _error_terms(rows: ShadowReadings, length_m, altitude_deg, semidiameter_deg,
             name, altitude_deg[pick], semidiameter_deg[pick], refraction_deg[pick], measured_weather[pick],
         )
         random_var[pick] = terms["shadow reading"] ** 2
-        systematic_var[pick] = terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
+        systematic_var[pick] = (terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
+                                + terms["board level"] ** 2 + terms["gnomon plumb"] ** 2)
     return random_var, systematic_var
 
 

@@ -83,6 +83,8 @@ BUDGET_SOURCES = (
     "clock",
     "gnomon height",
     "edge location",
+    "board level",
+    "gnomon plumb",
     "refraction",
     "site positions",
     "baselines",
@@ -189,6 +191,10 @@ class _Prepared:
     hour_angle_rate: np.ndarray
     semidiameter_deg: np.ndarray
     refraction_deg: np.ndarray
+    #: Per reading: the altitude error of the board's tilt and of the gnomon's lean [rad]
+    #: (common to a site's readings: one board, one rod).
+    board_level_sigma_rad: np.ndarray | None = None
+    gnomon_plumb_sigma_rad: np.ndarray | None = None
 
 
 def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
@@ -260,6 +266,8 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
         hour_angle_rate=np.radians(track.hour_angle_rate_deg_per_s[keep]),
         semidiameter_deg=pos.semidiameter_deg[keep],
         refraction_deg=refr[keep],
+        board_level_sigma_rad=terms["board level"][keep],
+        gnomon_plumb_sigma_rad=terms["gnomon plumb"][keep],
     )
 
 
@@ -285,9 +293,9 @@ def _group_sum(group, n, values):
 def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     """Per site: weighted mean of its series' latitudes, and the 1-sigma contribution of each source.
 
-    Gnomon height and edge location are taken as common to all series of a
-    site (same instrument, same eye); reading and refraction errors as
-    independent between days.
+    Gnomon height, edge location, the board's level and the gnomon's plumb
+    are taken as common to all series of a site (same instrument, same eye);
+    reading and refraction errors as independent between days.
     """
     n_groups = len(prep.group_site)
     gain = fit.gain_latitude
@@ -298,7 +306,9 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     gnomon = np.abs(_group_sum(prep.group, n_groups, gain * prep.dalt_dgnomon_rad_per_m * _gnomon_sigma(prep)))
     edge = np.abs(_group_sum(prep.group, n_groups, gain * prep.edge_sigma_rad))
     refraction = np.abs(_group_sum(prep.group, n_groups, gain * prep.refraction_sigma_rad))
-    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2)
+    level = np.abs(_group_sum(prep.group, n_groups, gain * prep.board_level_sigma_rad))
+    plumb = np.abs(_group_sum(prep.group, n_groups, gain * prep.gnomon_plumb_sigma_rad))
+    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2 + level**2 + plumb**2)
     n_sites = len(prep.sites)
     w = 1.0 / total**2
     wsum = _group_sum(prep.group_site, n_sites, w)
@@ -310,10 +320,12 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
         "clock": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * clock) ** 2)),
         "gnomon height": _group_sum(prep.group_site, n_sites, frac * gnomon),
         "edge location": _group_sum(prep.group_site, n_sites, frac * edge),
+        "board level": _group_sum(prep.group_site, n_sites, frac * level),
+        "gnomon plumb": _group_sum(prep.group_site, n_sites, frac * plumb),
         "refraction": np.sqrt(_group_sum(prep.group_site, n_sites, (frac * refraction) ** 2)),
     }
     per_series = {"shadow reading": reading, "clock": clock, "gnomon height": gnomon, "edge location": edge,
-                  "refraction": refraction}
+                  "board level": level, "gnomon plumb": plumb, "refraction": refraction}
     return present, latitude, contributions, per_series, total
 
 
@@ -613,6 +625,10 @@ def monte_carlo_radius(
     alt = alt + edge_draw * prep.edge_sigma_rad
     refr_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
     alt = alt + refr_draw * prep.refraction_sigma_rad
+    level_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
+    alt = alt + level_draw * prep.board_level_sigma_rad
+    plumb_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
+    alt = alt + plumb_draw * prep.gnomon_plumb_sigma_rad
     fit = _fit(prep, alt)
     # combine series per site with the nominal weights
     nominal_fit = _fit(prep, prep.altitude_rad)

@@ -36,11 +36,16 @@ class ShadowErrors:
     edge_fraction: float | None = 0.0  # None: firstrung's stated fraction for the edge
     refraction_fraction: float = 0.0
     clock_sigma_s: float = 0.0
+    board_level_rad: float = 0.0
+    gnomon_plumb_rad: float = 0.0
 
     @classmethod
     def stated(cls, shadow_sigma_m: float, gnomon_sigma_m: float, clock_sigma_s: float = 0.0) -> ShadowErrors:
         """The error model the reduction assumes, for calibration runs."""
-        return cls(shadow_sigma_m, gnomon_sigma_m, None, REFRACTION_SIGMA_FRACTION_STANDARD, clock_sigma_s)
+        from firstrung.methods.shadows.altitude import BOARD_LEVEL_SIGMA_RAD, GNOMON_PLUMB_SIGMA_RAD
+
+        return cls(shadow_sigma_m, gnomon_sigma_m, None, REFRACTION_SIGMA_FRACTION_STANDARD, clock_sigma_s,
+                   BOARD_LEVEL_SIGMA_RAD, GNOMON_PLUMB_SIGMA_RAD)
 
 
 @dataclass(frozen=True)
@@ -108,6 +113,12 @@ def simulate_shadow_readings(
     limb_app = limb_true + (limb_app_nominal - limb_true) * refraction_scale[idx]
     h_true = h_nominal + errors.gnomon_sigma_m * rng.standard_normal(n_sites)
     length = h_true[idx] / np.tan(np.radians(limb_app))
+    if errors.board_level_rad or errors.gnomon_plumb_rad:
+        # a board tilted by tau along the shadow: the ray meets it at h / (tan a + tan tau); a rod
+        # leaning by psi puts its tip h tan psi beyond the foot the length is read from
+        tilt = errors.board_level_rad * rng.standard_normal(n_sites)
+        lean = errors.gnomon_plumb_rad * rng.standard_normal(n_sites)
+        length = h_true[idx] / (np.tan(np.radians(limb_app)) + np.tan(tilt[idx])) + h_true[idx] * np.tan(lean[idx])
     if errors.edge_fraction is None:
         fraction = np.array([EDGE_LOCATION_FRACTION[e] for e in edge])[idx]
     else:
