@@ -43,7 +43,6 @@ import itertools
 import math
 import operator
 import os
-import re
 import stat
 import sys
 from collections.abc import Callable, Iterable, Sequence
@@ -54,9 +53,26 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.csv_cells import (
+    _DECIMAL_COMMA_RE,
+    _GROUPED_POINT_RE,
+    _NUMBER_RE,
+    _choose_columns,
+    _number,
+    _surplus_message,
+    _swallowed,
+    column_arrays,
+    got,
+)
 from firstrung.errors import RowProblem
+from firstrung.text_files import (
+    _DELIMITER_NAMES,
+    _normal_name,
+    _sniff_delimiter,
+    decode,
+    is_skipped,
+)
 from firstrung.times import (
-    QUOTED_LIMIT,
     TimeFormatError,
     in_ephemeris_span,
     parse_local,
@@ -66,12 +82,6 @@ from firstrung.times import (
 
 __all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "cell_text", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_rows", "time_sigma_s"]
 
-
-#: Largest accepted timing uncertainty [s]: beyond an hour a timing says nothing
-#: about a contact or a half moon, and the value is a unit typed wrongly.
-TIME_SIGMA_LIMIT_S = 3600.0
-
-_NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 
 #: Largest log file read [bytes]: about four million rows; a larger file is refused with a
 #: message (the text and its rows are held in memory while they are read).
@@ -121,25 +131,6 @@ class LogRows:
 
 
 # --- the shared core -----------------------------------------------------------
-
-#: Separators a log may use, and how a note names them.
-_DELIMITER_NAMES = {",": "','-separated", ";": "';'-separated", "\t": "tab-separated"}
-#: A number with a decimal comma (``103,8``, ``-0,5``, ``,25``, ``1,5e3``).
-_DECIMAL_COMMA_RE = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
-#: A number that a decimal-comma locale writes with ``.`` between groups of thousands.
-_GROUPED_POINT_RE = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
-#: Two cells that a decimal comma may have split (``103`` and ``8``).
-_INTEGER_RE = re.compile(r"^[+-]?\d+$")
-_DIGITS_RE = re.compile(r"^\d+$")
-#: Characters that leave a cell blank (separators of another kind included).
-_BLANK_CHARS = " \t\r\n\f\v\u00a0,;"
-#: File signatures of spreadsheet workbooks: ZIP (.xlsx, .ods) and OLE2 (.xls).
-_WORKBOOK_SIGNATURES = (b"PK\x03\x04", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1")
-#: Column names listed at most in a message about a header.
-_SHOWN_COLUMNS = 12
-#: Lines read to find the header when choosing the separator.
-_SNIFF_LINES = 200
-_SAVE_AS = "save the file as CSV UTF-8"
 
 
 @dataclass(frozen=True)
@@ -221,201 +212,6 @@ def display_name(path: Path, campaign: Campaign) -> str:
         return Path(os.path.relpath(path, campaign.folder)).as_posix()
     except ValueError:  # another drive on Windows
         return Path(path).as_posix()
-
-
-def _utf16_without_bom(data: bytes) -> str | None:
-    """``'utf-16-le'``/``'utf-16-be'`` when the bytes read as UTF-16 with no byte-order mark.
-
-    Text in the Latin range written as UTF-16 has a NUL in every other byte;
-    CSV UTF-8 has none.
-    """
-    sample = data[:4096]
-    pairs = len(sample) // 2
-    if pairs < 2:
-        return None
-    even = sample[0 : 2 * pairs : 2].count(0)
-    odd = sample[1 : 2 * pairs : 2].count(0)
-    if odd >= 0.75 * pairs and even <= 0.05 * pairs:
-        return "utf-16-le"
-    if even >= 0.75 * pairs and odd <= 0.05 * pairs:
-        return "utf-16-be"
-    return None
-
-
-def decode(data: bytes, label: str) -> tuple[str | None, str | None, RowProblem | None]:
-    """The text of a file, how it was read when not as UTF-8, or the problem that stops it."""
-
-    def refuse(message: str) -> tuple[None, None, RowProblem]:
-        return None, None, RowProblem(label, None, None, message)
-
-    if data.startswith(_WORKBOOK_SIGNATURES):
-        return refuse(
-            "a spreadsheet workbook (.xlsx, .ods or .xls), not CSV text; "
-            "save the sheet as CSV UTF-8"
-        )
-    if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
-        return refuse(f"UTF-32 text; {_SAVE_AS}")
-    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        codec, encoding = "utf-16", "UTF-16 text"
-    else:
-        codec, encoding = _utf16_without_bom(data), "UTF-16 text without a byte-order mark"
-    if codec is not None:
-        try:
-            return data.decode(codec), encoding, None
-        except UnicodeDecodeError as error:
-            return refuse(f"not valid UTF-16 text (at byte offset {error.start}); {_SAVE_AS}")
-    if data.startswith(b"\xef\xbb\xbf"):
-        try:
-            return data[3:].decode("utf-8"), None, None
-        except UnicodeDecodeError as error:
-            offset = error.start + 3
-            return refuse(
-                "not UTF-8 text although it starts with a UTF-8 byte-order mark "
-                f"(byte 0x{data[offset]:02x} at offset {offset}); {_SAVE_AS}"
-            )
-    try:
-        return data.decode("utf-8"), None, None
-    except UnicodeDecodeError as error:
-        mixed = _utf8_with_stray_lines(data)
-        if mixed is not None:
-            text, stray = mixed
-            line, byte = stray[0]
-            encoding = (
-                f"UTF-8 text, with {len(stray)} line(s) that are not UTF-8 taken as Windows-1252 "
-                f"(line {line}: byte 0x{byte:02x}; check letters outside ASCII in the names and notes there)"
-            )
-            return text, encoding, None
-        # Readings are ASCII (numbers, ISO times, site ids); only free text can
-        # hold other letters, so reading the usual 8-bit spreadsheet encoding
-        # loses nothing and at worst misspells a name.
-        encoding = (
-            f"Windows-1252 text, as it is not UTF-8 (byte 0x{data[error.start]:02x} at offset "
-            f"{error.start}; check letters outside ASCII in names and notes)"
-        )
-        return data.decode("cp1252", errors="replace"), encoding, None
-
-
-def _utf8_with_stray_lines(data: bytes) -> tuple[str, list[tuple[int, int]]] | None:
-    """UTF-8 text with a few lines in an 8-bit encoding (one pasted from elsewhere), or None.
-
-    Each line that is UTF-8 is read as UTF-8, each other line as Windows-1252;
-    returns the text and the stray lines' numbers (from 1) with their first
-    non-UTF-8 byte. None unless some line holds real UTF-8 beyond ASCII
-    (otherwise the whole file is read as Windows-1252, as before).
-    """
-    parts, stray, utf8_letters = [], [], False
-    for number, line in enumerate(data.split(b"\n"), start=1):
-        try:
-            parts.append(line.decode("utf-8"))
-            utf8_letters = utf8_letters or not line.isascii()
-        except UnicodeDecodeError as error:
-            parts.append(line.decode("cp1252", errors="replace"))
-            stray.append((number, line[error.start]))
-    if not utf8_letters or not stray:
-        return None
-    return "\n".join(parts), stray
-
-
-def is_skipped(cells: Sequence[str]) -> bool:
-    """Blank lines, lines of empty cells and comment lines (starting with ``#``)."""
-    if not cells or all(not cell.strip(_BLANK_CHARS) for cell in cells):
-        return True
-    return cells[0].lstrip().startswith("#")
-
-
-def _normal_name(cell: str) -> str:
-    """A header cell as a column name: lower case, no surrounding spaces, ``_`` for inner ones."""
-    return re.sub(r"\s+", "_", cell.replace("\ufeff", "").strip().lower())
-
-
-def _sniff_delimiter(text: str, known: set[str]) -> str:
-    """The separator that splits the header line into the most known column names."""
-    best, best_count = ",", 0
-    for delimiter in _DELIMITER_NAMES:
-        reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
-        try:
-            header = next(
-                (cells for cells in itertools.islice(reader, _SNIFF_LINES) if not is_skipped(cells)),
-                [],
-            )
-        except csv.Error:
-            continue
-        count = sum(_normal_name(cell) in known for cell in header)
-        if count > best_count:
-            best, best_count = delimiter, count
-    return best
-
-
-def _printable(name: str) -> str:
-    """A header name for a one-line message: as it is, or quoted when odd or very long."""
-    return name if name.isprintable() and len(name) <= QUOTED_LIMIT else quoted(name)
-
-
-def _swallowed(cells: Sequence[str], delimiter: str, width: int) -> tuple[int, int] | None:
-    """A quoted cell that took in lines looking like rows: its index and how many line ends."""
-    for index, cell in enumerate(cells):
-        if "\n" not in cell and "\r" not in cell:
-            continue
-        more = cell.splitlines()[1:]
-        if any(line.count(delimiter) >= min(width, 3) - 1 for line in more):
-            return index, len(more)
-    return None
-
-
-def _surplus_message(cells: Sequence[str], expected: int, delimiter: str) -> str:
-    """Why a row has more cells than the header, as precisely as the cells show."""
-    message = f"expected {expected} cells as in the header, got {len(cells)}"
-    if delimiter == ",":
-        for left, right in zip(cells, cells[1:], strict=False):
-            left, right = left.strip(), right.strip()
-            if _INTEGER_RE.match(left) and _DIGITS_RE.match(right):
-                return (
-                    f"{message} (is '{left},{right}' a number with a decimal comma? In a "
-                    f"','-separated file write {left}.{right}, or save the file with ';' separators)"
-                )
-    shown = "tab" if delimiter == "\t" else repr(delimiter)
-    return f"{message}; put a cell that holds a {shown} in double quotes"
-
-
-def _choose_columns(
-    header: list[str], slots: Sequence[Slot], label: str
-) -> tuple[dict[str, str | None], list[RowProblem]]:
-    """Which header name fills each slot, and the file-level problems of the header."""
-    problems: list[RowProblem] = []
-    chosen: dict[str, str | None] = {}
-    seen: set[str] = set()
-    for name in header:
-        if name and name in seen:
-            problems.append(RowProblem(label, None, None, f"column {quoted(name)} appears twice"))
-        seen.add(name)
-    required = ", ".join(slot.shown for slot in slots if slot.required)
-    names = [_printable(name) for name in header if name]
-    found = ", ".join(names[:_SHOWN_COLUMNS]) or "no column names"
-    if len(names) > _SHOWN_COLUMNS:
-        found += f" and {len(names) - _SHOWN_COLUMNS} more"
-    for slot in slots:
-        present = [name for name in slot.names if name in seen]
-        chosen[slot.names[0]] = present[0] if len(present) == 1 else None
-        if len(present) > 1:
-            if slot.names == TIME_COLUMNS:
-                message = "both time_utc and time_local present; give one time column per file"
-            else:
-                message = (
-                    f"more than one of the columns {', '.join(present)}; give exactly one "
-                    f"of {', '.join(slot.names)}"
-                )
-            problems.append(RowProblem(label, None, None, message))
-        elif not present and slot.required:
-            wanted = " or ".join(repr(name) for name in slot.names)
-            problems.append(
-                RowProblem(
-                    label,
-                    None,
-                    None,
-                    f"missing column {wanted} (expected {required}; found {found})",
-                )
-            )
-    return chosen, problems
 
 
 _FIRST_CELL = operator.itemgetter(0)
@@ -618,18 +414,6 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
             if column is not None
         )
     return table
-
-
-def got(cell: str) -> str:
-    return "an empty cell" if cell == "" else quoted(cell)
-
-
-def _number(cell: str) -> float | None:
-    """A plain decimal number (decimal point, optional exponent), else ``None``."""
-    if not _NUMBER_RE.match(cell):
-        return None
-    value = float(cell)
-    return value if math.isfinite(value) else None
 
 
 class Row:
@@ -836,14 +620,6 @@ def _parse_one(row: Row, campaign: Campaign, parse_row, label: str, good: list[d
     good.append(values)
 
 
-def column_arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
-    """Columns of the good rows as numpy arrays of the given dtypes."""
-    return {
-        name: np.array([values[name] for values in good], dtype=dtype)
-        for name, dtype in spec.items()
-    }
-
-
 COMMON_DTYPES: dict[str, object] = {
     "file": str,
     "row": np.int64,
@@ -851,23 +627,6 @@ COMMON_DTYPES: dict[str, object] = {
     "time_utc": "datetime64[ms]",
     "time_column": str,
 }
-
-
-def cell_text(row: Row, slot_name: str) -> str:
-    return row.cell(slot_name)
-
-
-def time_sigma_s(row: Row) -> float:
-    """The row's timing uncertainty [s]; NaN when absent or refused."""
-    sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
-    if sigma_s > TIME_SIGMA_LIMIT_S:
-        row.problem(
-            "time_sigma_s",
-            f"expected a timing uncertainty of at most {TIME_SIGMA_LIMIT_S:g} s, "
-            f"got {quoted(row.cell('time_sigma_s'))}",
-        )
-        return math.nan
-    return sigma_s
 
 
 # --- shadows --------------------------------------------------------------------

@@ -16,7 +16,6 @@ times are compared in TT: NASA UT + NASA Delta T against our UTC + (TT - UTC).
 
 from __future__ import annotations
 
-
 import numpy as np
 import pytest
 

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from firstrung import tabular as _logs
+from firstrung import text_files
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
@@ -83,7 +84,7 @@ _SLOTS = {"shadows": "_SHADOW_SLOTS", "eclipse": "_ECLIPSE_SLOTS", "phases": "_P
 
 def _text_of(data: bytes, label: str) -> str | None:
     """The file's text decoded as the readers decode it, or None when they refuse it."""
-    decoded = _logs.decode(data, label)
+    decoded = text_files.decode(data, label)
     text, problem = decoded[0], decoded[-1]
     if problem is not None or text is None:
         return None
@@ -120,7 +121,7 @@ def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tu
             try:
                 number = 0
                 for cells in csv.reader(io.StringIO(text, newline=""), delimiter=delimiter):
-                    if _logs.is_skipped(cells):
+                    if text_files.is_skipped(cells):
                         continue
                     if not header:
                         header = tuple(normal(c) for c in cells)

@@ -18,18 +18,10 @@ import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
 from firstrung.methods.shadows.inputs import ShadowReadings
-from firstrung.tabular import (
-    COMMON_DTYPES,
-    TIME_COLUMNS,
-    LogRows,
-    Row,
-    Slot,
-    Table,
-    cell_text,
-    read_columns,
-)
+from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, Table, read_columns
 from firstrung.times import quoted
 
 #: Largest accepted shadow length [m]; longer readings are typing errors.

@@ -14,19 +14,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.campaign_model import Campaign
+from firstrung.csv_cells import cell_text, column_arrays, got, time_sigma_s
 from firstrung.errors import RowProblem
-from firstrung.tabular import (
-    COMMON_DTYPES,
-    TIME_COLUMNS,
-    LogRows,
-    Row,
-    Slot,
-    cell_text,
-    column_arrays,
-    got,
-    read_rows,
-    time_sigma_s,
-)
+from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, read_rows
 
 #: The contacts in their canonical spelling.
 TRANSIT_EVENTS = ("C1", "C2", "C3", "C4")

@@ -317,7 +317,7 @@ def inferior_planet_transits(first_utc, last_utc, planets=PLANETS) -> Transits:
     ['2032-11-13', '2039-11-07']
     """
     from firstrung.ephemeris import as_utc_datetime64, check_in_span
-    from firstrung.ephemeris.planets import tt_jd_of_utc, utc_of_tt_jd
+    from firstrung.ephemeris.planets import tt_jd_of_utc
 
     first, last = (np.asarray(as_utc_datetime64(x), dtype="datetime64[us]").reshape(-1) for x in (first_utc, last_utc))
     check_in_span(np.concatenate([first, last]).astype("datetime64[ms]"), "transit search")

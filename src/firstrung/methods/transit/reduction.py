@@ -35,7 +35,13 @@ import numpy as np
 
 from firstrung.constants import ASTRONOMICAL_UNIT_KM
 from firstrung.errors import ComputationError
-from firstrung.uncertainty import BudgetTerm, Measured, budget_from_contributions, gaussian, reciprocal_of_gaussian
+from firstrung.uncertainty import (
+    BudgetTerm,
+    Measured,
+    budget_from_contributions,
+    gaussian,
+    reciprocal_of_gaussian,
+)
 
 #: DE421's solar parallax [arcsec]: asin(a / 1 au) with a = 6378.1366 km; the IERS/IAU value
 #: is 8.794 143" (IERS Conventions 2010, Table 1.1).
