@@ -5,17 +5,32 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
 from firstrung.errors import RowProblem
-from firstrung.tabular import TIME_COLUMNS, Slot
 from firstrung.text_files import (
     _printable,
 )
 from firstrung.times import (
     quoted,
 )
+
+TIME_COLUMNS = ("time_utc", "time_local")
+
+
+@dataclass(frozen=True)
+class Slot:
+    """One logical column: a single name or a family of alternatives (units, time kinds)."""
+
+    names: tuple[str, ...]
+    required: bool = False
+    numeric: bool = False
+
+    @property
+    def shown(self) -> str:
+        return "|".join(self.names)
 
 _NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 

@@ -57,6 +57,8 @@ from firstrung.csv_cells import (
     _DECIMAL_COMMA_RE,
     _GROUPED_POINT_RE,
     _NUMBER_RE,
+    TIME_COLUMNS,
+    Slot,
     _choose_columns,
     _number,
     _surplus_message,
@@ -93,7 +95,6 @@ csv.field_size_limit(min(sys.maxsize, 2**31 - 1))
 #: Plain rows of a kind with a column reader take it (same results as the full row checks, which
 #: read every row when this is off; a test compares the two on the whole bad-input corpus).
 FAST_PATH = True
-TIME_COLUMNS = ("time_utc", "time_local")
 _TIME_EXAMPLES = {"time_utc": "2027-03-20T11:38:00Z", "time_local": "2027-03-20T12:38:00"}
 _SPAN_TEXT = f"{EPHEMERIS_FIRST_UTC[:10]} and {EPHEMERIS_LAST_UTC[:10]}"
 
@@ -131,19 +132,6 @@ class LogRows:
 
 
 # --- the shared core -----------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Slot:
-    """One logical column: a single name or a family of alternatives (units, time kinds)."""
-
-    names: tuple[str, ...]
-    required: bool = False
-    numeric: bool = False
-
-    @property
-    def shown(self) -> str:
-        return "|".join(self.names)
 
 
 @dataclass
