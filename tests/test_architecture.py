@@ -135,3 +135,4 @@ def test_every_registered_method_provides_each_part(method):
     assert callable(method.module("check").log_flags)
     rehearsal = method.module("rehearsal")
     assert rehearsal.LOG_COLUMNS[0] == "site" and callable(rehearsal.rehearsal_rows)
+    assert callable(method.module("rung").ladder_draws)

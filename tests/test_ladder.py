@@ -8,9 +8,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from firstrung.app.ladder import MODERN_VALUES, Draw, LadderInputs, climb, earth_radius_draw
+from firstrung.app.ladder import MODERN_VALUES, LadderInputs, climb
 from firstrung.cli import main
-from firstrung.uncertainty import reciprocal_of_gaussian
+from firstrung.uncertainty import Draw, earth_radius_draw, reciprocal_of_gaussian
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
 

@@ -69,10 +69,10 @@ from firstrung.csv_cells import (
 from firstrung.errors import RowProblem
 from firstrung.text_files import (
     _DELIMITER_NAMES,
-    _normal_name,
-    _sniff_delimiter,
     decode,
     is_skipped,
+    normal_name,
+    sniff_delimiter,
 )
 from firstrung.times import (
     TimeFormatError,
@@ -253,7 +253,7 @@ def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: 
     data = [r for k, r in enumerate(records) if k not in skipped] if skipped else records
     if not data:
         return False  # an empty file: the loop's message
-    header = [_normal_name(cell) for cell in data[0]]
+    header = [normal_name(cell) for cell in data[0]]
     table.chosen, problems = _choose_columns(header, slots, table.label)
     table.problems.extend(problems)
     table.numbers, table.columns = [], {}
@@ -336,7 +336,7 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
         text = text[1:]
 
     known = {name for slot in slots for name in slot.names}
-    table.delimiter = _sniff_delimiter(text, known)
+    table.delimiter = sniff_delimiter(text, known)
     lines = io.StringIO(text, newline="").readlines()
     if columnar and _columns_pass(table, lines, slots, known):
         return table
@@ -353,7 +353,7 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
                 if is_skipped(cells):
                     continue
                 if header is None:
-                    header = [_normal_name(cell) for cell in cells]
+                    header = [normal_name(cell) for cell in cells]
                     table.chosen, problems = _choose_columns(header, slots, label)
                     table.problems.extend(problems)
                     if problems:

@@ -133,12 +133,12 @@ def is_skipped(cells: Sequence[str]) -> bool:
     return cells[0].lstrip().startswith("#")
 
 
-def _normal_name(cell: str) -> str:
+def normal_name(cell: str) -> str:
     """A header cell as a column name: lower case, no surrounding spaces, ``_`` for inner ones."""
     return re.sub(r"\s+", "_", cell.replace("\ufeff", "").strip().lower())
 
 
-def _sniff_delimiter(text: str, known: set[str]) -> str:
+def sniff_delimiter(text: str, known: set[str]) -> str:
     """The separator that splits the header line into the most known column names."""
     best, best_count = ",", 0
     for delimiter in _DELIMITER_NAMES:
@@ -150,7 +150,7 @@ def _sniff_delimiter(text: str, known: set[str]) -> str:
             )
         except csv.Error:
             continue
-        count = sum(_normal_name(cell) in known for cell in header)
+        count = sum(normal_name(cell) in known for cell in header)
         if count > best_count:
             best, best_count = delimiter, count
     return best

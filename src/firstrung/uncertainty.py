@@ -158,3 +158,45 @@ def chi2_survival(chi2, dof):
         total = total + np.where(even_term | odd_term, term, 0.0)
     out = np.minimum(total, 1.0)
     return out if out.ndim else float(out)
+
+
+@dataclass(frozen=True)
+class Draw:
+    """How to draw a rung's result: a Gaussian variable and the function of it the result is.
+
+    kinds: ``gaussian`` (x), ``reciprocal`` (scale / x), ``reciprocal_sine``
+    (scale / sin x, x in rad: distance from a parallax), ``secant`` (scale / cos x,
+    x in rad: the half-moon ratio; cos x <= 0 gives +inf, i.e. no upper bound).
+    """
+
+    kind: str
+    mean: float
+    sigma: float
+    scale: float = 1.0
+
+    def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
+        """``n`` draws of the result.
+
+        >>> d = Draw("reciprocal", 2.0, 0.0, 1.0)
+        >>> d.sample(np.random.default_rng(1), 2).tolist()
+        [0.5, 0.5]
+        """
+        x = rng.normal(self.mean, self.sigma, n) if self.sigma > 0 else np.full(n, self.mean)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            if self.kind == "gaussian":
+                return self.scale * x
+            if self.kind == "reciprocal":
+                return np.where(x > 0, self.scale / x, np.inf)
+            if self.kind == "reciprocal_sine":
+                return np.where(x > 0, self.scale / np.sin(x), np.inf)
+            if self.kind == "secant":
+                c = np.cos(x)
+                return np.where(c > 0, self.scale / c, np.inf)
+        raise ValueError(f"unknown draw kind {self.kind!r}")
+
+
+def earth_radius_draw(radius: Measured) -> Draw:
+    """The shadow rung: the fitted slope k = 1/R is Gaussian."""
+    k = 1.0 / radius.value
+    sigma_k = (radius.sigma or 0.0) * k**2
+    return Draw("reciprocal", k, sigma_k, 1.0)

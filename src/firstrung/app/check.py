@@ -79,7 +79,6 @@ class CheckRun:
 
 
 #: The readers' column slots of each kind (for the separator sniffing and the header names).
-_SLOTS = {"shadows": "_SHADOW_SLOTS", "eclipse": "_ECLIPSE_SLOTS", "phases": "_PHASE_SLOTS"}
 
 
 def _text_of(data: bytes, label: str) -> str | None:
@@ -99,9 +98,11 @@ def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tu
     reader's problem says why). ``kept``: the rows the readers kept while the
     check read them (:func:`firstrung.tabular.raw_rows_kept`); those files are not read again.
     """
-    slots = getattr(_logs, _SLOTS.get(kind, ""), ())
+    from firstrung.methods import by_log_kind
+
+    slots = by_log_kind(kind).module("log").LOG_SLOTS
     known = {name for slot in slots for name in slot.names}
-    normal = getattr(_logs, "_normal_name", lambda cell: cell.strip().lower())
+    normal = text_files.normal_name
     out = []
     for path in campaign.logs.get(kind, ()):
         label = _logs.display_name(Path(path), campaign)
@@ -116,8 +117,7 @@ def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tu
         header: tuple[str, ...] = ()
         rows = []
         if text is not None:
-            sniff = getattr(_logs, "_sniff_delimiter", None)
-            delimiter = sniff(text, known) if sniff is not None else ","
+            delimiter = text_files.sniff_delimiter(text, known)
             try:
                 number = 0
                 for cells in csv.reader(io.StringIO(text, newline=""), delimiter=delimiter):

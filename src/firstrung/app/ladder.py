@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from firstrung.uncertainty import Measured
+from firstrung.uncertainty import Draw, Measured
 
 #: Modern values to compare with: (value, unit, source).
 MODERN_VALUES = {
@@ -28,41 +28,6 @@ MODERN_VALUES = {
 }
 ASTRONOMICAL_UNIT_KM = 149_597_870.7
 DEFAULT_SAMPLES = 100_000
-
-
-@dataclass(frozen=True)
-class Draw:
-    """How to draw a rung's result: a Gaussian variable and the function of it the result is.
-
-    kinds: ``gaussian`` (x), ``reciprocal`` (scale / x), ``reciprocal_sine``
-    (scale / sin x, x in rad: distance from a parallax), ``secant`` (scale / cos x,
-    x in rad: the half-moon ratio; cos x <= 0 gives +inf, i.e. no upper bound).
-    """
-
-    kind: str
-    mean: float
-    sigma: float
-    scale: float = 1.0
-
-    def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
-        """``n`` draws of the result.
-
-        >>> d = Draw("reciprocal", 2.0, 0.0, 1.0)
-        >>> d.sample(np.random.default_rng(1), 2).tolist()
-        [0.5, 0.5]
-        """
-        x = rng.normal(self.mean, self.sigma, n) if self.sigma > 0 else np.full(n, self.mean)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            if self.kind == "gaussian":
-                return self.scale * x
-            if self.kind == "reciprocal":
-                return np.where(x > 0, self.scale / x, np.inf)
-            if self.kind == "reciprocal_sine":
-                return np.where(x > 0, self.scale / np.sin(x), np.inf)
-            if self.kind == "secant":
-                c = np.cos(x)
-                return np.where(c > 0, self.scale / c, np.inf)
-        raise ValueError(f"unknown draw kind {self.kind!r}")
 
 
 @dataclass(frozen=True)
@@ -202,10 +167,4 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
                   equatorial_radius_factor=inputs.equatorial_radius_factor,
                   half_moon_distance_factor=inputs.half_moon_distance_factor)
 
-
-def earth_radius_draw(radius: Measured) -> Draw:
-    """The shadow rung: the fitted slope k = 1/R is Gaussian."""
-    k = 1.0 / radius.value
-    sigma_k = (radius.sigma or 0.0) * k**2
-    return Draw("reciprocal", k, sigma_k, 1.0)
 

@@ -57,7 +57,7 @@ class EclipseLog(LogRows):
     notes: tuple[str, ...] = ()
 
 
-_ECLIPSE_SLOTS = (
+LOG_SLOTS = (
     Slot(("site",), required=True),
     Slot(TIME_COLUMNS, required=True),
     Slot(("event",), required=True),
@@ -127,7 +127,7 @@ def read_eclipse_logs(
     ``observer``.
     """
     good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "eclipse", paths, _ECLIPSE_SLOTS, _parse_eclipse_row
+        campaign, "eclipse", paths, LOG_SLOTS, _parse_eclipse_row
     )
     dtypes = dict(COMMON_DTYPES)
     dtypes.update(event=str, feature=object, time_sigma_s=float, observer=object)

@@ -59,7 +59,7 @@ class PhaseLog(LogRows):
     notes: tuple[str, ...] = ()
 
 
-_PHASE_SLOTS = (
+LOG_SLOTS = (
     Slot(("site",), required=True),
     Slot(TIME_COLUMNS, required=True),
     Slot(("quarter",), required=True),
@@ -124,7 +124,7 @@ def read_phase_logs(
     ``observer``.
     """
     good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "phases", paths, _PHASE_SLOTS, _parse_phase_row
+        campaign, "phases", paths, LOG_SLOTS, _parse_phase_row
     )
     dtypes = dict(COMMON_DTYPES)
     dtypes.update(

@@ -108,7 +108,7 @@ class ShadowLog(LogRows):
     notes: tuple[str, ...] = ()
 
 
-_SHADOW_SLOTS = (
+LOG_SLOTS = (
     Slot(("site",), required=True),
     Slot(TIME_COLUMNS, required=True),
     Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True, numeric=True),
@@ -447,7 +447,7 @@ def read_shadow_logs(
         note=object,
     )
     columns, problems, rows_read, ignored, notes = read_columns(
-        campaign, "shadows", paths, _SHADOW_SLOTS, _parse_shadow_row, _fast_shadow_columns, dtypes
+        campaign, "shadows", paths, LOG_SLOTS, _parse_shadow_row, _fast_shadow_columns, dtypes
     )
     return ShadowLog(
         **columns,

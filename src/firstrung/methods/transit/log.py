@@ -55,7 +55,7 @@ class TransitLog(LogRows):
     notes: tuple[str, ...] = ()
 
 
-_TRANSIT_SLOTS = (
+LOG_SLOTS = (
     Slot(("site",), required=True),
     Slot(TIME_COLUMNS, required=True),
     Slot(("event",), required=True),
@@ -100,7 +100,7 @@ def read_transit_logs(campaign: Campaign, paths: Iterable[str | os.PathLike[str]
         Never raises on bad content: problems are in ``problems``.
     """
     good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "transits", paths, _TRANSIT_SLOTS, _parse_transit_row
+        campaign, "transits", paths, LOG_SLOTS, _parse_transit_row
     )
     dtypes = dict(COMMON_DTYPES)
     dtypes.update(event=str, time_sigma_s=float, observer=object, note=object)
