@@ -7,7 +7,6 @@ import shutil
 from pathlib import Path
 
 import pytest
-
 from tests.collect.client import Server, request
 from tests.collect.test_serve import collecting_campaign
 

@@ -11,7 +11,6 @@ import urllib.parse
 from pathlib import Path
 
 import pytest
-
 from tests.collect.client import Server, form_tokens, post_reading, request
 
 DEMO = Path(__file__).resolve().parents[2] / "src" / "firstrung" / "data" / "demo" / "campaign.toml"
@@ -164,10 +163,8 @@ def test_a_form_sent_twice_is_stored_once_and_withdrawn_readings_are_kept(served
     assert first.status == again.status == 201
     assert again.json()["id"] == first.json()["id"] and again.json()["again"] is True
     coordinator = server.links["coordinator"]
-    tokens = {"form_id": "x"}
     form = request(coordinator).text
-    tokens = dict(zip(("form_id", "csrf_token"), [
-        form.split('name="form_id" value="')[1].split('"')[0], form.split('name="csrf_token" value="')[1].split('"')[0]]))
+    tokens = {name: form.split(f'name="{name}" value="')[1].split('"')[0] for name in ("form_id", "csrf_token")}
     body = urllib.parse.urlencode({"reading": first.json()["id"], "reason": "board moved", **tokens}).encode()
     assert request(coordinator + "/withdraw", body, {"Content-Type": "application/x-www-form-urlencoded"}).status == 200
     forged = urllib.parse.urlencode({"reading": first.json()["id"]}).encode()

@@ -51,8 +51,15 @@ def serve(campaign_path, host: str = "127.0.0.1", port: int = 8000, store=None, 
     family = socket.AF_INET6 if ":" in host else socket.AF_INET
     sock = socket.socket(family, socket.SOCK_STREAM)
     sock.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
-    sock.bind((host, port))
-    sock.listen(128)
+    try:
+        sock.bind((host, port))
+        sock.listen(128)
+    except OSError as error:
+        sock.close()
+        from firstrung.errors import InputError
+
+        raise InputError(f"cannot listen on {host} port {port}: {error.strerror or error} (is the port in use? "
+                         "try another --port, or --port 0 for any free one)") from None
     bound_port = sock.getsockname()[1]
     app = create_app(campaign_path, store_path, kinds)
     state = app.state.collection
