@@ -21,7 +21,7 @@ GROUPS = {
                  "simulate_command", "simulate_help", "register_simulate"),
 }
 #: Commands at the top level, each in its own module of firstrung.cli defining ``register(app)``.
-TOP_LEVEL = ["sheet", "ladder", "report", "check", "demo"]
+TOP_LEVEL = ["sheet", "ladder", "report", "check", "demo", "serve"]
 #: The top-level names each TOP_LEVEL module registers, with their one-line help, so that
 #: ``firstrung --help`` lists every command without importing any (a test keeps this true).
 TOP_LEVEL_HELP = {
@@ -29,6 +29,7 @@ TOP_LEVEL_HELP = {
     "demo": ("demo", "Simulate an invented campaign's logs, check them, reduce every rung, chain the ladder, write the report."),
     "ladder": ("ladder", "Earth's radius -> the Moon's distance -> the Sun's distance -> the sizes of Moon and Sun."),
     "report": ("report", "Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."),
+    "serve": ("serve", "Collect readings on line: a form per log for each site's link, the check's verdict at once."),
     "sheet": ("sheet", "A printable noon-shadow field sheet for one site and day, with the predicted readings."),
     "blank-sheets": ("sheet", "Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."),
 }

@@ -1,0 +1,109 @@
+"""Load on the collection point, loopback only: 200 sites send 10 shadow readings each from 50 clients at once.
+
+Each client is a phone session: it opens its site's page, then sends a
+reading, reads the answer page (the verdict and a fresh form) and sends the
+next, for the sites it holds. The campaign is invented (200 sites 35-60 deg N)
+and its readings come from ``firstrung simulate shadows`` (stated errors).
+Prints the median and 95th percentile of the answer time to a reading, and
+checks that every reading is stored exactly once.
+
+Run: python benchmarks/serve_load.py [--sites 200] [--readings 10] [--clients 50]
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+import urllib.parse
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from tests.collect.client import Server, form_tokens, request  # noqa: E402
+
+#: The whole run may take at most this long [s].
+TIME_LIMIT_S = 900
+
+
+def campaign_text(n_sites: int) -> str:
+    lines = ['[campaign]\nname = "Load test (invented sites)"\n']
+    for k in range(n_sites):
+        lat = 35.0 + 25.0 * k / max(n_sites - 1, 1)
+        lon = 2.0 + (k * 7.3) % 14.0
+        lines.append(f'[[site]]\nid = "s{k:03d}"\nname = "Invented school {k}"\nlatitude_deg = {lat:.3f}\n'
+                     f'longitude_deg = {lon:.3f}\nelevation_m = 100\ntimezone = "Europe/Berlin"\n'
+                     '[site.gnomon]\nheight_m = 1.0\n')
+    lines.append("[logs]\nshadows = []\n")
+    return "\n".join(lines)
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--sites", type=int, default=200)
+    parser.add_argument("--readings", type=int, default=10)
+    parser.add_argument("--clients", type=int, default=50)
+    args = parser.parse_args()
+    folder = Path(tempfile.mkdtemp(prefix="firstrung-load-"))
+    campaign = folder / "campaign.toml"
+    campaign.write_text(campaign_text(args.sites), encoding="utf-8")
+    subprocess.run([sys.executable, "-m", "firstrung", "simulate", "shadows", str(campaign), "--from", "2027-03-20",
+                    "--to", "2027-03-20", "-o", str(folder / "sim"), "--seed", "1"], check=True, capture_output=True)
+    by_site: dict[str, list[dict]] = {}
+    with open(folder / "sim" / "shadows.csv", encoding="utf-8", newline="") as f:
+        for row in csv.DictReader(f):
+            by_site.setdefault(row["site"], []).append(row)
+    plan = {site: rows[:: max(1, len(rows) // args.readings)][: args.readings] for site, rows in by_site.items()}
+    expected = sum(len(r) for r in plan.values())
+
+    started = time.monotonic()
+    with Server(campaign, folder / "store.sqlite", folder / "links.json") as server:
+        links = server.links["sites"]
+        answers: list[float] = []
+        statuses: list[int] = []
+
+        def session(sites: list[str]) -> None:
+            for site in sites:
+                url = links[site]
+                page = request(url).text
+                for row in plan[site]:
+                    if time.monotonic() - started > TIME_LIMIT_S:
+                        return
+                    fields = form_tokens(page, "shadows")
+                    fields.update({k: v for k, v in row.items() if k != "site" and v})
+                    body = urllib.parse.urlencode(fields).encode()
+                    t0 = time.perf_counter()
+                    answer = request(url, body, {"Content-Type": "application/x-www-form-urlencoded"})
+                    answers.append(time.perf_counter() - t0)
+                    statuses.append(answer.status)
+                    page = answer.text
+
+        sites = sorted(plan)
+        groups = [sites[k :: args.clients] for k in range(args.clients)]
+        t0 = time.perf_counter()
+        with ThreadPoolExecutor(max_workers=args.clients) as pool:
+            list(pool.map(session, groups))
+        wall = time.perf_counter() - t0
+        log = request(server.links["coordinator"] + "/logs/shadows.csv").text
+        every = request(server.links["coordinator"] + "/readings.csv").text
+    rows = list(csv.DictReader(io.StringIO(log)))
+    keys = [(r["site"], r["time_utc"]) for r in rows]
+    sent = {(site, r["time_utc"]) for site, rs in plan.items() for r in rs}
+    stored_once = len(keys) == len(set(keys)) == expected and set(keys) == sent
+    ids = [r["id"] for r in csv.DictReader(io.StringIO(every))]
+    ordered = sorted(answers)
+    print(f"sites {args.sites}, readings {expected}, clients {args.clients}, wall {wall:.1f} s, "
+          f"{expected / wall:.1f} readings/s")
+    print(f"answers: {len(answers)}, status 201: {statuses.count(201)}, median {statistics.median(answers) * 1e3:.0f} ms, "
+          f"95th percentile {ordered[int(0.95 * (len(ordered) - 1))] * 1e3:.0f} ms, max {ordered[-1] * 1e3:.0f} ms")
+    print(f"stored: {len(rows)} in the log, {len(ids)} in the store; every reading stored exactly once: {stored_once}")
+    return 0 if stored_once and statuses.count(201) == expected else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,485 @@
+"""The collection point as an ASGI application (Starlette).
+
+Routes (the design's section 3, "Collecting readings on line"):
+
+``GET  /s/<token>``                 a site's page: a form per collected kind of log, its readings so far
+``POST /s/<token>``                 a reading (form-encoded: ``kind``, the log's columns): 201 stored with
+                                    the check's verdict, 4xx refused with the field and why (nothing stored)
+``GET  /c/<token>``                 the coordinator's page: every site's readings, flags, withdraw buttons
+``GET  /c/<token>/logs/<kind>.csv`` every reading of a kind (withdrawn ones left out), as a log firstrung reads
+``GET  /c/<token>/readings.csv``    every reading ever stored, withdrawn ones marked
+``GET  /c/<token>/check.json``      the check of the downloaded logs, as ``firstrung check --json`` gives flags
+``POST /c/<token>/withdraw``        mark a reading withdrawn (kept, never deleted)
+
+An unknown token gets 404 and stores nothing; repeated unknown tokens from one
+client get 429. Answers are JSON when the request accepts ``application/json``.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import csv
+import datetime as dt
+import io
+import json
+import tempfile
+import time
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import replace
+from pathlib import Path
+from urllib.parse import parse_qsl
+
+from starlette.applications import Starlette
+from starlette.requests import Request
+from starlette.responses import HTMLResponse, JSONResponse, PlainTextResponse, Response
+from starlette.routing import Route
+
+from firstrung.collect import forms as form_fields
+from firstrung.collect.export import formula_safe, log_csv
+from firstrung.collect.kinds import LogKind, log_kind
+from firstrung.collect.store import Store
+from firstrung.collect.tokens import TokenBook, form_token, form_token_ok, new_form_id
+from firstrung.collect.verdict import Judge, Submission
+
+#: Largest request body accepted [bytes]; a reading is a few hundred.
+BODY_LIMIT_BYTES = 16 * 1024
+#: Posts per link: a burst of this many, then one every RATE_REFILL_S seconds (a site sends a reading a minute).
+RATE_BURST = 30
+RATE_REFILL_S = 2.0
+#: Unknown tokens per client: a burst, then one every BAD_TOKEN_REFILL_S (guessing a 256-bit token is hopeless anyway).
+BAD_TOKEN_BURST = 20
+BAD_TOKEN_REFILL_S = 5.0
+
+SECURITY_HEADERS = {
+    "Content-Security-Policy": "default-src 'none'; style-src 'unsafe-inline'; form-action 'self'; "
+                               "frame-ancestors 'none'; base-uri 'none'",
+    "X-Content-Type-Options": "nosniff",
+    "Referrer-Policy": "no-referrer",  # the token is in the address: never send it on
+    "Cache-Control": "no-store",
+    "X-Frame-Options": "DENY",
+}
+
+
+class Buckets:
+    """Token buckets by key (rate limits)."""
+
+    def __init__(self, burst: int, refill_s: float) -> None:
+        self.burst, self.refill_s = burst, refill_s
+        self._state: dict[str, tuple[float, float]] = {}
+
+    def take(self, key: str) -> bool:
+        now = time.monotonic()
+        level, last = self._state.get(key, (float(self.burst), now))
+        level = min(float(self.burst), level + (now - last) / self.refill_s)
+        if level < 1.0:
+            self._state[key] = (level, now)
+            return False
+        self._state[key] = (level - 1.0, now)
+        return True
+
+
+def _environment():
+    from jinja2 import Environment, PackageLoader, StrictUndefined, select_autoescape
+
+    return Environment(
+        loader=PackageLoader("firstrung.collect", "templates"),
+        autoescape=select_autoescape(default=True, default_for_string=True),
+        undefined=StrictUndefined,
+    )
+
+
+class Collection:
+    """The state of one running collection point: campaign, kinds, store, tokens, the writer and its queue."""
+
+    def __init__(self, campaign_path, store_path, kinds: tuple[str, ...]) -> None:
+        from firstrung.campaign import read_campaign
+
+        self.campaign = read_campaign(campaign_path)
+        self.kinds: dict[str, LogKind] = {k: log_kind(k) for k in kinds}
+        self.store = Store(store_path)
+        self.key = self.store.secret()
+        self.coordinator_token, self.site_tokens = self.store.links(self.campaign.site_ids)
+        self.book = TokenBook(self.coordinator_token, self.site_tokens)
+        self.sites = {s.id: s for s in self.campaign.sites}
+        self.judge = Judge(self.campaign)
+        self.writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="store-writer")
+        self.queue: asyncio.Queue | None = None
+        self.env = _environment()
+        self.post_limits = Buckets(RATE_BURST, RATE_REFILL_S)
+        self.bad_tokens = Buckets(BAD_TOKEN_BURST, BAD_TOKEN_REFILL_S)
+        self._check_cache: tuple[tuple, dict] | None = None
+
+    # --- the writer: batches of submissions, read, checked and stored in one thread ----------------
+
+    async def start(self) -> None:
+        self.queue = asyncio.Queue()
+        self._task = asyncio.create_task(self._drain())
+        loop = asyncio.get_running_loop()
+        await loop.run_in_executor(self.writer, self._warm_up)
+
+    async def stop(self) -> None:
+        self._task.cancel()
+        self.writer.shutdown(wait=True)
+        self.store.close()
+
+    def _warm_up(self) -> None:
+        """Load the ephemeris and each check once, so that the first reading is answered fast."""
+        for kind in self.kinds.values():
+            try:
+                kind.log_flags(self.campaign, kind.read(self.campaign, []))
+            except Exception:
+                pass
+
+    async def submit(self, sub: Submission):
+        future = asyncio.get_running_loop().create_future()
+        await self.queue.put((sub, future))
+        return await future
+
+    async def _drain(self) -> None:
+        loop = asyncio.get_running_loop()
+        while True:
+            batch = [await self.queue.get()]
+            while not self.queue.empty():
+                batch.append(self.queue.get_nowait())
+            try:
+                results = await loop.run_in_executor(self.writer, self._process, [s for s, _ in batch])
+            except Exception as error:  # never leave a client waiting
+                for _, future in batch:
+                    if not future.done():
+                        future.set_exception(error)
+                continue
+            for (_, future), result in zip(batch, results, strict=True):
+                if not future.done():
+                    future.set_result(result)
+
+    def _process(self, subs: list[Submission]):
+        """(outcome, stored reading or None) of each submission: a form already stored is answered from the store."""
+        results: list = [None] * len(subs)
+        first_of: dict[tuple[str, str], int] = {}
+        fresh: list[int] = []
+        by_site: dict[str, list[int]] = {}
+        for i, sub in enumerate(subs):
+            by_site.setdefault(sub.site, []).append(i)
+        for site, members in by_site.items():
+            known = self.store.known_forms(site, [subs[i].form_id for i in members])
+            for i in members:
+                key = (site, subs[i].form_id)
+                if subs[i].form_id in known:
+                    results[i] = ("again", known[subs[i].form_id])
+                elif key in first_of:
+                    results[i] = ("same", first_of[key])
+                else:
+                    first_of[key] = i
+                    fresh.append(i)
+        to_store = []
+        for kind_name in dict.fromkeys(subs[i].kind for i in fresh):
+            members = [i for i in fresh if subs[i].kind == kind_name]
+            kind = self.kinds[kind_name]
+            sites = list(dict.fromkeys(subs[i].site for i in members))
+            stored: dict[str, list[dict[str, str]]] = {}
+            for r in self.store.readings(kind_name, sites, include_withdrawn=False):
+                stored.setdefault(r.site, []).append(r.cells)
+            try:
+                outcomes = self.judge.judge(kind, [subs[i] for i in members], stored)
+            except Exception as error:  # a reading is never lost to a failing check
+                from firstrung.collect.verdict import Outcome
+
+                outcomes = [Outcome(False, flags=[{"code": "check-failed", "severity": "warning",
+                                                   "message": f"the check could not run: {type(error).__name__}",
+                                                   "fix": "the coordinator runs firstrung check on the downloaded log"}])
+                            for _ in members]
+            for i, outcome in zip(members, outcomes, strict=True):
+                results[i] = ("new", outcome)
+                if not outcome.refused:
+                    to_store.append(i)
+        stored_rows = self.store.add([(subs[i].kind, subs[i].site, subs[i].cells, subs[i].form_id,
+                                       results[i][1].verdict()) for i in to_store])
+        reading_of = dict(zip(to_store, stored_rows, strict=True))
+        out = []
+        for i, (how, value) in enumerate(results):
+            if how == "again":
+                out.append((None, value))
+            elif how == "same":
+                j = value
+                out.append((results[j][1], reading_of.get(j)))
+            else:
+                out.append((value, reading_of.get(i)))
+        return out
+
+    # --- the full check of what is stored, as the coordinator downloads it -------------------------
+
+    def export(self, kind: str):
+        readings = self.store.readings(kind, include_withdrawn=False)
+        return readings, log_csv(self.kinds[kind].slots, [(r.site, r.cells) for r in readings], self.judge.zones)
+
+    def full_check(self) -> dict:
+        """Per kind: the exported readings and the flags ``check`` gives on the downloaded logs (cached)."""
+        everything = self.store.readings()
+        stamp = (len(everything), max((r.id for r in everything), default=0), sum(r.withdrawn for r in everything))
+        if self._check_cache is not None and self._check_cache[0] == stamp:
+            return self._check_cache[1]
+        out = {}
+        with tempfile.TemporaryDirectory(prefix="firstrung-check-") as folder:
+            logs = {}
+            exported = {}
+            for kind in self.kinds:
+                readings, text = self.export(kind)
+                if readings:
+                    path = Path(folder) / f"{kind}.csv"
+                    path.write_text(text, encoding="utf-8")
+                    logs[kind] = (path,)
+                exported[kind] = readings
+            campaign = replace(self.campaign, path=Path(folder) / "campaign.toml",
+                               logs={**{k: () for k in self.campaign.logs}, **logs})
+            for kind, readings in exported.items():
+                flags = list(self.kinds[kind].check_campaign(campaign).flags) if readings else []
+                out[kind] = (readings, flags)
+        self._check_cache = (stamp, out)
+        return out
+
+
+# --- pages ---------------------------------------------------------------------------------------
+
+
+def _wants_json(request: Request) -> bool:
+    return "application/json" in request.headers.get("accept", "")
+
+
+def _client(request: Request) -> str:
+    return request.client.host if request.client else "?"
+
+
+async def _body(request: Request) -> bytes | None:
+    """The body, or None when it is over the limit."""
+    declared = request.headers.get("content-length")
+    if declared is not None and (not declared.isdigit() or int(declared) > BODY_LIMIT_BYTES):
+        return None
+    data = bytearray()
+    async for chunk in request.stream():
+        data.extend(chunk)
+        if len(data) > BODY_LIMIT_BYTES:
+            return None
+    return bytes(data)
+
+
+def _answer(request, status: int, data: dict, html: str | None = None) -> Response:
+    if html is None or _wants_json(request):
+        response: Response = JSONResponse(data, status_code=status)
+    else:
+        response = HTMLResponse(html, status_code=status)
+    response.headers.update(SECURITY_HEADERS)
+    return response
+
+
+def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> Starlette:
+    """The collection point's application for one campaign.
+
+    ``now()`` gives the current time (aware), for the forms' default time; the clock by default.
+    """
+    state = Collection(campaign_path, store_path, kinds)
+    clock = now or (lambda: dt.datetime.now(dt.UTC))
+
+    def not_found(request: Request) -> Response:
+        if not state.bad_tokens.take(_client(request)):
+            return _answer(request, 429, {"error": "too many requests with unknown links; wait a minute"})
+        return _answer(request, 404, {"error": "no such page"})
+
+    def holder(request: Request, role: str):
+        found = state.book.holder(request.path_params["token"])
+        return found if found is not None and found.role == role else None
+
+    def site_page(request, site_id: str, status: int = 200, result: dict | None = None,
+                  refill: dict | None = None, kind_shown: str | None = None) -> Response:
+        site = state.sites[site_id]
+        token = request.path_params["token"]
+        now = clock()
+        date = form_fields.local_now(site.timezone, now)[:10]
+        kinds = []
+        for name, kind in state.kinds.items():
+            form_id = new_form_id()
+            kinds.append({
+                "name": name,
+                "fields": form_fields.fields(kind, site.timezone),
+                "hints": form_fields.hints(name, site, date),
+                "caution": form_fields.caution(name),
+                "form_id": form_id,
+                "csrf": form_token(state.key, token, form_id, now.timestamp()),
+                "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
+            })
+        readings = [r for r in state.store.readings(sites=[site_id])]
+        html = state.env.get_template("site.html.j2").render(
+            campaign=state.campaign.name, site=site, kinds=kinds, now_local=form_fields.local_now(site.timezone, now),
+            result=result, refill=refill or {}, readings=readings[-30:][::-1], kind_shown=kind_shown,
+        )
+        return _answer(request, status, result or {}, html)
+
+    async def site_get(request: Request) -> Response:
+        found = holder(request, "site")
+        if found is None:
+            return not_found(request)
+        return await asyncio.to_thread(site_page, request, found.site)
+
+    async def site_post(request: Request) -> Response:
+        found = holder(request, "site")
+        if found is None:
+            return not_found(request)
+        site_id = found.site
+        token = request.path_params["token"]
+
+        def refuse(status, field, reason, refill=None, kind=None):
+            result = {"stored": False, "field": field, "reason": reason}
+            return site_page(request, site_id, status, result, refill, kind)
+
+        if not request.headers.get("content-type", "").startswith("application/x-www-form-urlencoded"):
+            return _answer(request, 415, {"stored": False, "field": None,
+                                          "reason": "send the form as application/x-www-form-urlencoded"})
+        body = await _body(request)
+        if body is None:
+            return _answer(request, 413, {"stored": False, "field": None,
+                                          "reason": f"the request is larger than {BODY_LIMIT_BYTES} bytes"})
+        try:
+            pairs = parse_qsl(body.decode("utf-8"), keep_blank_values=True, strict_parsing=False, max_num_fields=60)
+        except (UnicodeDecodeError, ValueError):
+            return _answer(request, 400, {"stored": False, "field": None, "reason": "not a form of UTF-8 text"})
+        meta = {k: v for k, v in pairs if k in ("kind", "form_id", "csrf_token", "site")}
+        rest = [(k, v) for k, v in pairs if k not in ("kind", "form_id", "csrf_token", "site")]
+        form_id = meta.get("form_id", "")
+        if not form_token_ok(state.key, token, form_id, meta.get("csrf_token", ""), clock().timestamp()):
+            return _answer(request, 403, {"stored": False, "field": "csrf_token",
+                                          "reason": "the form's token is missing, wrong or stale: reload the page "
+                                                    "and send the reading again"})
+        if not state.post_limits.take(token):
+            return _answer(request, 429, {"stored": False, "field": None,
+                                          "reason": "too many readings at once from this link; wait a minute"})
+        kind_name = meta.get("kind", "")
+        refill = dict(rest)
+        if kind_name not in state.kinds:
+            return await asyncio.to_thread(
+                refuse, 422, "kind", f"expected a kind of log this campaign collects ({', '.join(state.kinds)})", refill)
+        if meta.get("site", site_id) != site_id:
+            return await asyncio.to_thread(refuse, 422, "site", f"this link is for site {site_id}", refill, kind_name)
+        cells, problem = form_fields.cells_from_form(state.kinds[kind_name], rest)
+        if problem is not None:
+            return await asyncio.to_thread(refuse, 422, problem[0], problem[1], refill, kind_name)
+        outcome, reading = await state.submit(Submission(kind_name, site_id, cells, form_id))
+        if reading is None:
+            return await asyncio.to_thread(refuse, 422, outcome.field, outcome.reason, refill, kind_name)
+        verdict = reading.verdict
+        result = {"stored": True, "id": reading.id, "kind": kind_name, "site": site_id,
+                  "looks_right": verdict.get("looks_right", True), "flags": verdict.get("flags", []),
+                  "again": outcome is None}
+        return await asyncio.to_thread(site_page, request, site_id, 201, result, None, kind_name)
+
+    def coordinator_page(request: Request, note: str | None = None) -> Response:
+        token = request.path_params["token"]
+        checked = state.full_check()
+        flags_of: dict[int, list] = {}
+        for readings, flags in checked.values():
+            for f in flags:
+                if f.row is not None and 1 <= f.row <= len(readings):
+                    flags_of.setdefault(readings[f.row - 1].id, []).append(f)
+        everything = state.store.readings()
+        by_site: dict[str, list] = {s: [] for s in state.sites}
+        for r in everything:
+            by_site.setdefault(r.site, []).append(r)
+        form_id = new_form_id()
+        base = str(request.url).split("?")[0].rstrip("/")
+        html = state.env.get_template("coordinator.html.j2").render(
+            campaign=state.campaign.name, by_site=by_site, flags_of=flags_of, kinds=list(state.kinds),
+            sites=state.sites, csrf=form_token(state.key, token, form_id, clock().timestamp()), form_id=form_id,
+            base=base, note=note, total=len(everything), withdrawn=sum(r.withdrawn for r in everything),
+            flagged=len(flags_of),
+        )
+        return _answer(request, 200, {"readings": len(everything)}, html)
+
+    async def coordinator_get(request: Request) -> Response:
+        if holder(request, "coordinator") is None:
+            return not_found(request)
+        return await asyncio.to_thread(coordinator_page, request)
+
+    async def log_download(request: Request) -> Response:
+        if holder(request, "coordinator") is None:
+            return not_found(request)
+        kind = request.path_params["kind"]
+        if kind not in state.kinds:
+            return _answer(request, 404, {"error": f"this campaign collects {', '.join(state.kinds)}"})
+        _, text = await asyncio.to_thread(state.export, kind)
+        response = PlainTextResponse(text, media_type="text/csv; charset=utf-8")
+        response.headers.update(SECURITY_HEADERS)
+        response.headers["Content-Disposition"] = f'attachment; filename="{kind}.csv"'
+        return response
+
+    async def readings_download(request: Request) -> Response:
+        if holder(request, "coordinator") is None:
+            return not_found(request)
+        everything = await asyncio.to_thread(state.store.readings)
+        buffer = io.StringIO()
+        writer = csv.writer(buffer, lineterminator="\n")
+        writer.writerow(["id", "kind", "site", "received_utc", "withdrawn_utc", "withdrawn_reason", "cells", "flags"])
+        for r in everything:
+            writer.writerow([r.id, r.kind, r.site, r.received_utc, r.withdrawn_utc or "",
+                             formula_safe(r.withdrawn_reason or ""), formula_safe(json.dumps(r.cells, ensure_ascii=False)),
+                             ";".join(f["code"] for f in r.verdict.get("flags", []))])
+        response = PlainTextResponse(buffer.getvalue(), media_type="text/csv; charset=utf-8")
+        response.headers.update(SECURITY_HEADERS)
+        response.headers["Content-Disposition"] = 'attachment; filename="readings.csv"'
+        return response
+
+    async def check_download(request: Request) -> Response:
+        if holder(request, "coordinator") is None:
+            return not_found(request)
+        from firstrung.app.check_json import flag_to_json
+
+        checked = await asyncio.to_thread(state.full_check)
+        data = {"campaign": state.campaign.name, "checked": list(state.kinds),
+                "flags": [flag_to_json(f) for _, flags in checked.values() for f in flags]}
+        return _answer(request, 200, data)
+
+    async def withdraw(request: Request) -> Response:
+        if holder(request, "coordinator") is None:
+            return not_found(request)
+        token = request.path_params["token"]
+        body = await _body(request)
+        if body is None:
+            return _answer(request, 413, {"error": f"the request is larger than {BODY_LIMIT_BYTES} bytes"})
+        values = dict(parse_qsl(body.decode("utf-8", "replace"), keep_blank_values=True, max_num_fields=10))
+        if not form_token_ok(state.key, token, values.get("form_id", ""), values.get("csrf_token", ""),
+                             clock().timestamp()):
+            return _answer(request, 403, {"error": "the form's token is missing, wrong or stale: reload the page"})
+        reading_id = values.get("reading", "")
+        if not reading_id.isdigit():
+            return _answer(request, 422, {"error": "expected a reading number", "field": "reading"})
+        reason = form_fields.clean(values.get("reason", ""))[:200] or "withdrawn by the coordinator"
+        loop = asyncio.get_running_loop()
+        reading = await loop.run_in_executor(state.writer, state.store.withdraw, int(reading_id), reason)
+        if reading is None:
+            return _answer(request, 404, {"error": f"no reading {reading_id}", "field": "reading"})
+        note = f"Reading {reading.id} ({reading.site}) is withdrawn: kept in the store, left out of the logs."
+        if _wants_json(request):
+            return _answer(request, 200, {"withdrawn": reading.id, "withdrawn_utc": reading.withdrawn_utc})
+        return await asyncio.to_thread(coordinator_page, request, note)
+
+    async def nothing(request: Request) -> Response:
+        return not_found(request)
+
+    async def lifespan(app):
+        await state.start()
+        app.state.collection = state
+        yield
+        await state.stop()
+
+    from contextlib import asynccontextmanager
+
+    routes = [
+        Route("/s/{token}", site_get, methods=["GET", "HEAD"]),
+        Route("/s/{token}", site_post, methods=["POST"]),
+        Route("/c/{token}", coordinator_get, methods=["GET", "HEAD"]),
+        Route("/c/{token}/logs/{kind}.csv", log_download, methods=["GET"]),
+        Route("/c/{token}/readings.csv", readings_download, methods=["GET"]),
+        Route("/c/{token}/check.json", check_download, methods=["GET"]),
+        Route("/c/{token}/withdraw", withdraw, methods=["POST"]),
+        Route("/{rest:path}", nothing, methods=["GET", "POST", "HEAD"]),
+    ]
+    app = Starlette(routes=routes, lifespan=asynccontextmanager(lifespan))
+    app.state.collection = state
+    return app

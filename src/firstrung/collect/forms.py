@@ -1,0 +1,162 @@
+"""What a site's phone form shows: a field per column of the log, its choices, the site's predictions.
+
+Fields come from the log's column slots (:class:`firstrung.tabular.Slot`): a
+slot with one name is one field named as the column; a slot with several
+(``time_local``/``time_utc``, ``shadow_mm``/``shadow_cm``/``shadow_m``) is a
+value field ``value:<first name>`` and a choice ``column:<first name>``
+(local time by default where the site has a zone). A POST may also name the
+columns directly (the contract).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import functools
+import re
+from dataclasses import dataclass
+from zoneinfo import ZoneInfo
+
+from firstrung.collect.kinds import LogKind
+from firstrung.tabular import TIME_COLUMNS
+
+#: Choices of columns whose cells are a word from a list (the readers' own lists, common to the methods).
+CHOICES = {
+    "event": ("U1", "U2", "U3", "U4", "immersion", "emersion", "C1", "C2", "C3", "C4"),
+    "quarter": ("first", "last"),
+    "edge": ("umbra", "middle", "outer"),
+    "limb": ("lower", "centre", "upper"),
+}
+_UNIT_WORDS = {"m": "m", "cm": "cm", "mm": "mm", "deg": "degrees", "s": "s", "c": "deg C", "hpa": "hPa",
+               "arcmin": "arcmin"}
+_CONTROL_RE = re.compile(r"[\x00-\x1f\x7f]+")
+
+
+@dataclass(frozen=True)
+class Field:
+    """One field of a form."""
+
+    name: str  # the form's field name
+    label: str
+    kind: str  # "time", "number", "choice", "text"
+    required: bool
+    choices: tuple[str, ...] = ()
+    columns: tuple[str, ...] = ()  # for a slot with several names: the names offered
+    default_column: str = ""
+
+
+def label_of(column: str) -> str:
+    """A column name as a form's label.
+
+    >>> label_of("shadow_mm"), label_of("time_sigma_s"), label_of("observer")
+    ('Shadow (mm)', 'Time sigma (s)', 'Observer')
+    """
+    words = column.split("_")
+    unit = _UNIT_WORDS.get(words[-1]) if len(words) > 1 else None
+    text = " ".join(words[:-1] if unit else words).capitalize()
+    return f"{text} ({unit})" if unit else text
+
+
+def fields(kind: LogKind, zone: str | None) -> list[Field]:
+    """The fields of a kind's form, required ones first."""
+    out = []
+    for slot in kind.slots:
+        if slot.names == ("site",):
+            continue
+        first = slot.names[0]
+        if slot.names == TIME_COLUMNS:
+            default = "time_local" if zone is not None else "time_utc"
+            out.append(Field(f"value:{first}", "Time", "time", slot.required, (), slot.names, default))
+        elif len(slot.names) > 1:
+            default = next((n for n in slot.names if n.endswith("_cm")), first)
+            out.append(Field(f"value:{first}", label_of(first).split(" (")[0], "number" if slot.numeric else "text",
+                             slot.required, (), slot.names, default))
+        elif first in CHOICES:
+            out.append(Field(first, label_of(first), "choice", slot.required, CHOICES[first]))
+        else:
+            out.append(Field(first, label_of(first), "number" if slot.numeric else "text", slot.required))
+    return sorted(out, key=lambda f: not f.required)
+
+
+def clean(text: str) -> str:
+    """A form's cell: control characters (line ends, tabs) as spaces, no surrounding spaces."""
+    return _CONTROL_RE.sub(" ", text).strip()
+
+
+def cells_from_form(kind: LogKind, form: list[tuple[str, str]]) -> tuple[dict[str, str], tuple[str, str] | None]:
+    """The log cells a posted form gives, or the field that cannot be read and why.
+
+    >>> from firstrung.collect.kinds import log_kind
+    >>> cells_from_form(log_kind("shadows"), [("value:time_utc", "2027-03-20T12:38"),
+    ...     ("column:time_utc", "time_local"), ("value:shadow_m", "103.8"), ("column:shadow_m", "shadow_cm"),
+    ...     ("observer", " T. O.\\n")])
+    ({'time_local': '2027-03-20T12:38', 'shadow_cm': '103.8', 'observer': 'T. O.'}, None)
+    """
+    values: dict[str, str] = {}
+    for name, value in form:
+        if name in values:
+            return {}, (name.split(":")[-1], "given twice")
+        values[name] = clean(value)
+    cells: dict[str, str] = {}
+    for slot in kind.slots:
+        first = slot.names[0]
+        if f"value:{first}" in values:
+            column = values.get(f"column:{first}", first)
+            if column not in slot.names:
+                return {}, (first, f"expected a column of {', '.join(slot.names)}, got {column[:40]!r}")
+            if values[f"value:{first}"]:
+                cells[column] = values[f"value:{first}"]
+        for name in slot.names:
+            if values.get(name):
+                if name in cells:
+                    return {}, (name, "given twice")
+                cells[name] = values[name]
+    return cells, None
+
+
+def local_now(zone: str | None, now: dt.datetime) -> str:
+    """The time to fill a form's time field with: the site's clock (UTC without a zone), to the minute."""
+    here = now.astimezone(ZoneInfo(zone)) if zone else now.astimezone(dt.UTC)
+    return here.strftime("%Y-%m-%dT%H:%M")
+
+
+# --- what the site may expect ------------------------------------------------------------------
+
+
+@functools.lru_cache(maxsize=1024)
+def _shadow_hints(site, date: str) -> tuple[str, ...]:
+    from firstrung.methods.shadows.prediction import PlanSite
+    from firstrung.methods.shadows.sheet import shadow_sheet_predictions
+
+    g = site.gnomon
+    if g is None:
+        return (f"No gnomon for {site.id} in the campaign file: give its height with each reading.",)
+    p = shadow_sheet_predictions(PlanSite(site.id, site.name, site.latitude_deg, site.longitude_deg, site.elevation_m,
+                                          site.timezone, g.height_m, g.height_sigma_m, g.shadow_sigma_m, g.edge), date)
+    noon = p["transit_utc"].astype(dt.datetime).replace(tzinfo=dt.UTC)
+    clock = noon.astimezone(ZoneInfo(site.timezone)).strftime("%H:%M:%S") if site.timezone else noon.strftime("%H:%M:%S UTC")
+    return (
+        f"Local apparent noon on {date}: {clock}" + (f" ({site.timezone})" if site.timezone else ""),
+        f"Shortest shadow then: {p['noon_shadow_m'] * 100:.1f} cm of a {g.height_m * 100:.1f} cm gnomon "
+        f"({g.edge} edge), pointing {p['direction']}; the Sun {p['noon_altitude_deg']:.1f} deg high",
+    )
+
+
+#: Predictions shown beside a kind's form, by log kind (a kind without an entry shows none).
+HINTS = {"shadows": _shadow_hints}
+
+
+def hints(kind: str, site, date: str) -> tuple[str, ...]:
+    maker = HINTS.get(kind)
+    if maker is None:
+        return ()
+    try:
+        return maker(site, date)
+    except Exception:  # a prediction that cannot be made (a date past the ephemeris) hides the hint only
+        return ()
+
+
+def caution(kind: str) -> str:
+    """The safety caution printed with a kind's form."""
+    from firstrung.safety import ECLIPSE_NOTE, PHASES_CAUTION, SOLAR_CAUTION_FULL
+
+    return {"eclipse": ECLIPSE_NOTE, "phases": PHASES_CAUTION}.get(kind, SOLAR_CAUTION_FULL)
