@@ -44,12 +44,11 @@ def check(
     """
     from firstrung.app.check import run_check, status_csv
     from firstrung.app.check_json import check_run_to_json
-    from firstrung.output import refuse_overwriting_inputs, write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     run = run_check(campaign)
     if accepted is not None:
-        refuse_overwriting_inputs(accepted, run.inputs())
-        write_atomic(accepted, status_csv(run), inputs=run.inputs())
+        write_atomic(accepted, status_csv(run), inputs=[*campaign_inputs(run.campaign), *run.inputs()])
     data = check_run_to_json(run)
     if json_output:
         print_json(data)

@@ -46,6 +46,15 @@ def console(stderr: bool = False):
     return Console(stderr=stderr, width=width, highlight=False, soft_wrap=False)
 
 
+def progress_bar():
+    """A transient progress bar on stderr, shown on a terminal only (a log or a pipe gets no stray lines)."""
+    from rich.progress import BarColumn, Progress, TextColumn
+
+    err = console(stderr=True)
+    return Progress(TextColumn("{task.description}"), BarColumn(), console=err, transient=True,
+                    disable=not err.is_terminal)
+
+
 def report_problems(problems) -> None:
     """Each refused row or file as one line on stderr."""
     for p in problems:
@@ -134,19 +143,18 @@ SeedOption = Annotated[int, typer.Option("--seed", help="Seed of the random erro
 
 def write_simulated(campaign, kind: str, rows, columns, output: Path, what: str) -> None:
     """Write one simulated log as ``<output>/<kind>.csv`` (never over one of the campaign's inputs)."""
+    from rich.markup import escape
+
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
-    from firstrung.output import rows_to_csv, write_atomic
+    from firstrung.output import campaign_inputs, make_folder, rows_to_csv, write_atomic
 
     if not rows:
         raise InputError(f"nothing to simulate: no {what} in that range at the campaign's sites", file=str(campaign))
     c = read_campaign(campaign)
-    inputs = [campaign, *[p for paths in c.logs.values() for p in paths]]
-    if output.exists() and not output.is_dir():
-        raise InputError(f"-o: {output} exists and is not a folder")
-    output.mkdir(parents=True, exist_ok=True)
-    path = write_atomic(output / f"{kind}.csv", rows_to_csv(rows, columns), inputs=inputs)
-    console().print(f"{len(rows)} synthetic {what} written to {path}")
+    make_folder(output)
+    path = write_atomic(output / f"{kind}.csv", rows_to_csv(rows, columns), inputs=campaign_inputs(c))
+    console().print(f"{len(rows)} synthetic {what} written to {escape(str(path))}")
 
 
 def simulation_range(date_from: str, date_to: str) -> tuple[str, str]:

@@ -70,7 +70,7 @@ def plan_shadows(
     )
     from firstrung.methods.shadows.prediction import ShadowConstraints
     from firstrung.methods.shadows.present_plan import shadow_plan_to_json
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     constraints = ShadowConstraints(
         min_altitude_deg=min_altitude_deg,
@@ -81,7 +81,7 @@ def plan_shadows(
     run = run_plan_shadows(campaign, parse_date("--from", date_from), parse_date("--to", date_to), constraints)
     days = chosen_days(run.plan, top)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(run, days), inputs=[campaign, *run.campaign.logs.get("shadows", ())])
+        write_atomic(ics, calendar_bytes(run, days), inputs=campaign_inputs(run.campaign))
     data = shadow_plan_to_json(run)
     if json_output:
         print_json(data)
