@@ -66,6 +66,9 @@ __all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot
 #: Largest accepted timing uncertainty [s]: beyond an hour a timing says nothing
 #: about a contact or a half moon, and the value is a unit typed wrongly.
 TIME_SIGMA_LIMIT_S = 3600.0
+#: Timing uncertainties must be at least this [s]: no timing by eye or camera is better, and
+#: a vanishing one would give one row infinite weight.
+TIME_SIGMA_MIN_S = 0.01
 
 _NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 
@@ -569,6 +572,8 @@ def read_rows(
     microseconds); it returns ``None`` for anything unusual, which then goes
     through ``parse_row`` and its exact messages.
     """
+    if isinstance(paths, (str, bytes, os.PathLike)):  # one file, not the characters of its name
+        paths = (os.fsdecode(paths),)
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []
@@ -630,6 +635,12 @@ def cell_text(row: Row, slot_name: str) -> str:
 def time_sigma_s(row: Row) -> float:
     """The row's timing uncertainty [s]; NaN when absent or refused."""
     sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
+    if sigma_s < TIME_SIGMA_MIN_S:
+        row.problem(
+            "time_sigma_s",
+            f"expected a timing uncertainty of at least {TIME_SIGMA_MIN_S:g} s, got {quoted(row.cell('time_sigma_s'))}",
+        )
+        return math.nan
     if sigma_s > TIME_SIGMA_LIMIT_S:
         row.problem(
             "time_sigma_s",

@@ -68,7 +68,9 @@ def plan_eclipses(
     else:
         render_plan(data, verbose)
         if ics is not None:
-            console().print(f"  calendar written to {ics}")
+            from rich.markup import escape
+
+            console().print(f"  calendar written to {escape(str(ics))}")
 
 
 def _date(option: str, value: str) -> str:

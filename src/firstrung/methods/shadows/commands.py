@@ -26,6 +26,7 @@ from firstrung.cli.common import (
     report_left_out,
     report_problems,
     simulation_range,
+    terminal_text,
     write_simulated,
 )
 
@@ -190,7 +191,7 @@ def reduce_shadows(
     else:
         render_shadows(data, verbose)
     for note in run.notes:
-        print(f"firstrung: note: {note}", file=sys.stderr)
+        print(f"firstrung: note: {terminal_text(note, one_line=True)}", file=sys.stderr)
     report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
