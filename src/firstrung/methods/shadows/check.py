@@ -119,9 +119,9 @@ DISTINCT_MARGIN = 10.0
 #: and its mean capped squared residual below ACCEPTABLE_MEAN_SQUARE.
 ACCEPTABLE_LEVEL_SIGMA = 4.0
 ACCEPTABLE_MEAN_SQUARE = 4.0
-#: ... and its fitted clock offset within this many prior sigmas (15 min): a fix that leaves the
-#: readings a quarter of an hour off the Sun is no fix (another mistake is mixed in).
-ACCEPTABLE_CLOCK_SIGMA = 3.0
+#: ... and its fitted clock offset within this many prior sigmas (10 min): a fix that leaves the
+#: readings ten minutes and more off the Sun is no fix (another mistake is mixed in).
+ACCEPTABLE_CLOCK_SIGMA = 2.0
 #: A series whose level is this many sigma off, unexplained, is flagged.
 SERIES_LEVEL_SIGMA = 5.0
 
