@@ -262,7 +262,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowRows) -> ShadowC
     from firstrung.methods.shadows.check_pairs import pair_verdicts
 
     pairs = pair_verdicts(verdicts, count, group, rows, t, lat, lon, sd, temperature, pressure, measured_weather,
-                          zone_offset_h, decide=_decide, in_span=_in_span, min_rows=MIN_ROWS_FOR_SHAPE)
+                          zone_offset_h, singles=(base, stats, fits, separations), decide=_decide, in_span=_in_span,
+                          min_rows=MIN_ROWS_FOR_SHAPE)
     for g, p in pairs.items():
         verdicts[g] = (p.verdict, None, p.candidates)
     noon_only = bool(np.median(np.abs(ha0)) <= np.radians(NOON_ONLY_MEDIAN_H * 15.0))

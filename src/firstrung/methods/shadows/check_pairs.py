@@ -64,18 +64,26 @@ def _subset(rows: ShadowRows, sel) -> ShadowRows:
 
 
 def fit_hypothesis(h: _Hypothesis, rows: ShadowRows, group, n_groups, t, lat, lon, sd, temperature, pressure,
-                   measured_weather, zone_offset_h, in_span):
+                   measured_weather, zone_offset_h, in_span, cache=None):
     """The series' statistic under any hypothesis, every part of it applied (time, coordinates, unit, edge).
 
     Returns the fit and the (residual, rate, random variance, systematic
     variance) it was made from, or (None, None) when the shifted times leave
-    the ephemeris.
+    the ephemeris. ``cache`` (a dict) keeps the Sun's place per time and
+    coordinate change, shared by the hypotheses that differ only in unit or edge.
     """
-    shift_h = (h.hours - zone_offset_h) if h.local_as_utc else np.full(len(rows), h.hours)
-    t_h = t + np.round(shift_h * 3600e3).astype(np.int64).astype("timedelta64[ms]")
-    if not in_span(t_h):
+    key = (h.hours, h.local_as_utc, h.latitude_sign, h.longitude_sign)
+    if cache is not None and key in cache:
+        sun = cache[key]
+    else:
+        shift_h = (h.hours - zone_offset_h) if h.local_as_utc else np.full(len(rows), h.hours)
+        t_h = t + np.round(shift_h * 3600e3).astype(np.int64).astype("timedelta64[ms]")
+        sun = sun_altitude_rad(t_h, lat * h.latitude_sign, lon * h.longitude_sign)[:2] if in_span(t_h) else None
+        if cache is not None:
+            cache[key] = sun
+    if sun is None:
         return None, None
-    pred, rate, _, _ = sun_altitude_rad(t_h, lat * h.latitude_sign, lon * h.longitude_sign)
+    pred, rate = sun
     length = rows.shadow_m / h.factor
     edge = rows.edge if h.edge is None else np.full(len(rows), h.edge, dtype=object)
     obs, refr = _observed(rows, length, _edge_sign(edge), sd, temperature, pressure)
@@ -96,13 +104,23 @@ class PairVerdict:
     statistic: float | None
 
 
+def _take(fit: SeriesStatistic | None, groups, rows) -> SeriesStatistic | None:
+    """A fit's values for some series and their rows."""
+    if fit is None:
+        return None
+    return SeriesStatistic(fit.statistic[groups], fit.level_rad[groups], fit.level_sigma_rad[groups],
+                           fit.clock_s[groups], fit.mean_square[groups], fit.z[rows])
+
+
 def pair_verdicts(verdicts, count, group, rows, t, lat, lon, sd, temperature, pressure, measured_weather,
-                  zone_offset_h, *, decide, in_span, min_rows) -> dict[int, PairVerdict]:
+                  zone_offset_h, *, singles, decide, in_span, min_rows) -> dict[int, PairVerdict]:
     """Series no single mistake explains, judged with the single and the paired hypotheses together.
 
-    Only their rows are recomputed. ``decide`` is the check's own rule
-    (decisive, distinct, acceptable). A series a single hypothesis explains
-    after all keeps its first verdict (it is not returned).
+    Only their rows are recomputed for the pairs; ``singles`` (the single
+    hypotheses' base fit, statistics, fits and separations) are taken as
+    they were. ``decide`` is the check's own rule (decisive, distinct,
+    acceptable). A series a single hypothesis explains after all keeps its
+    first verdict (it is not returned).
     """
     needy = [g for g, v in enumerate(verdicts) if v[0] in ("unexplained", "ambiguous") and count[g] >= min_rows]
     if not needy:
@@ -111,11 +129,15 @@ def pair_verdicts(verdicts, count, group, rows, t, lat, lon, sd, temperature, pr
     sub_group = np.searchsorted(np.asarray(needy), group[sel])
     n_sub = len(needy)
     args = (_subset(rows, sel), sub_group, n_sub, t[sel], lat[sel], lon[sel], sd[sel], temperature[sel],
-            pressure[sel], measured_weather[sel], zone_offset_h[sel], in_span)
+            pressure[sel], measured_weather[sel], zone_offset_h[sel], in_span, {})
     base, (r0, rate0, rand0, sys0) = fit_hypothesis(_Hypothesis("as-logged", "as logged"), *args)
+    single_base, single_stats, single_fits, single_separations = singles
+    base = _take(single_base, needy, sel)
     candidates = HYPOTHESES + PAIRS
-    stats, fits, separations = [], [], []
-    for h in candidates:
+    stats = [None if s is None else s[needy] for s in single_stats]
+    fits = [_take(f, needy, sel) for f in single_fits]
+    separations = [s[needy] for s in single_separations]
+    for h in PAIRS:
         fit, parts = fit_hypothesis(h, *args)
         stats.append(None if fit is None else fit.statistic)
         fits.append(fit)
