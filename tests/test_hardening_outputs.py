@@ -211,3 +211,21 @@ def test_check_accepted_never_hands_a_spreadsheet_a_formula(tmp_path, capsys, mo
     assert observers == ["'=HYPERLINK(\"http://example.invalid\",\"x\")", "'=1+1", "+1", "-2", "'@SUM(A1)", "'=1",
                          "'-1+2", "'+cmd|' /C calc'!A0"]
     assert not any(cell.startswith(("=", "@", "\t", "\r")) for row in written for cell in row)
+
+
+def test_simulate_writes_a_campaign_log_that_does_not_exist_yet(tmp_path, capsys, monkeypatch):
+    # the rehearsal's first step: the campaign lists sim/shadows.csv, which simulate then writes
+    folder = tmp_path / "c"
+    shutil.copytree(EXAMPLES, folder)
+    camp = folder / "campaign.toml"
+    camp.write_text(camp.read_text().replace('"logs/shadows.csv"', '"sim/shadows.csv"'))
+    code, out, err = run_cli(["simulate", "shadows", camp, "--from", "2027-03-22", "--to", "2027-03-22",
+                              "-o", folder / "sim"], capsys, monkeypatch, columns=200)
+    assert code == 0, err
+    assert (folder / "sim" / "shadows.csv").read_text().startswith("site,time_utc,shadow_mm,observer,note\n")
+    # and once it exists, it is an input like any other
+    before = (folder / "sim" / "shadows.csv").read_bytes()
+    code, out, err = run_cli(["simulate", "shadows", camp, "--from", "2027-03-23", "--to", "2027-03-23",
+                              "-o", folder / "sim"], capsys, monkeypatch)
+    assert code == 2 and "is one of the inputs" in err
+    assert (folder / "sim" / "shadows.csv").read_bytes() == before
