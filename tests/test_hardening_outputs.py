@@ -229,3 +229,18 @@ def test_simulate_writes_a_campaign_log_that_does_not_exist_yet(tmp_path, capsys
                               "-o", folder / "sim"], capsys, monkeypatch)
     assert code == 2 and "is one of the inputs" in err
     assert (folder / "sim" / "shadows.csv").read_bytes() == before
+
+
+def test_the_writers_refuse_inputs_without_the_early_check(campaign, capsys, monkeypatch):
+    # commands refuse at once (before any work); the writer itself must refuse too
+    from firstrung.cli import common
+
+    monkeypatch.setattr(common, "_refuse_outputs_over_inputs", lambda kwargs: None)
+    folder = campaign.parent
+    before = tree(folder)
+    for target in (folder / "logs" / "phases.csv", folder / "logs" / "shadows-template.csv"):
+        for args in file_commands(campaign, target)[:5]:  # plan x3, sheet, check (report is slow)
+            code, out, err = run_cli(args, capsys, monkeypatch)
+            assert code == 2 and err.endswith(f"firstrung: output {target} is one of the inputs; choose another "
+                                              "file name\n"), (args, err)
+            assert tree(folder) == before

@@ -146,10 +146,8 @@ def test_escape_sequences_from_names_never_reach_the_terminal(c, capsys, monkeyp
 
     for log in ("shadows", "eclipse", "phases"):
         edit_csv(c / "logs" / f"{log}.csv", change)
-    for args in (["check", camp], ["check", camp, "-v"], ["reduce", "shadows", camp], ["reduce", "eclipse", camp],
-                 ["reduce", "phases", camp], ["ladder", camp, "--samples", "1000"],
-                 ["plan", "shadows", camp, "--from", "2027-03-01", "--to", "2027-03-03"],
-                 ["plan", "phases", camp, "--from", "2027-01-01", "--to", "2027-01-31"],
+    # one console class and one stderr printer serve every command: a few commands show it
+    for args in (["check", camp, "-v"], ["reduce", "shadows", camp], ["reduce", "phases", camp],
                  ["plan", "eclipses", camp, "--from", "2029-12-01", "--to", "2029-12-31"]):
         code, out, err = run_cli(args, capsys, monkeypatch, columns=200)
         assert "internal error" not in err

@@ -52,11 +52,12 @@ DEMO_RESULTS = ("check.json", "earth-radius.json", "moon-distance.json", "sun-mo
                 "report.html")
 
 
-def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str]) -> None:
+def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str] | None) -> None:
     """InputError unless ``folder`` is new, empty, or a demo's output whose campaign and logs are unchanged.
 
     The demo replaces its own files only: a folder holding anything else
     (a user's campaign, a demo campaign or log edited since) is left untouched.
+    Without ``logs`` (before they are simulated) only the campaign file is compared.
     """
     from firstrung.errors import InputError
     from firstrung.output import refuse_replacing_others
@@ -69,7 +70,7 @@ def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str]) -> 
     if not any(folder.iterdir()):
         return
     expected = {folder / "campaign.toml": campaign_text.encode("utf-8")}
-    expected.update({folder / "logs" / name: text.encode("utf-8") for name, text in logs.items()})
+    expected.update({folder / "logs" / name: text.encode("utf-8") for name, text in (logs or {}).items()})
     if not (folder / "campaign.toml").is_file():
         raise InputError(f"-o: {folder} is not empty and is not the output of firstrung demo; "
                          "it is left as it is: choose an empty or new folder")
@@ -92,6 +93,7 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     folder = Path(folder)
     files = {}
     text = demo_campaign_text()
+    refuse_non_demo_folder(folder, text, None)  # at once, before the simulation
     progress("simulating the observers' logs")
     campaign = parse_campaign(text, path=folder / "campaign.toml")
     logs = demo_logs(campaign)

@@ -56,6 +56,7 @@ def handles_errors(command):
 
         try:
             _refuse_non_finite(kwargs)
+            _refuse_outputs_over_inputs(kwargs)
             _note_outside_folder(kwargs.get("campaign"))
             return command(*args, **kwargs)
         except FirstrungError as error:
@@ -87,6 +88,29 @@ def _note_outside_folder(campaign_path) -> None:
         listed = ", ".join(str(p) for p in outside)
         print(terminal_text(f"firstrung: note: the campaign reads logs outside its folder: {listed}", one_line=True),
               file=sys.stderr)
+
+
+#: The options that name a file or folder a command writes.
+_OUTPUT_OPTIONS = ("output", "ics", "accepted")
+
+
+def _refuse_outputs_over_inputs(kwargs: dict) -> None:
+    """Refuse at once, before any work, an output that names one of the campaign's inputs.
+
+    The writer checks again when it writes (:func:`firstrung.output.write_atomic`);
+    this only spares the user the wait.
+    """
+    campaign = kwargs.get("campaign")
+    if campaign is None:
+        return
+    from firstrung.output import campaign_inputs, refuse_overwriting_inputs
+
+    inputs = None
+    for name in _OUTPUT_OPTIONS:
+        path = kwargs.get(name)
+        if isinstance(path, Path) and not path.is_dir():
+            inputs = campaign_inputs(campaign) if inputs is None else inputs
+            refuse_overwriting_inputs(path, inputs)
 
 
 def _refuse_non_finite(kwargs: dict) -> None:
