@@ -328,19 +328,19 @@ def test_site_checks(tmp_path, extra, replace, expected):
     [
         (
             "height_m = 0\n",
-            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 0",
+            "site[2].gnomon.height_m: expected a gnomon height of at least 0.001 m and below 100 m, got 0",
         ),
         (
             "height_m = -1.0\n",
-            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got -1.0",
+            "site[2].gnomon.height_m: expected a gnomon height of at least 0.001 m and below 100 m, got -1.0",
         ),
         (
             "height_m = 100\n",
-            "site[2].gnomon.height_m: expected a gnomon height above 0 and below 100 m, got 100",
+            "site[2].gnomon.height_m: expected a gnomon height of at least 0.001 m and below 100 m, got 100",
         ),
         (
             "edge = 'umbra'\n",
-            "site[2].gnomon.height_m: missing; expected a gnomon height above 0 and below 100 m",
+            "site[2].gnomon.height_m: missing; expected a gnomon height of at least 0.001 m and below 100 m",
         ),
         (
             "height_m = 1\nheight_sigma_m = -0.001\n",
@@ -348,7 +348,7 @@ def test_site_checks(tmp_path, extra, replace, expected):
         ),
         (
             "height_m = 1\nshadow_sigma_m = inf\n",
-            "site[2].gnomon.shadow_sigma_m: expected a non-negative number of metres, got inf",
+            "site[2].gnomon.shadow_sigma_m: expected a reading error of at least 1e-05 m (no shadow is read exactly), got inf",
         ),
         (
             "height_m = 1\nedge = 'tip'\n",

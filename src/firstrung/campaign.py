@@ -70,6 +70,11 @@ __all__ = [
 ELEVATION_RANGE_M = (-500.0, 9000.0)
 #: Gnomon heights must be below this [m].
 GNOMON_HEIGHT_LIMIT_M = 100.0
+#: Gnomon heights must be at least this [m] (1 mm: anything smaller casts no readable shadow).
+GNOMON_HEIGHT_MIN_M = 1e-3
+#: A stated reading error of a shadow must be at least this [m] (0.01 mm: no shadow edge is
+#: sharper; a zero or vanishing error would give one reading infinite weight).
+SHADOW_SIGMA_MIN_M = 1e-5
 #: Surveyed baselines must be at most this long [km]: half the WGS84 equator,
 #: the longest shortest path between two points on the Earth's surface.
 BASELINE_LIMIT_KM = math.pi * WGS84_SEMI_MAJOR_AXIS_M / 1000.0
@@ -418,14 +423,16 @@ class _Reader:
             table,
             prefix,
             "height_m",
-            f"a gnomon height above 0 and below {limit:g} m",
-            lambda x: 0.0 < x < limit,
+            f"a gnomon height of at least {GNOMON_HEIGHT_MIN_M:g} m and below {limit:g} m",
+            lambda x: GNOMON_HEIGHT_MIN_M <= x < limit,
         )
         height_sigma_m = self.number(
             table, prefix, "height_sigma_m", "a non-negative number of metres", lambda x: x >= 0.0
         )
         shadow_sigma_m = self.number(
-            table, prefix, "shadow_sigma_m", "a non-negative number of metres", lambda x: x >= 0.0
+            table, prefix, "shadow_sigma_m",
+            f"a reading error of at least {SHADOW_SIGMA_MIN_M:g} m (no shadow is read exactly)",
+            lambda x: x >= SHADOW_SIGMA_MIN_M,
         )
         edge = "umbra"
         if "edge" in table:

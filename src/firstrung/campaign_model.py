@@ -193,6 +193,33 @@ class Campaign:
         """The folder log paths are relative to (the current one when parsed from text)."""
         return Path(".") if self.path is None else self.path.parent
 
+    def logs_outside_folder(self) -> tuple[Path, ...]:
+        r"""Log files that lie outside the campaign file's folder (an absolute path, ``..``, a link).
+
+        They are read like any other (teachers share folders); commands say so,
+        since ``check --accepted`` copies their lines.
+
+        >>> from firstrung.campaign import parse_campaign
+        >>> c = parse_campaign('[[site]]\nid = "a"\nlatitude_deg = 1\nlongitude_deg = 2\n'
+        ...                    '[logs]\nshadows = ["logs/a.csv", "../b.csv"]\n', path="camp/c.toml")
+        >>> [str(p) for p in c.logs_outside_folder()]
+        ['camp/../b.csv']
+        """
+        try:
+            home = self.folder.resolve()
+        except (OSError, RuntimeError):
+            return ()
+        outside = []
+        for paths in self.logs.values():
+            for p in paths:
+                try:
+                    resolved = Path(p).resolve()
+                except (OSError, RuntimeError, ValueError):
+                    continue
+                if not resolved.is_relative_to(home) and p not in outside:
+                    outside.append(p)
+        return tuple(outside)
+
     def site(self, site_id: str) -> Site:
         """Return the site with that id.
 

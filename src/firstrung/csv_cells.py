@@ -136,6 +136,9 @@ def _number(cell: str) -> float | None:
 #: Largest accepted timing uncertainty [s]: beyond an hour a timing says nothing
 #: about a contact or a half moon, and the value is a unit typed wrongly.
 TIME_SIGMA_LIMIT_S = 3600.0
+#: Timing uncertainties must be at least this [s]: no timing by eye or camera is better, and
+#: a vanishing one would give one row infinite weight.
+TIME_SIGMA_MIN_S = 0.01
 
 
 def column_arrays(good: list[dict], spec: dict[str, object]) -> dict[str, np.ndarray]:
@@ -153,6 +156,12 @@ def cell_text(row, slot_name: str) -> str:
 def time_sigma_s(row) -> float:
     """The row's timing uncertainty [s]; NaN when absent or refused."""
     sigma_s = row.number("time_sigma_s", "a positive number of seconds", lambda x: x > 0.0)
+    if sigma_s < TIME_SIGMA_MIN_S:
+        row.problem(
+            "time_sigma_s",
+            f"expected a timing uncertainty of at least {TIME_SIGMA_MIN_S:g} s, got {quoted(row.cell('time_sigma_s'))}",
+        )
+        return math.nan
     if sigma_s > TIME_SIGMA_LIMIT_S:
         row.problem(
             "time_sigma_s",

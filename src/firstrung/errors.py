@@ -76,4 +76,18 @@ class EphemerisRangeError(InputError):
 
 
 class ComputationError(FirstrungError):
-    """A reduction that cannot be carried out with the data given (too few sites, no spread)."""
+    """A reduction that cannot be carried out with the data given (too few sites, no spread).
+
+    Parameters
+    ----------
+    message : str
+        What is missing.
+    problems : sequence of RowProblem, optional
+        The rows and files refused on the way, which often explain it (the
+        command line prints each before the message).
+    """
+
+    def __init__(self, message: str, *, problems: tuple[RowProblem, ...] = ()) -> None:
+        self.message = message
+        self.problems = tuple(problems)
+        super().__init__(message)

@@ -118,8 +118,8 @@ def ladder_figure(rows: list[dict]):
         m = r["measured"]
         low = m["low"] / r["modern"]
         high = (m["high"] / r["modern"]) if m["high"] is not None else None
-        value = m["value"] / r["modern"]
-        ax.plot([value], [k], "o", color="C0")
+        if m["value"] is not None:  # None: a lower bound only (no point, the arrow below)
+            ax.plot([m["value"] / r["modern"]], [k], "o", color="C0")
         if high is None:
             ax.annotate("", xy=(max(2.0, low * 2), k), xytext=(low, k),
                         arrowprops={"arrowstyle": "->", "color": "C0"})

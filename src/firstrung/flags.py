@@ -105,6 +105,32 @@ def problem_flags(problems, site_of=None, observer_of=None) -> list[Flag]:
     return out
 
 
+def row_severities(flags):
+    """The worst severity flagged on each (file, row), and a lookup that also knows refused files.
+
+    A file the reader refused whole (an ``unreadable-file`` error: a missing
+    column, an undecodable file) has every row refused, though each row is
+    not flagged on its own. Returns ``severity(file, row)``: ``"error"``,
+    ``"warning"`` or None.
+
+    >>> sev = row_severities([Flag("a.csv", None, None, "unreadable-file", "error", "m", "f"),
+    ...                       Flag("b.csv", 3, "ridge", "outlier", "warning", "m", "f")])
+    >>> sev("a.csv", 7), sev("b.csv", 3), sev("b.csv", 4)
+    ('error', 'warning', None)
+    """
+    worst: dict[tuple, str] = {}
+    refused: set[str] = set()
+    for f in flags:
+        if f.row is None:
+            if f.code == "unreadable-file" and f.severity == "error":
+                refused.add(f.file)
+            continue
+        key = (f.file, f.row)
+        if worst.get(key) != "error":
+            worst[key] = f.severity
+    return lambda file, row: "error" if file in refused else worst.get((file, row))
+
+
 def summarize(records, flags) -> tuple[SummaryRow, ...]:
     """Rows read, accepted (no error flag) and flagged, per site and per site and observer.
 
@@ -115,16 +141,10 @@ def summarize(records, flags) -> tuple[SummaryRow, ...]:
     >>> [(s.site, s.observer, s.read, s.accepted, s.errors) for s in summarize(rec, fl)]
     [('ridge', '', 2, 1, 1), ('ridge', 'T. O.', 2, 1, 1)]
     """
-    worst: dict[tuple, str] = {}
-    for f in flags:
-        if f.row is None:
-            continue
-        key = (f.file, f.row)
-        if worst.get(key) != "error":
-            worst[key] = f.severity
+    severity = row_severities(flags)
     table: dict[tuple[str, str], list[int]] = {}
     for file, row, site, observer in records:
-        state = worst.get((file, row))
+        state = severity(file, row)
         keys = [(site or "", "")] + ([(site or "", observer)] if observer else [])
         for key in keys:
             cell = table.setdefault(key, [0, 0, 0, 0, 0])

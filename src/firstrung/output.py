@@ -5,7 +5,11 @@ Every file firstrung writes goes to a temporary file in the same folder
 half a file and an error or Ctrl-C leaves nothing behind: the destination is
 either untouched or complete. Writing to a path that is one of the inputs
 (the same file by another name included: a symbolic or hard link) is
-refused.
+refused; :func:`campaign_inputs` names every file a campaign reads (its
+campaign file and every log of every kind), which every command that
+writes passes as ``inputs``. Commands that fill a folder
+(:func:`make_folder`, :func:`refuse_replacing_others`) never replace a file
+they did not write themselves.
 """
 
 from __future__ import annotations
@@ -17,7 +21,7 @@ from pathlib import Path
 
 from firstrung.errors import InputError
 
-__all__ = ["refuse_overwriting_inputs", "write_atomic"]
+__all__ = ["campaign_inputs", "make_folder", "refuse_overwriting_inputs", "refuse_replacing_others", "write_atomic"]
 
 #: Suffix of the temporary file an output is written to before the rename.
 PART_SUFFIX = ".part"
@@ -53,7 +57,7 @@ def refuse_overwriting_inputs(path, inputs: Iterable = ()) -> Path:
     Raises
     ------
     InputError
-        When the output is one of the inputs, under any name.
+        When the output is one of the existing inputs, under any name.
 
     Examples
     --------
@@ -62,9 +66,117 @@ def refuse_overwriting_inputs(path, inputs: Iterable = ()) -> Path:
     """
     out = Path(path)
     for item in inputs:
-        if item is not None and _same_file(out, Path(item)):
+        # an input that does not exist yet holds nothing to lose (simulate writes a campaign's first logs)
+        if item is not None and os.path.lexists(item) and _same_file(out, Path(item)):
             raise InputError(f"output {out} is one of the inputs; choose another file name")
     return out
+
+
+def campaign_inputs(campaign) -> tuple[Path, ...]:
+    """Every file a campaign reads: the campaign file and each log of every kind it lists.
+
+    Parameters
+    ----------
+    campaign : Campaign or path-like
+        A campaign read already, or the path of its file (read here; when it
+        cannot be read, the file alone is returned and the command's own
+        reading reports why).
+
+    Returns
+    -------
+    tuple of pathlib.Path
+
+    Examples
+    --------
+    >>> [p.name for p in campaign_inputs("no-such-campaign.toml")]
+    ['no-such-campaign.toml']
+    """
+    from firstrung.campaign import Campaign, read_campaign
+
+    if not isinstance(campaign, Campaign):
+        path = Path(campaign)
+        try:
+            campaign = read_campaign(path)
+        except (InputError, OSError):
+            return (path,)
+    files = [Path(campaign.path)] if campaign.path is not None else []
+    files.extend(Path(p) for paths in campaign.logs.values() for p in paths)
+    return tuple(files)
+
+
+def make_folder(folder, option: str = "-o") -> Path:
+    """Create an output folder (and its parents) if needed; InputError when that is impossible.
+
+    >>> import tempfile, pathlib
+    >>> make_folder(pathlib.Path(tempfile.mkdtemp()) / "a" / "b").is_dir()
+    True
+    """
+    out = Path(folder)
+    if out.exists() and not out.is_dir():
+        raise InputError(f"{option}: {out} exists and is not a folder")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as error:
+        raise InputError(f"{option}: cannot create the folder {out}: {error.strerror or error}") from None
+    if not os.access(out, os.W_OK | os.X_OK):
+        raise InputError(f"{option}: cannot write into the folder {out}: permission denied")
+    return out
+
+
+def refuse_replacing_others(files, ours, what: str) -> None:
+    """InputError unless every existing file among ``files`` is one this command wrote.
+
+    Parameters
+    ----------
+    files : iterable of path-like
+        The files a command is about to write into a folder.
+    ours : callable(path, bytes) -> bool
+        Whether an existing file's content is one the command writes itself
+        (which it may replace).
+    what : str
+        What the command writes, for the message.
+    """
+    for item in files:
+        path = Path(item)
+        if path.is_dir():
+            raise InputError(f"cannot write {path}: it is a folder")
+        if not path.exists():
+            continue
+        try:
+            old = path.read_bytes()
+        except OSError as error:
+            raise InputError(f"cannot check {path} before replacing it: {error.strerror or error}") from None
+        if not ours(path, old):
+            raise InputError(
+                f"{path} exists and is not {what}; it is left as it is: choose an empty or new folder"
+            )
+
+
+#: First characters that make a spreadsheet read a cell as a formula (or hide one after them).
+_FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r", "\n")
+_PLAIN_NUMBER = None
+
+
+def spreadsheet_safe(cell: str) -> str:
+    """A CSV cell a spreadsheet shows as text: a leading ``'`` before a formula-like start.
+
+    Cells starting with ``=``, ``+``, ``-``, ``@``, a tab or a line break are
+    prefixed with an apostrophe (the usual defence against formula injection);
+    plain numbers such as ``-2.5`` or ``+1e3`` are left as they are.
+
+    >>> print(spreadsheet_safe('=HYPERLINK("http://x")'), spreadsheet_safe("-2.5"), spreadsheet_safe("Kepler"))
+    '=HYPERLINK("http://x") -2.5 Kepler
+    """
+    global _PLAIN_NUMBER
+    if not cell.startswith(_FORMULA_STARTS):
+        return cell
+    if _PLAIN_NUMBER is None:
+        import re
+
+        _PLAIN_NUMBER = re.compile(r"[+-]?(\d+[.,]?\d*|[.,]\d+)([eE][+-]?\d+)?")
+    if _PLAIN_NUMBER.fullmatch(cell):
+        return cell
+    return "'" + cell
 
 
 def _creation_mode(existing: Path) -> int:
@@ -101,6 +213,8 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
         When the output is one of the inputs, its folder does not exist, it
         names a folder, or the system refuses the write (permissions, disk
         full); nothing is left behind.
+    TypeError
+        When ``data`` is neither text nor bytes.
 
     Examples
     --------
@@ -111,6 +225,8 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
     >>> sorted(p.name for p in d.iterdir())
     ['a.txt']
     """
+    if not isinstance(data, (str, bytes, bytearray, memoryview)):
+        raise TypeError(f"write_atomic: expected the data as str or bytes, got {type(data).__name__}")
     out = refuse_overwriting_inputs(path, inputs)
     folder = out.parent if str(out.parent) else Path(".")
     if not folder.is_dir():

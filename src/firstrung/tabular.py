@@ -502,6 +502,8 @@ def read_rows(
     parse_row: Callable[[Row, Campaign], dict | None],
 ) -> tuple[list[dict], list[RowProblem], int, tuple[str, ...], tuple[str, ...]]:
     """Read every file of one kind, row by row: good rows as dicts, problems, rows read, ignored, notes."""
+    if isinstance(paths, (str, bytes, os.PathLike)):  # one file, not the characters of its name
+        paths = (os.fsdecode(paths),)
     chosen_paths = campaign.logs.get(kind, ()) if paths is None else tuple(paths)
     good: list[dict] = []
     problems: list[RowProblem] = []

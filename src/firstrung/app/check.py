@@ -189,18 +189,20 @@ def status_csv(run: CheckRun) -> str:
     """Every row read, with its original cells, then ``status``, ``flags``, ``source_file`` and ``source_row``.
 
     Columns are the union of the files' headers in order of first appearance.
+    A cell a spreadsheet would run as a formula (``=``, ``+``, ``-``, ``@``,
+    tab or line-break first) is written with a leading ``'``
+    (:func:`firstrung.output.spreadsheet_safe`).
     """
-    worst: dict[tuple[str, int], str] = {}
+    from firstrung.flags import row_severities
+    from firstrung.output import spreadsheet_safe
+
+    severity = row_severities(run.flags)
     codes: dict[tuple[str, int], list[str]] = {}
     for f in run.flags:
-        if f.row is None:
-            continue
         key = (f.file, f.row)
         codes.setdefault(key, [])
         if f.code not in codes[key]:
             codes[key].append(f.code)
-        if worst.get(key) != "error":
-            worst[key] = f.severity
     columns: list[str] = []
     for f in run.files:
         columns.extend(c for c in f.header if c and c not in columns)
@@ -215,5 +217,7 @@ def status_csv(run: CheckRun) -> str:
             values = list(values)
             key = (f.label, number)
             extra = [f.kind] if several else []
-            writer.writerow(values + [STATUS_WORDS[worst.get(key)], ";".join(codes.get(key, [])), f.label, number] + extra)
+            row_codes = codes.get(key, []) + [c for c in codes.get((f.label, None), []) if c == "unreadable-file"]
+            row = values + [STATUS_WORDS[severity(f.label, number)], ";".join(row_codes), f.label, number] + extra
+            writer.writerow([spreadsheet_safe(v) if isinstance(v, str) else v for v in row])
     return buf.getvalue()

@@ -33,8 +33,12 @@ def flag_to_json(flag) -> dict:
 def check_run_to_json(run) -> dict:
     """The ``check`` result (see DESIGN section 4)."""
     errors = sum(f.severity == "error" for f in run.flags)
-    flagged_rows = {(f.file, f.row) for f in run.flags if f.row is not None}
-    error_rows = {(f.file, f.row) for f in run.flags if f.row is not None and f.severity == "error"}
+    from firstrung.flags import row_severities
+
+    severity = row_severities(run.flags)
+    states = [severity(f.label, n) for f in run.files for n, _ in f.rows]
+    flagged_rows = [s for s in states if s is not None]
+    error_rows = [s for s in states if s == "error"]
     return {
         "campaign": run.campaign.name,
         "checked": list(run.kinds),

@@ -47,6 +47,38 @@ def demo_logs(campaign) -> dict[str, str]:
     return out
 
 
+#: The files the demo writes beside its campaign file and logs.
+DEMO_RESULTS = ("check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "ladder.json",
+                "report.html")
+
+
+def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str] | None) -> None:
+    """InputError unless ``folder`` is new, empty, or a demo's output whose campaign and logs are unchanged.
+
+    The demo replaces its own files only: a folder holding anything else
+    (a user's campaign, a demo campaign or log edited since) is left untouched.
+    Without ``logs`` (before they are simulated) only the campaign file is compared.
+    """
+    from firstrung.errors import InputError
+    from firstrung.output import refuse_replacing_others
+
+    folder = Path(folder)
+    if not folder.exists():
+        return
+    if not folder.is_dir():
+        raise InputError(f"-o: {folder} exists and is not a folder")
+    if not any(folder.iterdir()):
+        return
+    expected = {folder / "campaign.toml": campaign_text.encode("utf-8")}
+    expected.update({folder / "logs" / name: text.encode("utf-8") for name, text in (logs or {}).items()})
+    if not (folder / "campaign.toml").is_file():
+        raise InputError(f"-o: {folder} is not empty and is not the output of firstrung demo; "
+                         "it is left as it is: choose an empty or new folder")
+    refuse_replacing_others(expected, lambda path, old: expected[path] == old,
+                            "the demo's own file (edited since the demo wrote it?)")
+    refuse_replacing_others((folder / name for name in DEMO_RESULTS), lambda path, old: True, "a file")
+
+
 def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, progress=lambda step: None) -> DemoRun:
     """Write the demo campaign and its logs into ``folder``, then check, reduce, chain and report."""
     from firstrung.app.check_json import check_run_to_json
@@ -56,17 +88,20 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     from firstrung.methods.eclipse.present import eclipse_run_to_json
     from firstrung.methods.phases.present import phase_run_to_json
     from firstrung.methods.shadows.present import shadow_run_to_json
-    from firstrung.output import write_atomic
+    from firstrung.output import make_folder, write_atomic
 
     folder = Path(folder)
-    (folder / "logs").mkdir(parents=True, exist_ok=True)
     files = {}
     text = demo_campaign_text()
+    refuse_non_demo_folder(folder, text, None)  # at once, before the simulation
+    progress("simulating the observers' logs")
+    campaign = parse_campaign(text, path=folder / "campaign.toml")
+    logs = demo_logs(campaign)
+    refuse_non_demo_folder(folder, text, logs)
+    make_folder(folder / "logs")
     campaign_path = write_atomic(folder / "campaign.toml", text)
     files["campaign"] = campaign_path
-    progress("simulating the observers' logs")
-    campaign = parse_campaign(text, path=campaign_path)
-    for name, csv_text in demo_logs(campaign).items():
+    for name, csv_text in logs.items():
         files[name] = write_atomic(folder / "logs" / name, csv_text)
     progress("checking the logs, reducing every rung, chaining the ladder")
     report = build_report(campaign_path, samples=samples, seed=seed)

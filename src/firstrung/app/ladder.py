@@ -28,6 +28,8 @@ MODERN_VALUES = {
 }
 ASTRONOMICAL_UNIT_KM = 149_597_870.7
 DEFAULT_SAMPLES = 100_000
+#: Most Monte Carlo draws of the ladder (about 0.3 GB of memory at this many).
+MAX_SAMPLES = 2_000_000
 
 
 @dataclass(frozen=True)
@@ -115,6 +117,10 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
     >>> lad.rung("moon_distance_km").measured is None
     True
     """
+    if not 1 <= samples <= MAX_SAMPLES:
+        from firstrung.errors import InputError
+
+        raise InputError(f"--samples: expected 1 to {MAX_SAMPLES:,} Monte Carlo draws, got {samples:,}")
     rng = np.random.default_rng(seed)
     draws = {}
     order = ("earth_radius_km", "moon_distance_earth_radii", "sun_moon_distance_ratio",

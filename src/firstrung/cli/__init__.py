@@ -44,7 +44,9 @@ def _summary(error: BaseException) -> str:
     text = str(error).strip().splitlines()[0] if str(error).strip() else ""
     if len(text) > _SUMMARY_LIMIT:
         text = text[:_SUMMARY_LIMIT] + "..."
-    return f"{type(error).__name__}: {text}" if text else type(error).__name__
+    from firstrung.cli.common import terminal_text
+
+    return terminal_text(f"{type(error).__name__}: {text}" if text else type(error).__name__, one_line=True)
 
 
 def _one_line_warning(message, category, filename, lineno, file=None, line=None) -> None:

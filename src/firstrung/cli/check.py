@@ -44,12 +44,11 @@ def check(
     """
     from firstrung.app.check import run_check, status_csv
     from firstrung.app.check_json import check_run_to_json
-    from firstrung.output import refuse_overwriting_inputs, write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     run = run_check(campaign)
     if accepted is not None:
-        refuse_overwriting_inputs(accepted, run.inputs())
-        write_atomic(accepted, status_csv(run), inputs=run.inputs())
+        write_atomic(accepted, status_csv(run), inputs=[*campaign_inputs(run.campaign), *run.inputs()])
     data = check_run_to_json(run)
     if json_output:
         print_json(data)
@@ -145,14 +144,16 @@ def _collapsed(items: list[dict], verbose: bool) -> list[dict]:
     if verbose:
         return items
     out: list[dict] = []
+    open_runs: dict[tuple, dict] = {}  # per (file, code, message): the run that the next row may extend
     for f in items:
-        last = out[-1] if out else None
-        if (last is not None and last["code"] == f["code"] and last["message"] == f["message"]
-                and last["file"] == f["file"] and f["row"] is not None and last.get("_last") is not None
-                and f["row"] == last["_last"] + 1):
+        key = (f["file"], f["code"], f["message"])
+        last = open_runs.get(key)
+        if last is not None and f["row"] is not None and last["_last"] is not None and f["row"] == last["_last"] + 1:
             last["_last"] = f["row"]
             continue
-        out.append({**f, "_last": f["row"]})
+        run = {**f, "_last": f["row"]}
+        out.append(run)
+        open_runs[key] = run
     for f in out:
         if f["row"] is not None and f["_last"] != f["row"]:
             f["row"] = f"{f['row']}-{f['_last']}"

@@ -17,9 +17,33 @@ JsonOption = Annotated[bool, typer.Option("--json", help="Print one JSON object 
 VerboseOption = Annotated[bool, typer.Option("--verbose", "-v", help="Show every step: per-day fits and assumptions.")]
 
 
+#: Control characters a terminal would act on (C0 but tab and line feed, DEL, C1, line separators).
+_CONTROL = None
+
+
+def terminal_text(text: str, *, one_line: bool = False) -> str:
+    r"""Text safe for a terminal: each control character shown as its escape (``\x1b``), never sent.
+
+    Names and cells from users' files reach the screen; an escape sequence in
+    one must not clear the screen or retitle the window. With ``one_line``,
+    line breaks are shown as ``\n`` too.
+
+    >>> print(terminal_text("site \x1b[2J\x07 ok"))
+    site \x1b[2J\x07 ok
+    """
+    global _CONTROL
+    if _CONTROL is None:
+        import re
+
+        _CONTROL = (re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029]"),
+                    re.compile("[\x00-\x08\x0a-\x1f\x7f-\x9f\u2028\u2029]"))
+    pattern = _CONTROL[1 if one_line else 0]
+    return pattern.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
+
+
 def fail(message: str, status: int = 2) -> typer.Exit:
     """Print one line on stderr and give the exit to raise."""
-    print(f"firstrung: {message}", file=sys.stderr)
+    print(f"firstrung: {terminal_text(str(message), one_line=True)}", file=sys.stderr)
     return typer.Exit(status)
 
 
@@ -31,25 +55,110 @@ def handles_errors(command):
         from firstrung.errors import FirstrungError
 
         try:
+            _refuse_non_finite(kwargs)
+            _refuse_outputs_over_inputs(kwargs)
+            _note_outside_folder(kwargs.get("campaign"))
             return command(*args, **kwargs)
         except FirstrungError as error:
+            # the rows refused on the way explain a failure ("got 1 site" after 125 bad dates)
+            report_problems(p for p in getattr(error, "problems", ()) if str(p) not in str(error))
             raise fail(str(error)) from None
+        except Exception as error:
+            # the ephemeris library's own range error (an instant just outside DE421 after its
+            # corrections) is a user's date, not a fault
+            if type(error).__name__ == "EphemerisRangeError":
+                raise fail(f"a date outside the bundled ephemeris: {error}") from None
+            raise
 
     return wrapper
 
 
+def _note_outside_folder(campaign_path) -> None:
+    """A note on stderr when the campaign lists logs outside its folder (allowed, but worth knowing)."""
+    if campaign_path is None:
+        return
+    from firstrung.campaign import read_campaign
+    from firstrung.errors import FirstrungError
+
+    try:
+        outside = read_campaign(campaign_path).logs_outside_folder()
+    except (FirstrungError, OSError):
+        return  # the command itself reports an unreadable campaign
+    if outside:
+        listed = ", ".join(str(p) for p in outside)
+        print(terminal_text(f"firstrung: note: the campaign reads logs outside its folder: {listed}", one_line=True),
+              file=sys.stderr)
+
+
+#: The options that name a file or folder a command writes.
+_OUTPUT_OPTIONS = ("output", "ics", "accepted")
+
+
+def _refuse_outputs_over_inputs(kwargs: dict) -> None:
+    """Refuse at once, before any work, an output that names one of the campaign's inputs.
+
+    The writer checks again when it writes (:func:`firstrung.output.write_atomic`);
+    this only spares the user the wait.
+    """
+    campaign = kwargs.get("campaign")
+    if campaign is None:
+        return
+    from firstrung.output import campaign_inputs, refuse_overwriting_inputs
+
+    inputs = None
+    for name in _OUTPUT_OPTIONS:
+        path = kwargs.get(name)
+        if isinstance(path, Path) and not path.is_dir():
+            inputs = campaign_inputs(campaign) if inputs is None else inputs
+            refuse_overwriting_inputs(path, inputs)
+
+
+def _refuse_non_finite(kwargs: dict) -> None:
+    """InputError naming the option when a number given on the command line is NaN or infinite."""
+    import math
+
+    from firstrung.errors import InputError
+
+    for name, value in kwargs.items():
+        if isinstance(value, float) and not math.isfinite(value):
+            option = "--" + name.replace("_", "-")  # each float option is named after its parameter
+            raise InputError(f"{option}: expected a finite number, got {value}")
+
+
 def console(stderr: bool = False):
     """A rich console; the width follows COLUMNS when set (tests fix it)."""
-    from rich.console import Console
-
     width = int(os.environ["COLUMNS"]) if os.environ.get("COLUMNS", "").isdigit() else None
-    return Console(stderr=stderr, width=width, highlight=False, soft_wrap=False)
+    return _safe_console_class()(stderr=stderr, width=width, highlight=False, soft_wrap=False)
+
+
+def _safe_console_class():
+    """rich's Console whose text never carries a control character from the data (:func:`terminal_text`)."""
+    from rich.console import Console
+    from rich.segment import Segment
+
+    class SafeConsole(Console):
+        def _render_buffer(self, buffer):
+            return super()._render_buffer(
+                segment if segment.control else Segment(terminal_text(segment.text), segment.style)
+                for segment in buffer
+            )
+
+    return SafeConsole
+
+
+def progress_bar():
+    """A transient progress bar on stderr, shown on a terminal only (a log or a pipe gets no stray lines)."""
+    from rich.progress import BarColumn, Progress, TextColumn
+
+    err = console(stderr=True)
+    return Progress(TextColumn("{task.description}"), BarColumn(), console=err, transient=True,
+                    disable=not err.is_terminal)
 
 
 def report_problems(problems) -> None:
     """Each refused row or file as one line on stderr."""
     for p in problems:
-        print(f"firstrung: {p}", file=sys.stderr)
+        print(f"firstrung: {terminal_text(str(p), one_line=True)}", file=sys.stderr)
 
 
 def print_json(obj: dict) -> None:
@@ -134,19 +243,18 @@ SeedOption = Annotated[int, typer.Option("--seed", help="Seed of the random erro
 
 def write_simulated(campaign, kind: str, rows, columns, output: Path, what: str) -> None:
     """Write one simulated log as ``<output>/<kind>.csv`` (never over one of the campaign's inputs)."""
+    from rich.markup import escape
+
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
-    from firstrung.output import rows_to_csv, write_atomic
+    from firstrung.output import campaign_inputs, make_folder, rows_to_csv, write_atomic
 
     if not rows:
         raise InputError(f"nothing to simulate: no {what} in that range at the campaign's sites", file=str(campaign))
     c = read_campaign(campaign)
-    inputs = [campaign, *[p for paths in c.logs.values() for p in paths]]
-    if output.exists() and not output.is_dir():
-        raise InputError(f"-o: {output} exists and is not a folder")
-    output.mkdir(parents=True, exist_ok=True)
-    path = write_atomic(output / f"{kind}.csv", rows_to_csv(rows, columns), inputs=inputs)
-    console().print(f"{len(rows)} synthetic {what} written to {path}")
+    make_folder(output)
+    path = write_atomic(output / f"{kind}.csv", rows_to_csv(rows, columns), inputs=campaign_inputs(c))
+    console().print(f"{len(rows)} synthetic {what} written to {escape(str(path))}")
 
 
 def simulation_range(date_from: str, date_to: str) -> tuple[str, str]:

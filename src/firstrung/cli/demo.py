@@ -7,7 +7,7 @@ from typing import Annotated
 
 import typer
 
-from firstrung.cli.common import console, handles_errors
+from firstrung.cli.common import console, handles_errors, progress_bar
 
 
 def register(app: typer.Typer) -> None:
@@ -20,7 +20,7 @@ def demo(
     ),
 ) -> None:
     """Simulate an invented campaign's logs, check them, reduce every rung, chain the ladder, write the report."""
-    from rich.progress import BarColumn, Progress, TextColumn
+    from rich.markup import escape
 
     from firstrung.app.demo import run_demo
     from firstrung.cli.ladder import _render
@@ -30,7 +30,7 @@ def demo(
         raise InputError(f"-o: {output} exists and is not a folder")
     steps = ["simulating the observers' logs", "checking the logs, reducing every rung, chaining the ladder",
              "writing the report"]
-    with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
+    with progress_bar() as bar:
         task = bar.add_task(steps[0], total=len(steps))
 
         def step(name):
@@ -40,6 +40,7 @@ def demo(
         bar.update(task, completed=len(steps))
     _render(run.ladder)
     out = console()
-    out.print(f"  check flagged {run.check_flags} rows (see {run.files['check']}); rows flagged as errors were left out")
-    out.print(f"  campaign and logs: {run.files['campaign']} and {run.folder / 'logs'}")
-    out.print(f"  report: {run.files['report']}")
+    out.print(f"  check flagged {run.check_flags} rows (see {escape(str(run.files['check']))}); rows flagged as errors "
+              "were left out")
+    out.print(f"  campaign and logs: {escape(str(run.files['campaign']))} and {escape(str(run.folder / 'logs'))}")
+    out.print(f"  report: {escape(str(run.files['report']))}")

@@ -61,7 +61,11 @@ def format_value(m: dict | None, unit: str) -> tuple[str, str]:
         return "not measured", ""
     digits = 3 if unit == "au" else 0
     high = "no upper bound" if m["high"] is None else f"{m['high']:,.{digits}f}"
-    return f"{m['value']:,.{digits}f}", f"{m['low']:,.{digits}f} to {high}"
+    low = "no lower bound" if m["low"] is None else f"{m['low']:,.{digits}f}"
+    if m["value"] is None:  # only a bound (a half moon's elongation that may reach 90 deg)
+        value = "unbounded" if m["low"] is None else f"> {m['low']:,.{digits}f}"
+        return value, f"{low} to {high}"
+    return f"{m['value']:,.{digits}f}", f"{low} to {high}"
 
 
 def _render(data: dict) -> None:
@@ -71,10 +75,12 @@ def _render(data: dict) -> None:
 
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: the distance ladder ({data['samples']:,} Monte Carlo draws, seed {data['seed']})")
-    t = Table(box=box.SIMPLE_HEAD)
-    for col, just in (("quantity", "left"), ("measured", "right"), ("68 % interval", "right"), ("unit", "left"),
-                      ("modern", "right"), ("measured/modern", "right"), ("sigma apart", "right")):
-        t.add_column(col, justify=just)
+    t = Table(box=box.SIMPLE_HEAD, pad_edge=False, padding=(0, 1), collapse_padding=True, show_edge=False)
+    # numbers are never cut: their columns do not wrap; the names and the interval wrap at spaces
+    for col, just, wrap in (("quantity", "left", True), ("measured", "right", False), ("68 % interval", "right", True),
+                            ("unit", "left", False), ("modern", "right", False), ("measured/\nmodern", "right", False),
+                            ("sigma\napart", "right", False)):
+        t.add_column(col, justify=just, no_wrap=not wrap, min_width=11 if col == "68 % interval" else None)
     for row in data["comparison"]:
         value, interval = format_value(row["measured"], row["unit"])
         modern = f"{row['modern']:,.3f}" if row["unit"] == "au" else f"{row['modern']:,.0f}"

@@ -7,7 +7,13 @@ from typing import Annotated
 
 import typer
 
-from firstrung.cli.common import CampaignArgument, console, handles_errors, report_problems
+from firstrung.cli.common import (
+    CampaignArgument,
+    console,
+    handles_errors,
+    progress_bar,
+    report_problems,
+)
 
 
 def register(app: typer.Typer) -> None:
@@ -23,17 +29,18 @@ def report(
     seed: Annotated[int, typer.Option("--seed", help="Seed of the draws (same seed, same report).")] = 1,
 ) -> None:
     """Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."""
-    from rich.progress import BarColumn, Progress, TextColumn
+    from rich.markup import escape
 
     from firstrung.app.report import build_report, render_html, render_markdown
     from firstrung.campaign import read_campaign
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, refuse_overwriting_inputs, write_atomic
 
     camp = read_campaign(campaign)
-    inputs = [campaign, *[p for paths in camp.logs.values() for p in paths]]
+    inputs = campaign_inputs(camp)
+    refuse_overwriting_inputs(output, inputs)
     steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "checking the logs",
              "drawing the eclipse", "drawing the half moon", "writing"]
-    with Progress(TextColumn("{task.description}"), BarColumn(), console=console(stderr=True), transient=True) as bar:
+    with progress_bar() as bar:
         task = bar.add_task("report", total=len(steps))
 
         def step(name):
@@ -44,11 +51,13 @@ def report(
         if markdown:
             prefix = output.stem + "-"
             text, images = render_markdown(rep, prefix)
+            for name in images:
+                refuse_overwriting_inputs(output.parent / name, inputs)
             for name, data in images.items():
                 write_atomic(output.parent / name, data, inputs=inputs)
             write_atomic(output, text, inputs=inputs)
         else:
             write_atomic(output, render_html(rep), inputs=inputs)
         bar.update(task, completed=len(steps))
-    console().print(f"report written: {output}")
+    console().print(f"report written: {escape(str(output))}")
     report_problems(())

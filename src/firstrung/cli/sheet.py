@@ -41,7 +41,7 @@ def sheet(
     from firstrung.methods.shadows.commands import parse_date
     from firstrung.methods.shadows.plan import plan_sites
     from firstrung.methods.shadows.sheet import render_shadow_sheet
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     c = read_campaign(campaign)
     c.site(site)  # an unknown id is a clear error
@@ -49,8 +49,10 @@ def sheet(
     if site not in sites:
         raise InputError(f"--site: site '{site}' has no [site.gnomon] in the campaign file", file=str(campaign))
     html = render_shadow_sheet(c.name, sites[site], parse_date("--date", date), _paper(paper))
-    write_atomic(output, html, inputs=[campaign, *c.logs.get("shadows", ())])
-    console().print(f"field sheet written: {output}")
+    write_atomic(output, html, inputs=campaign_inputs(c))
+    from rich.markup import escape
+
+    console().print(f"field sheet written: {escape(str(output))}")
 
 
 def blank_sheets(
@@ -60,14 +62,17 @@ def blank_sheets(
     paper: PaperOption = "a4",
 ) -> None:
     """Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."""
-    from firstrung.errors import InputError
-    from firstrung.methods.shadows.sheet import blank_field_kit
-    from firstrung.output import write_atomic
+    from rich.markup import escape
 
-    if output.exists() and not output.is_dir():
-        raise InputError(f"-o: {output} exists and is not a folder")
-    output.mkdir(parents=True, exist_ok=True)
+    from firstrung.methods.shadows.sheet import PAPER_SIZES, blank_field_kit
+    from firstrung.output import make_folder, refuse_replacing_others, write_atomic
+
     files = blank_field_kit(_paper(paper))
+    kits = [{name: text.encode("utf-8") for name, text in blank_field_kit(size).items()} for size in PAPER_SIZES]
+    refuse_replacing_others((output / name for name in files),
+                            lambda path, old: any(kit.get(path.name) == old for kit in kits),
+                            "a blank sheet or template as firstrung writes it (filled in?)")
+    make_folder(output)
     for name, text in files.items():
         write_atomic(output / name, text)
-    console().print(f"{len(files)} files written to {output}")
+    console().print(f"{len(files)} files written to {escape(str(output))}")

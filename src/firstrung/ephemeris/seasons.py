@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from firstrung.ephemeris._core import _loaded, _utc_datetime64, check_in_span
+from firstrung.ephemeris._core import _loaded, _utc_datetime64, check_in_span, ephemeris_span_utc
 
 #: Names of the four events by skyfield's season index, in the order of the year.
 SEASON_NAMES = ("March equinox", "June solstice", "September equinox", "December solstice")
@@ -25,6 +25,14 @@ def equinoxes_and_solstices(first_utc, last_utc) -> tuple[np.ndarray, np.ndarray
     first = np.datetime64(first_utc, "us")
     last = np.datetime64(last_utc, "us")
     check_in_span(np.array([first, last]))
+    # the search's light-time corrections reach minutes before its first instant: stay a day inside
+    # DE421's span (no equinox or solstice falls in its first or last day)
+    span_first, span_last = ephemeris_span_utc()
+    margin = np.timedelta64(1, "D")
+    first = max(first, (span_first + margin).astype("datetime64[us]"))
+    last = min(last, (span_last - margin).astype("datetime64[us]"))
+    if last <= first:
+        return np.array([], dtype="datetime64[us]"), np.array([], dtype=str)
     ts, eph, _, _ = _loaded()
     start = ts.from_datetime(first.astype("datetime64[us]").item().replace(tzinfo=_utc()))
     end = ts.from_datetime(last.astype("datetime64[us]").item().replace(tzinfo=_utc()))

@@ -151,6 +151,8 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     from skyfield.nutationlib import iau2000b_radians
 
     time_utc = np.asarray(time_utc, dtype="datetime64[us]").reshape(-1)
+    if time_utc.size == 0:  # no instant: empty results, as numpy gives for empty input
+        return np.zeros((3, 0)), np.zeros(0)
     tt = _tt_jd(time_utc)
     step = _GRID_STEP_H / 24.0
     # whole days with half a day of margin, so that the iterations of a search share one grid

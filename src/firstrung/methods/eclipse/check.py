@@ -100,7 +100,9 @@ def log_flags(campaign, log) -> list[Flag]:
 
 def check_campaign(campaign) -> KindCheck:
     """Read the campaign's eclipse logs and check them: flags and refused rows."""
+    from firstrung.methods.eclipse.craters import load_craters
     from firstrung.methods.eclipse.log import read_eclipse_logs
 
     log = read_eclipse_logs(campaign)
-    return KindCheck(tuple(log_flags(campaign, log)) + tuple(problem_flags(tuple(log.problems))))
+    unknown, _ = load_craters().unknown_features(log)  # the reduction's own lookup: both refuse the same rows
+    return KindCheck(tuple(log_flags(campaign, log)) + tuple(problem_flags(tuple(log.problems) + tuple(unknown))))

@@ -54,7 +54,7 @@ def plan_eclipses(
     from firstrung.campaign import read_campaign
     from firstrung.methods.eclipse.present import eclipse_plan_to_json
     from firstrung.methods.eclipse.run import eclipses_ics, plan_eclipses
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     start = _date("--from", date_from)
     end = _date("--to", date_to)
@@ -62,13 +62,15 @@ def plan_eclipses(
     plan = plan_eclipses(c, start, end, convention)
     data = eclipse_plan_to_json(plan)
     if ics is not None:
-        write_atomic(ics, eclipses_ics(plan), inputs=[campaign])
+        write_atomic(ics, eclipses_ics(plan), inputs=campaign_inputs(c))
     if json_output:
         print_json(data)
     else:
         render_plan(data, verbose)
         if ics is not None:
-            console().print(f"  calendar written to {ics}")
+            from rich.markup import escape
+
+            console().print(f"  calendar written to {escape(str(ics))}")
 
 
 def _date(option: str, value: str) -> str:

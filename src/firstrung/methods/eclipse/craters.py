@@ -9,6 +9,8 @@ from importlib import resources
 
 import numpy as np
 
+from firstrung.errors import RowProblem
+
 
 @dataclass(frozen=True)
 class CraterTable:
@@ -24,12 +26,35 @@ class CraterTable:
         return len(self.name)
 
     def index(self, feature: str) -> int | None:
-        """Row of a feature by IAU name (case and surrounding spaces ignored), or None."""
-        wanted = " ".join(str(feature).split()).casefold()
+        """Row of a feature by IAU name (case, spaces and a word 'crater' before or after ignored), or None.
+
+        >>> t = load_craters()
+        >>> t.index("Tycho crater") == t.index("crater tycho") == t.index(" TYCHO ") != None
+        True
+        """
+        words = str(feature).split()
+        if len(words) > 1 and words[-1].casefold() == "crater":
+            words = words[:-1]
+        elif len(words) > 1 and words[0].casefold() == "crater":
+            words = words[1:]
+        wanted = " ".join(words).casefold()
         for i, n in enumerate(self.name):
             if n.casefold() == wanted:
                 return i
         return None
+
+    def unknown_features(self, log) -> tuple[list[RowProblem], np.ndarray]:
+        """The crater timings of an eclipse log whose feature the table does not know.
+
+        The one lookup both ``check`` and the reduction use: a problem per such
+        row and a boolean mask of them.
+        """
+        bad = np.array([e in ("immersion", "emersion") and self.index(f) is None
+                        for e, f in zip(log.event, log.feature, strict=True)], bool)
+        problems = [RowProblem(str(log.file[k]), int(log.row[k]), "feature",
+                               f"unknown lunar feature {log.feature[k]!r}: expected a crater of the crater table "
+                               f"({', '.join(self.name[:6])}, ...)") for k in np.flatnonzero(bad)]
+        return problems, bad
 
 
 def load_craters() -> CraterTable:

@@ -18,7 +18,7 @@ LOG_COLUMNS = ("site", "time_utc", "event", "feature", "time_sigma_s", "observer
 
 def rehearsal_rows(campaign, first_date, last_date, seed: int, *, observers_per_site: int = 2,
                  contact_sigma_s: float = 40.0, crater_sigma_s: float = 20.0, late_contact: bool = False):
-    """Umbral contacts and crater timings for every eclipse of the range each site can time.
+    """Umbral contacts and crater timings for every eclipse of the range each site can time (1 to 100 observers).
 
     A site logs a contact only with the Moon up and the Sun below -12 deg;
     craters are timed with 70 % chance each (not every observer finds every
@@ -28,6 +28,10 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, observers_per_
     from firstrung.methods.eclipse.craters import load_craters
     from firstrung.methods.eclipse.run import plan_eclipses
 
+    if not 1 <= observers_per_site <= 100:
+        from firstrung.errors import InputError
+
+        raise InputError(f"--observers: expected 1 to 100 observers at each site, got {observers_per_site:,}")
     plan = plan_eclipses(campaign, first_date, last_date)
     from firstrung.methods.eclipse.prediction import feature_edge_times
 

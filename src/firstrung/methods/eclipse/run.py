@@ -162,6 +162,7 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
     """
     import icalendar
 
+    from firstrung.calendar_export import calendar_text, checked_ical
     from firstrung.jsonout import time_z
 
     cal = icalendar.Calendar()
@@ -195,9 +196,9 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
         if plan.excluded[i]:
             lines.append("Not ranked: " + "; ".join(plan.excluded[i]))
         lines.append("A lunar eclipse is safe to watch with the naked eye or any instrument.")
-        ev.add("description", "\n".join(lines))
+        ev.add("description", calendar_text("\n".join(lines)))
         cal.add_component(ev)
-    return cal.to_ical()
+    return checked_ical(cal)
 
 
 def _aware(t):
@@ -507,13 +508,16 @@ def run_eclipse(
     problems = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""
-        raise InputError(f"no usable eclipse timings in the campaign's logs{first}", file=str(campaign_path))
+        raise InputError(f"no usable eclipse timings in the campaign's logs{first}", file=str(campaign_path),
+                         problems=tuple(problems))
     craters = load_craters()
     t = np.asarray(log.time_utc).astype("datetime64[us]")
     day = np.timedelta64(1, "D")
     eclipses = lunar_eclipses(t.min() - day, t.max() + day, convention)
     which = _assign(log, eclipses)
     good = np.ones(len(log), bool)
+    unknown_problems, unknown = craters.unknown_features(log)
+    unknown_of = dict(zip(np.flatnonzero(unknown), unknown_problems, strict=True))
     for k in range(len(log)):
         where = f"{log.file[k]}"
         if which[k] < 0:
@@ -521,10 +525,8 @@ def run_eclipse(
                                        f"no lunar eclipse is under way at {str(np.datetime64(t[k], 's'))}Z "
                                        "(within 30 min of its P1-P4); check the date and the time zone"))
             good[k] = False
-        elif log.event[k] in ("immersion", "emersion") and craters.index(log.feature[k]) is None:
-            problems.append(RowProblem(where, int(log.row[k]), "feature",
-                                       f"unknown lunar feature {log.feature[k]!r}: expected a crater of the "
-                                       f"crater table ({', '.join(craters.name[:6])}, ...)"))
+        elif unknown[k]:
+            problems.append(unknown_of[k])
             good[k] = False
     for i in sorted(set(which[good])):
         rows = np.flatnonzero(good & (which == i))
@@ -568,7 +570,8 @@ def run_eclipse(
         )
     if not results:
         first = f" (first: {problems[0]})" if problems else ""
-        raise InputError(f"no timing falls in a lunar eclipse{first}", file=str(campaign_path))
+        raise InputError(f"no timing falls in a lunar eclipse{first}", file=str(campaign_path),
+                         problems=tuple(problems))
     return EclipseRun(
         campaign=campaign,
         convention=convention,

@@ -60,12 +60,12 @@ def plan_phases(
     """
     from firstrung.methods.phases.present import phase_plan_to_json
     from firstrung.methods.phases.run import PlanSettings, calendar_bytes, plan_phases
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     settings = PlanSettings(min_altitude_deg=min_altitude_deg, min_sun_elongation_deg=min_sun_elongation_deg, half_span_h=span_h)
     plan = plan_phases(campaign, date_from, date_to, settings)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(plan), inputs=[campaign, *[p for v in plan.campaign.logs.values() for p in v]])
+        write_atomic(ics, calendar_bytes(plan), inputs=campaign_inputs(plan.campaign))
     data = phase_plan_to_json(plan)
     if json_output:
         print_json(data)

@@ -448,7 +448,8 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     problems: list[RowProblem] = list(log.problems)
     if len(log) == 0:
         first = f" (first: {problems[0]})" if problems else ""
-        raise InputError(f"no usable half-moon rows in the campaign's logs{first}", file=str(campaign_path))
+        raise InputError(f"no usable half-moon rows in the campaign's logs{first}", file=str(campaign_path),
+                         problems=tuple(problems))
     site_index = {s.id: i for i, s in enumerate(campaign.sites)}
     lat_all, lon_all, elev_all = _site_arrays(campaign.sites)
     quarters, q_index, keep = _assign_quarters(log, problems)
@@ -482,7 +483,8 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
     pairs = sorted({(int(q_index[k]), int(sidx[k])) for k in np.flatnonzero(keep)})
     if not pairs:
         first = f" (first: {problems[0]})" if problems else ""
-        raise InputError(f"no usable half-moon rows in the campaign's logs{first}", file=str(campaign_path))
+        raise InputError(f"no usable half-moon rows in the campaign's logs{first}", file=str(campaign_path),
+                         problems=tuple(problems))
     pq = np.array([p[0] for p in pairs])
     ps = np.array([p[1] for p in pairs])
     site_half = ep.topocentric_dichotomy_utc(quarters.dichotomy_utc[pq], lat_all[ps], lon_all[ps], elev_all[ps])
@@ -558,7 +560,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
                 site_dichotomy_utc=site_half[i], rows=tuple(_label(log, r) for r in rows), fit=fit,
             ))
     if not estimates:
-        raise ComputationError("no half-moon estimate could be made from the rows")
+        raise ComputationError("no half-moon estimate could be made from the rows", problems=tuple(problems))
     estimates.sort(key=lambda x: (x.time_utc, x.site, x.rows))
 
     e_all = np.array([x.elongation_deg.value for x in estimates])

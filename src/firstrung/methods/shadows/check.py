@@ -72,11 +72,11 @@ from firstrung.methods.shadows.check_messages import (
     _mismatch_flags,
     _noon_flags,
     _outlier_flags,
+    _pair_flags,
 )
 from firstrung.methods.shadows.check_statistics import (
     _ARCMIN_PER_RAD,
-    _FAMILY,
-    _PREFERENCE,
+    CHECK_CLOCK_SIGMA_S,
     HYPOTHESES,
     READING_TIME_SIGMA_S,
     SERIES_GAP_H,
@@ -119,6 +119,9 @@ DISTINCT_MARGIN = 10.0
 #: and its mean capped squared residual below ACCEPTABLE_MEAN_SQUARE.
 ACCEPTABLE_LEVEL_SIGMA = 4.0
 ACCEPTABLE_MEAN_SQUARE = 4.0
+#: ... and its fitted clock offset within this many prior sigmas (10 min): a fix that leaves the
+#: readings ten minutes and more off the Sun is no fix (another mistake is mixed in).
+ACCEPTABLE_CLOCK_SIGMA = 2.0
 #: A series whose level is this many sigma off, unexplained, is flagged.
 SERIES_LEVEL_SIGMA = 5.0
 
@@ -256,6 +259,13 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         separations.append(sep)
 
     verdicts = _decide(base, stats, fits, separations, count)
+    from firstrung.methods.shadows.check_pairs import pair_verdicts
+
+    pairs = pair_verdicts(verdicts, count, group, rows, t, lat, lon, sd, temperature, pressure, measured_weather,
+                          zone_offset_h, singles=(base, stats, fits, separations), decide=_decide, in_span=_in_span,
+                          min_rows=MIN_ROWS_FOR_SHAPE)
+    for g, p in pairs.items():
+        verdicts[g] = (p.verdict, None, p.candidates)
     noon_only = bool(np.median(np.abs(ha0)) <= np.radians(NOON_ONLY_MEDIAN_H * 15.0))
     flags: list[Flag] = []
     diagnoses: list[SeriesDiagnosis] = []
@@ -268,20 +278,30 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         date = str(np.datetime64(int(group_day[g]), "D"))
         file = str(rows.file[first_row[g]])
         best_stat = None if k is None else float(stats[k][g])
+        pair = pairs.get(g)
+        explained_by_pair = pair is not None and pair.verdict == "explained"
+        if explained_by_pair:
+            best_stat = pair.statistic
         diagnoses.append(
             SeriesDiagnosis(
                 file=file, site=site.id, date=date, rows=int(count[g]),
                 statistic_logged=round(float(base.statistic[g]), 2),
                 level_arcmin=round(float(base.level_rad[g]) * _ARCMIN_PER_RAD, 2),
                 level_sigma=round(float(base.level_rad[g] / base.level_sigma_rad[g]), 2),
-                best=None if k is None else HYPOTHESES[k].label,
+                best=pair.pair.label if explained_by_pair else (None if k is None else HYPOTHESES[k].label),
                 statistic_best=None if best_stat is None else round(best_stat, 2),
                 verdict=verdict,
             )
         )
         if verdict == "fits":
             continue
-        if verdict == "explained":
+        if explained_by_pair:
+            chosen_z[np.sort(rows_g)] = pair.z
+            explained_time[g] = True
+            context = _Context(site, date, file, int(count[g]), float(base.statistic[g]), best_stat,
+                               candidates, zone_offset_h[rows_g[0]], rows, rows_g, base, g)
+            flags.extend(_pair_flags(pair.pair, context))
+        elif verdict == "explained":
             h = HYPOTHESES[k]
             chosen_z[rows_g] = fits[k].z[rows_g]
             explained_time[g] = h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0
@@ -310,15 +330,15 @@ def _in_span(t) -> bool:
     return bool(np.all((t >= first) & (t <= last)))
 
 
-def _decide(base: SeriesStatistic, stats, fits, separations, count):
+def _decide(base: SeriesStatistic, stats, fits, separations, count, hypotheses=HYPOTHESES):
     """Per series: ("fits" | "explained" | "unexplained" | "ambiguous", chosen hypothesis index, candidates)."""
     n_groups = count.size
-    k_all = len(HYPOTHESES)
+    k_all = len(hypotheses)
     table = np.full((k_all, n_groups), np.inf)
     for k, s in enumerate(stats):
         if s is None:
             continue
-        h = HYPOTHESES[k]
+        h = hypotheses[k]
         usable = separations[k] >= MIN_SEPARATION
         if h.code != "length-unit":
             usable &= count >= MIN_ROWS_FOR_SHAPE
@@ -335,18 +355,23 @@ def _decide(base: SeriesStatistic, stats, fits, separations, count):
             continue
         b = int(best[g])
         band = [k for k in range(k_all) if np.isfinite(table[k, g]) and table[k, g] <= table[b, g] + DISTINCT_MARGIN]
-        families = {_FAMILY[HYPOTHESES[k].code] for k in band}
-        chosen = min(band, key=lambda k: (_PREFERENCE[HYPOTHESES[k].code], table[k, g]))
-        fit = fits[chosen]
-        acceptable = (
-            abs(fit.level_rad[g] / fit.level_sigma_rad[g]) <= ACCEPTABLE_LEVEL_SIGMA
-            and fit.mean_square[g] <= ACCEPTABLE_MEAN_SQUARE
-        )
-        others = tuple(HYPOTHESES[k].label for k in band if k != chosen)
-        if len(families) > 1 or (HYPOTHESES[chosen].code == "length-unit" and len(band) > 1):
-            out.append(("ambiguous", None, tuple(HYPOTHESES[k].label for k in band)))
-        elif not acceptable:
-            out.append(("unexplained", None, (HYPOTHESES[chosen].label,)))
+        families = {hypotheses[k].family for k in band}
+
+        def acceptable(k, g=g):
+            fit = fits[k]
+            return bool(
+                abs(fit.level_rad[g] / fit.level_sigma_rad[g]) <= ACCEPTABLE_LEVEL_SIGMA
+                and fit.mean_square[g] <= ACCEPTABLE_MEAN_SQUARE
+                and abs(fit.clock_s[g]) <= ACCEPTABLE_CLOCK_SIGMA * CHECK_CLOCK_SIGMA_S
+            )
+
+        # the simplest explanation that leaves the rows consistent with the Sun
+        chosen = min(band, key=lambda k: (not acceptable(k), hypotheses[k].preference, table[k, g]))
+        others = tuple(hypotheses[k].label for k in band if k != chosen)
+        if len(families) > 1 or (hypotheses[chosen].code == "length-unit" and len(band) > 1):
+            out.append(("ambiguous", None, tuple(hypotheses[k].label for k in band)))
+        elif not acceptable(chosen):
+            out.append(("unexplained", None, (hypotheses[chosen].label,)))
         else:
             out.append(("explained", chosen, others))
     return out

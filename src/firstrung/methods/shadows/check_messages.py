@@ -314,3 +314,16 @@ def _duplicate_flags(sites, rows) -> list[Flag]:
                  str(rows.observer[i] or ""), {"duplicate_of": f"{rows.file[j]}:{rows.row[j]}"})
         )
     return out
+
+
+def _pair_flags(h: _Hypothesis, c: _Context) -> list[Flag]:
+    """The two mistakes of a pair, each flagged with its own fix, each saying the other is needed too."""
+    flags = []
+    for part, other in ((h.parts[0], h.parts[1]), (h.parts[1], h.parts[0])):
+        for f in _explained_flags(part, c):
+            message = (f.message + f"; together with a second mistake ({other.label}): neither alone fits the Sun, "
+                       "both corrected do")
+            fix = f.fix + f"; the {other.code} fix of these rows is needed as well"
+            flags.append(Flag(f.file, f.row, f.site, f.code, f.severity, message, fix, f.observer,
+                              {**f.fields, "together_with": other.label}))
+    return flags

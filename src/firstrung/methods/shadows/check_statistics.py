@@ -289,10 +289,21 @@ class _Hypothesis:
     longitude_sign: float = 1.0
     latitude_sign: float = 1.0
     local_as_utc: bool = False
+    parts: tuple = ()  # a pair of usual mistakes made together: its two single hypotheses
 
     @property
     def moves_time(self) -> bool:
         return self.hours != 0.0 or self.local_as_utc
+
+    @property
+    def family(self) -> str:
+        if self.parts:
+            return "+".join(sorted({p.family for p in self.parts}))
+        return _FAMILY[self.code]
+
+    @property
+    def preference(self) -> int:
+        return 10 + max(p.preference for p in self.parts) if self.parts else _PREFERENCE[self.code]
 
 
 def _hypotheses() -> tuple[_Hypothesis, ...]:

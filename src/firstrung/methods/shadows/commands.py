@@ -26,6 +26,7 @@ from firstrung.cli.common import (
     report_left_out,
     report_problems,
     simulation_range,
+    terminal_text,
     write_simulated,
 )
 
@@ -70,7 +71,7 @@ def plan_shadows(
     )
     from firstrung.methods.shadows.prediction import ShadowConstraints
     from firstrung.methods.shadows.present_plan import shadow_plan_to_json
-    from firstrung.output import write_atomic
+    from firstrung.output import campaign_inputs, write_atomic
 
     constraints = ShadowConstraints(
         min_altitude_deg=min_altitude_deg,
@@ -81,7 +82,7 @@ def plan_shadows(
     run = run_plan_shadows(campaign, parse_date("--from", date_from), parse_date("--to", date_to), constraints)
     days = chosen_days(run.plan, top)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(run, days), inputs=[campaign, *run.campaign.logs.get("shadows", ())])
+        write_atomic(ics, calendar_bytes(run, days), inputs=campaign_inputs(run.campaign))
     if json_output:  # the JSON of every day and site only when it is printed
         print_json(shadow_plan_to_json(run))
         return
@@ -192,7 +193,7 @@ def reduce_shadows(
     else:
         render_shadows(data, verbose)
     for note in run.notes:
-        print(f"firstrung: note: {note}", file=sys.stderr)
+        print(f"firstrung: note: {terminal_text(note, one_line=True)}", file=sys.stderr)
     report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:

@@ -420,7 +420,7 @@ def read_shadow_logs(
     ----------
     campaign : Campaign
         Gives the known sites, their time zones and the default files.
-    paths : iterable of path-like, optional
+    paths : path-like or iterable of path-like, optional
         Files to read instead of the campaign's ``[logs] shadows``.
 
     Returns

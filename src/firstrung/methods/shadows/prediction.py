@@ -141,6 +141,10 @@ def plan_shadows(
     last = np.datetime64(last_date, "D")
     if last < first:
         raise InputError(f"--to {last} is before --from {first}")
+    if not -90.0 <= constraints.min_altitude_deg <= 90.0:  # NaN fails too
+        raise InputError(f"min_altitude_deg: received {constraints.min_altitude_deg!r}; expected -90 to 90")
+    if constraints.max_shadow_m is not None and not 0.0 < constraints.max_shadow_m < float("inf"):
+        raise InputError(f"max_shadow_m: received {constraints.max_shadow_m!r}; expected a positive length in m")
     dates = np.arange(first, last + np.timedelta64(1, "D"))
     lat = np.array([s.latitude_deg for s in sites])
     lon = np.array([s.longitude_deg for s in sites])
@@ -171,6 +175,11 @@ def plan_shadows(
     site_inputs = tuple(SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in sites)
     positions = north_south_positions(site_inputs, tuple(baselines))
     x = positions.position_km
+    if np.ptp(x) < 1.0:  # the reduction's own rule: no north-south baseline, no radius
+        raise InputError(
+            f"the sites are less than 1 km apart north-south ({np.ptp(x):.3f} km); noon shadows measure the "
+            "radius along a meridian: choose sites at different latitudes"
+        )
     w = 1.0 / sigma_lat**2
     xbar = np.sum(w * x, axis=1, keepdims=True) / np.sum(w, axis=1, keepdims=True)
     sxx = np.sum(w * (x - xbar) ** 2, axis=1, keepdims=True)

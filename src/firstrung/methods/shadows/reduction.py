@@ -594,6 +594,10 @@ def _series_results(prep: _Prepared, fit: SeriesFit, per_series, total, scale, c
 # --- Monte Carlo check of the propagation ---------------------------------------------------------------
 
 
+#: Most draws times readings of the Monte Carlo check (each array of that size takes 8 bytes a value).
+MONTE_CARLO_MAX_VALUES = 20_000_000
+
+
 def monte_carlo_radius(
     sites: tuple[SiteInput, ...],
     readings: ShadowReadings,
@@ -613,6 +617,11 @@ def monte_carlo_radius(
     """
     rng = np.random.default_rng(seed)
     prep = _prepare(tuple(sites), tuple(baselines), readings)
+    if samples * max(len(prep.altitude_rad), 1) > MONTE_CARLO_MAX_VALUES:
+        raise InputError(
+            f"--monte-carlo: at most {MONTE_CARLO_MAX_VALUES // max(len(prep.altitude_rad), 1):,} draws for "
+            f"{len(prep.altitude_rad)} readings (memory), got {samples:,}"
+        )
     nominal = reduce_shadows(sites, readings, baselines)
     outlier_ids = set(nominal.outliers)
     n_sites = len(prep.sites)

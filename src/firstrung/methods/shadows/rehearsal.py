@@ -57,6 +57,7 @@ class SyntheticShadows:
     shadow_m: np.ndarray
     gnomon_m: np.ndarray  # the nominal height the observer would log
     edge: np.ndarray
+    altitude_deg: np.ndarray | None = None  # the Sun's centre, true (airless) [deg]
 
 
 def reading_times_utc(
@@ -134,6 +135,7 @@ def simulate_shadow_readings(
         shadow_m=length,
         gnomon_m=h_nominal[idx],
         edge=edge[idx],
+        altitude_deg=np.asarray(pos.altitude_deg, float),
     )
 
 
@@ -147,6 +149,25 @@ SHADOW_BLUNDERS = {
     "wild": "one mistyped reading (first site, first day)",
     "duplicate": "one row entered twice (second site, first day)",
 }
+
+
+#: Shadows are simulated only with the Sun's centre at least this high [deg] (the reduction's own floor).
+MIN_SUN_ALTITUDE_DEG = 5.0
+
+
+def _millimetres(value_mm: float) -> str:
+    """A length in mm as an observer writes it: whole millimetres, or three significant digits below 100 mm.
+
+    >>> _millimetres(1617.4), _millimetres(57.73), _millimetres(0.5774), _millimetres(0.0)
+    ('1617', '57.7', '0.577', '1e-09')
+    """
+    if value_mm >= 99.5:
+        return f"{value_mm:.0f}"
+    if not value_mm > 0.0:  # exactly on the foot: the smallest length the reader takes
+        return "1e-09"
+    decimals = max(0, 2 - int(np.floor(np.log10(value_mm))))
+    text = f"{value_mm:.{decimals}f}"
+    return text if float(text) > 0.0 else f"{value_mm:.3g}"
 
 
 def rehearsal_rows(campaign, first_date, last_date, seed: int, blunders=(), *, half_span_min=30.0, step_min=2.0):
@@ -196,12 +217,21 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, blunders=(), *, h
     if "wild" in blunders:
         first_rows = np.flatnonzero((index == 0) & (day == 0))
         length = blunder_kit.wild_row(length, int(first_rows[len(first_rows) // 3]), rng)
+    # what an observer can log: the Sun at least 5 deg up (as the reduction uses; lower, the shadow
+    # runs off any board) and a shadow no longer than the reader takes
+    from firstrung.methods.shadows.log import SHADOW_LIMIT_M
+
+    loggable = (syn.altitude_deg >= MIN_SUN_ALTITUDE_DEG) & (np.abs(length) <= SHADOW_LIMIT_M)
     order = np.lexsort((t, index))
-    if "duplicate" in blunders and n >= 2:
+    order = order[loggable[order]]
+    if "duplicate" in blunders and n >= 2 and np.count_nonzero(index[order] == 1) > 2:
         pos = int(np.flatnonzero(index[order] == 1)[2])
         order = order[blunder_kit.duplicate(order.size, pos)]
+    # a shadow is a distance from the gnomon's foot: noise that carries the edge past the foot (the Sun
+    # next to the zenith) is read on the other side, never as a negative length
+    length = np.abs(length)
     return [
-        {"site": sites[index[k]].id, "time_utc": _z(t[k]), "shadow_mm": f"{length[k] * 1000:.0f}",
+        {"site": sites[index[k]].id, "time_utc": _z(t[k]), "shadow_mm": _millimetres(length[k] * 1000.0),
          "observer": f"rehearsal {sites[index[k]].id}", "note": "synthetic"}
         for k in order
     ]

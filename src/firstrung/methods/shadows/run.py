@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
-from firstrung.errors import InputError, RowProblem
+from firstrung.errors import ComputationError, InputError, RowProblem
 from firstrung.methods.shadows.inputs import BaselineInput, ShadowReadings, SiteInput
 from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
 from firstrung.methods.shadows.reduction import ShadowReduction, reduce_shadows
@@ -73,8 +73,12 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     problems = tuple(log.problems) + tuple(extra)
     if len(readings) == 0:
         first = f" (first: {problems[0]})" if problems else ""
-        raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path))
-    reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
+        raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path),
+                         problems=problems)
+    try:
+        reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
+    except ComputationError as error:
+        raise ComputationError(error.message, problems=problems) from None
     return ShadowRun(
         campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes)
     )
