@@ -131,7 +131,7 @@ def plan_shadows(
     ...      PlanSite("b", "B", 46.4, 7.0, 0.0, None, 1.0, 0.001, 0.002, "umbra"))
     >>> p = plan_shadows(s, "2027-03-20", "2027-03-21")
     >>> [int(r) for r in p.rank]
-    [2, 1]
+    [1, 2]
     """
     from firstrung import ephemeris
 
