@@ -226,7 +226,7 @@ def raw_rows_kept():
         _RAW_KEPT = previous
 
 
-def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: set[str]) -> bool:
+def _columns_pass(table: Table, text: str, slots: Sequence[Slot], known: set[str]) -> bool:
     """Read a file whose records are one line each in one pass, column by column.
 
     The same rows, numbers, problems and cells as the row-by-row loop of
@@ -236,10 +236,11 @@ def _columns_pass(table: Table, lines: list[str], slots: Sequence[Slot], known: 
     csv module stops: the loop then reads the file and says what it found.
     """
     try:
-        records = list(csv.reader(lines, delimiter=table.delimiter))
+        reader = csv.reader(io.StringIO(text, newline=""), delimiter=table.delimiter)
+        records = list(reader)
     except csv.Error:
         return False
-    if len(records) != len(lines):
+    if len(records) != reader.line_num:  # a record spans lines
         return False
     # a row can be skipped only when it is empty or its first cell starts with no letter or digit
     lengths = np.fromiter(map(len, records), np.int64, len(records))
@@ -329,6 +330,7 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
         table.problems.append(RowProblem(label, None, None, message))
         return table
     text, table.encoding, problem = decode(data, label)
+    del data  # the text alone from here (a large log is not held twice)
     if problem is not None:
         table.problems.append(problem)
         return table
@@ -337,9 +339,10 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = sniff_delimiter(text, known)
-    lines = io.StringIO(text, newline="").readlines()
-    if columnar and _columns_pass(table, lines, slots, known):
+    if columnar and _columns_pass(table, text, slots, known):
         return table
+    lines = io.StringIO(text, newline="").readlines()
+    del text
     header: list[str] | None = None
     row_number = 0
     first_line = 0  # the physical line the current reader starts at

@@ -277,6 +277,7 @@ def _codes(cells, width: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """The cells no longer than ``width`` as a (cells, width) array of code points, their indices and lengths."""
     lengths = np.fromiter(map(len, cells), np.int64, len(cells))
     index = np.flatnonzero((lengths > 0) & (lengths <= width))
+    width = int(lengths[index].max()) if index.size else 1  # as wide as the longest taken, no wider
     text = np.array(cells, dtype=object)[index].astype(f"<U{width}")
     return text.view(np.uint32).reshape(index.size, width), index, lengths[index]
 
@@ -293,7 +294,7 @@ def _plain_cells(cells: list[str], low: float, high: float, factor: float) -> tu
     if index.size:
         digit = codes - 48 < 10
         dot = codes == 46
-        inside = np.arange(_PLAIN_WIDTH)[None, :] < lengths[:, None]
+        inside = np.arange(codes.shape[1])[None, :] < lengths[:, None]
         last = codes[np.arange(index.size), lengths - 1]
         good = (np.all(digit | dot | ~inside, axis=1) & (dot.sum(axis=1) <= 1)
                 & (codes[:, 0] - 48 < 10) & (last - 48 < 10))
@@ -313,7 +314,7 @@ def _utc_times(cells: list[str]) -> np.ndarray:
     n = len(cells)
     iso = np.full(n, "NaT", dtype="<U23")
     codes, index, _ = _codes(cells, 20)
-    if index.size:
+    if index.size and codes.shape[1] == 20:  # narrower: none has the usual form
         digit = codes - 48 < 10
         at = np.array([0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18])
         usual = (np.all(digit[:, at], axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45) & (codes[:, 10] == 84)
@@ -321,7 +322,7 @@ def _utc_times(cells: list[str]) -> np.ndarray:
         done = index[usual]
         iso[done] = np.array(cells, dtype=object)[done].astype("<U19")
     else:
-        done = index
+        done = np.zeros(0, np.int64)
     rest = np.ones(n, bool)
     rest[done] = False
     for k in np.flatnonzero(rest):
