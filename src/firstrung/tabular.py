@@ -82,7 +82,7 @@ from firstrung.times import (
     quoted,
 )
 
-__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "cell_text", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_rows", "time_sigma_s"]
+__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_rows"]
 
 
 #: Largest log file read [bytes]: about four million rows; a larger file is refused with a

@@ -42,14 +42,10 @@ from firstrung.errors import InputError
 from firstrung.geodesy import geodetic_to_itrs_km
 
 __all__ = [
-    "HalfMoonWindows",
     "Quarters",
-    "SunMoonTopocentric",
-    "both_up_windows",
     "geocentric_dichotomy_utc",
     "quadratures_between",
     "quarters_between",
-    "sun_moon_topocentric",
     "time_of_elongation_utc",
     "topocentric_dichotomy_utc",
     "topocentric_quadrature_utc",

@@ -66,7 +66,6 @@ from firstrung.uncertainty import Measured
 __all__ = [
     "CombinedElongation",
     "HalfPhaseFit",
-    "IntervalMethod",
     "Precision",
     "combine_elongations",
     "corrected_elongation_deg",
@@ -75,7 +74,6 @@ __all__ = [
     "elongation_sigma_deg",
     "elongation_sigma_from_timing_deg",
     "fit_half_phase",
-    "interval_method",
     "lower_bound_95",
     "precision_needed",
     "precision_sentence",

@@ -103,7 +103,6 @@ __all__ = [
     "check_shadow_rows",
     "log_flags",
     "series_statistic",
-    "shadow_rows",
     "sun_altitude_rad",
 ]
 

@@ -18,7 +18,6 @@ from firstrung.methods.shadows.check_statistics import (
     HYPOTHESES,
     READING_TIME_SIGMA_S,
     SeriesStatistic,
-    ShadowRows,
     _edge_sign,
     _error_terms,
     _Hypothesis,
@@ -26,6 +25,7 @@ from firstrung.methods.shadows.check_statistics import (
     series_statistic,
     sun_altitude_rad,
 )
+from firstrung.methods.shadows.inputs import ShadowReadings
 
 #: Length-unit slips tried within a pair (the common metric ones).
 PAIR_FACTORS = (10.0, 100.0, 1000.0, 0.1, 0.01, 0.001)
@@ -59,11 +59,12 @@ def _pairs() -> tuple[_Hypothesis, ...]:
 PAIRS = _pairs()
 
 
-def _subset(rows: ShadowRows, sel) -> ShadowRows:
-    return ShadowRows(**{f.name: np.asarray(getattr(rows, f.name))[sel] for f in dataclasses.fields(rows)})
+def _subset(rows: ShadowReadings, sel) -> ShadowReadings:
+    return ShadowReadings(**{f.name: None if getattr(rows, f.name) is None else np.asarray(getattr(rows, f.name))[sel]
+                             for f in dataclasses.fields(rows)})
 
 
-def fit_hypothesis(h: _Hypothesis, rows: ShadowRows, group, n_groups, t, lat, lon, sd, temperature, pressure,
+def fit_hypothesis(h: _Hypothesis, rows: ShadowReadings, group, n_groups, t, lat, lon, sd, temperature, pressure,
                    measured_weather, zone_offset_h, in_span, cache=None):
     """The series' statistic under any hypothesis, every part of it applied (time, coordinates, unit, edge).
 
