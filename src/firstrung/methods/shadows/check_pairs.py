@@ -18,13 +18,15 @@ from firstrung.methods.shadows.check_statistics import (
     HYPOTHESES,
     READING_TIME_SIGMA_S,
     SeriesStatistic,
-    ShadowRows,
     _edge_sign,
     _error_terms,
     _Hypothesis,
     _observed,
     series_statistic,
     sun_altitude_rad,
+)
+from firstrung.methods.shadows.inputs import (
+    ShadowReadings as ShadowRows,  # the one record of readings
 )
 
 #: Length-unit slips tried within a pair (the common metric ones).
