@@ -456,6 +456,44 @@ LOG_CASES = [
     ),
 ]
 
+#: The other ways of recording the noon Sun (tests/data/bad/make_corpus.py: form_cases).
+LOG_CASES += [
+    LogCase(
+        "shadows_form_angle_out_of_range.csv",
+        "shadows",
+        kept=1,
+        problems=[
+            "2:altitude_deg: expected an altitude between 0 and 90 degrees, got '97.5'",
+            "3:altitude_deg: expected an altitude between 0 and 90 degrees, got '-3'",
+            "4:altitude_deg: a row gives a length, an angle or a tip position, not two of them "
+            "(got shadow_mm, altitude_deg)",
+            "5:limb: expected limb lower, centre or upper, got 'left'",
+        ],
+        notes=[],
+    ),
+    LogCase(
+        "shadows_form_short_trace.csv",
+        "shadows",
+        kept=1,
+        problems=[
+            "2: a trace without times at site 'coast' on 2027-03-20 has 3 point(s) (rows 2-4); expected at "
+            "least 5 to find the shortest shadow",
+        ],
+        notes=[],
+    ),
+    LogCase(
+        "shadows_form_ambiguous_date.csv",
+        "shadows",
+        kept=2,
+        problems=[
+            "2:date: ambiguous date '03/04/2027': day 3 of month 4 or day 4 of month 3? set [logs] date_order "
+            "= \"day-first\" or \"month-first\" in the campaign file, or write 2027-09-22",
+        ],
+        notes=[],
+    ),
+]
+
+
 CAMPAIGN_CASES = [
     CampaignCase(
         "campaign_baseline_absurd.toml",

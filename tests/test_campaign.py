@@ -314,7 +314,7 @@ def site_error(tmp_path: Path, extra: str, replace: tuple[str, str] | None = Non
             "latitude = 46.2\n",
             None,
             "site[2].latitude: unknown key 'latitude' (allowed: id, name, latitude_deg, "
-            "longitude_deg, elevation_m, timezone, gnomon)",
+            "longitude_deg, elevation_m, timezone, gnomon, angle_instrument)",
         ),
         ('name = ""\n', None, "site[2].name: expected the site's name as text, got ''"),
     ],
@@ -445,7 +445,7 @@ def test_a_pair_has_one_baseline(tmp_path):
     [
         (
             'shadow = ["a.csv"]\n',
-            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases, transits)",
+            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases, transits, date_order)",
         ),
         (
             "shadows = 3\n",

@@ -35,11 +35,15 @@ import tomllib
 from pathlib import Path
 
 from firstrung.campaign_model import (
+    DATE_ORDERS,
+    DEFAULT_ANGLE_SIGMA_DEG,
     DEFAULT_HEIGHT_SIGMA_M,
     DEFAULT_SHADOW_SIGMA_M,
     EDGES,
+    LIMBS,
     LOG_KINDS,
     SITE_ID_PATTERN,
+    AngleInstrument,
     Baseline,
     Campaign,
     EclipseSettings,
@@ -92,7 +96,8 @@ def _distinct(paths) -> tuple[Path, ...]:
 
 _TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse")
 _CAMPAIGN_KEYS = ("name",)
-_SITE_KEYS = ("id", "name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "gnomon")
+_SITE_KEYS = ("id", "name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "gnomon", "angle_instrument")
+_ANGLE_KEYS = ("sigma_deg", "limb", "index_correction_deg", "index_correction_sigma_deg")
 _GNOMON_KEYS = ("height_m", "height_sigma_m", "shadow_sigma_m", "edge")
 _BASELINE_KEYS = ("sites", "distance_km", "sigma_km", "bearing_deg")
 _ECLIPSE_KEYS = (
@@ -234,6 +239,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
     folder = Path(".") if file_path is None else file_path.parent
     logs = reader.logs(document.get("logs"), folder if file_path is not None else None)
     eclipse = reader.eclipse(document.get("eclipse"))
+    date_order = reader.date_order(document.get("logs"))
     return Campaign(
         name=name,
         path=file_path,
@@ -241,6 +247,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
         baselines=baselines,
         logs=logs,
         eclipse=eclipse,
+        date_order=date_order,
     )
 
 
@@ -405,6 +412,9 @@ class _Reader:
         gnomon = None
         if "gnomon" in table:
             gnomon = self.gnomon(table["gnomon"], f"{prefix}.gnomon")
+        angle_instrument = None
+        if "angle_instrument" in table:
+            angle_instrument = self.angle_instrument(table["angle_instrument"], f"{prefix}.angle_instrument")
         return Site(
             id=site_id,
             name=site_id if name is None else name,
@@ -413,6 +423,34 @@ class _Reader:
             elevation_m=0.0 if elevation_m is None else elevation_m,
             timezone=timezone,
             gnomon=gnomon,
+            angle_instrument=angle_instrument,
+        )
+
+    def angle_instrument(self, value: object, prefix: str) -> AngleInstrument:
+        table = self.table(value, prefix, "[site.angle_instrument]")
+        self.check_keys(table, prefix, _ANGLE_KEYS)
+        sigma_deg = self.number(
+            table, prefix, "sigma_deg", "a positive number of degrees below 10", lambda x: 0.0 < x < 10.0
+        )
+        index_deg = self.number(
+            table, prefix, "index_correction_deg", "a correction between -10 and 10 degrees",
+            lambda x: -10.0 <= x <= 10.0,
+        )
+        index_sigma_deg = self.number(
+            table, prefix, "index_correction_sigma_deg", "a non-negative number of degrees below 10",
+            lambda x: 0.0 <= x < 10.0,
+        )
+        limb = "centre"
+        if "limb" in table:
+            raw = table["limb"]
+            limb = raw.strip().lower() if isinstance(raw, str) else ""
+            if limb not in LIMBS:
+                raise self.error(f"{prefix}.limb", f"expected 'lower', 'centre' or 'upper', got {_show(raw)}")
+        return AngleInstrument(
+            sigma_deg=DEFAULT_ANGLE_SIGMA_DEG if sigma_deg is None else sigma_deg,
+            limb=limb,
+            index_correction_deg=0.0 if index_deg is None else index_deg,
+            index_correction_sigma_deg=0.0 if index_sigma_deg is None else index_sigma_deg,
         )
 
     def gnomon(self, value: object, prefix: str) -> Gnomon:
@@ -522,8 +560,9 @@ class _Reader:
         logs = _empty_logs()
         if value is None:
             return logs
-        table = self.table(value, "logs", "[logs]")
-        self.check_keys(table, "logs", LOG_KINDS)
+        table = dict(self.table(value, "logs", "[logs]"))
+        table.pop("date_order", None)
+        self.check_keys(table, "logs", LOG_KINDS + ("date_order",))
         for kind, entry in table.items():
             items = [entry] if isinstance(entry, str) else entry
             if not isinstance(items, list) or not all(
@@ -536,6 +575,17 @@ class _Reader:
             paths = (Path(item) for item in items)
             logs[kind] = _distinct(path if folder is None else folder / path for path in paths)
         return logs
+
+    def date_order(self, value: object) -> str:
+        if not isinstance(value, dict) or "date_order" not in value:
+            return "iso"
+        raw = value["date_order"]
+        order = raw.strip().lower() if isinstance(raw, str) else ""
+        if order not in DATE_ORDERS:
+            raise self.error(
+                "logs.date_order", f"expected 'iso', 'day-first' or 'month-first', got {_show(raw)}"
+            )
+        return order
 
     def eclipse(self, value: object) -> EclipseSettings:
         if value is None:

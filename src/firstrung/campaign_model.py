@@ -55,6 +55,41 @@ class Gnomon:
     edge: str = "umbra"
 
 
+#: Parts of the Sun an angle instrument may be set on.
+LIMBS = ("lower", "centre", "upper")
+
+
+#: How the dates of a log's ``date`` column are written.
+DATE_ORDERS = ("iso", "day-first", "month-first")
+
+
+#: One reading's error of an angle instrument when the campaign does not give one [deg]
+#: (a cardboard quadrant or a phone clinometer reads to about a quarter degree, common practice).
+DEFAULT_ANGLE_SIGMA_DEG = 0.25
+
+
+@dataclass(frozen=True)
+class AngleInstrument:
+    """An instrument that reads the Sun's altitude (quadrant, clinometer, theodolite).
+
+    Parameters
+    ----------
+    sigma_deg : float
+        One-sigma error of one reading [deg].
+    limb : str
+        The part of the Sun it is set on: ``"lower"``, ``"centre"`` or ``"upper"``.
+    index_correction_deg : float
+        Added to every reading [deg].
+    index_correction_sigma_deg : float
+        One-sigma error of that correction, common to every reading [deg].
+    """
+
+    sigma_deg: float = DEFAULT_ANGLE_SIGMA_DEG
+    limb: str = "centre"
+    index_correction_deg: float = 0.0
+    index_correction_sigma_deg: float = 0.0
+
+
 @dataclass(frozen=True)
 class Site:
     """One observing site of a campaign.
@@ -84,6 +119,7 @@ class Site:
     elevation_m: float = 0.0
     timezone: str | None = None
     gnomon: Gnomon | None = None
+    angle_instrument: AngleInstrument | None = None
 
     @property
     def zone(self) -> ZoneInfo | None:
@@ -178,6 +214,7 @@ class Campaign:
     baselines: tuple[Baseline, ...] = ()
     logs: dict[str, tuple[Path, ...]] = field(default_factory=_empty_logs)
     eclipse: EclipseSettings = field(default_factory=EclipseSettings)
+    date_order: str = "iso"
 
     @functools.cached_property
     def site_ids(self) -> tuple[str, ...]:
@@ -187,6 +224,25 @@ class Campaign:
     @functools.cached_property
     def _site_by_id(self) -> dict[str, Site]:
         return {site.id: site for site in self.sites}
+
+    @functools.cached_property
+    def _site_by_label(self) -> dict[str, Site]:
+        """Sites by id and by name, case and surrounding spaces ignored (ids first)."""
+        labels: dict[str, Site] = {}
+        for site in self.sites:
+            labels.setdefault(site.name.strip().lower(), site)
+        for site in self.sites:
+            labels[site.id.lower()] = site
+        return labels
+
+    def site_matching(self, cell: str) -> Site | None:
+        """The site whose id or name is ``cell`` (case and surrounding spaces ignored), else ``None``.
+
+        >>> Campaign("c", sites=(Site("ridge", "Ridge Dome", 46.0, 7.0),)).site_matching(" ridge dome ").id
+        'ridge'
+        """
+        site = self._site_by_id.get(cell)
+        return site if site is not None else self._site_by_label.get(cell.strip().lower())
 
     @property
     def folder(self) -> Path:

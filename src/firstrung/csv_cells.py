@@ -27,6 +27,8 @@ class Slot:
     names: tuple[str, ...]
     required: bool = False
     numeric: bool = False
+    #: Columns any one of which makes a required slot optional (an angle instead of a length).
+    unless: tuple[str, ...] = ()
 
     @property
     def shown(self) -> str:
@@ -108,7 +110,7 @@ def _choose_columns(
                     f"of {', '.join(slot.names)}"
                 )
             problems.append(RowProblem(label, None, None, message))
-        elif not present and slot.required:
+        elif not present and slot.required and not any(name in seen for name in slot.unless):
             wanted = " or ".join(repr(name) for name in slot.names)
             problems.append(
                 RowProblem(

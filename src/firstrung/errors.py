@@ -26,14 +26,63 @@ class RowProblem:
     row: int | None
     column: str | None
     message: str
+    #: Every row with the same problem when one message stands for several (``row`` is the first).
+    rows: tuple[int, ...] = ()
 
     def __str__(self) -> str:
         where = [self.file]
-        if self.row is not None:
+        if self.rows:
+            where.append("rows " + row_ranges(self.rows))
+        elif self.row is not None:
             where.append(str(self.row))
         if self.column:
             where.append(self.column)
         return ":".join(where) + ": " + self.message
+
+
+def row_ranges(rows) -> str:
+    """Row numbers as runs: ``3-31, 40, 42-43``.
+
+    >>> row_ranges([3, 4, 5, 40, 42, 43])
+    '3-5, 40, 42-43'
+    """
+    ordered = sorted(set(int(r) for r in rows))
+    parts, start = [], None
+    for i, r in enumerate(ordered):
+        if start is None:
+            start = r
+        if i + 1 == len(ordered) or ordered[i + 1] != r + 1:
+            parts.append(str(start) if start == r else f"{start}-{r}")
+            start = None
+    return ", ".join(parts)
+
+
+#: Rows with one and the same problem that are said once, with their rows listed.
+MERGED_PROBLEM_ROWS = 3
+
+
+def merged_problems(problems) -> list[RowProblem]:
+    """One problem per file, column and message, listing its rows, when it hits several rows.
+
+    A problem that hits fewer than :data:`MERGED_PROBLEM_ROWS` rows is kept as
+    it is; the merged one stands where its first row stood.
+
+    >>> ps = [RowProblem("a.csv", r, "time_local", "no zone") for r in (3, 4, 5)]
+    >>> [str(p) for p in merged_problems(ps)]
+    ['a.csv:rows 3-5:time_local: no zone']
+    """
+    groups: dict[tuple, list[RowProblem]] = {}
+    for p in problems:
+        key = (p.file, p.column, p.message) if p.row is not None and not p.rows else (id(p),)
+        groups.setdefault(key, []).append(p)
+    out = []
+    for p in problems:
+        same = groups[(p.file, p.column, p.message) if p.row is not None and not p.rows else (id(p),)]
+        if len(same) < MERGED_PROBLEM_ROWS:
+            out.append(p)
+        elif p is same[0]:
+            out.append(RowProblem(p.file, p.row, p.column, p.message, tuple(q.row for q in same)))
+    return out
 
 
 class InputError(FirstrungError, ValueError):

@@ -34,6 +34,9 @@ CODES = (
     "far-from-noon",
     "unreadable-file",
     "moon-below-horizon",
+    "zenith-distance-as-altitude",
+    "degrees-minutes",
+    "wrong-limb",
 )
 
 

@@ -66,7 +66,8 @@ from firstrung.csv_cells import (
     column_arrays,
     got,
 )
-from firstrung.errors import RowProblem
+from firstrung.errors import RowProblem, merged_problems
+from firstrung.spreadsheet import date_and_time_text, mean_noon_utc
 from firstrung.text_files import (
     _DELIMITER_NAMES,
     decode,
@@ -415,6 +416,7 @@ class Row:
         self.row = row
         self.cells = cells
         self.problems: list[RowProblem] = []
+        self.timed = True
 
     def column(self, slot_name: str) -> str | None:
         """The header name used for a slot, or ``None`` when the file lacks it."""
@@ -448,28 +450,40 @@ class Row:
             return math.nan
         return value * factor
 
-    def site_and_time(self, campaign: Campaign) -> tuple[str, np.datetime64]:
-        """The row's site id and UTC time (NaT after a problem)."""
-        site_id = self.cell("site")
-        known = campaign.site_ids
-        site = None
+    def site_and_time(self, campaign: Campaign, *, untimed: bool = False) -> tuple[str, np.datetime64]:
+        """The row's site id (the cell may give its name) and UTC time (NaT after a problem).
+
+        With a ``date`` column the time column holds the time of day; ``untimed``
+        accepts an empty time then, at the date's mean noon (``self.timed`` False).
+        """
+        site_id, known, site = self.cell("site"), campaign.site_ids, None
         if site_id == "":
             self.problem("site", f"expected a site id ({', '.join(known)}), got an empty cell")
-        elif site_id not in campaign._site_by_id:
+        elif (site := campaign.site_matching(site_id)) is None:
             self.problem("site", f"unknown site {quoted(site_id)} (known: {', '.join(known)})")
         else:
-            site = campaign.site(site_id)
-
+            site_id = site.id
         nat = np.datetime64("NaT", "ms")
-        column = self.column("time_utc")
-        text = self.cell("time_utc")
+        column, text, date_column = self.column("time_utc"), self.cell("time_utc"), self.column("date")
+        if date_column is not None and text == "" and untimed:
+            t, message = mean_noon_utc(self.cell("date"), campaign.date_order, site)
+            if message is not None:
+                self.problem(date_column, message)
+            self.timed = not (site is not None and message is None)
+            return site_id, t
+        if column is None:
+            self.problem(None, "expected a time_utc or time_local column (only a trace may go without times)")
+            return site_id, nat
         if text == "":
             kind = "UTC" if column == "time_utc" else "local"
-            example = _TIME_EXAMPLES[column]
-            self.problem(
-                column, f"expected an ISO 8601 {kind} time such as {example}, got an empty cell"
-            )
+            example = _TIME_EXAMPLES[column] if date_column is None else "13:14 (the date in the date column)"
+            self.problem(column, f"expected an ISO 8601 {kind} time such as {example}, got an empty cell")
             return site_id, nat
+        if date_column is not None:
+            text, problem_column, message = date_and_time_text(self.cell("date"), text, campaign.date_order)
+            if message is not None:
+                self.problem(date_column if problem_column == "date" else column, message)
+                return site_id, nat
         try:
             if column == "time_utc":
                 t = parse_utc(text)
@@ -532,7 +546,7 @@ def read_rows(
             values["file"] = label
             values["row"] = row_number
             good.append(values)
-    return good, problems, rows_read, tuple(ignored), tuple(notes)
+    return good, merged_problems(problems), rows_read, tuple(ignored), tuple(notes)
 
 
 def read_columns(
@@ -590,7 +604,7 @@ def read_columns(
         if good:
             parts.append((file_index, column_arrays(good, dtypes)))
     if not parts:
-        return column_arrays([], dtypes), problems, rows_read, tuple(ignored), tuple(notes)
+        return column_arrays([], dtypes), merged_problems(problems), rows_read, tuple(ignored), tuple(notes)
     merged = {name: np.concatenate([p[name] for _, p in parts]) for name in dtypes}
     # back to the files' order, and the rows' order inside each file
     file_of = np.concatenate([np.full(len(p["row"]), k, dtype=np.int64) for k, p in parts])
@@ -600,7 +614,7 @@ def read_columns(
     for name, dtype in dtypes.items():
         if merged[name].dtype.kind != np.dtype(dtype).kind:
             merged[name] = merged[name].astype(dtype)
-    return merged, problems, rows_read, tuple(ignored), tuple(notes)
+    return merged, merged_problems(problems), rows_read, tuple(ignored), tuple(notes)
 
 
 def _parse_one(row: Row, campaign: Campaign, parse_row, label: str, good: list[dict], problems: list) -> None:

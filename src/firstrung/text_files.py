@@ -5,10 +5,10 @@ from __future__ import annotations
 import csv
 import io
 import itertools
-import re
 from collections.abc import Sequence
 
 from firstrung.errors import RowProblem
+from firstrung.spreadsheet import header_name
 from firstrung.times import (
     QUOTED_LIMIT,
     quoted,
@@ -134,8 +134,9 @@ def is_skipped(cells: Sequence[str]) -> bool:
 
 
 def normal_name(cell: str) -> str:
-    """A header cell as a column name: lower case, no surrounding spaces, ``_`` for inner ones."""
-    return re.sub(r"\s+", "_", cell.replace("\ufeff", "").strip().lower())
+    """A header cell as a column name: lower case, no surrounding spaces, ``_`` for inner ones, a unit in
+    brackets joined with ``_`` (``Shadow (cm)`` is ``shadow_cm``; see :func:`firstrung.spreadsheet.header_name`)."""
+    return header_name(cell)
 
 
 def sniff_delimiter(text: str, known: set[str]) -> str:

@@ -341,9 +341,38 @@ def cases() -> dict[str, bytes]:
             "campaign_workbook.toml": b"PK\x03\x04\x14\x00\x06\x00 invented stand-in",
         }
     )
+    files.update(form_cases())
     return {
         name: data.encode("utf-8") if isinstance(data, str) else data
         for name, data in files.items()
+    }
+
+
+def form_cases() -> dict[str, str]:
+    """The other ways of recording the noon Sun, each with its bad rows beside a good length row."""
+    r1, r2 = "2027-03-20T11:20:00", "2027-03-20T11:25:00"
+    return {
+        "shadows_form_angle_out_of_range.csv": lines(
+            "site,time_utc,shadow_mm,Altitude [deg],limb",
+            f"ridge,{r1}Z,{mm('ridge', r1)},,",
+            "ridge,2027-03-20T11:40:00Z,,97.5,lower",
+            "ridge,2027-03-20T11:45:00Z,,-3,lower",
+            f"ridge,{r2}Z,{mm('ridge', r2)},43.6,",
+            "ridge,2027-03-20T11:50:00Z,,43.6,left",
+        ),
+        "shadows_form_short_trace.csv": lines(
+            "site,date,time_utc,shadow_mm,tip_x_mm,tip_y_mm",
+            f"ridge,2027-03-20,11:20,{mm('ridge', r1)},,",
+            "Coast school field kit,2027-03-20,,,-250,861",
+            "coast,2027-03-20,,,-10,859",
+            "coast,2027-03-20,,,240,862",
+        ),
+        "shadows_form_ambiguous_date.csv": lines(
+            "Site,Date,Time (local),Shadow (mm)",
+            f"Ridge outreach dome,20/03/2027,12:20,{mm('ridge', r1)}",
+            f"ridge,03/04/2027,12:20,{mm('ridge', r1)}",
+            f"ridge,20/03/2027,12:25 PM,{mm('ridge', r2)}",
+        ),
     }
 
 

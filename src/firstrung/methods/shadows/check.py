@@ -86,7 +86,10 @@ from firstrung.methods.shadows.check_statistics import (
     _error_terms,
     _observed,
     _zone_offsets_h,
+    check_footing,
     check_sites,
+    equivalent_length_m,
+    retyped_angle_deg,
     series_statistic,
     sun_altitude_rad,
 )
@@ -185,6 +188,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     >>> [(f.row, f.code, f.fields["factor"]) for f in result.flags]
     [(1, 'length-unit', 10.0), (2, 'length-unit', 10.0), (3, 'length-unit', 10.0)]
     """
+    rows = check_footing(rows)
     n = len(rows)
     if n == 0:
         return ShadowCheck((), (), False)
@@ -242,6 +246,13 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
             rand = rand0 - (rate0 * READING_TIME_SIGMA_S) ** 2 + (rate * READING_TIME_SIGMA_S) ** 2
         if h.factor != 1.0:
             length = rows.shadow_m / h.factor
+            obs, refr = _observed(rows, length, sign, sd, temperature, pressure)
+            rand, sysv = _error_terms(rows, length, pred0_deg, sd, refr, measured_weather)
+            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+        if h.angle is not None:
+            angle = np.isfinite(rows.altitude_read_deg)
+            retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
+            length = np.where(angle, equivalent_length_m(retyped), rows.shadow_m)
             obs, refr = _observed(rows, length, sign, sd, temperature, pressure)
             rand, sysv = _error_terms(rows, length, pred0_deg, sd, refr, measured_weather)
             rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2

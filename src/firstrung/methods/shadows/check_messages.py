@@ -178,6 +178,10 @@ def _explained_flags(h: _Hypothesis, c: _Context) -> list[Flag]:
         fix = (f"ask {observer} in which unit the lengths were measured; the column is {column}; "
                f"{scale}, or give them in the right column")
         return _flags_for_rows(c, h.code, "error", message, fix, {"factor": float(f), "column": column})
+    if h.angle is not None:
+        return _angle_flags(h, c, where, stat, observer)
+    if np.isfinite(rows.altitude_read_deg[c.rows_g]).all():
+        return _limb_flags(h, c, stat, observer)
     # edge convention
     logged = sorted({str(e) for e in rows.edge[c.rows_g]})
     close = [a.split()[0] for a in c.alternatives if a.endswith(" edge")]
@@ -327,3 +331,33 @@ def _pair_flags(h: _Hypothesis, c: _Context) -> list[Flag]:
             flags.append(Flag(f.file, f.row, f.site, f.code, f.severity, message, fix, f.observer,
                               {**f.fields, "together_with": other.label}))
     return flags
+
+
+_EDGE_LIMB = {"umbra": "upper", "middle": "centre", "outer": "lower"}
+
+
+def _angle_flags(h, c: _Context, where: str, stat: str, observer: str) -> list[Flag]:
+    """An angle typed wrongly: a zenith distance in the altitude column, or degrees and minutes as decimals."""
+    site = c.site
+    if h.angle == "zenith":
+        message = (f"the angles at {site.id} on {c.date} fit the Sun when read as zenith distances (90 deg "
+                   f"minus the altitude), not altitudes ({stat})")
+        fix = (f"ask {observer} what the instrument reads at the zenith; if it reads 0 there, rename the column "
+               f"of {c.file} to zenith_distance_deg")
+    else:
+        message = (f"the angles at {site.id} on {c.date} fit the Sun when their decimals are read as arc minutes "
+                   f"(41.30 as 41 deg 30'), not as fractions of a degree ({stat})")
+        fix = (f"ask {observer}; if confirmed, write {where} in decimal degrees (41 deg 30' is 41.5), "
+               "or as the instrument's degrees plus minutes / 60")
+    return _flags_for_rows(c, h.code, "error", message, fix, {"typed_as": h.angle})
+
+
+def _limb_flags(h, c: _Context, stat: str, observer: str) -> list[Flag]:
+    """Angle readings that fit another limb of the Sun than the one stated."""
+    logged = sorted({_EDGE_LIMB.get(str(e), str(e)) for e in c.rows.edge[c.rows_g]})
+    limb = _EDGE_LIMB[h.edge]
+    message = (f"the angles at {c.site.id} on {c.date} fit the Sun's {limb} limb, not the {'/'.join(logged)} "
+               f"stated for them (the difference is the Sun's semi-diameter or diameter, 16' or 32'; {stat})")
+    fix = (f"ask {observer} which part of the Sun the instrument was set on and set limb = \"{limb}\" for these "
+           "rows or in the site's [site.angle_instrument]")
+    return _flags_for_rows(c, "wrong-limb", "error", message, fix, {"limb_logged": "/".join(logged), "limb": limb})

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import datetime as _dt
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from zoneinfo import ZoneInfo
 
 import numpy as np
@@ -70,6 +70,8 @@ _FAMILY = {
     "latitude-sign": "latitude",
     "length-unit": "unit",
     "edge-convention": "edge",
+    "zenith-distance-as-altitude": "zenith",
+    "degrees-minutes": "minutes",
 }
 
 
@@ -81,6 +83,8 @@ _PREFERENCE = {
     "latitude-sign": 3,
     "length-unit": 4,
     "edge-convention": 5,
+    "zenith-distance-as-altitude": 6,
+    "degrees-minutes": 7,
 }
 
 
@@ -100,6 +104,43 @@ def check_sites(campaign: Campaign) -> tuple[CheckSite, ...]:
     return tuple(
         CheckSite(s.id, s.latitude_deg, s.longitude_deg, s.elevation_m, s.timezone) for s in campaign.sites
     )
+
+
+#: The shadow edge each limb of an angle reading stands for (the umbra tip is cast by the upper limb).
+LIMB_EDGE = {"upper": "umbra", "centre": "middle", "lower": "outer"}
+
+
+def equivalent_length_m(angle_deg):
+    """The shadow of a 1 m gnomon for an apparent altitude [m]."""
+    return 1.0 / np.tan(np.radians(np.clip(np.asarray(angle_deg, float), 0.5, 89.99)))
+
+
+def check_footing(rows: ShadowReadings) -> ShadowReadings:
+    """Every form on the check's footing: an angle as the shadow of a 1 m gnomon (its reading error as the
+    length error that gives the same altitude error, its limb as the edge that limb casts), a trace as its
+    lengths; a trace without times has no clock to check and is left out.
+    """
+    form = np.asarray(rows.form).astype(str)
+    if not (form != "length").any():
+        return rows
+    keep = (form != "trace") | np.asarray(rows.timed, bool)
+    angle = form == "angle"
+    length = equivalent_length_m(np.asarray(rows.altitude_read_deg, float) + rows.index_correction_deg)
+    sigma_rad = np.radians(np.asarray(rows.angle_sigma_deg, float))
+    limb_edge = np.array([LIMB_EDGE.get(x, "middle") for x in np.asarray(rows.limb).astype(str)], dtype=object)
+    changes = {
+        "shadow_m": np.where(angle, length, rows.shadow_m),
+        "gnomon_m": np.where(angle, 1.0, rows.gnomon_m),
+        "edge": np.where(angle, limb_edge, np.asarray(rows.edge, dtype=object)),
+        "gnomon_sigma_m": np.where(angle, 0.0, rows.gnomon_sigma_m),
+        "shadow_sigma_m": np.where(angle, sigma_rad * (1.0 + length**2), rows.shadow_sigma_m),
+        "altitude_read_deg": np.where(angle, rows.altitude_read_deg, np.nan),
+    }
+    picked = {name: values[keep] for name, values in changes.items()}
+    for name, values in rows.__dict__.items():
+        if name not in picked and isinstance(values, np.ndarray) and values.shape == form.shape:
+            picked[name] = values[keep]
+    return replace(rows, **picked)
 
 
 def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
@@ -276,6 +317,13 @@ def _error_terms(rows: ShadowReadings, length_m, altitude_deg, semidiameter_deg,
         random_var[pick] = terms["shadow reading"] ** 2
         systematic_var[pick] = (terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
                                 + terms["board level"] ** 2 + terms["gnomon plumb"] ** 2)
+        angle = pick & np.isfinite(rows.altitude_read_deg)
+        if angle.any():  # an instrument set on a limb: its judgement, not a shadow's edge
+            from firstrung.methods.shadows.forms import LIMB_JUDGEMENT_FRACTION
+
+            limb = {"umbra": "upper", "middle": "centre", "outer": "lower"}.get(name, "centre")
+            judgement = np.radians(LIMB_JUDGEMENT_FRACTION[limb] * semidiameter_deg[angle])
+            systematic_var[angle] = judgement**2 + terms["refraction"][angle[pick]] ** 2
     return random_var, systematic_var
 
 
@@ -290,6 +338,7 @@ class _Hypothesis:
     latitude_sign: float = 1.0
     local_as_utc: bool = False
     parts: tuple = ()  # a pair of usual mistakes made together: its two single hypotheses
+    angle: str | None = None  # an angle typed wrongly: "zenith" (90 - x) or "minutes" (41.30 for 41 deg 30')
 
     @property
     def moves_time(self) -> bool:
@@ -313,7 +362,22 @@ def _hypotheses() -> tuple[_Hypothesis, ...]:
     out.append(_Hypothesis("latitude-sign", "latitude sign", latitude_sign=-1.0))
     out += [_Hypothesis("length-unit", f"lengths x {f:.6g}", factor=f) for f in LENGTH_FACTORS]
     out += [_Hypothesis("edge-convention", f"{e} edge", edge=e) for e in EDGE_LIMB_SIGN]
+    out.append(_Hypothesis("zenith-distance-as-altitude", "zenith distance typed as altitude", angle="zenith"))
+    out.append(_Hypothesis("degrees-minutes", "degrees and minutes typed as decimals", angle="minutes"))
     return tuple(out)
+
+
+def retyped_angle_deg(read_deg, how: str):
+    """An angle as it was meant when typed wrongly: ``zenith`` 90 - x; ``minutes`` 41.30 read as 41 deg 30'.
+
+    >>> [round(float(v), 4) for v in retyped_angle_deg(np.array([41.30, 60.0]), "minutes")]
+    [41.5, 60.0]
+    """
+    read = np.asarray(read_deg, float)
+    if how == "zenith":
+        return 90.0 - read
+    whole = np.floor(read)
+    return whole + np.round((read - whole) * 100.0, 6) / 60.0
 
 
 #: The alternative hypotheses tried on every series, in order.

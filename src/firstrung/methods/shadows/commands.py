@@ -338,12 +338,27 @@ def simulate_shadows(
         typer.Option("--blunders", help="Mistakes to inject, comma-separated: clock, unit, longitude, edge, wild, "
                      "duplicate (or 'all')."),
     ] = None,
+    form: Annotated[
+        str,
+        typer.Option("--form", help="How the noon Sun is recorded: length (shadow lengths), altitude (an angle "
+                     "instrument's readings) or trace (shadow-tip positions on a turned board, with times)."),
+    ] = "length",
 ) -> None:
     """Shadow logs: every site with a gnomon, every 2 minutes around local apparent noon."""
     from firstrung.campaign import read_campaign
+    from firstrung.errors import InputError
     from firstrung.methods.shadows.rehearsal import LOG_COLUMNS, SHADOW_BLUNDERS, rehearsal_rows
+    from firstrung.methods.shadows.rehearsal_forms import FORM_COLUMNS, FORMS, form_rows
 
     first, last = simulation_range(date_from, date_to)
+    if form not in FORMS:
+        raise InputError(f"--form: expected one of {', '.join(FORMS)}, got {form!r}")
+    if form != "length":
+        if blunders:
+            raise InputError("--blunders: only with --form length")
+        rows = form_rows(read_campaign(campaign), form, first, last, seed)
+        write_simulated(campaign, "shadows", rows, FORM_COLUMNS[form], output, f"{form} readings")
+        return
     chosen = () if not blunders else (
         tuple(SHADOW_BLUNDERS) if blunders.strip() == "all" else tuple(b.strip() for b in blunders.split(",") if b.strip())
     )

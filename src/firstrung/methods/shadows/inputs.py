@@ -45,6 +45,29 @@ class ShadowReadings:
     time_column: np.ndarray | None = None
     shadow_column: np.ndarray | None = None
     observer: np.ndarray | None = None
+    #: The other forms (:mod:`firstrung.methods.shadows.forms`), filled for plain lengths when
+    #: not given: ``form`` (``"length"``, ``"angle"``, ``"trace"``), ``timed``; for angles the
+    #: reading as an altitude, the limb, the reading's sigma, the index correction and its sigma
+    #: [deg]; for traces the tip's position on the board [m] (``shadow_m`` is its distance).
+    form: np.ndarray | None = None
+    timed: np.ndarray | None = None
+    altitude_read_deg: np.ndarray | None = None
+    limb: np.ndarray | None = None
+    angle_sigma_deg: np.ndarray | None = None
+    index_correction_deg: np.ndarray | None = None
+    index_sigma_deg: np.ndarray | None = None
+    tip_x_m: np.ndarray | None = None
+    tip_y_m: np.ndarray | None = None
+
+    def __post_init__(self) -> None:
+        n = int(np.size(self.shadow_m))
+        fills = (("form", "length", "<U6"), ("timed", True, bool), ("altitude_read_deg", np.nan, float),
+                 ("limb", "centre", "<U6"), ("angle_sigma_deg", np.nan, float),
+                 ("index_correction_deg", 0.0, float), ("index_sigma_deg", 0.0, float),
+                 ("tip_x_m", np.nan, float), ("tip_y_m", np.nan, float))
+        for name, fill, dtype in fills:
+            if getattr(self, name) is None:
+                object.__setattr__(self, name, np.full(n, fill, dtype=dtype))
 
     def __len__(self) -> int:
         return int(np.size(self.shadow_m))

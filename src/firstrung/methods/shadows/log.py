@@ -21,6 +21,18 @@ from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.log_forms import (
+    FORM_SLOTS,
+    INSTEAD_OF_LENGTH,
+    INSTEAD_OF_TIME,
+    LENGTH_FORM,
+    angle_cells,
+    angle_instruments,
+    row_form,
+    short_traces,
+    trace_cells,
+    uses_forms,
+)
 from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, Table, read_columns
 from firstrung.times import quoted
 
@@ -106,19 +118,45 @@ class ShadowLog(LogRows):
     rows_read: int = 0
     ignored_columns: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
+    #: The other forms (see :mod:`firstrung.methods.shadows.log_forms`): ``form`` is
+    #: ``"length"``, ``"angle"`` or ``"trace"``; ``timed`` False for a trace without times
+    #: (its ``time_utc`` is the date's mean noon); ``altitude_deg`` the angle as read, as an
+    #: altitude [deg]; ``limb``, ``angle_sigma_deg``; ``tip_x_m``, ``tip_y_m`` [m]. Filled for
+    #: plain lengths when not given.
+    form: np.ndarray | None = None
+    timed: np.ndarray | None = None
+    altitude_deg: np.ndarray | None = None
+    angle_column: np.ndarray | None = None
+    limb: np.ndarray | None = None
+    angle_sigma_deg: np.ndarray | None = None
+    tip_x_m: np.ndarray | None = None
+    tip_y_m: np.ndarray | None = None
+
+    def __post_init__(self) -> None:
+        n = len(self.row)
+        for name, fill, dtype in _FORM_FILLS:
+            if getattr(self, name) is None:
+                object.__setattr__(self, name, np.full(n, fill, dtype=dtype))
+
+
+_FORM_FILLS = (
+    ("form", "length", "<U6"), ("timed", True, bool), ("altitude_deg", np.nan, float),
+    ("angle_column", "", "<U19"), ("limb", None, object), ("angle_sigma_deg", np.nan, float),
+    ("tip_x_m", np.nan, float), ("tip_y_m", np.nan, float),
+)
 
 
 LOG_SLOTS = (
     Slot(("site",), required=True),
-    Slot(TIME_COLUMNS, required=True),
-    Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True, numeric=True),
+    Slot(TIME_COLUMNS, required=True, unless=INSTEAD_OF_TIME),
+    Slot(("shadow_m", "shadow_cm", "shadow_mm"), required=True, numeric=True, unless=INSTEAD_OF_LENGTH),
     Slot(("gnomon_m", "gnomon_cm", "gnomon_mm"), numeric=True),
     Slot(("edge",)),
     Slot(("temperature_c",), numeric=True),
     Slot(("pressure_hpa",), numeric=True),
     Slot(("observer",)),
     Slot(("note",)),
-)
+) + FORM_SLOTS
 
 
 def _unit_of(column: str) -> str:
@@ -126,8 +164,22 @@ def _unit_of(column: str) -> str:
 
 
 def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
-    site_id, t = row.site_and_time(campaign)
+    forms = uses_forms(row.table.chosen)
+    form = row_form(row) if forms else "length"
+    site_id, t = row.site_and_time(campaign, untimed=form == "trace")
     shadow_column = row.column("shadow_m")
+    shadow_m = math.nan
+    if form == "length":
+        shadow_m = _length_m(row, shadow_column)
+    gnomon_m = _gnomon_m(row)
+    values = LENGTH_FORM if not forms else (
+        angle_cells(row) if form == "angle" else trace_cells(row, SHADOW_LIMIT_M) if form == "trace" else dict(LENGTH_FORM)
+    )
+    values = dict(values, timed=row.timed)
+    return _common_cells(row, site_id, t, shadow_m, shadow_column, gnomon_m) | values
+
+
+def _length_m(row: Row, shadow_column: str) -> float:
     unit = _unit_of(shadow_column)
     shadow_m = row.number(
         "shadow_m",
@@ -142,6 +194,10 @@ def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
             f"expected a shadow length of at most {SHADOW_LIMIT_M:g} m, "
             f"got {quoted(row.cell('shadow_m'))} ({shadow_m:g} m)",
         )
+    return shadow_m
+
+
+def _gnomon_m(row: Row) -> float:
     gnomon_m = math.nan
     gnomon_column = row.column("gnomon_m")
     if gnomon_column is not None:
@@ -158,6 +214,10 @@ def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
                 f"expected a gnomon height below {GNOMON_LIMIT_M:g} m, "
                 f"got {quoted(row.cell('gnomon_m'))} ({gnomon_m:g} m)",
             )
+    return gnomon_m
+
+
+def _common_cells(row: Row, site_id, t, shadow_m, shadow_column, gnomon_m) -> dict:
     edge_text = row.cell("edge")
     edge = None
     if edge_text:
@@ -181,7 +241,7 @@ def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
         "time_utc": t,
         "time_column": row.column("time_utc"),
         "shadow_m": shadow_m,
-        "shadow_column": shadow_column,
+        "shadow_column": shadow_column or "",
         "gnomon_m": gnomon_m,
         "edge": edge,
         "temperature_c": temperature_c,
@@ -207,6 +267,7 @@ class ShadowInstruments:
     shadow_sigma_m: np.ndarray
     edge: np.ndarray
     problems: tuple[RowProblem, ...]
+    angle: dict | None = None  # each row's angle_sigma_deg, limb, index_correction_deg, index_sigma_deg
 
 
 def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
@@ -227,7 +288,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
     shadow_sigma = np.array([g.shadow_sigma_m if g is not None else DEFAULT_SHADOW_SIGMA_M for g in gnomons], float)
     site_edge = np.array([g.edge if g is not None else "umbra" for g in gnomons], dtype=object)
     row_height = np.asarray(log.gnomon_m, float)
-    ok = has[site_index] | np.isfinite(row_height)
+    ok = has[site_index] | np.isfinite(row_height) | (np.asarray(log.form) == "angle")
     problems = tuple(
         RowProblem(
             str(log.file[k]), int(log.row[k]), "gnomon_m",
@@ -245,6 +306,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
         shadow_sigma_m=shadow_sigma[site_index],
         edge=np.where(given, row_edge, site_edge[site_index]) if len(log) else np.zeros(0, dtype=object),
         problems=problems,
+        angle=angle_instruments(campaign, log, site_index),
     )
 
 
@@ -343,8 +405,8 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     chosen, columns = table.chosen, table.columns
     n = len(table.numbers)
     handled = np.zeros(n, bool)
-    if chosen["time_utc"] != "time_utc":
-        return None, handled
+    if chosen["time_utc"] != "time_utc" or chosen["shadow_m"] is None or uses_forms(chosen):
+        return None, handled  # the other forms take the full row checks
     site_cells = columns[chosen["site"]]
     sites = np.array(site_cells, dtype=object)
     ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)
@@ -402,7 +464,7 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
         "pressure_hpa": weather["pressure_hpa"][ok],
         "observer": observer[ok],
         "note": note[ok],
-    }, ok
+    } | {name: np.full(m, value, dtype=_FORM_DTYPES[name]) for name, value in LENGTH_FORM.items()}, ok
 
 
 def _datetime_or_nat(text: str) -> np.datetime64:
@@ -410,6 +472,10 @@ def _datetime_or_nat(text: str) -> np.datetime64:
         return np.datetime64(text, "ms")
     except ValueError:
         return np.datetime64("NaT", "ms")
+
+
+_FORM_DTYPES = {"form": "<U6", "timed": bool, "altitude_deg": float, "angle_column": "<U19", "limb": object,
+                "angle_sigma_deg": float, "tip_x_m": float, "tip_y_m": float}
 
 
 def read_shadow_logs(
@@ -446,10 +512,23 @@ def read_shadow_logs(
         pressure_hpa=float,
         observer=object,
         note=object,
+        form="<U6",
+        timed=bool,
+        altitude_deg=float,
+        angle_column="<U19",
+        limb=object,
+        angle_sigma_deg=float,
+        tip_x_m=float,
+        tip_y_m=float,
     )
     columns, problems, rows_read, ignored, notes = read_columns(
         campaign, "shadows", paths, LOG_SLOTS, _parse_shadow_row, _fast_shadow_columns, dtypes
     )
+    keep, short = short_traces(columns["file"], columns["row"], columns["site"], columns["time_utc"],
+                               columns["timed"], columns["form"])
+    if short:
+        columns = {name: values[keep] for name, values in columns.items()}
+        problems = sorted(list(problems) + short, key=lambda p: (p.file, p.row or 0))
     return ShadowLog(
         **columns,
         problems=tuple(problems),
@@ -482,7 +561,7 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
         site_index=site_index[ok],
         time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
         time_column=np.asarray(log.time_column, dtype=object)[ok],
-        shadow_m=np.asarray(log.shadow_m, float)[ok],
+        shadow_m=np.where(np.asarray(log.form) == "trace", np.hypot(log.tip_x_m, log.tip_y_m), log.shadow_m)[ok],
         shadow_column=np.asarray(log.shadow_column, dtype=object)[ok],
         gnomon_m=height[ok],
         edge=edge[ok],
@@ -491,5 +570,20 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
         temperature_c=np.asarray(log.temperature_c, float)[ok],
         pressure_hpa=np.asarray(log.pressure_hpa, float)[ok],
         observer=np.asarray(log.observer, dtype=object)[ok],
+        **_form_columns(log, inst, ok),
     )
     return readings, problems
+
+
+def _form_columns(log: ShadowLog, inst, ok) -> dict:
+    """The other forms' columns of the readings; a trace's length is its tip's distance from the plumb point."""
+    form = np.asarray(log.form)
+    if not (form != "length").any():
+        return {}
+    columns = {name: np.asarray(values)[ok] for name, values in inst.angle.items()}
+    columns.update(
+        form=form[ok], timed=np.asarray(log.timed, bool)[ok], altitude_read_deg=np.asarray(log.altitude_deg, float)[ok],
+        tip_x_m=np.asarray(log.tip_x_m, float)[ok], tip_y_m=np.asarray(log.tip_y_m, float)[ok],
+    )
+    return columns
+

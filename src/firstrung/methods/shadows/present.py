@@ -37,13 +37,14 @@ def shadow_run_to_json(run) -> dict:
                         "apparent_noon_clock_utc": _time(d.apparent_noon_clock_utc),
                         "implied_longitude_deg": _q(d.implied_longitude_deg),
                         "chi2_per_dof": _num(d.chi2_per_dof, 3),
-                    }
+                    } | _board(d)
                     for d in s.series
                 ],
             }
         )
     total = sum(t.sigma**2 for t in r.budget)
-    return {
+    warnings = {"warnings": list(r.warnings)} if r.warnings else {}
+    return warnings | {
         "campaign": run.campaign.name,
         "method": "noon gnomon shadows: astronomical latitude against north-south arc",
         "earth_radius_km": _q(r.earth_radius_km),
@@ -73,3 +74,18 @@ def shadow_run_to_json(run) -> dict:
         "assumptions": list(r.assumptions),
         "propagation": r.propagation,
     }
+
+
+def _board(series) -> dict:
+    """A timed trace's board, only for series that have one (plain lengths keep their keys)."""
+    b = series.board
+    if b is None:
+        return {}
+    return {"board": {
+        "orientation_deg": _num(b.orientation_deg, 3),
+        "orientation_sigma_deg": _num(b.orientation_sigma_deg, 3),
+        "axes_mirrored": b.mirrored,
+        "clock_from_directions_s": _num(b.clock_from_directions_s, 1),
+        "directions_minus_lengths_s": _num(b.directions_minus_lengths_s, 1),
+        "warning": b.warning,
+    }}

@@ -54,11 +54,18 @@ from firstrung.methods.shadows.fits import (
     fit_series,
     north_south_positions,
 )
+from firstrung.methods.shadows.forms import (
+    READING_SOURCE,
+    collapse_untimed_traces,
+    form_terms,
+    reading_sources,
+)
 from firstrung.methods.shadows.inputs import (
     BaselineInput,
     ShadowReadings,
     SiteInput,
 )
+from firstrung.methods.shadows.series_results import SeriesResult, _series_results
 from firstrung.refraction import refraction_from_apparent_deg, standard_pressure_hpa
 from firstrung.uncertainty import (
     BudgetTerm,
@@ -78,6 +85,8 @@ OUTLIER_THRESHOLD_SIGMA = 3.5
 #: and the radius's sigma scaled up (a 5 % test, common practice).
 SCATTER_SIGNIFICANCE = 0.05
 
+READING_SOURCE_NAMES = tuple(READING_SOURCE.values())
+#: The error budget's sources (the other forms add their own: see ``forms``).
 BUDGET_SOURCES = (
     "shadow reading",
     "clock",
@@ -91,42 +100,7 @@ BUDGET_SOURCES = (
 )
 
 
-# --- inputs ---------------------------------------------------------------------------
-
-
-# --- step 1 and 2: from a length to the Sun's centre --------------------------------------
-
-
-# --- step 3: one site and day ---------------------------------------------------------------------
-
-
-# --- step 4: the radius from latitudes and positions --------------------------------------------
-
-
-# --- positions along the meridian -------------------------------------------------------
-
-
 # --- results -----------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class SeriesResult:
-    """One site on one day."""
-
-    site_id: str
-    date: str
-    readings: int
-    transit_utc: np.datetime64
-    declination_deg: float
-    latitude_deg: Measured
-    culmination_altitude_deg: Measured
-    zenith_distance_deg: Measured
-    sun_side: str
-    clock_offset_s: Measured
-    apparent_noon_clock_utc: np.datetime64
-    implied_longitude_deg: Measured
-    chi2_per_dof: float | None
-    budget_rad: dict
 
 
 @dataclass(frozen=True)
@@ -163,6 +137,7 @@ class ShadowReduction:
     scatter_scale: float
     assumptions: tuple[str, ...]
     propagation: str = "linear (first-order) propagation of every input; see monte_carlo_radius"
+    warnings: tuple[str, ...] = ()
 
 
 # --- the whole reduction -----------------------------------------------------------------------------
@@ -195,11 +170,15 @@ class _Prepared:
     #: (common to a site's readings: one board, one rod).
     board_level_sigma_rad: np.ndarray | None = None
     gnomon_plumb_sigma_rad: np.ndarray | None = None
+    common_rad: dict | None = None  # the other forms' errors common to a site: name -> per reading [rad]
+    reading_source: np.ndarray | None = None  # index into READING_SOURCE of each reading's own error
+    sun_azimuth_deg: np.ndarray | None = None
 
 
 def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     from firstrung import ephemeris
 
+    readings, missed_traces = collapse_untimed_traces(sites, readings)
     n = len(readings)
     if n == 0:
         raise ComputationError("no shadow readings to reduce")
@@ -214,23 +193,30 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     pressure = np.where(measured_weather, readings.pressure_hpa, standard_pressure_hpa(elev))
     h = np.asarray(readings.gnomon_m, float)
     length = np.asarray(readings.shadow_m, float)
+    forms = form_terms(readings, pos.semidiameter_deg, temperature, pressure)
+    angle = np.isfinite(forms.altitude_deg)
+    if angle.any():  # an angle row has no length: a stand-in of 45 deg, replaced below
+        h, length = np.where(angle, 1.0, h), np.where(angle, 1.0, length)
     edge_app = edge_altitude_deg(h, length)
-    refr = refraction_from_apparent_deg(edge_app, temperature, pressure)
+    refr = np.where(angle, forms.refraction_deg, refraction_from_apparent_deg(edge_app, temperature, pressure))
     altitude_deg = centre_altitude_deg(edge_app, readings.edge, pos.semidiameter_deg, temperature, pressure)
+    altitude_deg = np.where(angle, forms.altitude_deg, altitude_deg)
     # which readings the method can use
     left_out = {}
     low = pos.altitude_deg < MIN_ALTITUDE_DEG
     far = np.abs(pos.hour_angle_deg) > MAX_HOUR_ANGLE_H * 15.0
     left_out["sun below 5 deg"] = int(np.sum(low))
     left_out["more than 3 h from noon"] = int(np.sum(far & ~low))
+    if missed_traces:
+        left_out["traces without times that do not pass noon"] = missed_traces
     keep = ~low & ~far
     terms = altitude_error_terms_rad(
         h, length, readings.shadow_sigma_m, readings.gnomon_sigma_m, readings.edge,
         pos.altitude_deg, pos.semidiameter_deg, refr, measured_weather,
     )
-    sigma_reading = terms["shadow reading"]
-    dalt_dgnomon = length / (h**2 + length**2)
-    edge_sigma = terms["edge location"]
+    sigma_reading = np.where(angle, forms.instrument_rad, terms["shadow reading"])
+    dalt_dgnomon = np.where(angle, 0.0, length / (h**2 + length**2))
+    edge_sigma = np.where(angle, 0.0, terms["edge location"])
     refraction_sigma = terms["refraction"]
     # series: site and UTC date of the local noon (longitude shifts the civil day)
     local_day = (
@@ -266,8 +252,11 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
         hour_angle_rate=np.radians(track.hour_angle_rate_deg_per_s[keep]),
         semidiameter_deg=pos.semidiameter_deg[keep],
         refraction_deg=refr[keep],
-        board_level_sigma_rad=terms["board level"][keep],
-        gnomon_plumb_sigma_rad=terms["gnomon plumb"][keep],
+        board_level_sigma_rad=np.where(angle, 0.0, terms["board level"])[keep],
+        gnomon_plumb_sigma_rad=np.where(angle | (np.asarray(readings.form) == "trace"), 0.0, terms["gnomon plumb"])[keep],
+        common_rad={name: term[keep] for name, term in forms.common_rad.items()},
+        reading_source=reading_sources(readings.form, readings.timed)[keep],
+        sun_azimuth_deg=pos.azimuth_deg[keep],
     )
 
 
@@ -308,7 +297,9 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     refraction = np.abs(_group_sum(prep.group, n_groups, gain * prep.refraction_sigma_rad))
     level = np.abs(_group_sum(prep.group, n_groups, gain * prep.board_level_sigma_rad))
     plumb = np.abs(_group_sum(prep.group, n_groups, gain * prep.gnomon_plumb_sigma_rad))
-    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2 + level**2 + plumb**2)
+    extra = {name: np.abs(_group_sum(prep.group, n_groups, gain * term)) for name, term in prep.common_rad.items()}
+    total = np.sqrt(reading**2 + clock**2 + gnomon**2 + edge**2 + refraction**2 + level**2 + plumb**2
+                    + sum(v**2 for v in extra.values()))
     n_sites = len(prep.sites)
     w = 1.0 / total**2
     wsum = _group_sum(prep.group_site, n_sites, w)
@@ -326,7 +317,32 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
     }
     per_series = {"shadow reading": reading, "clock": clock, "gnomon height": gnomon, "edge location": edge,
                   "board level": level, "gnomon plumb": plumb, "refraction": refraction}
+    readings_by_form = reading_by_source(prep, gain, reading)
+    for name, value in (extra | readings_by_form).items():
+        per_series[name] = value
+        if name in readings_by_form:
+            contributions[name] = np.sqrt(_group_sum(prep.group_site, n_sites, (frac * value) ** 2))
+        else:
+            contributions[name] = _group_sum(prep.group_site, n_sites, frac * value)
+    unused = [] if not readings_by_form else ["shadow reading"] if "instrument" not in readings_by_form else (
+        ["shadow reading", "gnomon height", "edge location", "board level", "gnomon plumb"] if len(readings_by_form) == 1 else ["shadow reading"])
+    for name in (u for u in unused if u not in readings_by_form):
+        del contributions[name], per_series[name]
     return present, latitude, contributions, per_series, total
+
+
+def reading_by_source(prep: _Prepared, gain, reading) -> dict:
+    """Each form's share of the series' reading error (empty when every reading is a plain length)."""
+    codes = np.unique(prep.reading_source)
+    if codes.tolist() == [0]:
+        return {}
+    n_groups = len(prep.group_site)
+    spread = (gain * prep.sigma_reading_rad) ** 2
+    everything = np.maximum(_group_sum(prep.group, n_groups, spread), 1e-300)
+    return {
+        READING_SOURCE_NAMES[c]: reading * np.sqrt(_group_sum(prep.group, n_groups, spread * (prep.reading_source == c)) / everything)
+        for c in codes
+    }
 
 
 def _gnomon_sigma(prep: _Prepared):
@@ -471,6 +487,7 @@ def reduce_shadows(
         chi2_per_dof=None if line.dof <= 0 else line.chi2 / line.dof,
         scatter_scale=chi2_scale,
         assumptions=assumptions,
+        warnings=tuple(f"{r.site_id} {r.date}: {r.board.warning}" for r in series_results if r.board and r.board.warning),
     )
 
 
@@ -547,50 +564,6 @@ def _radius_from(prep, positions: Positions, latitude, contributions, active):
     return line, radius, budget, chi2_scale, expected
 
 
-def _series_results(prep: _Prepared, fit: SeriesFit, per_series, total, scale, chi2_dof):
-    from firstrung import ephemeris
-
-    n_groups = len(prep.group_site)
-    site_lat = np.array([prep.sites[i].latitude_deg for i in prep.group_site])
-    site_lon = np.array([prep.sites[i].longitude_deg for i in prep.group_site])
-    site_elev = np.array([prep.sites[i].elevation_m for i in prep.group_site])
-    transit = ephemeris.solar_transit(prep.group_date, site_lat, site_lon, site_elev)
-    hour_angle_rate = _group_sum(prep.group, n_groups, prep.hour_angle_rate) / fit.count
-    out = []
-    for g in range(n_groups):
-        lat = float(np.degrees(fit.latitude_rad[g]))
-        sig = float(np.degrees(total[g]))
-        dec = float(transit.declination_deg[g])
-        zenith = abs(lat - dec)
-        offset = -float(fit.clock_correction_s[g])
-        offset_sigma = float(np.sqrt(fit.covariance[g, 1, 1]) * scale[g])
-        rate_deg_s = float(np.degrees(hour_angle_rate[g]))
-        lon_implied = prep.sites[prep.group_site[g]].longitude_deg - rate_deg_s * offset
-        noon_clock = transit.time_utc[g] + np.timedelta64(int(round(offset * 1e6)), "us")
-        out.append(
-            SeriesResult(
-                site_id=prep.sites[prep.group_site[g]].id,
-                date=str(prep.group_date[g]),
-                readings=int(fit.count[g]),
-                transit_utc=transit.time_utc[g],
-                declination_deg=dec,
-                latitude_deg=Measured(lat, sig, lat - sig, lat + sig, "deg"),
-                culmination_altitude_deg=Measured(90.0 - zenith, sig, 90.0 - zenith - sig, 90.0 - zenith + sig, "deg"),
-                zenith_distance_deg=Measured(zenith, sig, zenith - sig, zenith + sig, "deg"),
-                sun_side="south" if lat > dec else "north",
-                clock_offset_s=Measured(offset, offset_sigma, offset - offset_sigma, offset + offset_sigma, "s"),
-                apparent_noon_clock_utc=noon_clock,
-                implied_longitude_deg=Measured(
-                    lon_implied, rate_deg_s * offset_sigma, lon_implied - rate_deg_s * offset_sigma,
-                    lon_implied + rate_deg_s * offset_sigma, "deg",
-                ),
-                chi2_per_dof=None if not np.isfinite(chi2_dof[g]) else float(chi2_dof[g]),
-                budget_rad={k: float(v[g]) for k, v in per_series.items()},
-            )
-        )
-    return out
-
-
 # --- Monte Carlo check of the propagation ---------------------------------------------------------------
 
 
@@ -625,7 +598,7 @@ def monte_carlo_radius(
     nominal = reduce_shadows(sites, readings, baselines)
     outlier_ids = set(nominal.outliers)
     n_sites = len(prep.sites)
-    reading_site = np.asarray(readings.site_index, int)[prep.keep]
+    reading_site = np.asarray(prep.readings.site_index, int)[prep.keep]
     k = len(prep.altitude_rad)
     alt = prep.altitude_rad[None, :] + rng.standard_normal((samples, k)) * prep.sigma_reading_rad[None, :]
     gnomon_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
@@ -638,6 +611,8 @@ def monte_carlo_radius(
     alt = alt + level_draw * prep.board_level_sigma_rad
     plumb_draw = rng.standard_normal((samples, n_sites))[:, reading_site]
     alt = alt + plumb_draw * prep.gnomon_plumb_sigma_rad
+    for term in prep.common_rad.values():
+        alt = alt + rng.standard_normal((samples, n_sites))[:, reading_site] * term
     fit = _fit(prep, alt)
     # combine series per site with the nominal weights
     nominal_fit = _fit(prep, prep.altitude_rad)

@@ -128,6 +128,42 @@ BLANK_KIT = {
         "columns": ["clock time", "shadow length (mm)", "edge marked", "notes"],
         "csv_header": "site,time_local,shadow_mm,edge,temperature_c,pressure_hpa,observer,note",
         "rows": 31,
+        "grid": True,
+    },
+    "altitudes": {
+        "title": "Noon Sun altitude sheet (blank)",
+        "caution": SOLAR_CAUTION_FULL,
+        "steps": [
+            "Never sight the Sun through a quadrant, clinometer or theodolite: align the instrument by its own "
+            "shadow or a projected image, or use a certified solar filter on optics.",
+            "Find the instrument's index correction: read a level surface (or a known angle) and write down what "
+            "must be added to its readings.",
+            "Decide which part of the Sun you set on (lower limb, centre or upper limb) and keep to it.",
+            "Set your clock to a time signal, or write the times in a column of their own with the date on top.",
+            "Read the altitude every 2 minutes from 30 minutes before to 30 minutes after local apparent noon.",
+        ],
+        "columns": ["clock time", "altitude (deg)", "limb (lower / centre / upper)", "notes"],
+        "csv_header": "site,date,time_local,altitude_deg,limb,angle_sigma_deg,observer,note",
+        "example": "ridge,2027-09-22,13:14,41.62,lower,0.1,T. Okafor,quadrant aligned by its shadow",
+        "rows": 31,
+    },
+    "traces": {
+        "title": "Shadow-tip trace sheet (blank)",
+        "caution": SOLAR_CAUTION_FULL,
+        "steps": [
+            "Level the board; hang a plumb line from the gnomon's tip and mark the point under it (the rod may "
+            "lean: only the plumb point counts).",
+            "Measure the tip's height above the board, to the millimetre.",
+            "Draw two perpendicular axes through the plumb point; any turn of the board is fine.",
+            "Mark the shadow's tip every 5 minutes from about 90 minutes before to 90 minutes after noon; a "
+            "clock is not needed (at least 5 marks, both sides of noon).",
+            "Measure each mark's x and y from the plumb point; write the time too if a clock was read.",
+        ],
+        "columns": ["mark", "x (mm)", "y (mm)", "clock time (if read)", "notes"],
+        "csv_header": "site,date,time_local,tip_x_mm,tip_y_mm,observer,note",
+        "example": "ridge,2027-09-22,,152,-988,class 4B,no clock",
+        "rows": 24,
+        "grid": True,
     },
     "eclipse": {
         "title": "Lunar eclipse timing sheet (blank)",
@@ -163,13 +199,14 @@ BLANK_KIT = {
 def blank_field_kit(paper: str = "a4") -> dict[str, str]:
     """File name -> text of every blank sheet (HTML) and CSV template.
 
-    >>> sorted(blank_field_kit())[:2]
-    ['eclipse-sheet.html', 'eclipse-template.csv']
+    >>> sorted(blank_field_kit())[:4]
+    ['altitudes-sheet.html', 'altitudes-template.csv', 'eclipse-sheet.html', 'eclipse-template.csv']
     """
     env = _environment()
     template = env.get_template("blank_sheet.html.j2")
     files = {}
     for kind, spec in BLANK_KIT.items():
         files[f"{kind}-sheet.html"] = template.render(page_size=PAPER_SIZES[paper], **spec)
-        files[f"{kind}-template.csv"] = spec["csv_header"] + "\n"
+        example = f"{spec['example']}\n" if "example" in spec else ""
+        files[f"{kind}-template.csv"] = spec["csv_header"] + "\n" + example
     return files

@@ -1,0 +1,204 @@
+"""The other ways a shadow log records the noon Sun (the design's "More ways to record the noon Sun"):
+an angle instead of a length, and the shadow tip's position on the board (a trace).
+
+A row gives exactly one of a shadow length, an angle (``altitude_deg`` or
+``zenith_distance_deg``, with ``limb`` and ``angle_sigma_deg``) or a tip
+position (``tip_x`` and ``tip_y`` in ``mm``, ``cm`` or ``m``, from the point
+under the gnomon's tip). A trace row may go without a time when the file has
+a ``date`` column; such a trace needs :data:`MIN_TRACE_POINTS` points a day.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+from firstrung.campaign_model import LIMBS
+from firstrung.errors import RowProblem, row_ranges
+from firstrung.tabular import Row, Slot
+
+#: Fewest points of a trace without times: a conic through the tip's path needs five.
+MIN_TRACE_POINTS = 5
+
+#: Largest stated error of one angle reading [deg]; more is a unit typed wrongly.
+ANGLE_SIGMA_LIMIT_DEG = 10.0
+
+ANGLE_COLUMNS = ("altitude_deg", "zenith_distance_deg")
+TIP_X_COLUMNS = ("tip_x_mm", "tip_x_cm", "tip_x_m")
+TIP_Y_COLUMNS = ("tip_y_mm", "tip_y_cm", "tip_y_m")
+_FACTORS_M = {"m": 1.0, "cm": 0.01, "mm": 0.001}
+_LIMB_WORDS = {"center": "centre", "middle": "centre"}
+
+FORM_SLOTS = (
+    Slot(ANGLE_COLUMNS, numeric=True),
+    Slot(("limb",)),
+    Slot(("angle_sigma_deg",), numeric=True),
+    Slot(TIP_X_COLUMNS, numeric=True),
+    Slot(TIP_Y_COLUMNS, numeric=True),
+    Slot(("date",)),
+)
+
+#: Columns that make a length column unnecessary, and a time column (``date`` for untimed traces).
+INSTEAD_OF_LENGTH = ANGLE_COLUMNS + TIP_X_COLUMNS + TIP_Y_COLUMNS
+INSTEAD_OF_TIME = ("date",)
+
+#: What the reader returns for a row in the plain length form.
+LENGTH_FORM = {
+    "form": "length", "timed": True, "altitude_deg": math.nan, "angle_column": "", "limb": None,
+    "angle_sigma_deg": math.nan, "tip_x_m": math.nan, "tip_y_m": math.nan,
+}
+
+
+def uses_forms(chosen: dict) -> bool:
+    """Whether a file has any column of the other forms (else the plain reader does it all)."""
+    return any(chosen.get(slot.names[0]) is not None for slot in FORM_SLOTS)
+
+
+def row_form(row: Row) -> str | None:
+    """Which form the row's filled cells give, or ``None`` after a problem (none or two given)."""
+    given = []
+    if row.column("shadow_m") is not None and row.cell("shadow_m") != "":
+        given.append(row.column("shadow_m"))
+    if row.column("altitude_deg") is not None and row.cell("altitude_deg") != "":
+        given.append(row.column("altitude_deg"))
+    for slot in ("tip_x_mm", "tip_y_mm"):
+        if row.column(slot) is not None and row.cell(slot) != "":
+            given.append(row.column(slot))
+    tips = [name for name in given if name.startswith("tip_")]
+    others = [name for name in given if not name.startswith("tip_")]
+    if len(others) + (1 if tips else 0) > 1:
+        row.problem(given[1], f"a row gives a length, an angle or a tip position, not two of them (got {', '.join(given)})")
+        return None
+    if others:
+        return "length" if others[0].startswith("shadow_") else "angle"
+    if tips:
+        return "trace"
+    column = row.column("shadow_m") or row.column("altitude_deg") or row.column("tip_x_mm")
+    row.problem(column, "expected a shadow length, an angle or a tip position, got empty cells")
+    return None
+
+
+_PLAIN_SIGNED_RE = re.compile(r"^-?\d+(?:\.\d+)?$")
+
+
+def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) -> dict | None:
+    """A plain angle or timed trace row (ISO UTC time checked by the caller, plain numbers, nothing else
+    unusual) read without the full checks; ``None`` sends it through them (same results)."""
+    if chosen.get("date") is not None or chosen.get("shadow_m") is not None or chosen.get("gnomon_m") is not None:
+        return None
+    if any(chosen.get(k) is not None and cells.get(chosen[k], "") for k in ("edge", "temperature_c", "pressure_hpa")):
+        return None
+    values = dict(LENGTH_FORM, site=site_id, time_utc=t, time_column="time_utc", shadow_m=math.nan,
+                  shadow_column="", gnomon_m=math.nan, edge=None, temperature_c=math.nan, pressure_hpa=math.nan,
+                  observer=cells.get(chosen["observer"], "") if chosen.get("observer") else "",
+                  note=cells.get(chosen["note"], "") if chosen.get("note") else "")
+    angle_column, x_column, y_column = chosen.get("altitude_deg"), chosen.get("tip_x_mm"), chosen.get("tip_y_mm")
+    angle = cells.get(angle_column, "") if angle_column else ""
+    x, y = (cells.get(c, "") if c else "" for c in (x_column, y_column))
+    if angle and not x and not y:
+        if not _PLAIN_SIGNED_RE.match(angle) or (chosen.get("angle_sigma_deg") and cells.get(chosen["angle_sigma_deg"])):
+            return None
+        value = float(angle)
+        limb = cells.get(chosen["limb"], "").strip().lower() if chosen.get("limb") else ""
+        if not 0.0 <= value <= 90.0 or (limb and limb not in LIMBS):
+            return None
+        values.update(form="angle", altitude_deg=90.0 - value if angle_column == "zenith_distance_deg" else value,
+                      angle_column=angle_column, limb=limb or None)
+        return values
+    if x and y and not angle and _PLAIN_SIGNED_RE.match(x) and _PLAIN_SIGNED_RE.match(y):
+        factor_x, factor_y = _FACTORS_M[x_column.rsplit("_", 1)[1]], _FACTORS_M[y_column.rsplit("_", 1)[1]]
+        tip_x, tip_y = float(x) * factor_x, float(y) * factor_y
+        if abs(tip_x) > limit_m or abs(tip_y) > limit_m:
+            return None
+        values.update(form="trace", tip_x_m=tip_x, tip_y_m=tip_y)
+        return values
+    return None
+
+
+def angle_cells(row: Row) -> dict:
+    """An angle row's altitude as read [deg], limb and stated error."""
+    column = row.column("altitude_deg")
+    zenith = column == "zenith_distance_deg"
+    what = "a zenith distance" if zenith else "an altitude"
+    value = row.number("altitude_deg", f"{what} between 0 and 90 degrees", lambda x: 0.0 <= x <= 90.0, required=True)
+    limb = None
+    text = row.cell("limb")
+    if text:
+        limb = _LIMB_WORDS.get(text.strip().lower(), text.strip().lower())
+        if limb not in LIMBS:
+            row.problem("limb", f"expected limb lower, centre or upper, got {text!r}")
+    sigma = row.number(
+        "angle_sigma_deg", f"a positive number of degrees below {ANGLE_SIGMA_LIMIT_DEG:g}",
+        lambda x: 0.0 < x < ANGLE_SIGMA_LIMIT_DEG,
+    )
+    values = dict(LENGTH_FORM)
+    values.update(
+        form="angle", altitude_deg=90.0 - value if zenith else value, angle_column=column, limb=limb,
+        angle_sigma_deg=sigma,
+    )
+    return values
+
+
+def trace_cells(row: Row, limit_m: float) -> dict:
+    """A trace row's tip position on the board [m]."""
+    values = dict(LENGTH_FORM)
+    values["form"] = "trace"
+    for slot, key in (("tip_x_mm", "tip_x_m"), ("tip_y_mm", "tip_y_m")):
+        column = row.column(slot)
+        if column is None:
+            row.problem(None, f"expected both tip_x and tip_y columns for a trace, {slot[:5]} is missing")
+            continue
+        unit = column.rsplit("_", 1)[1]
+        values[key] = row.number(
+            slot, f"a distance on the board within {limit_m:g} m, in {unit}",
+            lambda x, u=unit: abs(x) * _FACTORS_M[u] <= limit_m, factor=_FACTORS_M[unit], required=True,
+        )
+    return values
+
+
+def short_traces(file, row, site, time_utc, timed, form) -> tuple[np.ndarray, list[RowProblem]]:
+    """Rows of traces without times that have too few points a day, and one problem per trace.
+
+    Returns a mask of the rows to keep and the problems.
+    """
+    keep = np.ones(len(row), bool)
+    problems: list[RowProblem] = []
+    untimed = (~np.asarray(timed, bool)) & (np.asarray(form) == "trace")
+    if not untimed.any():
+        return keep, problems
+    day = np.asarray(time_utc).astype("datetime64[D]").astype(str)
+    keys = np.char.add(np.char.add(np.asarray(file, str), "\x1f"), np.char.add(np.char.add(np.asarray(site, str), "\x1f"), day))
+    names, inverse, counts = np.unique(keys[untimed], return_inverse=True, return_counts=True)
+    for k, (name, count) in enumerate(zip(names, counts, strict=True)):
+        if count >= MIN_TRACE_POINTS:
+            continue
+        picked = np.flatnonzero(untimed)[inverse == k]
+        keep[picked] = False
+        label, site_id, date = name.split("\x1f")
+        rows = ("row " if picked.size == 1 else "rows ") + row_ranges(np.asarray(row)[picked])
+        problems.append(RowProblem(
+            label, int(np.asarray(row)[picked[0]]), None,
+            f"a trace without times at site '{site_id}' on {date} has {count} point(s) ({rows}); "
+            f"expected at least {MIN_TRACE_POINTS} to find the shortest shadow",
+        ))
+    return keep, problems
+
+
+def angle_instruments(campaign, log, site_index) -> dict:
+    """Each row's angle error, limb and index correction: the log's own, else the site's instrument's."""
+    from firstrung.campaign_model import AngleInstrument
+
+    instruments = [s.angle_instrument or AngleInstrument() for s in campaign.sites]
+    sigma = np.array([i.sigma_deg for i in instruments], float)[site_index]
+    limb = np.array([i.limb for i in instruments], dtype="<U6")[site_index]
+    row_limb = np.asarray(log.limb, dtype=object)
+    given = np.array([v is not None for v in row_limb], bool) if len(log) else np.zeros(0, bool)
+    row_sigma = np.asarray(log.angle_sigma_deg, float)
+    return {
+        "angle_sigma_deg": np.where(np.isfinite(row_sigma), row_sigma, sigma),
+        "limb": np.where(given, row_limb.astype(str), limb).astype("<U6"),
+        "index_correction_deg": np.array([i.index_correction_deg for i in instruments], float)[site_index],
+        "index_sigma_deg": np.array([i.index_correction_sigma_deg for i in instruments], float)[site_index],
+    }
