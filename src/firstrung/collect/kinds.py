@@ -55,17 +55,8 @@ class LogKind:
 
 
 def _slots(module: ModuleType) -> tuple[Slot, ...]:
-    """The column slots of a method's log module: ``SLOTS``, else its one tuple of slots."""
-    found = getattr(module, "SLOTS", None)
-    if found is None:
-        candidates = [
-            value for name, value in vars(module).items()
-            if name.endswith("_SLOTS") and isinstance(value, tuple) and value and all(isinstance(s, Slot) for s in value)
-        ]
-        if len(candidates) != 1:
-            raise LookupError(f"{module.__name__} has no single tuple of column slots")
-        found = candidates[0]
-    return tuple(found)
+    """The column slots of a method's log module (its ``LOG_SLOTS``, as every method's log module has)."""
+    return tuple(module.LOG_SLOTS)
 
 
 def _reader(module: ModuleType) -> Callable:
