@@ -260,8 +260,8 @@ def bench_check(work: Workloads, n_sites: int, n_rows: int, repeats: int, with_a
 
     read_campaign = _lib("read_campaign", "firstrung.campaign")
     read_shadow_logs = _lib("read_shadow_logs", "firstrung.methods.shadows.log")
-    check_sites = _lib("check_sites", "firstrung.methods.shadows.check_statistics")
-    check_rows = _lib("shadow_rows", "firstrung.methods.shadows.check_statistics")
+    check_sites = _lib("check_sites", "firstrung.methods.shadows.check_statistics", "firstrung.methods.shadows.check")
+    check_rows = _lib("shadow_readings", "firstrung.methods.shadows.log")
     check_shadow_rows = _lib("check_shadow_rows", "firstrung.methods.shadows.check")
     ephemeris = importlib.import_module("firstrung.ephemeris")
 

@@ -566,6 +566,8 @@ def read_columns(
     messages. The result is the same as :func:`read_rows` gives, row for row
     (with ``FAST_PATH`` off every row takes that path).
     """
+    if isinstance(paths, (str, bytes, os.PathLike)):  # one file, not the characters of its name
+        paths = (os.fsdecode(paths),)
     if not FAST_PATH:
         good, problems, rows_read, ignored, notes = read_rows(campaign, kind, paths, slots, parse_row)
         return column_arrays(good, dtypes), problems, rows_read, ignored, notes
