@@ -51,10 +51,10 @@ def test_reduce_shadows_shows_the_refusals_that_leave_one_site(c, capsys, monkey
     code, out, err = run_cli(["reduce", "shadows", c / "campaign.toml"], capsys, monkeypatch)
     assert (code, out) == (2, "")
     lines = err.splitlines()
-    assert len(lines) == 126
-    assert lines[0] == ("firstrung: logs/shadows.csv:1:time_utc: expected an ISO 8601 UTC time such as "
+    # the 125 refusals are one problem on many rows: said once with its rows, then why nothing was reduced
+    assert len(lines) == 2
+    assert lines[0] == ("firstrung: logs/shadows.csv:rows 1-125:time_utc: expected an ISO 8601 UTC time such as "
                         "2027-03-20T11:38:00Z, got '2027-13-45T12:00:00Z' (no such date or time)")
-    assert all(f"logs/shadows.csv:{k}:time_utc:" in lines[k - 1] for k in range(1, 126))
     assert lines[-1] == "firstrung: need usable shadow readings from at least two sites; got 1"
 
 
@@ -165,7 +165,7 @@ def test_escape_sequences_from_names_never_reach_the_terminal(c, capsys, monkeyp
         (["report", "{camp}", "-o", "{dir}/[bold]x.html", "--samples", "1000"], "report written: {dir}/[bold]x.html"),
         (["sheet", "{camp}", "--site", "fjell", "--date", "2027-03-22", "-o", "{dir}/[red]s.html"],
          "field sheet written: {dir}/[red]s.html"),
-        (["blank-sheets", "-o", "{dir}/[i]kit"], "6 files written to {dir}/[i]kit"),
+        (["blank-sheets", "-o", "{dir}/[i]kit"], "10 files written to {dir}/[i]kit"),
         (["simulate", "shadows", "{camp}", "--from", "2027-03-22", "--to", "2027-03-22", "-o", "{dir}/[b]sim"],
          "93 synthetic shadow readings written to {dir}/[b]sim/shadows.csv"),
         (["plan", "eclipses", "{camp}", "--from", "2029-12-01", "--to", "2029-12-31", "--ics", "{dir}/[b]e.ics"],

@@ -119,7 +119,8 @@ def test_the_equator_and_a_1_mm_gnomon_read_back_whole(tmp_path):
     lengths = np.array([float(r["shadow_mm"]) for r in rows])
     assert lengths.min() > 0.0
     tiny = lengths[[r["site"] == "s1" for r in rows]]
-    # a 1 mm gnomon at 60 deg casts about 0.58 mm (tan 30 deg): written with 3 significant digits
-    assert 0.5 < np.median(tiny) < 0.65
+    # a 1 mm gnomon at 60 deg casts about 0.58 mm (tan 30 deg), written with 3 significant digits; the
+    # gnomon's height error is at least 1 mm (the campaign's floor), so single lengths scatter widely
+    assert 0.35 < np.median(tiny) < 1.0
     assert all(len(r["shadow_mm"].replace(".", "").lstrip("0")) >= 3 for r in rows)
     read_back(tmp_path, text, "shadows", rows, SHADOW_COLUMNS, read_shadow_logs)
