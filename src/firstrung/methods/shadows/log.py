@@ -28,6 +28,7 @@ from firstrung.methods.shadows.log_forms import (
     LENGTH_FORM,
     angle_cells,
     angle_instruments,
+    fast_form_columns,
     row_form,
     short_traces,
     trace_cells,
@@ -405,8 +406,14 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     chosen, columns = table.chosen, table.columns
     n = len(table.numbers)
     handled = np.zeros(n, bool)
-    if chosen["time_utc"] != "time_utc" or chosen["shadow_m"] is None or uses_forms(chosen):
-        return None, handled  # the other forms take the full row checks
+    if chosen["time_utc"] != "time_utc":
+        return None, handled
+    if chosen["shadow_m"] is None or uses_forms(chosen):  # angles and traces: their own plain rows
+        site_cells = columns[chosen["site"]]
+        ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)
+        t = _utc_times(columns["time_utc"])
+        ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
+        return fast_form_columns(chosen, columns, ok, np.array(site_cells, dtype=object), t, SHADOW_LIMIT_M)
     site_cells = columns[chosen["site"]]
     sites = np.array(site_cells, dtype=object)
     ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)

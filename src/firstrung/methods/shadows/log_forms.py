@@ -117,6 +117,60 @@ def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) ->
     return None
 
 
+def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float):
+    """Plain angle and timed-trace rows of a columnar table, a column at a time: their values and a mask.
+
+    ``ok`` marks the rows whose site and ISO UTC time the caller found plain.
+    A row is plain when it gives only an angle (a plain number within 0-90
+    deg, a known limb word or none, no stated sigma) or only both tip
+    coordinates (plain numbers within ``limit_m``), and the file has no
+    length, gnomon, date, edge or weather column; every other row takes the
+    full row checks (same results: a test compares both).
+    """
+    n = ok.size
+    if any(chosen.get(k) is not None for k in ("shadow_m", "gnomon_m", "date", "edge", "temperature_c",
+                                                "pressure_hpa", "angle_sigma_deg")):
+        return None, np.zeros(n, bool)
+    blank = [""] * n
+
+    def numbers(column):
+        cells = columns[column] if column is not None else blank
+        given = np.fromiter(map(bool, cells), bool, n)
+        plain = np.fromiter((bool(_PLAIN_SIGNED_RE.match(c)) for c in cells), bool, n)
+        values = np.array([float(c) if p else np.nan for c, p in zip(cells, plain, strict=True)])
+        return given, plain, values
+
+    angle_column, x_column, y_column = chosen.get("altitude_deg"), chosen.get("tip_x_mm"), chosen.get("tip_y_mm")
+    a_given, a_plain, a_value = numbers(angle_column)
+    x_given, x_plain, x_value = numbers(x_column)
+    y_given, y_plain, y_value = numbers(y_column)
+    limb_cells = columns[chosen["limb"]] if chosen.get("limb") is not None else blank
+    limb = np.array([c.strip().lower() or None for c in limb_cells], dtype=object)
+    limb_ok = np.fromiter((x is None or x in LIMBS for x in limb), bool, n)
+    angle = a_given & ~x_given & ~y_given & a_plain & (a_value >= 0.0) & (a_value <= 90.0) & limb_ok
+    fx = _FACTORS_M[x_column.rsplit("_", 1)[1]] if x_column else 1.0
+    fy = _FACTORS_M[y_column.rsplit("_", 1)[1]] if y_column else 1.0
+    tip_x, tip_y = x_value * fx, y_value * fy
+    with np.errstate(invalid="ignore"):
+        trace = (~a_given & x_plain & y_plain & (np.abs(tip_x) <= limit_m) & (np.abs(tip_y) <= limit_m))
+    ok = ok & (angle | trace)
+    m = int(ok.sum())
+    altitude = np.where(angle, 90.0 - a_value if angle_column == "zenith_distance_deg" else a_value, np.nan)
+    blank_text = np.full(n, "", dtype=object)
+    observer = np.array(columns[chosen["observer"]], dtype=object) if chosen.get("observer") else blank_text
+    note = np.array(columns[chosen["note"]], dtype=object) if chosen.get("note") else blank_text
+    return {
+        "site": sites[ok].astype(str), "time_utc": t[ok], "time_column": np.full(m, "time_utc"),
+        "shadow_m": np.full(m, np.nan), "shadow_column": np.full(m, ""), "gnomon_m": np.full(m, np.nan),
+        "edge": np.full(m, None, dtype=object), "temperature_c": np.full(m, np.nan),
+        "pressure_hpa": np.full(m, np.nan), "observer": observer[ok], "note": note[ok],
+        "form": np.where(angle, "angle", "trace")[ok].astype("<U6"), "timed": np.ones(m, bool),
+        "altitude_deg": altitude[ok], "angle_column": np.where(angle, angle_column or "", "")[ok].astype("<U19"),
+        "limb": np.where(angle, limb, None)[ok], "angle_sigma_deg": np.full(m, np.nan),
+        "tip_x_m": np.where(trace, tip_x, np.nan)[ok], "tip_y_m": np.where(trace, tip_y, np.nan)[ok],
+    }, ok
+
+
 def angle_cells(row: Row) -> dict:
     """An angle row's altitude as read [deg], limb and stated error."""
     column = row.column("altitude_deg")
