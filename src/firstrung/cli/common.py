@@ -126,17 +126,19 @@ def _refuse_non_finite(kwargs: dict) -> None:
 
 
 def console(stderr: bool = False):
-    """A rich console; the width follows COLUMNS when set (tests fix it)."""
+    """A rich console that never cuts a table's value; the width follows COLUMNS when set (tests fix it)."""
     width = int(os.environ["COLUMNS"]) if os.environ.get("COLUMNS", "").isdigit() else None
     return _safe_console_class()(stderr=stderr, width=width, highlight=False, soft_wrap=False)
 
 
 def _safe_console_class():
-    """rich's Console whose text never carries a control character from the data (:func:`terminal_text`)."""
-    from rich.console import Console
+    """A console whose tables never cut a value (:class:`firstrung.terminal.FittingConsole`) and whose
+    text never carries a control character from the data (:func:`terminal_text`)."""
     from rich.segment import Segment
 
-    class SafeConsole(Console):
+    from firstrung.terminal import FittingConsole
+
+    class SafeConsole(FittingConsole):
         def _render_buffer(self, buffer):
             return super()._render_buffer(
                 segment if segment.control else Segment(terminal_text(segment.text), segment.style)
