@@ -108,36 +108,41 @@ def _render(run, days, caution: str, ics) -> None:
     if run.skipped_sites:
         out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
     table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
+    table.keep_columns = 2  # rank and date head every part of a split table
     table.add_column("rank", justify="right")
     table.add_column("date")
     table.add_column("sigma R (km)", justify="right")
-    few = len(plan.sites) <= 4
-    if few:
-        for s in plan.sites:
-            table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
+    # every site's column, however many: the terminal's tables split a table too wide, never drop
+    for s in plan.sites:
+        table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
     table.add_column("note")
     table.caption = "noon: local apparent noon (site's zone, or Z for UTC); alt: Sun's refracted altitude (deg); N/S: shadow direction"
     for k in days:
         row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
-        if few:
-            for j, _s in enumerate(plan.sites):
-                d = site_day(plan, k, j)
-                clock = (d["transit_local"] or d["transit_utc"])[11:16]
-                zone = "" if d["transit_local"] else "Z"
-                row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
+        for j, _s in enumerate(plan.sites):
+            d = site_day(plan, k, j)
+            clock = (d["transit_local"] or d["transit_utc"])[11:16]
+            zone = "" if d["transit_local"] else "Z"
+            row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
         row.append(", ".join(plan.special[k]))
         table.add_row(*row)
     out.print(table)
     reasons: dict[str, int] = {}
     for e in plan.excluded:
+        keys = set()
         for r in e:
             key = r.split(" at ")[0] if r.startswith(("Sun only", "shadow")) else r
             key = "Sun too low at noon" if key.startswith("Sun only") else key
             key = "shadow longer than the board" if key.startswith("shadow") else key
             key = "not a chosen weekday" if key.startswith("not a chosen weekday") else key
+            keys.add(key)
+        for key in keys:  # days, not site-days: a day too low at three sites is one day
             reasons[key] = reasons.get(key, 0) + 1
     if reasons:
-        out.print("  days ruled out: " + "; ".join(f"{k} ({v})" for k, v in sorted(reasons.items())))
+        n_out = sum(1 for e in plan.excluded if e)
+        out.print(f"  days ruled out: {n_out} of {len(plan.dates)} (a day may have several reasons)")
+        for k, v in sorted(reasons.items()):
+            out.print(f"    {k}: {v} {'day' if v == 1 else 'days'}")
     if ics is not None:
         out.print(f"  calendar written: {escape(str(ics))} ({len(days)} days x {len(plan.sites)} sites)")
     out.print(f"  Caution: {caution}")
@@ -228,7 +233,7 @@ def render_shadows(data: dict, verbose: bool) -> None:
     )
     ratio = data["ratio_to_expected"]
     z = (r["value"] - data["expected_radius_km"]) / r["sigma"] if r["sigma"] else float("nan")
-    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma)")
+    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma; the ladder and the report state the same)")
     rows = data["rows"]
     left = ", ".join(f"{v} {k}" for k, v in rows["left_out"].items() if v)
     out.print(
