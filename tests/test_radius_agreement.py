@@ -41,3 +41,18 @@ def test_ladder_states_reduce_shadows_sigma_against_the_campaigns_expected_radiu
     assert "meridional" in rung["modern_source"] and "6,371.0" in rung["modern_source"]
     # the IUGG mean would have said something else: the comparison is not the mean's
     assert abs((r["value"] - 6371.0087714) / r["sigma"] - z_reduce) > 0.05
+
+
+def test_the_report_states_the_same_radius_and_sigma_as_reduce_shadows():
+    from firstrung.app.report import build_report
+    from firstrung.methods.shadows.run import run_shadows
+
+    red = run_shadows(EXAMPLE).reduction
+    z = (red.earth_radius_km.value - red.expected_radius_km) / red.earth_radius_km.sigma
+    rep = build_report(EXAMPLE, samples=2000, seed=1)
+    section = rep.context["section"]["shadows"]
+    assert section["z"] == z
+    assert f"({z:+.1f} sigma)" in section["headline"]
+    row = next(r for r in rep.context["ladder"] if r["quantity"] == "earth_radius_km")
+    assert row["z_score"] == round(z, 2)
+    assert row["measured"]["value"] == round(red.earth_radius_km.value, 1)

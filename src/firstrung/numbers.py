@@ -67,4 +67,43 @@ def rounded(value: float, low: float | None = None, high: float | None = None, *
     return text, f"{_plain(low, min(place, low_place))} to {hi}"
 
 
-__all__ = ["rounded"]
+def latitude_text(latitude_deg: float, decimals: int = 4) -> str:
+    """A latitude for its hemisphere, never a signed number beside a letter.
+
+    >>> latitude_text(-33.92487)
+    '33.9249° S'
+    >>> latitude_text(58.95)
+    '58.9500° N'
+    """
+    return f"{abs(latitude_deg):.{decimals}f}° {'S' if latitude_deg < 0 else 'N'}"
+
+
+def longitude_text(longitude_deg: float, decimals: int = 4) -> str:
+    """A longitude for its hemisphere.
+
+    >>> longitude_text(-77.0)
+    '77.0000° W'
+    """
+    return f"{abs(longitude_deg):.{decimals}f}° {'W' if longitude_deg < 0 else 'E'}"
+
+
+def row_ranges(rows) -> str:
+    """Row numbers as ranges.
+
+    >>> row_ranges([32, 33, 34, 40, 11])
+    '11, 32-34, 40'
+    """
+    rows = sorted({int(r) for r in rows})
+    out = []
+    start = prev = None
+    for r in rows + [None]:
+        if r is not None and prev is not None and r == prev + 1:
+            prev = r
+            continue
+        if start is not None:
+            out.append(str(start) if start == prev else f"{start}-{prev}")
+        start = prev = r
+    return ", ".join(out)
+
+
+__all__ = ["latitude_text", "longitude_text", "rounded", "row_ranges"]

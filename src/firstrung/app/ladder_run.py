@@ -70,7 +70,9 @@ def run_ladder(campaign_path, *, samples: int, seed: int) -> LadderRun:
 
 
 def _radius_sigma_as_reduced(ladder: Ladder, reduction) -> Ladder:
-    """The radius rung against the campaign's expected radius, with ``reduce shadows``' own sigma apart."""
+    """The radius rung as ``reduce shadows`` states it: its value, interval and sigma apart from the
+    radius a perfect measurement at the campaign's sites gives (the rung's draw is Gaussian in 1/R, so
+    the Monte Carlo gives the same interval to within its sampling noise)."""
     from dataclasses import replace
 
     from firstrung.methods.shadows.comparison import EXPECTED_SOURCE, radius_z
@@ -79,7 +81,7 @@ def _radius_sigma_as_reduced(ladder: Ladder, reduction) -> Ladder:
     for r in ladder.rungs:
         if r.key == "earth_radius_km" and r.measured is not None:
             expected = float(reduction.expected_radius_km)
-            r = replace(r, modern=expected, modern_source=EXPECTED_SOURCE,
+            r = replace(r, measured=reduction.earth_radius_km, modern=expected, modern_source=EXPECTED_SOURCE,
                         ratio_to_modern=reduction.earth_radius_km.value / expected, z_score=radius_z(reduction))
         rungs.append(r)
     return replace(ladder, rungs=tuple(rungs))

@@ -632,8 +632,14 @@ def eclipse_figure(result: EclipseResult, *, title: str | None = None):
             ax.annotate(tim.event[k], (c[0], c[1]), ha="center", va="center", fontsize=8)
     if result.crater_points is not None:
         p = result.crater_points
-        colors = ["tab:red" if tim.event[i] == "immersion" else "tab:green" for i in p["index"]]
-        ax.scatter(p["east_deg"] * 60, p["north_deg"] * 60, s=14, c=colors, zorder=3, label="crater timings")
+        immersion = np.array([tim.event[i] == "immersion" for i in p["index"]], bool)
+        east, north = np.asarray(p["east_deg"]) * 60, np.asarray(p["north_deg"]) * 60
+        if immersion.any():
+            ax.scatter(east[immersion], north[immersion], s=14, c="tab:red", zorder=3,
+                       label="crater immersions (enters the umbra)")
+        if (~immersion).any():
+            ax.scatter(east[~immersion], north[~immersion], s=14, c="tab:green", marker="s", zorder=3,
+                       label="crater emersions (leaves the umbra)")
     ax.set_aspect("equal")
     ax.invert_xaxis()
     ax.set_xlabel("east of the shadow's axis (arcmin)")
