@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 from typing import Annotated
 
@@ -34,13 +35,17 @@ def sheet(
     date: Annotated[str, typer.Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
     output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
+    blind: Annotated[bool, typer.Option("--blind", help="Leave the predicted shadow lengths off the sheet.")] = False,
 ) -> None:
-    """A printable noon-shadow field sheet for one site and day, with the predicted readings."""
+    """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
+
+    Refused on a day the Sun does not rise at noon; a warning when it is under 10° high.
+    """
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
     from firstrung.methods.shadows.commands import parse_date
     from firstrung.methods.shadows.plan import plan_sites
-    from firstrung.methods.shadows.sheet import render_shadow_sheet
+    from firstrung.methods.shadows.sheet import render_shadow_sheet, sheet_warning
     from firstrung.output import campaign_inputs, write_atomic
 
     c = read_campaign(campaign)
@@ -48,8 +53,12 @@ def sheet(
     sites = {s.id: s for s in plan_sites(c)[0]}
     if site not in sites:
         raise InputError(f"--site: site '{site}' has no [site.gnomon] in the campaign file", file=str(campaign))
-    html = render_shadow_sheet(c.name, sites[site], parse_date("--date", date), _paper(paper))
+    day = parse_date("--date", date)
+    _, warning = sheet_warning(sites[site], day)
+    html = render_shadow_sheet(c.name, sites[site], day, _paper(paper), blind=blind)
     write_atomic(output, html, inputs=campaign_inputs(c))
+    if warning:
+        print(f"firstrung: warning: {warning}", file=sys.stderr)
     from rich.markup import escape
 
     console().print(f"field sheet written: {escape(str(output))}")
