@@ -13,7 +13,6 @@ from pathlib import Path
 
 import numpy as np
 from geographiclib.geodesic import Geodesic
-
 from tests.helpers import run_cli
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"

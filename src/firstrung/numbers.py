@@ -106,4 +106,13 @@ def row_ranges(rows) -> str:
     return ", ".join(out)
 
 
-__all__ = ["latitude_text", "longitude_text", "rounded", "row_ranges"]
+def plural(n: int, word: str, many: str | None = None) -> str:
+    """``n`` and the word, singular for one.
+
+    >>> plural(1, "error"), plural(33, "error"), plural(2, "eclipse")
+    ('1 error', '33 errors', '2 eclipses')
+    """
+    return f"{n:,} {word if n == 1 else (many or word + 's')}"
+
+
+__all__ = ["plural", "latitude_text", "longitude_text", "rounded", "row_ranges"]

@@ -14,8 +14,8 @@ import copy
 
 from rich.console import Console
 from rich.measure import Measurement
-from rich.text import Text
 from rich.table import Table
+from rich.text import Text
 
 #: Below this width a table is not split further: a column then folds its longest piece.
 NARROWEST = 20
@@ -65,18 +65,18 @@ def _set_widths(console: Console, table: Table, width: int) -> None:
     slack = [hi - lo for lo, hi in measures]
     total = sum(slack)
     widths = []
-    for (lo, hi), s in zip(measures, slack):
+    for (lo, _), s in zip(measures, slack, strict=True):
         extra = s if total <= room else (room * s) // total if total else 0
         widths.append(lo + extra)
     # what integer division left over goes to the columns that can still use it
     left = width - table._extra_width - sum(widths)
-    for i, ((lo, hi), w) in enumerate(zip(measures, widths)):
+    for i, ((_, hi), w) in enumerate(zip(measures, widths, strict=True)):
         if left <= 0:
             break
         add = min(left, hi - w)
         widths[i] += add
         left -= add
-    for column, w in zip(table.columns, widths):
+    for column, w in zip(table.columns, widths, strict=True):
         column.width = max(1, w - table._get_padding_width(column._index))
         column.max_width = None
         column.no_wrap = False  # every cell fits whole; a header may wrap at its spaces

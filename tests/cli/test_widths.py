@@ -12,7 +12,6 @@ import re
 from pathlib import Path
 
 import pytest
-
 from tests.helpers import run_cli
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "campaign.toml"

@@ -150,7 +150,14 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
 
 def _environment(markdown: bool = False):
     """Templates: the report's own, and each method's section under its name (``shadows/report.html.j2``)."""
-    from jinja2 import ChoiceLoader, Environment, PackageLoader, PrefixLoader, StrictUndefined, select_autoescape
+    from jinja2 import (
+        ChoiceLoader,
+        Environment,
+        PackageLoader,
+        PrefixLoader,
+        StrictUndefined,
+        select_autoescape,
+    )
 
     loader = ChoiceLoader([
         PackageLoader("firstrung", "templates"),

@@ -57,6 +57,18 @@ def _first_command(args) -> str | None:
     return None
 
 
+def _add_aliases(group: typer.Typer, infos, aliases) -> None:
+    """The same commands under the method's other spellings, hidden from the help."""
+    import copy
+
+    for info in list(infos):
+        for alias in aliases:
+            if alias != info.name:
+                twin = copy.copy(info)
+                twin.name, twin.hidden = alias, True
+                group.registered_commands.append(twin)
+
+
 def build(args=None) -> typer.Typer:
     """The command tree; given the command line, only the named command's modules are imported.
 
@@ -91,8 +103,10 @@ def build(args=None) -> typer.Typer:
         group = typer.Typer(help=help_text, no_args_is_help=True)
         for m in REGISTRY:
             command = getattr(m, command_attr)
-            if args is None or (wanted == name and sub == command):
+            if args is None or (wanted == name and sub in (command, *m.aliases)):
+                before = len(group.registered_commands)
                 getattr(m.module("commands"), adder)(group)
+                _add_aliases(group, group.registered_commands[before:], m.aliases)
                 continue
             # listed by name and help only: the method's modules are not imported
             group.command(command, help=getattr(m, help_attr))(lambda: None)

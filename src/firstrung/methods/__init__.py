@@ -53,6 +53,9 @@ class Method:
     reduce_help: str
     simulate_command: str
     simulate_help: str
+    #: Other spellings that reach the same commands in every group, hidden from the help
+    #: (the Contract's ``plan eclipses`` beside ``reduce eclipse``).
+    aliases: tuple[str, ...] = ()
 
     @property
     def package(self) -> str:
@@ -74,9 +77,10 @@ REGISTRY: tuple[Method, ...] = (
     ),
     Method(
         "eclipse", "eclipse",
-        "eclipses", "Lunar eclipses from --from to --to: contacts, and each site's Moon and Sun at each contact.",
+        "eclipse", "Lunar eclipses from --from to --to: contacts, and each site's Moon and Sun at each contact.",
         "eclipse", "The shadow/Moon ratio and the Moon's distance from umbral contacts and crater timings.",
         "eclipse", "Eclipse logs: umbral contacts and crater timings of every eclipse each site can time in the dark.",
+        aliases=("eclipses",),
     ),
     Method(
         "phases", "phases",
@@ -97,7 +101,7 @@ def method(name: str) -> Method:
     """The registry's entry of one method, by name.
 
     >>> method("eclipse").plan_command
-    'eclipses'
+    'eclipse'
     """
     for m in REGISTRY:
         if m.name == name:

@@ -35,8 +35,8 @@ ConventionOption = Annotated[
 
 
 def register_plan(group: typer.Typer) -> None:
-    """Add ``eclipses`` to the ``plan`` group."""
-    group.command("eclipses")(handles_errors(plan_eclipses))
+    """Add ``eclipse`` to the ``plan`` group (``plan eclipses`` reaches it too: the registry's alias)."""
+    group.command("eclipse")(handles_errors(plan_eclipses))
 
 
 def plan_eclipses(
@@ -144,7 +144,8 @@ def render_plan(data: dict, verbose: bool) -> None:
             out.print("  not ranked: " + "; ".join(e["excluded"]))
     left = [e for e in data["eclipses"] if e["rank"] is None]
     if left and not verbose:
-        out.print(f"  {len(left)} eclipse(s) not ranked (penumbral, or no site can time a contact); --verbose shows them")
+        out.print(f"  {len(left)} {'eclipse' if len(left) == 1 else 'eclipses'} not ranked (penumbral, or no site can "
+                  "time a contact); --verbose shows them")
     if verbose:
         for a in data["assumptions"]:
             out.print(f"  - {a}")
@@ -237,14 +238,14 @@ def render_eclipse(data: dict, verbose: bool) -> None:
         out.print(f"\n[bold]{e['date']}[/bold] {e['kind']} eclipse, {e['rows']} timings")
         src = "measured by the observers" if m["observational"] else "from the ephemeris (ephemeris-assisted)" if m["semidiameter_source"] == m["rate_source"] == "ephemeris" else "partly from the ephemeris"
         out.print(
-            f"  Moon: radius {m['semidiameter_arcmin']:.3f}' ({m['semidiameter_source']}), rate across the shadow "
+            f"  Moon: radius {m['semidiameter_arcmin']:.3f}′ ({m['semidiameter_source']}), rate across the shadow "
             f"{m['rate_deg_per_h']:.4f} deg/h ({m['rate_source']}) — {src}"
         )
         if e["reduction"] is not None:
             r = e["reduction"]
             n, d = e["shadow_moon_ratio"], e["moon_distance_earth_radii"]
             out.print(f"  shadow / Moon ratio  {_pm(n, 3)}   (68 % interval {_interval(n, 3)})")
-            out.print(f"  umbra radius         {_pm(r['umbra_radius_arcmin'], 2)}'   Moon's parallax {_pm(r['moon_parallax_arcmin'], 2)}'")
+            out.print(f"  umbra radius         {_pm(r['umbra_radius_arcmin'], 2)}′   Moon's parallax {_pm(r['moon_parallax_arcmin'], 2)}′")
             out.print(f"  Moon's distance      {_pm(d, 2)} Earth radii   (68 % interval {_interval(d, 2)})")
             if e["moon_distance_km"] is not None:
                 k = e["moon_distance_km"]

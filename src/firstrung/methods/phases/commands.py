@@ -24,6 +24,7 @@ from firstrung.cli.common import (
     simulation_range,
     write_simulated,
 )
+from firstrung.numbers import plural
 
 
 def register_plan(group: typer.Typer) -> None:
@@ -197,7 +198,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
     out.print(table)
     for kind, c in data["by_kind"].items():
         out.print(f"  {kind}: E = {c['elongation_deg']['value']:.4f} ± {c['elongation_deg']['sigma']:.4f} deg, "
-                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({c['estimates']} estimates)")
+                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({plural(c['estimates'], 'estimate')})")
     i = data["interval_method"]
     if i is not None:
         u = i["uncorrected"]
@@ -208,7 +209,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
         if i["corrected"] is not None:
             out.print(f"    corrected with the ephemeris's lunar motion: ratio {_interval_text(i['corrected']['sun_moon_distance_ratio'])}")
     rows = data["rows"]
-    out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {rows['estimates']} estimates"
+    out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {plural(rows['estimates'], 'estimate')}"
               + (f", {rows['refused']} refused" if rows["refused"] else ""))
     if verbose:
         for a in data["assumptions"]:

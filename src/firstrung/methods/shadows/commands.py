@@ -160,12 +160,13 @@ def reduce_shadows(
     monte_carlo: Annotated[
         int,
         typer.Option(
-            "--monte-carlo",
+            "--samples",
             min=0,
-            help="Also redo the reduction this many times with every input drawn from its errors, "
-            "and show the spread beside the linear sigma (0: off).",
+            help="Monte Carlo draws: also redo the reduction this many times with every input drawn from its "
+            "errors, and show the spread beside the linear sigma (0: off).",
         ),
     ] = 0,
+    monte_carlo_old: Annotated[int | None, typer.Option("--monte-carlo", min=0, hidden=True)] = None,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
     include_flagged: IncludeFlaggedOption = False,
 ) -> None:
@@ -179,6 +180,7 @@ def reduce_shadows(
 
     run = run_shadows(campaign, include_flagged=include_flagged)
     data = shadow_run_to_json(run)
+    monte_carlo = monte_carlo_old if monte_carlo_old is not None and not monte_carlo else monte_carlo
     if monte_carlo:
         from firstrung.methods.shadows.reduction import monte_carlo_radius
         from firstrung.methods.shadows.run import baseline_inputs, site_inputs
