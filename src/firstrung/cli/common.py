@@ -41,6 +41,19 @@ def terminal_text(text: str, *, one_line: bool = False) -> str:
     return pattern.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
 
 
+CalendarSiteOption = Annotated[
+    str | None,
+    typer.Option("--site", help="Put only this site's events in the calendar (--ics); the site id from the campaign file.",
+                 show_default=False),
+]
+
+
+def check_site_id(campaign, site: str | None) -> None:
+    """An unknown ``--site`` id is one clear error."""
+    if site is not None:
+        campaign.site(site)
+
+
 def fail(message: str, status: int = 2) -> typer.Exit:
     """Print one line on stderr and give the exit to raise."""
     print(f"firstrung: {terminal_text(str(message), one_line=True)}", file=sys.stderr)

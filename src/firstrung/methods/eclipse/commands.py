@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -16,6 +17,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     print_json,
@@ -44,8 +46,11 @@ def plan_eclipses(
     date_from: Annotated[str, typer.Option("--from", help="First date (YYYY-MM-DD, UTC).", show_default=False)],
     date_to: Annotated[str, typer.Option("--to", help="Last date (YYYY-MM-DD, UTC).", show_default=False)],
     ics: Annotated[
-        Path | None, typer.Option("--ics", help="Also write the eclipses to this calendar file (RFC 5545).")
+        Path | None, typer.Option("--ics", help="Also write to this calendar file (RFC 5545) the eclipses some "
+                                                "site can see (the Moon up at a contact).")
     ] = None,
+    site: CalendarSiteOption = None,
+    penumbral: Annotated[bool, typer.Option("--penumbral", help="Put penumbral eclipses in the calendar too.")] = False,
     convention: ConventionOption = "danjon",
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
@@ -62,7 +67,8 @@ def plan_eclipses(
     plan = plan_eclipses(c, start, end, convention)
     data = eclipse_plan_to_json(plan)
     if ics is not None:
-        write_atomic(ics, eclipses_ics(plan), inputs=campaign_inputs(c))
+        check_site_id(c, site)
+        write_atomic(ics, eclipses_ics(plan, site=site, penumbral=penumbral), inputs=campaign_inputs(c))
     if json_output:
         print_json(data)
     else:

@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -16,6 +17,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     print_json,
@@ -50,6 +52,7 @@ def plan_phases(
         Path | None,
         typer.Option("--ics", help="Write a calendar (RFC 5545): for each ranked quarter and site, the window nearest its half moon."),
     ] = None,
+    site: CalendarSiteOption = None,
     json_output: JsonOption = False,
 ) -> None:
     """First and last quarters: quadrature, the true half moon, and when Sun and Moon are both up.
@@ -66,7 +69,8 @@ def plan_phases(
     settings = PlanSettings(min_altitude_deg=min_altitude_deg, min_sun_elongation_deg=min_sun_elongation_deg, half_span_h=span_h)
     plan = plan_phases(campaign, date_from, date_to, settings)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(plan), inputs=campaign_inputs(plan.campaign))
+        check_site_id(plan.campaign, site)
+        write_atomic(ics, calendar_bytes(plan, site), inputs=campaign_inputs(plan.campaign))
     data = phase_plan_to_json(plan)
     if json_output:
         print_json(data)

@@ -9,6 +9,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -17,6 +18,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     parse_date,
@@ -29,6 +31,7 @@ from firstrung.cli.common import (
     terminal_text,
     write_simulated,
 )
+from firstrung.numbers import plural
 
 
 def register_plan(group: typer.Typer) -> None:
@@ -56,6 +59,7 @@ def plan_shadows(
     ics: Annotated[
         Path | None, typer.Option("--ics", help="Write the best days (--top) to this calendar file (RFC 5545).")
     ] = None,
+    site: CalendarSiteOption = None,
     json_output: JsonOption = False,
 ) -> None:
     """Rank the days of a range by the precision of the Earth's radius they allow.
@@ -82,14 +86,15 @@ def plan_shadows(
     run = run_plan_shadows(campaign, parse_date("--from", date_from), parse_date("--to", date_to), constraints)
     days = chosen_days(run.plan, top)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(run, days), inputs=campaign_inputs(run.campaign))
+        check_site_id(run.campaign, site)
+        write_atomic(ics, calendar_bytes(run, days, site), inputs=campaign_inputs(run.campaign))
     if json_output:  # the JSON of every day and site only when it is printed
         print_json(shadow_plan_to_json(run))
         return
-    _render(run, days, SOLAR_CAUTION, ics)
+    _render(run, days, SOLAR_CAUTION, ics, site)
 
 
-def _render(run, days, caution: str, ics) -> None:
+def _render(run, days, caution: str, ics, site=None) -> None:
     from rich import box
     from rich.markup import escape
     from rich.table import Table
@@ -144,7 +149,8 @@ def _render(run, days, caution: str, ics) -> None:
         for k, v in sorted(reasons.items()):
             out.print(f"    {k}: {v} {'day' if v == 1 else 'days'}")
     if ics is not None:
-        out.print(f"  calendar written: {escape(str(ics))} ({len(days)} days x {len(plan.sites)} sites)")
+        out.print(f"  calendar written: {escape(str(ics))} ({plural(len(days), 'day')} x "
+                  f"{plural(1 if site else len(plan.sites), 'site')})")
     out.print(f"  Caution: {caution}")
 
 
