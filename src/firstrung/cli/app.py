@@ -30,7 +30,7 @@ TOP_LEVEL_HELP = {
     "ladder": ("ladder", "Earth's radius -> the Moon's distance -> the Sun's distance -> the sizes of Moon and Sun."),
     "report": ("report", "Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."),
     "serve": ("serve", "Collect readings on line: a form per log for each site's link, the check's verdict at once."),
-    "sheet": ("sheet", "A printable noon-shadow field sheet for one site and day, with the predicted readings."),
+    "sheet": ("sheet", "A printable noon-shadow field sheet (one page) for one site and day, with the times to read."),
     "blank-sheets": ("sheet", "Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."),
 }
 

@@ -72,7 +72,7 @@ def plan_eclipses(
     if json_output:
         print_json(data)
     else:
-        render_plan(data, verbose)
+        render_plan(data, verbose, {site.id: site.timezone for site in c.sites})
         if ics is not None:
             from rich.markup import escape
 
@@ -99,12 +99,36 @@ def _fmt_time(text: str | None) -> str:
     return "" if not text else text[11:19]
 
 
-def render_plan(data: dict, verbose: bool) -> None:
-    """Rich tables for an eclipse plan."""
+#: What each contact is, in words, for the night's timeline.
+EVENT_WORDS = {
+    "P1": "penumbra touches the Moon (hard to see)",
+    "U1": "umbra touches the Moon: partial phase begins",
+    "U2": "Moon wholly in the umbra: totality begins",
+    "greatest": "greatest eclipse",
+    "U3": "totality ends",
+    "U4": "umbra leaves the Moon: partial phase ends",
+    "P4": "penumbra leaves the Moon",
+}
+
+
+def _local_clock(utc_text: str, zone: str | None) -> str:
+    """HH:MM:SS on the site's clock (or UTC), with the day when it differs from the UTC date."""
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    t = dt.datetime.fromisoformat(utc_text.replace("Z", "+00:00"))
+    local = t.astimezone(ZoneInfo(zone)) if zone else t
+    return local.strftime("%H:%M:%S") + ("" if local.date() == t.date() else f" ({local.strftime('%m-%d')})")
+
+
+def render_plan(data: dict, verbose: bool, zones: dict | None = None) -> None:
+    """The eclipse plan: one line per eclipse, then each ranked eclipse's night at every site as a
+    timeline in the site's own clock time, with the Moon's and the Sun's altitudes."""
     from rich import box
     from rich.markup import escape
     from rich.table import Table
 
+    zones = zones or {}
     out = console()
     out.print(
         f"[bold]{escape(data['campaign'])}[/bold]: lunar eclipses {data['from']} to {data['to']} "
@@ -113,39 +137,41 @@ def render_plan(data: dict, verbose: bool) -> None:
     if not data["eclipses"]:
         out.print("  no lunar eclipse in this range")
         return
-    table = Table(box=box.SIMPLE_HEAD, title="Eclipses (umbral contacts, UTC; P1/P4 with --json and per site)",
-                  pad_edge=False, padding=(0, 1))
-    for col in ("#", "date", "kind", "mag.", "total", "U1", "U2", "greatest", "U3", "U4"):
-        table.add_column(col, justify="right" if col not in ("date", "kind") else "left", no_wrap=True,
-                         min_width=8 if col in ("U1", "U2", "greatest", "U3", "U4") else None)
+    table = Table(box=box.SIMPLE_HEAD, title="Lunar eclipses of the range")
+    for col, just in (("rank", "right"), ("date", "left"), ("kind", "left"), ("umbral magnitude", "right"),
+                      ("totality", "right"), ("greatest (UTC)", "right"), ("sites that can time it", "left")):
+        table.add_column(col, justify=just)
     for e in data["eclipses"]:
-        c = e["contacts_utc"]
         tot = e["durations_min"]["total"]
+        able = [sid for sid, per in e["sites"].items() if per.get("timeable_contacts")]
         table.add_row(
             "-" if e["rank"] is None else str(e["rank"]), e["date"], e["kind"], f"{e['umbral_magnitude']:.3f}",
-            "" if tot is None else f"{tot:.0f} min", *(_fmt_time(c.get(k)) for k in ("U1", "U2")),
-            _fmt_time(e["greatest_utc"]), *(_fmt_time(c.get(k)) for k in ("U3", "U4")),
+            "" if tot is None else f"{tot:.0f} min", _fmt_time(e["greatest_utc"]),
+            ", ".join(escape(a) for a in able) or "none",
         )
     out.print(table)
     for e in data["eclipses"]:
         if e["rank"] is None and not verbose:
             continue
-        view = Table(box=box.SIMPLE_HEAD, title=f"{e['date']} {e['kind']}: Moon altitude (deg) / Sun altitude (deg) at each contact; * = timeable in darkness")
-        view.add_column("site", no_wrap=True)
+        out.print(f"\n[bold]The night of the {e['kind']} eclipse of {e['date']}[/bold], site by site "
+                  f"(the site's clock time; altitudes in degrees)")
         names = [k for k in ("P1", "U1", "U2", "greatest", "U3", "U4", "P4") if k == "greatest" or k in e["contacts_utc"]]
-        for k in names:
-            view.add_column(k, justify="right", no_wrap=True)
         for sid, per in e["sites"].items():
-            cells = []
+            zone = zones.get(sid)
+            view = Table(box=box.SIMPLE_HEAD, title=f"{sid} ({zone or 'UTC'})", title_justify="left")
+            for col, just in (("clock", "right"), ("event", "left"), ("what happens", "left"), ("Moon", "right"),
+                              ("Sun", "right"), ("can be timed", "left")):
+                view.add_column(col, justify=just)
             for k in names:
                 x = per.get(k)
+                t = e["greatest_utc"] if k == "greatest" else e["contacts_utc"][k]
                 if x is None:
-                    cells.append("")
                     continue
-                mark = "*" if x["timeable"] else " "
-                cells.append(f"{x['moon_altitude_deg']:+.0f}/{x['sun_altitude_deg']:+.0f}{mark}")
-            view.add_row(escape(sid), *cells)
-        out.print(view)
+                why = "yes" if x["timeable"] else ("Moon below the horizon" if not x["moon_up"] else
+                                                    "sky too bright" if not x["dark"] else "no")
+                view.add_row(_local_clock(t, zone), k, EVENT_WORDS[k], f"{x['moon_altitude_deg']:+.0f}",
+                             f"{x['sun_altitude_deg']:+.0f}", why if k != "greatest" else "")
+            out.print(view)
         if e["excluded"]:
             out.print("  not ranked: " + "; ".join(e["excluded"]))
     left = [e for e in data["eclipses"] if e["rank"] is None]
