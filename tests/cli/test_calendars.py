@@ -6,7 +6,6 @@ import json
 from pathlib import Path
 
 import icalendar
-
 from tests.helpers import run_cli
 
 EXAMPLE = Path(__file__).resolve().parents[2] / "examples" / "campaign.toml"

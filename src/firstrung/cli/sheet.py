@@ -35,12 +35,21 @@ def sheet(
     date: Annotated[str, typer.Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
     output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
-    blind: Annotated[bool, typer.Option("--blind", help="Leave the predicted shadow lengths off the sheet.")] = False,
+    blind: Annotated[bool, typer.Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
+    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows) or eclipse (a lunar eclipse night).")] = "shadows",
 ) -> None:
     """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
 
     Refused on a day the Sun does not rise at noon; a warning when it is under 10° high.
+    With --kind eclipse: the site's contacts in local time, the Moon's altitude, and craters to time.
     """
+    if kind not in ("shadows", "eclipse"):
+        from firstrung.errors import InputError
+
+        raise InputError(f"--kind: expected shadows or eclipse, got {kind!r}")
+    if kind == "eclipse":
+        _eclipse_sheet(campaign, site, date, output, paper, blind)
+        return
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
     from firstrung.methods.shadows.commands import parse_date
@@ -62,6 +71,18 @@ def sheet(
     from rich.markup import escape
 
     console().print(f"field sheet written: {escape(str(output))}")
+
+
+def _eclipse_sheet(campaign, site, date, output, paper, blind) -> None:
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.eclipse.sheet import render_eclipse_sheet
+    from firstrung.methods.shadows.commands import parse_date
+    from firstrung.output import write_atomic
+
+    c = read_campaign(campaign)
+    html = render_eclipse_sheet(c.name, c.site(site), parse_date("--date", date), _paper(paper), blind=blind)
+    write_atomic(output, html, inputs=[campaign, *c.logs.get("eclipse", ())])
+    console().print(f"field sheet written: {output}")
 
 
 def blank_sheets(
