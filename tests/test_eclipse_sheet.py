@@ -75,3 +75,23 @@ def test_eclipse_sheet_prints_on_one_page(tmp_path, capsys, monkeypatch):
                     f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
                     html.as_uri()], capture_output=True, timeout=120, check=False)
     assert len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes())) == 1
+
+
+def test_half_moon_sheet_gives_the_sites_half_moon_in_its_clock_time(tmp_path, capsys, monkeypatch):
+    code, out, err = run_cli(["plan", "phases", EXAMPLE, "--from", "2027-03-13", "--to", "2027-03-17", "--json"],
+                             capsys, monkeypatch)
+    assert code == 0, err
+    here = json.loads(out)["quarters"][0]["sites"]["lowmead"]
+    sheet = tmp_path / "p.html"
+    code, out, err = run_cli(["sheet", EXAMPLE, "--kind", "phases", "--site", "lowmead", "--date", "2027-03-15",
+                              "-o", sheet], capsys, monkeypatch)
+    assert code == 0, err
+    text = sheet.read_text()
+    parse(text)
+    # Europe/Zurich (UTC+1 in March, before the change to summer time) through zoneinfo
+    t = dt.datetime.fromisoformat(here["dichotomy_utc"].replace("Z", "+00:00")).astimezone(ZoneInfo("Europe/Zurich"))
+    assert t.strftime("%Y-%m-%d %H:%M") in text and "47.8000° N" in text
+    assert "never sight the Sun" in text
+    code, out, err = run_cli(["sheet", EXAMPLE, "--kind", "phases", "--site", "lowmead", "--date", "2027-03-15",
+                              "-o", sheet, "--blind"], capsys, monkeypatch)
+    assert code == 0 and t.strftime("%Y-%m-%d %H:%M") not in sheet.read_text()

@@ -36,19 +36,20 @@ def sheet(
     output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
     blind: Annotated[bool, typer.Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
-    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows) or eclipse (a lunar eclipse night).")] = "shadows",
+    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night) or phases (a half moon).")] = "shadows",
 ) -> None:
     """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
 
     Refused on a day the Sun does not rise at noon; a warning when it is under 10° high.
-    With --kind eclipse: the site's contacts in local time, the Moon's altitude, and craters to time.
+    With --kind eclipse: the site's contacts in local time, the Moon's altitude, and craters to time;
+    with --kind phases: the site's true half moon and its windows with Sun and Moon both up.
     """
-    if kind not in ("shadows", "eclipse"):
+    if kind not in ("shadows", "eclipse", "phases"):
         from firstrung.errors import InputError
 
-        raise InputError(f"--kind: expected shadows or eclipse, got {kind!r}")
-    if kind == "eclipse":
-        _eclipse_sheet(campaign, site, date, output, paper, blind)
+        raise InputError(f"--kind: expected shadows, eclipse or phases, got {kind!r}")
+    if kind != "shadows":
+        _event_sheet(kind, campaign, site, date, output, paper, blind)
         return
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
@@ -73,15 +74,22 @@ def sheet(
     console().print(f"field sheet written: {escape(str(output))}")
 
 
-def _eclipse_sheet(campaign, site, date, output, paper, blind) -> None:
+def _event_sheet(kind, campaign, site, date, output, paper, blind) -> None:
     from firstrung.campaign import read_campaign
-    from firstrung.methods.eclipse.sheet import render_eclipse_sheet
     from firstrung.methods.shadows.commands import parse_date
     from firstrung.output import write_atomic
 
     c = read_campaign(campaign)
-    html = render_eclipse_sheet(c.name, c.site(site), parse_date("--date", date), _paper(paper), blind=blind)
-    write_atomic(output, html, inputs=[campaign, *c.logs.get("eclipse", ())])
+    day = parse_date("--date", date)
+    if kind == "eclipse":
+        from firstrung.methods.eclipse.sheet import render_eclipse_sheet
+
+        html = render_eclipse_sheet(c.name, c.site(site), day, _paper(paper), blind=blind)
+    else:
+        from firstrung.methods.phases.sheet import render_phases_sheet
+
+        html = render_phases_sheet(c, c.site(site), day, _paper(paper), blind=blind)
+    write_atomic(output, html, inputs=[campaign, *[p for paths in c.logs.values() for p in paths]])
     console().print(f"field sheet written: {output}")
 
 
