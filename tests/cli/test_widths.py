@@ -34,6 +34,7 @@ def commands(campaign: Path) -> list[list[str]]:
         ["plan", "shadows", c, "--from", "2027-03-01", "--to", "2027-04-30"],
         ["plan", "eclipses", c, "--from", "2028-01-01", "--to", "2029-12-31"],
         ["plan", "phases", c, "--from", "2027-03-01", "--to", "2027-04-30"],
+        ["plan", "transit", c, "--from", "2032-01-01", "--to", "2032-12-31"],
         ["reduce", "shadows", c],
         ["reduce", "eclipse", c],
         ["reduce", "phases", c],

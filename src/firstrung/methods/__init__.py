@@ -90,9 +90,10 @@ REGISTRY: tuple[Method, ...] = (
     ),
     Method(
         "transit", "transits",
-        "transits", "Transits of Mercury and Venus: geocentric contacts, and each site's contacts and Sun altitude.",
+        "transit", "Transits of Mercury and Venus: geocentric contacts, and each site's contacts and Sun altitude.",
         "transit", "The solar parallax and the Sun's distance from timed contacts of a transit.",
         "transit", "Transit logs: C1-C4 at every site of every transit of the range where the Sun is up.",
+        aliases=("transits",),
     ),
 )
 
