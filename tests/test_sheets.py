@@ -236,3 +236,11 @@ def test_a_shadow_sheet_prints_on_one_page(args, polar_campaign, tmp_path, capsy
                     html.as_uri()], capture_output=True, timeout=120, check=False)
     assert pdf.read_bytes()[:5] == b"%PDF-"
     assert len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes())) == 1
+
+
+def test_a_pdf_output_is_refused_in_one_clear_line(tmp_path, capsys, monkeypatch):
+    camp = ROOT / "examples" / "campaign.toml"
+    for args in (["sheet", camp, "--site", "fjell", "--date", "2027-03-20"], ["report", camp, "--samples", "1000"]):
+        code, out, err = run([*args, "-o", tmp_path / "x.pdf"], capsys, monkeypatch)
+        assert code == 2 and "not PDF" in err and "x.html" in err and len(err.strip().splitlines()) == 1
+        assert not (tmp_path / "x.pdf").exists()

@@ -54,6 +54,15 @@ def check_site_id(campaign, site: str | None) -> None:
         campaign.site(site)
 
 
+def html_output(path: Path, option: str = "-o", suffix: str = ".html") -> None:
+    """Refuse, in one clear line, a PDF output: firstrung writes documents made to print, not PDF."""
+    from firstrung.errors import InputError
+
+    if path.suffix.lower() == ".pdf":
+        raise InputError(f"{option} {path}: firstrung writes {suffix[1:].upper()} made to print, not PDF; write "
+                         f"{path.with_suffix(suffix)} and print it to PDF from a browser")
+
+
 def fail(message: str, status: int = 2) -> typer.Exit:
     """Print one line on stderr and give the exit to raise."""
     print(f"firstrung: {terminal_text(str(message), one_line=True)}", file=sys.stderr)

@@ -8,7 +8,7 @@ from typing import Annotated
 
 import typer
 
-from firstrung.cli.common import CampaignArgument, console, handles_errors
+from firstrung.cli.common import CampaignArgument, console, handles_errors, html_output
 
 PaperOption = Annotated[str, typer.Option("--paper", help="Page size for printing: a4 or letter.")]
 
@@ -44,6 +44,7 @@ def sheet(
     With --kind eclipse: the site's contacts in local time, the Moon's altitude, and craters to time;
     with --kind phases: the site's true half moon and its windows with Sun and Moon both up.
     """
+    html_output(output)
     if kind not in ("shadows", "eclipse", "phases"):
         from firstrung.errors import InputError
 
