@@ -98,7 +98,7 @@ def test_twelve_sites_never_cut_a_value_nor_drop_a_site(width, twelve_sites, cap
             # every site's noon column reachable, however narrow the terminal
             for i in range(1, 13):
                 assert f"site{i:02d}" in out, (width, i)
-            assert "2027-03-06" in out  # the best day of this campaign, whole
+            assert len(re.findall(r"\b2027-0[34]-\d\d\b", out)) >= 10  # the ten best days, whole
         if args[:2] == ["plan", "eclipses"]:
             assert "U4" in out and "00:28:42" in out  # 2029-12-20's U4 (whole, never 00:28:4)
 

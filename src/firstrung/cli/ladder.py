@@ -67,7 +67,7 @@ def format_value(m: dict | None, unit: str, space: str = "") -> tuple[str, str]:
         low = "no lower bound" if m["low"] is None else bound(m["low"])
         high = "no upper bound" if m["high"] is None else bound(m["high"])
         if m["value"] is None:
-            return ("unbounded" if m["low"] is None else f"> {low}"), f"{low} to {high}"
+            return ("unbounded" if m["low"] is None else f">{low}"), f"{low} to {high}"
         return bound(m["value"]), f"{low} to {high}"
     return rounded(m["value"], m["low"], m["high"], space=space)
 

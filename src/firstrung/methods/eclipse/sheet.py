@@ -70,7 +70,8 @@ def _clock(t, zone: str | None) -> str:
 
     if t is None or np.isnat(t):
         return "—"
-    aware = np.datetime64(t, "s").astype(dt.datetime).replace(tzinfo=dt.UTC)
+    nearest = (np.datetime64(t, "ms") + np.timedelta64(500, "ms")).astype("datetime64[s]")  # to the nearest second
+    aware = nearest.astype(dt.datetime).replace(tzinfo=dt.UTC)
     return (aware.astimezone(ZoneInfo(zone)) if zone else aware).strftime("%H:%M:%S")
 
 
