@@ -136,3 +136,7 @@ def test_every_registered_method_provides_each_part(method):
     rehearsal = method.module("rehearsal")
     assert rehearsal.LOG_COLUMNS[0] == "site" and callable(rehearsal.rehearsal_rows)
     assert callable(method.module("rung").ladder_draws)
+    # its report section: built by its rung, laid out by its own templates
+    assert callable(method.module("rung").report_section)
+    templates = PACKAGE / "methods" / method.name / "templates"
+    assert (templates / "report.html.j2").is_file() and (templates / "report.md.j2").is_file()

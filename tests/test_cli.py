@@ -31,7 +31,7 @@ def test_version_and_help(capsys, monkeypatch):
     code, out, _ = run(["--version"], capsys, monkeypatch)
     assert code == 0 and out.strip() == "firstrung 0.1.0"
     code, out, _ = run(["reduce", "shadows", "--help"], capsys, monkeypatch)
-    assert code == 0 and "--json" in out and "--monte-carlo" in out
+    assert code == 0 and "--json" in out and "--samples" in out
 
 
 def test_reduce_shadows_json_contract_keys(example, capsys, monkeypatch):

@@ -35,7 +35,7 @@ SAMPLE_VALUES = {
 #: Per command, values that give it something to compute (an eclipse in range, ...).
 COMMAND_VALUES = {
     # The total lunar eclipse of 2025-09-07 (NASA Five Millennium Canon), seen from Europe.
-    ("plan", "eclipses"): {"--from": "2025-09-01", "--to": "2025-09-10"},
+    ("plan", "eclipse"): {"--from": "2025-09-01", "--to": "2025-09-10"},
     ("plan", "phases"): {"--from": "2027-03-01", "--to": "2027-03-31"},
     ("simulate", "shadows"): {"--from": "2027-03-20", "--to": "2027-03-20"},
 }
@@ -52,7 +52,8 @@ def registered_commands() -> list[tuple[tuple[str, ...], object]]:
     def walk(command, path: tuple[str, ...]) -> None:
         if hasattr(command, "commands"):  # a group
             for name, sub in sorted(command.commands.items()):
-                walk(sub, (*path, name))
+                if not getattr(sub, "hidden", False):  # a hidden alias runs the same command
+                    walk(sub, (*path, name))
         else:
             found.append((path, command))
 

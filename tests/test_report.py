@@ -39,7 +39,7 @@ def test_html_report_is_self_contained_escaped_and_deterministic(hostile_campaig
     assert html.count("<svg") == 5  # ladder, shadow fits, latitude line, eclipse, half moon
     assert not re.search(r'(src|href)="(https?:)?//', html)  # nothing fetched when opened
     assert "Never look at the Sun" in html and "ISO 12312-2" in html
-    assert "Error budget" in html and "limited most by" in html
+    assert "error budget" in html and "limited most by" in html
     assert "What the check found" in html and "duplicate-row" in html
     first = out_file.read_bytes()
     run(["report", hostile_campaign, "-o", out_file, "--samples", "20000"], capsys, monkeypatch)
@@ -51,11 +51,11 @@ def test_markdown_report_with_png_figures(hostile_campaign, tmp_path, capsys, mo
     code, out, err = run(["report", hostile_campaign, "-o", out_file, "--markdown", "--samples", "20000"], capsys, monkeypatch)
     assert code == 0, err
     text = out_file.read_text()
-    for name in ("ladder", "shadow_series", "latitude_line", "eclipse", "phases"):
+    for name in ("ladder", "shadows_series", "shadows_latitude", "eclipse_track", "phases_ratio"):
         png = tmp_path / f"report-{name}.png"
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
         assert f"(report-{name}.png)" in text
-    assert "| Earth's radius |" in text
+    assert "| Earth's radius (km) |" in text
 
 
 def test_report_refuses_to_overwrite_an_input(hostile_campaign, capsys, monkeypatch):

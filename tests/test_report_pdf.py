@@ -38,7 +38,7 @@ def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypa
     subprocess.run(cmd, capture_output=True, timeout=120, check=False)
     assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-"
     pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
-    assert 2 <= pages <= 12, pages
+    assert 2 <= pages <= 8, pages  # the demo's report: at most 8 A4 pages
     # every figure fits on one printed page (the print CSS keeps figures whole: break-inside: avoid)
     text = html.read_text()
     figures = re.findall(r'<svg[^>]*width="([\d.]+)pt"[^>]*height="([\d.]+)pt"', text)

@@ -85,7 +85,7 @@ def test_sheet_is_well_formed_with_predictions_and_caution():
     expected_mm = 1000.0 / np.tan(np.radians(apparent_from_true_altitude_deg(upper_limb)))
     assert pred["noon_shadow_m"] * 1000 == pytest.approx(expected_mm, abs=1.0 * MM)
     row = next(r for r in readings if r[1] == noon)
-    assert abs(float(row[2]) - pred["noon_shadow_m"] * 1000) <= 1.0 * MM
+    assert abs(float(row[2].replace(",", "")) - pred["noon_shadow_m"] * 1000) <= 1.0 * MM
 
 
 def test_letter_paper_and_blank_cells():
@@ -137,3 +137,110 @@ def test_simulated_logs_reduce_to_the_expected_radius(tmp_path, capsys, monkeypa
     assert len(r.sites) == 3 and all(len(s.series) == 2 for s in r.sites)  # two days per site
     assert abs(r.earth_radius_km.value - r.expected_radius_km) < 3 * r.earth_radius_km.sigma
     assert os.path.exists(tmp_path / "logs" / "shadows.csv")
+
+
+POLAR_CAMPAIGN = """[campaign]
+name = "Polar and southern sheets (invented)"
+
+[[site]]
+id = "polar"
+name = "Invented polar station"
+latitude_deg = 78.22
+longitude_deg = 15.65
+elevation_m = 10
+timezone = "Arctic/Longyearbyen"
+
+[site.gnomon]
+height_m = 1.0
+height_sigma_m = 0.001
+shadow_sigma_m = 0.002
+edge = "umbra"
+
+[[site]]
+id = "cape"
+name = "Invented southern school"
+latitude_deg = -33.9249
+longitude_deg = 18.4241
+elevation_m = 20
+timezone = "Africa/Johannesburg"
+
+[site.gnomon]
+height_m = 1.0
+height_sigma_m = 0.001
+shadow_sigma_m = 0.002
+edge = "umbra"
+"""
+
+
+@pytest.fixture()
+def polar_campaign(tmp_path):
+    camp = tmp_path / "campaign.toml"
+    camp.write_text(POLAR_CAMPAIGN)
+    return camp
+
+
+def test_polar_night_is_refused_and_a_low_sun_warned(polar_campaign, tmp_path, capsys, monkeypatch):
+    out_file = tmp_path / "polar.html"
+    # 78.22 N on the December solstice: the Sun's noon altitude is 90 - 78.22 - 23.44 = -11.7 deg
+    # (declination 23.44 deg S at the solstice, from memory), so there is no shadow
+    code, out, err = run(["sheet", polar_campaign, "--site", "polar", "--date", "2027-12-21", "-o", out_file],
+                         capsys, monkeypatch)
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert "does not rise" in err and "-11.7" in err and not out_file.exists()
+    # 19 October: the declination is about -9.7 deg (from memory), the Sun about 2 deg high at noon
+    code, out, err = run(["sheet", polar_campaign, "--site", "polar", "--date", "2027-10-19", "-o", out_file],
+                         capsys, monkeypatch)
+    assert code == 0, err
+    assert "warning" in err and "2.1° high" in err
+    text = out_file.read_text()
+    assert "Low Sun" in text
+    rows = [r for r in parse(text).rows if len(r) == 6 and r[0][:2].isdigit()]
+    lengths = [float(r[2].replace(",", "")) for r in rows]
+    # a 1 m gnomon with the upper limb about 2.4 deg up (refracted): 1 / tan(2.4 deg) = 23.9 m; never negative
+    assert all(20_000 < x < 30_000 for x in lengths)
+
+
+def test_blind_sheet_has_no_prediction_and_southern_latitudes_read_south(polar_campaign, tmp_path, capsys, monkeypatch):
+    out_file = tmp_path / "cape.html"
+    code, out, err = run(["sheet", polar_campaign, "--site", "cape", "--date", "2027-03-20", "-o", out_file,
+                          "--blind"], capsys, monkeypatch)
+    assert code == 0, err
+    text = out_file.read_text()
+    assert "33.9249° S" in text and "-33.9249" not in text
+    assert "predicted shadow (mm)" not in text and " mm long at noon" not in text
+    rows = [r for r in parse(text).rows if r and r[0][:2].isdigit()]
+    assert len(rows) == 31 and all(len(r) == 5 for r in rows)
+    code, out, err = run(["sheet", polar_campaign, "--site", "cape", "--date", "2027-03-20", "-o", out_file],
+                         capsys, monkeypatch)
+    assert "predicted shadow (mm)" in out_file.read_text()
+
+
+BROWSER = __import__("shutil").which("chromium") or __import__("shutil").which("chromium-browser")
+
+
+@pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
+@pytest.mark.parametrize("args", [["--site", "cape", "--date", "2027-03-20"],
+                                  ["--site", "polar", "--date", "2027-10-19"],
+                                  ["--site", "cape", "--date", "2027-03-20", "--paper", "letter"]])
+def test_a_shadow_sheet_prints_on_one_page(args, polar_campaign, tmp_path, capsys, monkeypatch):
+    import re
+    import subprocess
+
+    html = tmp_path / "sheet.html"
+    code, out, err = run(["sheet", polar_campaign, *args, "-o", html], capsys, monkeypatch)
+    assert code == 0, err
+    pdf = tmp_path / "sheet.pdf"
+    subprocess.run([BROWSER, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+                    "--disable-background-networking", "--disable-component-update", "--disable-sync",
+                    f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
+                    html.as_uri()], capture_output=True, timeout=120, check=False)
+    assert pdf.read_bytes()[:5] == b"%PDF-"
+    assert len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes())) == 1
+
+
+def test_a_pdf_output_is_refused_in_one_clear_line(tmp_path, capsys, monkeypatch):
+    camp = ROOT / "examples" / "campaign.toml"
+    for args in (["sheet", camp, "--site", "fjell", "--date", "2027-03-20"], ["report", camp, "--samples", "1000"]):
+        code, out, err = run([*args, "-o", tmp_path / "x.pdf"], capsys, monkeypatch)
+        assert code == 2 and "not PDF" in err and "x.html" in err and len(err.strip().splitlines()) == 1
+        assert not (tmp_path / "x.pdf").exists()

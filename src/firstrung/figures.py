@@ -86,57 +86,87 @@ NAMED_SITES = 30
 
 
 def latitude_line_figure(position_km, latitude_deg, sigma_deg, names, outlier, intercept_deg, slope_deg_per_km):
-    """Astronomical latitude against north-south position, with the fitted line and named outliers."""
+    """Astronomical latitude against north-south position with the fitted line, and below it each
+    site's residual from the line in arcminutes, where its error bar (1 sigma) is visible."""
     plt = _plt()
     x = np.asarray(position_km, float)
     y = np.asarray(latitude_deg, float)
     s = np.asarray(sigma_deg, float)
     out = np.asarray(outlier, bool)
-    fig, ax = plt.subplots(figsize=(7.0, 3.6))
-    ax.errorbar(x[~out] - x.min(), y[~out], yerr=s[~out], fmt="o", ms=4, capsize=2, label="sites")
+    x0 = x - x.min()
+    fig, (ax, rx) = plt.subplots(2, 1, figsize=(7.0, 4.2), sharex=True, gridspec_kw={"height_ratios": [3, 2]})
+    ax.plot(x0[~out], y[~out], "o", ms=4, color="C0", label="sites (astronomical latitude)")
     if out.any():
-        ax.errorbar(x[out] - x.min(), y[out], yerr=s[out], fmt="x", ms=6, color="C3", label="outliers (left out)")
+        ax.plot(x0[out], y[out], "x", ms=6, color="C3", label="outliers (left out of the fit)")
     grid = np.linspace(x.min(), x.max(), 50)
     ax.plot(grid - x.min(), intercept_deg + slope_deg_per_km * grid, "-", lw=1, color="0.3",
             label=f"fit: R = {1 / np.radians(slope_deg_per_km):,.0f} km")
     named = np.ones(x.size, bool) if x.size <= NAMED_SITES else out  # many sites: only the outliers named
-    for xi, yi, name in zip(x[named], y[named], np.asarray(names, dtype=object)[named], strict=True):
-        ax.annotate(name, (xi - x.min(), yi), textcoords="offset points", xytext=(4, 4), fontsize=7)
-    ax.set_xlabel("north-south distance from the southernmost site (km)")
-    ax.set_ylabel("astronomical latitude (deg)")
+    for xi, yi, name in zip(x0[named], y[named], np.asarray(names, dtype=object)[named], strict=True):
+        ax.annotate(name, (xi, yi), textcoords="offset points", xytext=(4, -10), fontsize=7)
+    ax.set_ylabel("latitude (deg)")
     ax.set_title("Latitude from the Sun against distance along the meridian")
-    ax.legend(fontsize=7)
+    ax.legend(fontsize=7, loc="upper left")
+    resid = (y - (intercept_deg + slope_deg_per_km * x)) * 60.0
+    rx.errorbar(x0[~out], resid[~out], yerr=s[~out] * 60.0, fmt="o", ms=4, capsize=3, color="C0",
+                label="residual ± 1 sigma")
+    if out.any():
+        rx.errorbar(x0[out], resid[out], yerr=s[out] * 60.0, fmt="x", ms=6, capsize=3, color="C3")
+    rx.axhline(0.0, color="0.3", lw=0.8)
+    rx.set_ylabel("residual (arcmin)")
+    rx.set_xlabel("north-south distance from the southernmost site (km)")
+    rx.legend(fontsize=7, loc="upper left")
+    fig.tight_layout()
     return fig
 
 
 def ladder_figure(rows: list[dict]):
-    """Each measured rung against its modern value: measured / modern with the 68 % interval."""
+    """Each measured rung against the value it is compared with: the ratio with its 68 % interval.
+
+    ``rows``: the ladder's comparison rows with a ``label``; the Sun's distance in au repeats the
+    one in km and is left out. An interval with no upper bound is drawn as an arrow, and only
+    then does the legend name arrows.
+    """
+    from matplotlib.lines import Line2D
+    from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
+
     plt = _plt()
-    rows = [r for r in rows if r["measured"] is not None]
-    fig, ax = plt.subplots(figsize=(7.0, 0.6 + 0.45 * max(len(rows), 1)))
+    rows = [r for r in rows if r["measured"] is not None and r.get("quantity") != "sun_distance_au"]
+    fig, ax = plt.subplots(figsize=(7.0, 0.9 + 0.42 * max(len(rows), 1)))
+    arrows = False
+    spans = [1.0]
     for k, r in enumerate(rows):
         m = r["measured"]
         low = m["low"] / r["modern"]
         high = (m["high"] / r["modern"]) if m["high"] is not None else None
+        spans += [low] + ([high] if high is not None else [])
         if m["value"] is not None:  # None: a lower bound only (no point, the arrow below)
-            ax.plot([m["value"] / r["modern"]], [k], "o", color="C0")
+            spans.append(m["value"] / r["modern"])
+            ax.plot([m["value"] / r["modern"]], [k], "o", color="C0", ms=5, zorder=3)
         if high is None:
-            ax.annotate("", xy=(max(2.0, low * 2), k), xytext=(low, k),
-                        arrowprops={"arrowstyle": "->", "color": "C0"})
+            arrows = True
+            ax.annotate("", xy=(max(4.0, low * 4), k), xytext=(low, k),
+                        arrowprops={"arrowstyle": "->", "color": "C0", "lw": 2})
         else:
-            ax.plot([low, high], [k, k], "-", color="C0", lw=2)
-    ax.axvline(1.0, color="0.3", lw=0.8, ls="--")
+            ax.plot([low, high], [k, k], "-", color="C0", lw=2.5)
+    ax.axvline(1.0, color="C3", lw=1, ls="--")
     ax.set_yticks(range(len(rows)))
     ax.set_yticklabels([r["label"] for r in rows])
     ax.set_ylim(-0.6, len(rows) - 0.4)
-    spans = [r["measured"]["low"] / r["modern"] for r in rows] + [
-        r["measured"]["high"] / r["modern"] for r in rows if r["measured"]["high"] is not None
-    ]
-    if spans and (min(spans) < 0.5 or max(spans) > 2.0):
-        from matplotlib.ticker import ScalarFormatter
-
+    if min(spans) < 0.5 or max(spans) > 2.0 or arrows:
         ax.set_xscale("log")
-        ax.xaxis.set_major_formatter(ScalarFormatter())
-    ax.set_xlabel("measured / modern value (68 % interval; an arrow: lower bound only)")
-    ax.set_title("The ladder against modern values")
+        lo, hi = min(spans) / 1.3, max(max(spans) * 1.3, 4.5 if arrows else 0)
+        ax.set_xlim(lo, hi)
+        ticks = [t for t in (0.25, 0.5, 0.75, 1, 1.5, 2, 3, 4, 6, 8) if lo <= t <= hi]
+        ax.xaxis.set_major_locator(FixedLocator(ticks))
+        ax.xaxis.set_minor_locator(NullLocator())
+        ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    handles = [Line2D([], [], color="C0", marker="o", lw=2.5, label="measured, with its 68 % interval"),
+               Line2D([], [], color="C3", ls="--", label="modern value for this campaign's sites and dates")]
+    if arrows:
+        handles.append(Line2D([], [], color="C0", marker=">", lw=2, label="lower bound only (no upper bound)"))
+    ax.legend(handles=handles, fontsize=7, loc="lower right")
+    ax.set_xlabel("measured / compared value (1 = agreement)")
+    ax.set_title("What the campaign measured, against what a perfect measurement gives")
+    fig.tight_layout()
     return fig

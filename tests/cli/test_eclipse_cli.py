@@ -196,5 +196,9 @@ def test_reduce_eclipse_is_deterministic_and_draws_its_figure(example, capsys, m
     fig = eclipse_figure(result)
     assert isinstance(fig, Figure)
     ax = fig.axes[0]
-    assert len(ax.collections) == 1 and len(ax.collections[0].get_offsets()) == len(result.crater_points["index"])
+    # immersions and emersions, each its own legend entry
+    assert len(ax.collections) == 2
+    assert sum(len(c.get_offsets()) for c in ax.collections) == len(result.crater_points["index"])
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert any("immersions" in x for x in labels) and any("emersions" in x for x in labels)
     assert len(ax.lines) == 3 + 4  # umbra, geometric umbra, track, the Moon's disc at U1-U4

@@ -109,7 +109,8 @@ def test_figure_is_returned_not_written():
     ax = fig.axes[0]
     assert ax.get_yscale() == "log" and ax.get_xlim()[1] == 90.0
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert "modern value 389" in labels
+    assert "modern value at these half moons: 389" in labels
+    assert "measured E = 89.800°" in labels  # every line drawn is in the legend
     fig_open = m.ratio_figure(89.85, 0.3)
     assert any("no upper bound" in t.get_text() for t in fig_open.axes[0].texts)
 

@@ -63,4 +63,25 @@ def ladder_inputs(campaign_path):
 
 def run_ladder(campaign_path, *, samples: int, seed: int) -> LadderRun:
     campaign, inputs, runs, problems, notes = ladder_inputs(campaign_path)
-    return LadderRun(campaign, climb(inputs, samples=samples, seed=seed), runs, problems, notes)
+    ladder = climb(inputs, samples=samples, seed=seed)
+    if "shadows" in runs:
+        ladder = _radius_sigma_as_reduced(ladder, runs["shadows"].reduction)
+    return LadderRun(campaign, ladder, runs, problems, notes)
+
+
+def _radius_sigma_as_reduced(ladder: Ladder, reduction) -> Ladder:
+    """The radius rung as ``reduce shadows`` states it: its value, interval and sigma apart from the
+    radius a perfect measurement at the campaign's sites gives (the rung's draw is Gaussian in 1/R, so
+    the Monte Carlo gives the same interval to within its sampling noise)."""
+    from dataclasses import replace
+
+    from firstrung.methods.shadows.comparison import EXPECTED_SOURCE, radius_z
+
+    rungs = []
+    for r in ladder.rungs:
+        if r.key == "earth_radius_km" and r.measured is not None:
+            expected = float(reduction.expected_radius_km)
+            r = replace(r, measured=reduction.earth_radius_km, modern=expected, modern_source=EXPECTED_SOURCE,
+                        ratio_to_modern=reduction.earth_radius_km.value / expected, z_score=radius_z(reduction))
+        rungs.append(r)
+    return replace(ladder, rungs=tuple(rungs))

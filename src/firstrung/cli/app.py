@@ -30,7 +30,7 @@ TOP_LEVEL_HELP = {
     "ladder": ("ladder", "Earth's radius -> the Moon's distance -> the Sun's distance -> the sizes of Moon and Sun."),
     "report": ("report", "Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."),
     "serve": ("serve", "Collect readings on line: a form per log for each site's link, the check's verdict at once."),
-    "sheet": ("sheet", "A printable noon-shadow field sheet for one site and day, with the predicted readings."),
+    "sheet": ("sheet", "A printable noon-shadow field sheet (one page) for one site and day, with the times to read."),
     "blank-sheets": ("sheet", "Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."),
 }
 
@@ -55,6 +55,18 @@ def _first_command(args) -> str | None:
         if not a.startswith("-"):
             return a
     return None
+
+
+def _add_aliases(group: typer.Typer, infos, aliases) -> None:
+    """The same commands under the method's other spellings, hidden from the help."""
+    import copy
+
+    for info in list(infos):
+        for alias in aliases:
+            if alias != info.name:
+                twin = copy.copy(info)
+                twin.name, twin.hidden = alias, True
+                group.registered_commands.append(twin)
 
 
 def build(args=None) -> typer.Typer:
@@ -91,8 +103,10 @@ def build(args=None) -> typer.Typer:
         group = typer.Typer(help=help_text, no_args_is_help=True)
         for m in REGISTRY:
             command = getattr(m, command_attr)
-            if args is None or (wanted == name and sub == command):
+            if args is None or (wanted == name and sub in (command, *m.aliases)):
+                before = len(group.registered_commands)
                 getattr(m.module("commands"), adder)(group)
+                _add_aliases(group, group.registered_commands[before:], m.aliases)
                 continue
             # listed by name and help only: the method's modules are not imported
             group.command(command, help=getattr(m, help_attr))(lambda: None)

@@ -15,6 +15,7 @@ from firstrung.cli.common import (
     handles_errors,
     print_json,
 )
+from firstrung.numbers import plural
 
 
 def register(app: typer.Typer) -> None:
@@ -95,9 +96,9 @@ def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
         out.print(f"  {hidden} more site{'s' if hidden != 1 else ''} not shown{quiet} (--verbose or --json shows all)")
     counts = data["counts"]
     out.print(
-        f"  {rows['read']} rows read, {rows['accepted']} accepted, {rows['flagged']} flagged "
-        f"({counts['errors']} errors, {counts['warnings']} warnings); reductions leave out the "
-        f"{rows['rejected']} rows with errors unless --include-flagged is given"
+        f"  {plural(rows['read'], 'row')} read, {rows['accepted']:,} accepted, {rows['flagged']:,} flagged "
+        f"({plural(counts['errors'], 'error')}, {plural(counts['warnings'], 'warning')}); reductions leave out "
+        f"the {plural(rows['rejected'], 'row')} with errors unless --include-flagged is given"
     )
     if verbose:
         out.print(f"  statistic: {data['statistic']}")

@@ -41,6 +41,28 @@ def terminal_text(text: str, *, one_line: bool = False) -> str:
     return pattern.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
 
 
+CalendarSiteOption = Annotated[
+    str | None,
+    typer.Option("--site", help="Put only this site's events in the calendar (--ics); the site id from the campaign file.",
+                 show_default=False),
+]
+
+
+def check_site_id(campaign, site: str | None) -> None:
+    """An unknown ``--site`` id is one clear error."""
+    if site is not None:
+        campaign.site(site)
+
+
+def html_output(path: Path, option: str = "-o", suffix: str = ".html") -> None:
+    """Refuse, in one clear line, a PDF output: firstrung writes documents made to print, not PDF."""
+    from firstrung.errors import InputError
+
+    if path.suffix.lower() == ".pdf":
+        raise InputError(f"{option} {path}: firstrung writes {suffix[1:].upper()} made to print, not PDF; write "
+                         f"{path.with_suffix(suffix)} and print it to PDF from a browser")
+
+
 def fail(message: str, status: int = 2) -> typer.Exit:
     """Print one line on stderr and give the exit to raise."""
     print(f"firstrung: {terminal_text(str(message), one_line=True)}", file=sys.stderr)
@@ -126,17 +148,19 @@ def _refuse_non_finite(kwargs: dict) -> None:
 
 
 def console(stderr: bool = False):
-    """A rich console; the width follows COLUMNS when set (tests fix it)."""
+    """A rich console that never cuts a table's value; the width follows COLUMNS when set (tests fix it)."""
     width = int(os.environ["COLUMNS"]) if os.environ.get("COLUMNS", "").isdigit() else None
     return _safe_console_class()(stderr=stderr, width=width, highlight=False, soft_wrap=False)
 
 
 def _safe_console_class():
-    """rich's Console whose text never carries a control character from the data (:func:`terminal_text`)."""
-    from rich.console import Console
+    """A console whose tables never cut a value (:class:`firstrung.terminal.FittingConsole`) and whose
+    text never carries a control character from the data (:func:`terminal_text`)."""
     from rich.segment import Segment
 
-    class SafeConsole(Console):
+    from firstrung.terminal import FittingConsole
+
+    class SafeConsole(FittingConsole):
         def _render_buffer(self, buffer):
             return super()._render_buffer(
                 segment if segment.control else Segment(terminal_text(segment.text), segment.style)

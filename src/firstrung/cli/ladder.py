@@ -55,17 +55,37 @@ LABELS = {
 }
 
 
-def format_value(m: dict | None, unit: str) -> tuple[str, str]:
-    """'value' and '68 % interval' cells, with sensible digits."""
+def format_value(m: dict | None, unit: str, space: str = "") -> tuple[str, str]:
+    """'value' and '68 % interval' cells, rounded to what the interval supports."""
+    from firstrung.numbers import rounded
+
     if m is None:
         return "not measured", ""
-    digits = 3 if unit == "au" else 0
-    high = "no upper bound" if m["high"] is None else f"{m['high']:,.{digits}f}"
-    low = "no lower bound" if m["low"] is None else f"{m['low']:,.{digits}f}"
-    if m["value"] is None:  # only a bound (a half moon's elongation that may reach 90 deg)
-        value = "unbounded" if m["low"] is None else f"> {m['low']:,.{digits}f}"
-        return value, f"{low} to {high}"
-    return f"{m['value']:,.{digits}f}", f"{low} to {high}"
+    if m["value"] is None or m["low"] is None:  # only a bound (a half moon's elongation may reach 90 deg)
+        def bound(x):
+            return rounded(x, x * 0.5, x * 2.0, space=space)[0]
+        low = "no lower bound" if m["low"] is None else bound(m["low"])
+        high = "no upper bound" if m["high"] is None else bound(m["high"])
+        if m["value"] is None:
+            return ("unbounded" if m["low"] is None else f">{low}"), f"{low} to {high}"
+        return bound(m["value"]), f"{low} to {high}"
+    return rounded(m["value"], m["low"], m["high"], space=space)
+
+
+def format_modern(row: dict, space: str = "") -> str:
+    """The value compared with, to the measured value's precision (or four figures)."""
+    from firstrung.numbers import rounded
+
+    m = row["measured"]
+    if m is None:
+        return rounded(row["modern"], row["modern"] * 0.9999, row["modern"] * 1.0001, space=space)[0]
+    if m["value"] is None or m["low"] is None:
+        return rounded(row["modern"], row["modern"] * 0.5, row["modern"] * 2.0, space=space)[0]
+    value, _ = rounded(m["value"], m["low"], m["high"], space=space)
+    if "×" in value:
+        return rounded(row["modern"], row["modern"] * 0.5, row["modern"] * 2.0, space=space)[0]
+    return rounded(row["modern"], row["modern"] - abs(m["value"] - m["low"]),
+                   row["modern"] + abs(m["value"] - m["low"]), space=space)[0]
 
 
 def _render(data: dict) -> None:
@@ -75,21 +95,24 @@ def _render(data: dict) -> None:
 
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: the distance ladder ({data['samples']:,} Monte Carlo draws, seed {data['seed']})")
-    t = Table(box=box.SIMPLE_HEAD, pad_edge=False, padding=(0, 1), collapse_padding=True, show_edge=False)
-    # numbers are never cut: their columns do not wrap; the names and the interval wrap at spaces
-    for col, just, wrap in (("quantity", "left", True), ("measured", "right", False), ("68 % interval", "right", True),
-                            ("unit", "left", False), ("modern", "right", False), ("measured/\nmodern", "right", False),
-                            ("sigma\napart", "right", False)):
-        t.add_column(col, justify=just, no_wrap=not wrap, min_width=11 if col == "68 % interval" else None)
+    t = Table(box=box.SIMPLE_HEAD)
+    for col, just in (("quantity", "left"), ("measured", "right"), ("68 % interval", "right"),
+                      ("compared with", "right"), ("ratio", "right"), ("sigma apart", "right")):
+        t.add_column(col, justify=just)
     for row in data["comparison"]:
         value, interval = format_value(row["measured"], row["unit"])
-        modern = f"{row['modern']:,.3f}" if row["unit"] == "au" else f"{row['modern']:,.0f}"
         t.add_row(
-            LABELS[row["quantity"]], value, interval, row["unit"], modern,
+            f"{LABELS[row['quantity']]} ({row['unit']})", value, interval, format_modern(row),
             "" if row["ratio_to_modern"] is None else f"{row['ratio_to_modern']:.3f}",
             "" if row["z_score"] is None else f"{row['z_score']:+.1f}",
         )
     out.print(t)
+    out.print("  compared with: the value a perfect measurement of this campaign gives; ratio: measured / that value")
+    said = set()
+    for row in data["comparison"]:
+        if row["measured"] is not None and row["modern_source"] not in said:
+            said.add(row["modern_source"])
+            out.print(f"  {LABELS[row['quantity']]}: {row['modern_source']}")
     for row in data["comparison"]:
         if row["note"]:
             out.print(f"  {LABELS[row['quantity']]} ({row['unit']}): {row['note']}")

@@ -11,6 +11,7 @@ from firstrung.cli.common import (
     CampaignArgument,
     console,
     handles_errors,
+    html_output,
     progress_bar,
     report_problems,
 )
@@ -35,6 +36,7 @@ def report(
     from firstrung.campaign import read_campaign
     from firstrung.output import campaign_inputs, refuse_overwriting_inputs, write_atomic
 
+    html_output(output, suffix=".md" if markdown else ".html")
     camp = read_campaign(campaign)
     inputs = campaign_inputs(camp)
     refuse_overwriting_inputs(output, inputs)

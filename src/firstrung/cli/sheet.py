@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 from typing import Annotated
 
 import typer
 
-from firstrung.cli.common import CampaignArgument, console, handles_errors
+from firstrung.cli.common import CampaignArgument, console, handles_errors, html_output
 
 PaperOption = Annotated[str, typer.Option("--paper", help="Page size for printing: a4 or letter.")]
 
@@ -34,13 +35,28 @@ def sheet(
     date: Annotated[str, typer.Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
     output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
+    blind: Annotated[bool, typer.Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
+    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night) or phases (a half moon).")] = "shadows",
 ) -> None:
-    """A printable noon-shadow field sheet for one site and day, with the predicted readings."""
+    """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
+
+    Refused on a day the Sun does not rise at noon; a warning when it is under 10° high.
+    With --kind eclipse: the site's contacts in local time, the Moon's altitude, and craters to time;
+    with --kind phases: the site's true half moon and its windows with Sun and Moon both up.
+    """
+    html_output(output)
+    if kind not in ("shadows", "eclipse", "phases"):
+        from firstrung.errors import InputError
+
+        raise InputError(f"--kind: expected shadows, eclipse or phases, got {kind!r}")
+    if kind != "shadows":
+        _event_sheet(kind, campaign, site, date, output, paper, blind)
+        return
     from firstrung.campaign import read_campaign
     from firstrung.errors import InputError
     from firstrung.methods.shadows.commands import parse_date
     from firstrung.methods.shadows.plan import plan_sites
-    from firstrung.methods.shadows.sheet import render_shadow_sheet
+    from firstrung.methods.shadows.sheet import render_shadow_sheet, sheet_warning
     from firstrung.output import campaign_inputs, write_atomic
 
     c = read_campaign(campaign)
@@ -48,11 +64,34 @@ def sheet(
     sites = {s.id: s for s in plan_sites(c)[0]}
     if site not in sites:
         raise InputError(f"--site: site '{site}' has no [site.gnomon] in the campaign file", file=str(campaign))
-    html = render_shadow_sheet(c.name, sites[site], parse_date("--date", date), _paper(paper))
+    day = parse_date("--date", date)
+    _, warning = sheet_warning(sites[site], day)
+    html = render_shadow_sheet(c.name, sites[site], day, _paper(paper), blind=blind)
     write_atomic(output, html, inputs=campaign_inputs(c))
+    if warning:
+        print(f"firstrung: warning: {warning}", file=sys.stderr)
     from rich.markup import escape
 
     console().print(f"field sheet written: {escape(str(output))}")
+
+
+def _event_sheet(kind, campaign, site, date, output, paper, blind) -> None:
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.shadows.commands import parse_date
+    from firstrung.output import write_atomic
+
+    c = read_campaign(campaign)
+    day = parse_date("--date", date)
+    if kind == "eclipse":
+        from firstrung.methods.eclipse.sheet import render_eclipse_sheet
+
+        html = render_eclipse_sheet(c.name, c.site(site), day, _paper(paper), blind=blind)
+    else:
+        from firstrung.methods.phases.sheet import render_phases_sheet
+
+        html = render_phases_sheet(c, c.site(site), day, _paper(paper), blind=blind)
+    write_atomic(output, html, inputs=[campaign, *[p for paths in c.logs.values() for p in paths]])
+    console().print(f"field sheet written: {output}")
 
 
 def blank_sheets(

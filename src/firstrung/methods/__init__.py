@@ -53,6 +53,9 @@ class Method:
     reduce_help: str
     simulate_command: str
     simulate_help: str
+    #: Other spellings that reach the same commands in every group, hidden from the help
+    #: (the Contract's ``plan eclipses`` beside ``reduce eclipse``).
+    aliases: tuple[str, ...] = ()
 
     @property
     def package(self) -> str:
@@ -74,9 +77,10 @@ REGISTRY: tuple[Method, ...] = (
     ),
     Method(
         "eclipse", "eclipse",
-        "eclipses", "Lunar eclipses from --from to --to: contacts, and each site's Moon and Sun at each contact.",
+        "eclipse", "Lunar eclipses from --from to --to: contacts, and each site's Moon and Sun at each contact.",
         "eclipse", "The shadow/Moon ratio and the Moon's distance from umbral contacts and crater timings.",
         "eclipse", "Eclipse logs: umbral contacts and crater timings of every eclipse each site can time in the dark.",
+        aliases=("eclipses",),
     ),
     Method(
         "phases", "phases",
@@ -86,9 +90,10 @@ REGISTRY: tuple[Method, ...] = (
     ),
     Method(
         "transit", "transits",
-        "transits", "Transits of Mercury and Venus: geocentric contacts, and each site's contacts and Sun altitude.",
+        "transit", "Transits of Mercury and Venus: geocentric contacts, and each site's contacts and Sun altitude.",
         "transit", "The solar parallax and the Sun's distance from timed contacts of a transit.",
         "transit", "Transit logs: C1-C4 at every site of every transit of the range where the Sun is up.",
+        aliases=("transits",),
     ),
 )
 
@@ -97,7 +102,7 @@ def method(name: str) -> Method:
     """The registry's entry of one method, by name.
 
     >>> method("eclipse").plan_command
-    'eclipses'
+    'eclipse'
     """
     for m in REGISTRY:
         if m.name == name:

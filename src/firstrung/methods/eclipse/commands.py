@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -16,6 +17,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     print_json,
@@ -35,8 +37,8 @@ ConventionOption = Annotated[
 
 
 def register_plan(group: typer.Typer) -> None:
-    """Add ``eclipses`` to the ``plan`` group."""
-    group.command("eclipses")(handles_errors(plan_eclipses))
+    """Add ``eclipse`` to the ``plan`` group (``plan eclipses`` reaches it too: the registry's alias)."""
+    group.command("eclipse")(handles_errors(plan_eclipses))
 
 
 def plan_eclipses(
@@ -44,8 +46,11 @@ def plan_eclipses(
     date_from: Annotated[str, typer.Option("--from", help="First date (YYYY-MM-DD, UTC).", show_default=False)],
     date_to: Annotated[str, typer.Option("--to", help="Last date (YYYY-MM-DD, UTC).", show_default=False)],
     ics: Annotated[
-        Path | None, typer.Option("--ics", help="Also write the eclipses to this calendar file (RFC 5545).")
+        Path | None, typer.Option("--ics", help="Also write to this calendar file (RFC 5545) the eclipses some "
+                                                "site can see (the Moon up at a contact).")
     ] = None,
+    site: CalendarSiteOption = None,
+    penumbral: Annotated[bool, typer.Option("--penumbral", help="Put penumbral eclipses in the calendar too.")] = False,
     convention: ConventionOption = "danjon",
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
@@ -62,11 +67,12 @@ def plan_eclipses(
     plan = plan_eclipses(c, start, end, convention)
     data = eclipse_plan_to_json(plan)
     if ics is not None:
-        write_atomic(ics, eclipses_ics(plan), inputs=campaign_inputs(c))
+        check_site_id(c, site)
+        write_atomic(ics, eclipses_ics(plan, site=site, penumbral=penumbral), inputs=campaign_inputs(c))
     if json_output:
         print_json(data)
     else:
-        render_plan(data, verbose)
+        render_plan(data, verbose, {site.id: site.timezone for site in c.sites})
         if ics is not None:
             from rich.markup import escape
 
@@ -93,12 +99,36 @@ def _fmt_time(text: str | None) -> str:
     return "" if not text else text[11:19]
 
 
-def render_plan(data: dict, verbose: bool) -> None:
-    """Rich tables for an eclipse plan."""
+#: What each contact is, in words, for the night's timeline.
+EVENT_WORDS = {
+    "P1": "penumbra touches the Moon (hard to see)",
+    "U1": "umbra touches the Moon: partial phase begins",
+    "U2": "Moon wholly in the umbra: totality begins",
+    "greatest": "greatest eclipse",
+    "U3": "totality ends",
+    "U4": "umbra leaves the Moon: partial phase ends",
+    "P4": "penumbra leaves the Moon",
+}
+
+
+def _local_clock(utc_text: str, zone: str | None) -> str:
+    """HH:MM:SS on the site's clock (or UTC), with the day when it differs from the UTC date."""
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    t = dt.datetime.fromisoformat(utc_text.replace("Z", "+00:00"))
+    local = t.astimezone(ZoneInfo(zone)) if zone else t
+    return local.strftime("%H:%M:%S") + ("" if local.date() == t.date() else f" ({local.strftime('%m-%d')})")
+
+
+def render_plan(data: dict, verbose: bool, zones: dict | None = None) -> None:
+    """The eclipse plan: one line per eclipse, then each ranked eclipse's night at every site as a
+    timeline in the site's own clock time, with the Moon's and the Sun's altitudes."""
     from rich import box
     from rich.markup import escape
     from rich.table import Table
 
+    zones = zones or {}
     out = console()
     out.print(
         f"[bold]{escape(data['campaign'])}[/bold]: lunar eclipses {data['from']} to {data['to']} "
@@ -107,44 +137,47 @@ def render_plan(data: dict, verbose: bool) -> None:
     if not data["eclipses"]:
         out.print("  no lunar eclipse in this range")
         return
-    table = Table(box=box.SIMPLE_HEAD, title="Eclipses (umbral contacts, UTC; P1/P4 with --json and per site)",
-                  pad_edge=False, padding=(0, 1))
-    for col in ("#", "date", "kind", "mag.", "total", "U1", "U2", "greatest", "U3", "U4"):
-        table.add_column(col, justify="right" if col not in ("date", "kind") else "left", no_wrap=True,
-                         min_width=8 if col in ("U1", "U2", "greatest", "U3", "U4") else None)
+    table = Table(box=box.SIMPLE_HEAD, title="Lunar eclipses of the range")
+    for col, just in (("rank", "right"), ("date", "left"), ("kind", "left"), ("umbral magnitude", "right"),
+                      ("totality", "right"), ("greatest (UTC)", "right"), ("sites that can time it", "left")):
+        table.add_column(col, justify=just)
     for e in data["eclipses"]:
-        c = e["contacts_utc"]
         tot = e["durations_min"]["total"]
+        able = [sid for sid, per in e["sites"].items() if per.get("timeable_contacts")]
         table.add_row(
             "-" if e["rank"] is None else str(e["rank"]), e["date"], e["kind"], f"{e['umbral_magnitude']:.3f}",
-            "" if tot is None else f"{tot:.0f} min", *(_fmt_time(c.get(k)) for k in ("U1", "U2")),
-            _fmt_time(e["greatest_utc"]), *(_fmt_time(c.get(k)) for k in ("U3", "U4")),
+            "" if tot is None else f"{tot:.0f} min", _fmt_time(e["greatest_utc"]),
+            ", ".join(escape(a) for a in able) or "none",
         )
     out.print(table)
     for e in data["eclipses"]:
         if e["rank"] is None and not verbose:
             continue
-        view = Table(box=box.SIMPLE_HEAD, title=f"{e['date']} {e['kind']}: Moon altitude (deg) / Sun altitude (deg) at each contact; * = timeable in darkness")
-        view.add_column("site", no_wrap=True)
+        out.print(f"\n[bold]The night of the {e['kind']} eclipse of {e['date']}[/bold], site by site "
+                  f"(the site's clock time; altitudes in degrees)")
         names = [k for k in ("P1", "U1", "U2", "greatest", "U3", "U4", "P4") if k == "greatest" or k in e["contacts_utc"]]
-        for k in names:
-            view.add_column(k, justify="right", no_wrap=True)
         for sid, per in e["sites"].items():
-            cells = []
+            zone = zones.get(sid)
+            view = Table(box=box.SIMPLE_HEAD, title=f"{sid} ({zone or 'UTC'})", title_justify="left")
+            for col, just in (("clock", "right"), ("event", "left"), ("what happens", "left"), ("Moon", "right"),
+                              ("Sun", "right"), ("can be timed", "left")):
+                view.add_column(col, justify=just)
             for k in names:
                 x = per.get(k)
+                t = e["greatest_utc"] if k == "greatest" else e["contacts_utc"][k]
                 if x is None:
-                    cells.append("")
                     continue
-                mark = "*" if x["timeable"] else " "
-                cells.append(f"{x['moon_altitude_deg']:+.0f}/{x['sun_altitude_deg']:+.0f}{mark}")
-            view.add_row(escape(sid), *cells)
-        out.print(view)
+                why = "yes" if x["timeable"] else ("Moon below the horizon" if not x["moon_up"] else
+                                                    "sky too bright" if not x["dark"] else "no")
+                view.add_row(_local_clock(t, zone), k, EVENT_WORDS[k], f"{x['moon_altitude_deg']:+.0f}",
+                             f"{x['sun_altitude_deg']:+.0f}", why if k != "greatest" else "")
+            out.print(view)
         if e["excluded"]:
             out.print("  not ranked: " + "; ".join(e["excluded"]))
     left = [e for e in data["eclipses"] if e["rank"] is None]
     if left and not verbose:
-        out.print(f"  {len(left)} eclipse(s) not ranked (penumbral, or no site can time a contact); --verbose shows them")
+        out.print(f"  {len(left)} {'eclipse' if len(left) == 1 else 'eclipses'} not ranked (penumbral, or no site can "
+                  "time a contact); --verbose shows them")
     if verbose:
         for a in data["assumptions"]:
             out.print(f"  - {a}")
@@ -237,14 +270,14 @@ def render_eclipse(data: dict, verbose: bool) -> None:
         out.print(f"\n[bold]{e['date']}[/bold] {e['kind']} eclipse, {e['rows']} timings")
         src = "measured by the observers" if m["observational"] else "from the ephemeris (ephemeris-assisted)" if m["semidiameter_source"] == m["rate_source"] == "ephemeris" else "partly from the ephemeris"
         out.print(
-            f"  Moon: radius {m['semidiameter_arcmin']:.3f}' ({m['semidiameter_source']}), rate across the shadow "
+            f"  Moon: radius {m['semidiameter_arcmin']:.3f}′ ({m['semidiameter_source']}), rate across the shadow "
             f"{m['rate_deg_per_h']:.4f} deg/h ({m['rate_source']}) — {src}"
         )
         if e["reduction"] is not None:
             r = e["reduction"]
             n, d = e["shadow_moon_ratio"], e["moon_distance_earth_radii"]
             out.print(f"  shadow / Moon ratio  {_pm(n, 3)}   (68 % interval {_interval(n, 3)})")
-            out.print(f"  umbra radius         {_pm(r['umbra_radius_arcmin'], 2)}'   Moon's parallax {_pm(r['moon_parallax_arcmin'], 2)}'")
+            out.print(f"  umbra radius         {_pm(r['umbra_radius_arcmin'], 2)}′   Moon's parallax {_pm(r['moon_parallax_arcmin'], 2)}′")
             out.print(f"  Moon's distance      {_pm(d, 2)} Earth radii   (68 % interval {_interval(d, 2)})")
             if e["moon_distance_km"] is not None:
                 k = e["moon_distance_km"]

@@ -223,7 +223,7 @@ def reduce_eclipse_timings(
     mag = (sol.umbra_radius_deg + sm - d_abs) / (2 * sm)
     var_mag = (sol.covariance[2, 2] + sol.covariance[1, 1] - 2 * np.sign(sol.least_distance_deg) * sol.covariance[1, 2]) / (2 * sm) ** 2
     notes = list(assumptions) + [
-        f"umbra radius inverted with the {convention} convention (DESIGN 5)",
+        f"umbra radius inverted with the {convention} convention",
         "the Moon's track is straight and uniform across a circular umbra; central passage not assumed",
         "distance in Earth equatorial radii (the conventions' parallax is asin(a / d))",
     ]

@@ -153,12 +153,14 @@ def plan_eclipses(campaign: Campaign, start_date, end_date, convention: str = "d
     return EclipsePlan(campaign, start, end, e, v, tuple(rank), tuple(excluded), tuple(timeable), assumptions)
 
 
-def eclipses_ics(plan: EclipsePlan) -> bytes:
-    """The plan's eclipses as an RFC 5545 calendar (UTC times; byte-identical for equal input).
+def eclipses_ics(plan: EclipsePlan, *, site: str | None = None, penumbral: bool = False) -> bytes:
+    """The plan's eclipses that some site (or ``site``) can see, as an RFC 5545 calendar (UTC times;
+    byte-identical for equal input).
 
-    Each eclipse is one event from P1 to P4 whose description lists the
-    contacts and each site's Moon altitude; UID and DTSTAMP derive from the
-    time of greatest eclipse, so the file depends only on the data.
+    An eclipse is in the calendar when the Moon is above the horizon at one of its contacts
+    at a site; penumbral eclipses (hardly visible) only with ``penumbral``. Each is one event
+    from P1 to P4 whose description lists the contacts and each site's Moon altitude; UID and
+    DTSTAMP derive from the time of greatest eclipse, so the file depends only on the data.
     """
     import icalendar
 
@@ -171,7 +173,12 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
     cal.add("calscale", "GREGORIAN")
     e, v = plan.eclipses, plan.visibility
     events = list(v.events)
+    chosen = [k for k, s in enumerate(plan.campaign.sites) if site is None or s.id == site]
+    with np.errstate(invalid="ignore"):
+        seen = np.any(np.nan_to_num(v.moon_altitude_deg[:, :, chosen], nan=-90.0) > 0.0, axis=(1, 2))
     for i in range(len(e)):
+        if not seen[i] or (str(e.kind[i]) == "penumbral" and not penumbral):
+            continue
         g = e.greatest_utc[i]
         stamp = _aware(g)
         ev = icalendar.Event()
@@ -186,6 +193,8 @@ def eclipses_ics(plan: EclipsePlan) -> bytes:
             if not np.isnat(t):
                 lines.append(f"{c} {time_z(t)}")
         for k, s in enumerate(plan.campaign.sites):
+            if k not in chosen:
+                continue
             alts = []
             for c in PLAN_CONTACTS:
                 j = events.index(c)
@@ -632,8 +641,14 @@ def eclipse_figure(result: EclipseResult, *, title: str | None = None):
             ax.annotate(tim.event[k], (c[0], c[1]), ha="center", va="center", fontsize=8)
     if result.crater_points is not None:
         p = result.crater_points
-        colors = ["tab:red" if tim.event[i] == "immersion" else "tab:green" for i in p["index"]]
-        ax.scatter(p["east_deg"] * 60, p["north_deg"] * 60, s=14, c=colors, zorder=3, label="crater timings")
+        immersion = np.array([tim.event[i] == "immersion" for i in p["index"]], bool)
+        east, north = np.asarray(p["east_deg"]) * 60, np.asarray(p["north_deg"]) * 60
+        if immersion.any():
+            ax.scatter(east[immersion], north[immersion], s=14, c="tab:red", zorder=3,
+                       label="crater immersions (enters the umbra)")
+        if (~immersion).any():
+            ax.scatter(east[~immersion], north[~immersion], s=14, c="tab:green", marker="s", zorder=3,
+                       label="crater emersions (leaves the umbra)")
     ax.set_aspect("equal")
     ax.invert_xaxis()
     ax.set_xlabel("east of the shadow's axis (arcmin)")

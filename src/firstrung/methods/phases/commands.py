@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -16,6 +17,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     print_json,
@@ -24,6 +26,7 @@ from firstrung.cli.common import (
     simulation_range,
     write_simulated,
 )
+from firstrung.numbers import plural
 
 
 def register_plan(group: typer.Typer) -> None:
@@ -49,6 +52,7 @@ def plan_phases(
         Path | None,
         typer.Option("--ics", help="Write a calendar (RFC 5545): for each ranked quarter and site, the window nearest its half moon."),
     ] = None,
+    site: CalendarSiteOption = None,
     json_output: JsonOption = False,
 ) -> None:
     """First and last quarters: quadrature, the true half moon, and when Sun and Moon are both up.
@@ -65,7 +69,8 @@ def plan_phases(
     settings = PlanSettings(min_altitude_deg=min_altitude_deg, min_sun_elongation_deg=min_sun_elongation_deg, half_span_h=span_h)
     plan = plan_phases(campaign, date_from, date_to, settings)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(plan), inputs=campaign_inputs(plan.campaign))
+        check_site_id(plan.campaign, site)
+        write_atomic(ics, calendar_bytes(plan, site), inputs=campaign_inputs(plan.campaign))
     data = phase_plan_to_json(plan)
     if json_output:
         print_json(data)
@@ -197,7 +202,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
     out.print(table)
     for kind, c in data["by_kind"].items():
         out.print(f"  {kind}: E = {c['elongation_deg']['value']:.4f} ± {c['elongation_deg']['sigma']:.4f} deg, "
-                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({c['estimates']} estimates)")
+                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({plural(c['estimates'], 'estimate')})")
     i = data["interval_method"]
     if i is not None:
         u = i["uncorrected"]
@@ -208,7 +213,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
         if i["corrected"] is not None:
             out.print(f"    corrected with the ephemeris's lunar motion: ratio {_interval_text(i['corrected']['sun_moon_distance_ratio'])}")
     rows = data["rows"]
-    out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {rows['estimates']} estimates"
+    out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {plural(rows['estimates'], 'estimate')}"
               + (f", {rows['refused']} refused" if rows["refused"] else ""))
     if verbose:
         for a in data["assumptions"]:

@@ -624,22 +624,22 @@ def ratio_figure(elongation_deg: float, sigma_deg: float, *, true_ratio: float |
     ax = fig.add_subplot()
     ax.plot(grid, distance_ratio_from_elongation(grid), color="0.2", lw=1.2, label="1 / cos E")
     ax.set_yscale("log")
-    ax.set_xlabel("Sun-Moon elongation at half moon E [deg]")
-    ax.set_ylabel("D_sun / D_moon")
+    ax.set_xlabel("Sun-Moon elongation at half moon E (deg)")
+    ax.set_ylabel("Sun's distance / Moon's distance (log scale)")
     ax.axvspan(max(e - s, low_e), min(e + s, top), color="tab:blue", alpha=0.2, label="measured E ± 1σ")
     if e < 90:
-        ax.axvline(e, color="tab:blue", lw=1.5)
+        ax.axvline(e, color="tab:blue", lw=1.5, label=f"measured E = {e:.3f}°")
     m = ratio_from_elongation(float(np.clip(e, 0.0, 180.0)), s)
     if m.low is not None:
-        ax.axhline(m.low, color="tab:blue", ls=":", lw=1)
+        ax.axhline(m.low, color="tab:blue", ls=":", lw=1, label="ratio's 68 % interval")
     if m.high is not None:
         ax.axhline(m.high, color="tab:blue", ls=":", lw=1)
     else:
-        ax.annotate("no upper bound: E may reach 90°", xy=(0.02, 0.92), xycoords="axes fraction", color="tab:blue")
+        ax.annotate("no upper bound: E may reach 90°", xy=(0.02, 0.55), xycoords="axes fraction", color="tab:blue")
     if true_ratio is not None:
-        ax.axhline(true_ratio, color="tab:red", lw=1, label=f"modern value {true_ratio:.0f}")
+        ax.axhline(true_ratio, color="tab:red", lw=1, ls="--", label=f"modern value at these half moons: {true_ratio:.0f}")
     ax.set_xlim(low_e, 90.0)
-    ax.legend(loc="lower right")
+    ax.legend(loc="upper left", fontsize=8)
     if title:
         ax.set_title(title)
     return fig

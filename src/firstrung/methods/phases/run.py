@@ -243,8 +243,8 @@ def best_window(plan: PhasePlan, k: int, j: int) -> int | None:
     return int(idx[np.argmin(np.abs(w.minutes_from_target[idx]))])
 
 
-def calendar_bytes(plan: PhasePlan) -> bytes:
-    """One event per site and ranked quarter: the window nearest to that site's half moon."""
+def calendar_bytes(plan: PhasePlan, site: str | None = None) -> bytes:
+    """One event per site (or only ``site``) and ranked quarter: the window nearest to that site's half moon."""
     from firstrung.calendar_export import CalendarEvent, events_to_ics
     from firstrung.safety import PHASES_CAUTION
 
@@ -256,6 +256,8 @@ def calendar_bytes(plan: PhasePlan) -> bytes:
         if plan.rank[k] == 0:
             continue
         for j, s in enumerate(plan.campaign.sites):
+            if site is not None and s.id != site:
+                continue
             i = best_window(plan, k, j)
             if i is None:
                 continue

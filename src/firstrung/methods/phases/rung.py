@@ -1,5 +1,6 @@
 """What the half-moon method gives the ladder: the Sun/Moon distance ratio, and the Moon's distance
 carried from the eclipse night to the half moons' epoch (a stated ephemeris ratio).
+And what it gives the report: its section (:func:`report_section`).
 """
 
 from __future__ import annotations
@@ -10,6 +11,7 @@ import numpy as np
 
 from firstrung.constants import ASTRONOMICAL_UNIT_KM, SHADOW_EARTH_RADIUS_KM
 from firstrung.errors import ComputationError, InputError
+from firstrung.numbers import rounded
 from firstrung.uncertainty import Draw
 
 
@@ -66,3 +68,36 @@ def half_moon_epoch(run) -> tuple[float, float, str]:
     dates = sorted({str(x)[:10] for x in t})
     text = dates[0] if len(dates) == 1 else f"{dates[0]} to {dates[-1]}"
     return moon_km, sun_km, text
+
+
+TITLE = "The Sun's distance from the half moon"
+
+METHOD = (
+    "At the exact half moon the Sun, the Moon and the observer make a right angle at the Moon, so the "
+    "Sun is 1/cos E times as far as the Moon, E being the Sun-Moon angle (Aristarchus' method). E comes "
+    "from a measured angle, from the ephemeris's directions of Sun and Moon at the moment the half moon "
+    "was timed, or from a fit of the lit fraction in a photo series. Because E is within a fraction of a "
+    "degree of 90° the result is very sensitive to it: the interval is skewed, and when E may reach "
+    "90° only a lower bound exists."
+)
+
+
+def report_section(run, progress=lambda step: None) -> dict:
+    """The half-moon section of the report: its context (``data``), figure, plain headline and dates."""
+    from firstrung.methods.phases.present import phase_run_to_json
+    from firstrung.methods.phases.reduction import ratio_figure
+
+    progress("drawing the half moon")
+    data = phase_run_to_json(run)
+    c = run.combined
+    figs = {"ratio": ratio_figure(c.elongation_deg, c.sigma_deg, true_ratio=run.expected_ratio)}
+    ratio = data["sun_moon_distance_ratio"] if "sun_moon_distance_ratio" in data else None
+    if ratio and ratio.get("value") is not None:
+        value, interval = rounded(ratio["value"], ratio["low"], ratio["high"], space=" ")
+        headline = (f"The Sun is about {value} times as far as the Moon (68 % interval {interval}); "
+                    f"the modern value at these half moons is {data['expected_ratio']:.0f}.")
+    else:
+        headline = f"{data['statement']}; the modern value at these half moons is {data['expected_ratio']:.0f}."
+    dates = sorted({x["time_utc"][:10] for x in data["estimates"]})
+    return {"name": "phases", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
+            "headline": headline, "dates": dates}

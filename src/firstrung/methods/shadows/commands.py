@@ -9,6 +9,7 @@ from typing import Annotated
 import typer
 
 from firstrung.cli.common import (
+    CalendarSiteOption,
     CampaignArgument,
     FromOption,
     IncludeFlaggedOption,
@@ -17,6 +18,7 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    check_site_id,
     console,
     handles_errors,
     parse_date,
@@ -29,6 +31,7 @@ from firstrung.cli.common import (
     terminal_text,
     write_simulated,
 )
+from firstrung.numbers import plural
 
 
 def register_plan(group: typer.Typer) -> None:
@@ -56,6 +59,7 @@ def plan_shadows(
     ics: Annotated[
         Path | None, typer.Option("--ics", help="Write the best days (--top) to this calendar file (RFC 5545).")
     ] = None,
+    site: CalendarSiteOption = None,
     json_output: JsonOption = False,
 ) -> None:
     """Rank the days of a range by the precision of the Earth's radius they allow.
@@ -82,14 +86,15 @@ def plan_shadows(
     run = run_plan_shadows(campaign, parse_date("--from", date_from), parse_date("--to", date_to), constraints)
     days = chosen_days(run.plan, top)
     if ics is not None:
-        write_atomic(ics, calendar_bytes(run, days), inputs=campaign_inputs(run.campaign))
+        check_site_id(run.campaign, site)
+        write_atomic(ics, calendar_bytes(run, days, site), inputs=campaign_inputs(run.campaign))
     if json_output:  # the JSON of every day and site only when it is printed
         print_json(shadow_plan_to_json(run))
         return
-    _render(run, days, SOLAR_CAUTION, ics)
+    _render(run, days, SOLAR_CAUTION, ics, site)
 
 
-def _render(run, days, caution: str, ics) -> None:
+def _render(run, days, caution: str, ics, site=None) -> None:
     from rich import box
     from rich.markup import escape
     from rich.table import Table
@@ -108,38 +113,44 @@ def _render(run, days, caution: str, ics) -> None:
     if run.skipped_sites:
         out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
     table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
+    table.keep_columns = 2  # rank and date head every part of a split table
     table.add_column("rank", justify="right")
     table.add_column("date")
     table.add_column("sigma R (km)", justify="right")
-    few = len(plan.sites) <= 4
-    if few:
-        for s in plan.sites:
-            table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
+    # every site's column, however many: the terminal's tables split a table too wide, never drop
+    for s in plan.sites:
+        table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
     table.add_column("note")
     table.caption = "noon: local apparent noon (site's zone, or Z for UTC); alt: Sun's refracted altitude (deg); N/S: shadow direction"
     for k in days:
         row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
-        if few:
-            for j, _s in enumerate(plan.sites):
-                d = site_day(plan, k, j)
-                clock = (d["transit_local"] or d["transit_utc"])[11:16]
-                zone = "" if d["transit_local"] else "Z"
-                row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
+        for j, _s in enumerate(plan.sites):
+            d = site_day(plan, k, j)
+            clock = (d["transit_local"] or d["transit_utc"])[11:16]
+            zone = "" if d["transit_local"] else "Z"
+            row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
         row.append(", ".join(plan.special[k]))
         table.add_row(*row)
     out.print(table)
     reasons: dict[str, int] = {}
     for e in plan.excluded:
+        keys = set()
         for r in e:
             key = r.split(" at ")[0] if r.startswith(("Sun only", "shadow")) else r
             key = "Sun too low at noon" if key.startswith("Sun only") else key
             key = "shadow longer than the board" if key.startswith("shadow") else key
             key = "not a chosen weekday" if key.startswith("not a chosen weekday") else key
+            keys.add(key)
+        for key in keys:  # days, not site-days: a day too low at three sites is one day
             reasons[key] = reasons.get(key, 0) + 1
     if reasons:
-        out.print("  days ruled out: " + "; ".join(f"{k} ({v})" for k, v in sorted(reasons.items())))
+        n_out = sum(1 for e in plan.excluded if e)
+        out.print(f"  days ruled out: {n_out} of {len(plan.dates)} (a day may have several reasons)")
+        for k, v in sorted(reasons.items()):
+            out.print(f"    {k}: {v} {'day' if v == 1 else 'days'}")
     if ics is not None:
-        out.print(f"  calendar written: {escape(str(ics))} ({len(days)} days x {len(plan.sites)} sites)")
+        out.print(f"  calendar written: {escape(str(ics))} ({plural(len(days), 'day')} x "
+                  f"{plural(1 if site else len(plan.sites), 'site')})")
     out.print(f"  Caution: {caution}")
 
 
@@ -155,12 +166,13 @@ def reduce_shadows(
     monte_carlo: Annotated[
         int,
         typer.Option(
-            "--monte-carlo",
+            "--samples",
             min=0,
-            help="Also redo the reduction this many times with every input drawn from its errors, "
-            "and show the spread beside the linear sigma (0: off).",
+            help="Monte Carlo draws: also redo the reduction this many times with every input drawn from its "
+            "errors, and show the spread beside the linear sigma (0: off).",
         ),
     ] = 0,
+    monte_carlo_old: Annotated[int | None, typer.Option("--monte-carlo", min=0, hidden=True)] = None,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
     include_flagged: IncludeFlaggedOption = False,
 ) -> None:
@@ -174,6 +186,7 @@ def reduce_shadows(
 
     run = run_shadows(campaign, include_flagged=include_flagged)
     data = shadow_run_to_json(run)
+    monte_carlo = monte_carlo_old if monte_carlo_old is not None and not monte_carlo else monte_carlo
     if monte_carlo:
         from firstrung.methods.shadows.reduction import monte_carlo_radius
         from firstrung.methods.shadows.run import baseline_inputs, site_inputs
@@ -228,7 +241,7 @@ def render_shadows(data: dict, verbose: bool) -> None:
     )
     ratio = data["ratio_to_expected"]
     z = (r["value"] - data["expected_radius_km"]) / r["sigma"] if r["sigma"] else float("nan")
-    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma)")
+    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma; the ladder and the report state the same)")
     rows = data["rows"]
     left = ", ".join(f"{v} {k}" for k, v in rows["left_out"].items() if v)
     out.print(

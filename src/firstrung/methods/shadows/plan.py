@@ -86,14 +86,17 @@ def chosen_days(plan: ShadowPlan, top: int | None) -> np.ndarray:
     return ranked if top is None else ranked[:top]
 
 
-def calendar_bytes(run: ShadowPlanRun, days: np.ndarray) -> bytes:
-    """One event per site per chosen day, from 30 min before to 30 min after local apparent noon."""
+def calendar_bytes(run: ShadowPlanRun, days: np.ndarray, site: str | None = None) -> bytes:
+    """One event per site (or only ``site``) per chosen day, from 30 min before to 30 min after
+    local apparent noon."""
     plan = run.plan
     events = []
     half = np.timedelta64(SESSION_HALF_SPAN_MIN, "m")
     slug = "-".join("".join(ch if ch.isalnum() else " " for ch in run.campaign.name.lower()).split()) or "campaign"
     for k in sorted(days, key=lambda k: plan.dates[k]):
         for j, s in enumerate(plan.sites):
+            if site is not None and s.id != site:
+                continue
             t = plan.transit_utc[k, j]
             local = local_time_iso(t, s.timezone)
             lines = [

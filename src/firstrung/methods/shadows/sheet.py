@@ -81,35 +81,75 @@ def shadow_sheet_predictions(site, date) -> dict:
     }
 
 
-def render_shadow_sheet(campaign_name: str, site, date, paper: str = "a4") -> str:
-    """The HTML field sheet for one site and day."""
+#: Below this noon altitude a sheet warns: the shadow is over 5.7 gnomon heights long, its tip faint
+#: and a small error in the board's level or the reading moves the result a lot (common practice).
+LOW_SUN_DEG = 10.0
+
+
+def sheet_warning(site, date) -> tuple[dict, str | None]:
+    """The day's predictions and a warning when the Sun is low at noon.
+
+    Raises :class:`firstrung.errors.InputError` when the Sun does not clear the horizon at noon
+    (polar night): there is no shadow to read, so no sheet.
+    """
+    from firstrung.errors import InputError
+    from firstrung.numbers import latitude_text
+
     p = shadow_sheet_predictions(site, date)
+    alt = p["noon_altitude_deg"]
+    day = str(np.datetime64(date, "D"))
+    if alt <= 0.5:
+        raise InputError(
+            f"--date: the Sun does not rise above the horizon at noon at site '{site.id}' "
+            f"({latitude_text(site.latitude_deg)}) on {day} (its centre at {alt:.1f}°): there is no shadow to read; "
+            f"choose a day 'firstrung plan shadows' lists"
+        )
+    if alt < LOW_SUN_DEG:
+        return p, (f"the Sun is only {alt:.1f}° high at noon at site '{site.id}' on {day}: a shadow about "
+                   f"{p['noon_shadow_m']:.1f} m long with a faint tip; a day with the Sun above "
+                   f"{LOW_SUN_DEG:.0f}° is far better")
+    return p, None
+
+
+def render_shadow_sheet(campaign_name: str, site, date, paper: str = "a4", *, blind: bool = False) -> str:
+    """The HTML field sheet for one site and day (one printed page).
+
+    ``blind`` leaves every prediction of the shadow off the sheet, so that observers
+    cannot copy it (the times to read stay).
+    """
+    from firstrung.numbers import latitude_text, longitude_text
+
+    p, warning = sheet_warning(site, date)
     zone = site.timezone or "UTC"
     rows = []
     for t, length in zip(p["times_utc"], p["shadow_m"], strict=True):
         rows.append({
             "local": _local(t, site.timezone)[:5],
             "utc": str(np.datetime64(t, "m"))[11:16],
-            "shadow_mm": f"{length * 1000:.0f}",
+            "shadow_mm": f"{length * 1000:,.0f}" if np.isfinite(length) and length > 0 else "no shadow",
             "noon": abs((t - p["transit_utc"]).astype("timedelta64[s]").astype(int)) < 60,
         })
     return _environment().get_template("shadow_sheet.html.j2").render(
         campaign=campaign_name,
         site=site,
+        latitude=latitude_text(site.latitude_deg),
+        longitude=longitude_text(site.longitude_deg),
         date=str(np.datetime64(date, "D")),
         version=__version__,
         caution=SOLAR_CAUTION_FULL,
         zone=zone,
         zone_short="local" if site.timezone else "UTC",
         edge_text=EDGE_TEXT[site.edge],
-        noon_local=_local(p["transit_utc"], site.timezone) + (f" {zone}" if site.timezone else ""),
-        noon_utc=str(p["transit_utc"]) + "Z",
+        noon_local=_local(p["transit_utc"], site.timezone) + (" local time" if site.timezone else " UTC"),
+        noon_utc=str(p["transit_utc"])[11:19] + " UTC",
         noon_altitude_deg=p["noon_altitude_deg"],
         noon_shadow_mm=p["noon_shadow_m"] * 1000,
         penumbra_mm=p["penumbra_m"] * 1000,
         direction=p["direction"],
         rows=rows,
         page_size=PAPER_SIZES[paper],
+        blind=blind,
+        warning=warning,
     )
 
 

@@ -28,7 +28,7 @@ from firstrung.cli.common import (
 
 def register_plan(group: typer.Typer) -> None:
     """Add ``transits`` to the ``plan`` group."""
-    group.command("transits")(handles_errors(plan_transits))
+    group.command("transit")(handles_errors(plan_transits))
 
 
 def plan_transits(
