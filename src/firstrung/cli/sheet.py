@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import importlib.util
 import sys
 from pathlib import Path
 from typing import Annotated
@@ -45,53 +46,23 @@ def sheet(
     with --kind phases: the site's true half moon and its windows with Sun and Moon both up.
     """
     html_output(output)
-    if kind not in ("shadows", "eclipse", "phases"):
-        from firstrung.errors import InputError
+    from rich.markup import escape
 
-        raise InputError(f"--kind: expected shadows, eclipse or phases, got {kind!r}")
-    if kind != "shadows":
-        _event_sheet(kind, campaign, site, date, output, paper, blind)
-        return
     from firstrung.campaign import read_campaign
+    from firstrung.cli.common import parse_date
     from firstrung.errors import InputError
-    from firstrung.methods.shadows.commands import parse_date
-    from firstrung.methods.shadows.plan import plan_sites
-    from firstrung.methods.shadows.sheet import render_shadow_sheet, sheet_warning
+    from firstrung.methods import REGISTRY
     from firstrung.output import campaign_inputs, write_atomic
 
+    kinds = {m.name: m for m in REGISTRY if importlib.util.find_spec(f"{m.package}.sheet") is not None}
+    if kind not in kinds:
+        raise InputError(f"--kind: expected {', '.join(kinds)}, got {kind!r}")
     c = read_campaign(campaign)
-    c.site(site)  # an unknown id is a clear error
-    sites = {s.id: s for s in plan_sites(c)[0]}
-    if site not in sites:
-        raise InputError(f"--site: site '{site}' has no [site.gnomon] in the campaign file", file=str(campaign))
-    day = parse_date("--date", date)
-    _, warning = sheet_warning(sites[site], day)
-    html = render_shadow_sheet(c.name, sites[site], day, _paper(paper), blind=blind)
+    html, warning = kinds[kind].module("sheet").site_sheet(c, site, parse_date("--date", date), _paper(paper), blind)
     write_atomic(output, html, inputs=campaign_inputs(c))
     if warning:
         print(f"firstrung: warning: {warning}", file=sys.stderr)
-    from rich.markup import escape
-
     console().print(f"field sheet written: {escape(str(output))}")
-
-
-def _event_sheet(kind, campaign, site, date, output, paper, blind) -> None:
-    from firstrung.campaign import read_campaign
-    from firstrung.methods.shadows.commands import parse_date
-    from firstrung.output import write_atomic
-
-    c = read_campaign(campaign)
-    day = parse_date("--date", date)
-    if kind == "eclipse":
-        from firstrung.methods.eclipse.sheet import render_eclipse_sheet
-
-        html = render_eclipse_sheet(c.name, c.site(site), day, _paper(paper), blind=blind)
-    else:
-        from firstrung.methods.phases.sheet import render_phases_sheet
-
-        html = render_phases_sheet(c, c.site(site), day, _paper(paper), blind=blind)
-    write_atomic(output, html, inputs=[campaign, *[p for paths in c.logs.values() for p in paths]])
-    console().print(f"field sheet written: {output}")
 
 
 def blank_sheets(

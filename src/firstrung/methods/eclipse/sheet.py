@@ -136,3 +136,9 @@ def render_eclipse_sheet(campaign_name: str, site, date, paper: str = "a4", *, b
         craters=craters, chart=_chart_svg(craters, e), page_size=PAPER_SIZES[paper], blind=blind,
         min_diameter_km=MIN_DIAMETER_KM,
     )
+
+
+def site_sheet(campaign, site_id: str, day: str, paper: str, blind: bool = False) -> tuple[str, str | None]:
+    """One site's sheet for the lunar eclipse of a night: its HTML (and no warning)."""
+    return render_eclipse_sheet(campaign.name, campaign.site(site_id), day, paper, blind=blind), None
+

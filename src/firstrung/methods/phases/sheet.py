@@ -43,3 +43,9 @@ def render_phases_sheet(campaign, site, date, paper: str = "a4", *, blind: bool 
         quadrature_local=_clock(q["quadrature_utc"], zone), windows=windows, page_size=PAPER_SIZES[paper],
         blind=blind, sun_alt=here["sun_altitude_deg"], moon_alt=here["moon_altitude_deg"],
     )
+
+
+def site_sheet(campaign, site_id: str, day: str, paper: str, blind: bool = False) -> tuple[str, str | None]:
+    """One site's sheet for the half moon nearest a day: its HTML (and no warning)."""
+    return render_phases_sheet(campaign, campaign.site(site_id), day, paper, blind=blind), None
+

@@ -250,3 +250,22 @@ def blank_field_kit(paper: str = "a4") -> dict[str, str]:
         example = f"{spec['example']}\n" if "example" in spec else ""
         files[f"{kind}-template.csv"] = spec["csv_header"] + "\n" + example
     return files
+
+
+def site_sheet(campaign, site_id: str, day: str, paper: str, blind: bool = False) -> tuple[str, str | None]:
+    """One site's noon-shadow sheet for a day: its HTML and a warning (or None).
+
+    Raises :class:`~firstrung.errors.InputError` for a site without a gnomon, or a day the Sun
+    does not rise at noon.
+    """
+    from firstrung.errors import InputError
+    from firstrung.methods.shadows.plan import plan_sites
+
+    campaign.site(site_id)  # an unknown id is a clear error
+    sites = {s.id: s for s in plan_sites(campaign)[0]}
+    if site_id not in sites:
+        raise InputError(f"--site: site '{site_id}' has no [site.gnomon] in the campaign file",
+                         file=None if campaign.path is None else str(campaign.path))
+    _, warning = sheet_warning(sites[site_id], day)
+    return render_shadow_sheet(campaign.name, sites[site_id], day, paper, blind=blind), warning
+
