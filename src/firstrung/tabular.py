@@ -83,7 +83,7 @@ from firstrung.times import (
     quoted,
 )
 
-__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_rows"]
+__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_log", "read_rows"]
 
 
 #: Largest log file read [bytes]: about four million rows; a larger file is refused with a
@@ -547,6 +547,14 @@ def read_rows(
             values["row"] = row_number
             good.append(values)
     return good, merged_problems(problems), rows_read, tuple(ignored), tuple(notes)
+
+
+
+def read_log(log_type, campaign: Campaign, kind: str, paths, slots: Sequence[Slot], parse_row, dtypes: dict[str, object]):
+    """Read every file of one kind row by row into a ``log_type`` (:class:`LogRows`; ``dtypes`` beyond the common ones)."""
+    good, problems, rows_read, ignored, notes = read_rows(campaign, kind, paths, slots, parse_row)
+    return log_type(**column_arrays(good, {**COMMON_DTYPES, **dtypes}), problems=tuple(problems),
+                    rows_read=rows_read, ignored_columns=ignored, notes=notes)
 
 
 def read_columns(

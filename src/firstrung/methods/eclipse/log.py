@@ -13,9 +13,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.campaign_model import Campaign
-from firstrung.csv_cells import cell_text, column_arrays, got, time_sigma_s
+from firstrung.csv_cells import cell_text, got, time_sigma_s
 from firstrung.errors import RowProblem
-from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, read_rows
+from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
 from firstrung.times import quoted
 
 #: Eclipse events in their canonical spelling: umbral contacts, then feature timings.
@@ -126,15 +126,7 @@ def read_eclipse_logs(
     for immersion and emersion, empty for umbral contacts), ``time_sigma_s``,
     ``observer``.
     """
-    good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "eclipse", paths, LOG_SLOTS, _parse_eclipse_row
-    )
-    dtypes = dict(COMMON_DTYPES)
-    dtypes.update(event=str, feature=object, time_sigma_s=float, observer=object)
-    return EclipseLog(
-        **column_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
+    return read_log(
+        EclipseLog, campaign, "eclipse", paths, LOG_SLOTS, _parse_eclipse_row,
+        dict(event=str, feature=object, time_sigma_s=float, observer=object),
     )

@@ -13,9 +13,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.campaign_model import Campaign
-from firstrung.csv_cells import cell_text, column_arrays, got, time_sigma_s
+from firstrung.csv_cells import cell_text, got, time_sigma_s
 from firstrung.errors import RowProblem
-from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, read_rows
+from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
 
 #: Quarters of a half-moon timing.
 QUARTERS = ("first", "last")
@@ -123,21 +123,7 @@ def read_phase_logs(
     ``illuminated_fraction`` (0-1), not both in one row; ``time_sigma_s``,
     ``observer``.
     """
-    good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "phases", paths, LOG_SLOTS, _parse_phase_row
-    )
-    dtypes = dict(COMMON_DTYPES)
-    dtypes.update(
-        quarter=str,
-        elongation_deg=float,
-        illuminated_fraction=float,
-        time_sigma_s=float,
-        observer=object,
-    )
-    return PhaseLog(
-        **column_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
+    return read_log(
+        PhaseLog, campaign, "phases", paths, LOG_SLOTS, _parse_phase_row,
+        dict(quarter=str, elongation_deg=float, illuminated_fraction=float, time_sigma_s=float, observer=object),
     )

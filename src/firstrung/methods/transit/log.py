@@ -14,9 +14,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.campaign_model import Campaign
-from firstrung.csv_cells import cell_text, column_arrays, got, time_sigma_s
+from firstrung.csv_cells import cell_text, got, time_sigma_s
 from firstrung.errors import RowProblem
-from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, read_rows
+from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
 
 #: The contacts in their canonical spelling.
 TRANSIT_EVENTS = ("C1", "C2", "C3", "C4")
@@ -99,15 +99,7 @@ def read_transit_logs(campaign: Campaign, paths: Iterable[str | os.PathLike[str]
     TransitLog
         Never raises on bad content: problems are in ``problems``.
     """
-    good, problems, rows_read, ignored, notes = read_rows(
-        campaign, "transits", paths, LOG_SLOTS, _parse_transit_row
-    )
-    dtypes = dict(COMMON_DTYPES)
-    dtypes.update(event=str, time_sigma_s=float, observer=object, note=object)
-    return TransitLog(
-        **column_arrays(good, dtypes),
-        problems=tuple(problems),
-        rows_read=rows_read,
-        ignored_columns=ignored,
-        notes=notes,
+    return read_log(
+        TransitLog, campaign, "transits", paths, LOG_SLOTS, _parse_transit_row,
+        dict(event=str, time_sigma_s=float, observer=object, note=object),
     )
