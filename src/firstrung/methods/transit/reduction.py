@@ -19,6 +19,9 @@ timed contact, minus its prediction for that site at DE421's distances, is
   two or more different contacts (Halley's method of durations then holds it).
 - ``e_i`` has the stated timing error, plus the black drop's scatter from
   instrument to instrument on internal contacts (C2, C3) as a stated systematic.
+  One instrument's drop is shared by its C2 (late) and its C3 (early): the two
+  errors are modelled as one draw with opposite signs, so a site's duration
+  C3 - C2 carries twice the drop (a covariance, whitened in closed form).
 
 The fit is weighted least squares, linearised at the current ``f`` and
 iterated; a contact whose normalised residual exceeds a threshold (a wrong
@@ -113,30 +116,82 @@ def _groups(keys: list) -> tuple[np.ndarray, list]:
     return idx, list(order)
 
 
-def _design(transit, contact, site, used):
-    """Nuisance columns: contact offsets per (transit, contact), clock offsets per (site, transit)."""
-    tc_idx, tc_keys = _groups(list(zip(transit.tolist(), contact.tolist(), strict=True)))
-    st_idx, st_keys = _groups(list(zip(site.tolist(), transit.tolist(), strict=True)))
+def _design(transit, contact, site, used, fit_clocks=True, groups=None):
+    """Nuisance columns: contact offsets per (transit, contact), clock offsets per (site, transit).
+
+    ``groups`` is ``_row_groups(transit, contact, site)``, computed once per reduction.
+    """
+    (tc_idx, tc_keys), (st_idx, st_keys) = groups or _row_groups(transit, contact, site)
     m = transit.size
-    columns, names = [], []
-    for j, key in enumerate(tc_keys):
-        col = (tc_idx == j) & used
-        if col.any():
-            columns.append(col.astype(float))
-            names.append(("contact", key))
-    for j, key in enumerate(st_keys):
-        rows = (st_idx == j) & used
-        if np.unique(contact[rows]).size >= 2:
-            columns.append(rows.astype(float))
-            names.append(("clock", key))
-    nuisance = np.stack(columns, axis=1) if columns else np.zeros((m, 0))
-    return nuisance, names
+    u = used.astype(float)
+    contact_cols = np.zeros((m, len(tc_keys)))
+    contact_cols[np.arange(m), tc_idx] = u
+    keep_c = contact_cols.any(axis=0)
+    names = [("contact", k) for k, ok in zip(tc_keys, keep_c, strict=True) if ok]
+    columns = [contact_cols[:, keep_c]]
+    if fit_clocks and len(st_keys):
+        # a clock column for each (site, transit) with two or more different contacts used
+        seen = np.zeros((len(st_keys), 4), dtype=bool)
+        seen[st_idx[used], contact[used]] = True
+        keep_s = seen.sum(axis=1) >= 2
+        clock_cols = np.zeros((m, len(st_keys)))
+        clock_cols[np.arange(m), st_idx] = u
+        columns.append(clock_cols[:, keep_s])
+        names += [("clock", k) for k, ok in zip(st_keys, keep_s, strict=True) if ok]
+    return np.concatenate(columns, axis=1), names
 
 
-def _fit(r, a, nuisance, sd, used):
-    """Weighted fit of r = a x + N b: x, its variance, the estimator's row weights, residuals, leverage."""
-    w = np.where(used, 1.0 / sd, 0.0)
-    rw, aw, nw = r * w, a * w, nuisance * w[:, None]
+def _row_groups(transit, contact, site):
+    """Each row's (transit, contact) and (site, transit) group, with the groups' keys."""
+    return (_groups(list(zip(transit.tolist(), contact.tolist(), strict=True))),
+            _groups(list(zip(site.tolist(), transit.tolist(), strict=True))))
+
+
+class _Noise:
+    """The timings' covariance: the stated timing errors on the diagonal, and one shared black
+    drop per instrument, +1 on its C2 and -1 on its C3 (a rank-one block per instrument).
+
+    ``whiten`` applies W with W^T W = C^-1 (closed form for a diagonal plus disjoint rank-one
+    blocks: W = (I - sum c_g y_g y_g^T / |y_g|^2) D^-1/2, y_g = D^-1/2 v_g, c_g = 1 - 1/sqrt(1 + |y_g|^2));
+    rows not used carry no weight.
+    """
+
+    def __init__(self, time_sigma_s, drop_s, sign, group, used):
+        self.scale = np.where(used, 1.0 / np.maximum(time_sigma_s, 1e-6), 0.0)
+        self.group = group
+        y = sign * drop_s * self.scale
+        norm2 = np.bincount(group, weights=y**2, minlength=int(group.max()) + 1 if group.size else 0)
+        c = np.where(norm2 > 0, 1.0 - 1.0 / np.sqrt(1.0 + norm2), 0.0)
+        self.y_hat = np.where(norm2[group] > 0, y / np.sqrt(np.where(norm2 > 0, norm2, 1.0))[group], 0.0)
+        self.c = c
+        self._order = np.argsort(group, kind="stable")
+        sorted_group = group[self._order]
+        self._starts = np.flatnonzero(np.r_[True, sorted_group[1:] != sorted_group[:-1]]) if group.size else group
+        self._present = sorted_group[self._starts] if group.size else group
+
+    def _project(self, z):
+        """(I - sum c_g y_hat_g y_hat_g^T) z, for z of shape (m,) or (m, k)."""
+        flat = z.reshape(z.shape[0], -1)
+        sums = np.zeros((self.c.size, flat.shape[1]))
+        if self.group.size:
+            weighted = (self.y_hat[:, None] * flat)[self._order]
+            sums[self._present] = np.add.reduceat(weighted, self._starts, axis=0)
+        out = flat - (self.c[self.group] * self.y_hat)[:, None] * sums[self.group]
+        return out.reshape(z.shape)
+
+    def whiten(self, x):
+        """W x."""
+        x = np.asarray(x, dtype=float)
+        return self._project(x * (self.scale if x.ndim == 1 else self.scale[:, None]))
+
+    def whiten_transpose(self, x):
+        """W^T x."""
+        return self._project(np.asarray(x, dtype=float)) * self.scale
+
+
+def _fit(r, a, nuisance, noise, used):
+    """Weighted fit of r = a x + N b: x, its variance, the estimator's row weights, whitened residuals, leverage."""
+    rw, aw, nw = noise.whiten(r), noise.whiten(a), noise.whiten(nuisance)
     if nw.shape[1]:
         u, s, _ = np.linalg.svd(nw, full_matrices=False)
         u = u[:, s > s.max() * 1e-10]
@@ -152,11 +207,12 @@ def _fit(r, a, nuisance, sd, used):
             "time contacts from sites far apart in latitude, or several contacts per site"
         )
     x = float(a_perp @ r_perp) / info
-    estimator = np.where(used, a_perp * w / info, 0.0)  # x = sum(estimator * r)
-    resid = np.where(used, r - a * x - (nuisance @ np.linalg.lstsq(nw, rw - aw * x, rcond=None)[0]), 0.0)
+    estimator = np.where(used, noise.whiten_transpose(a_perp) / info, 0.0)  # x = sum(estimator * r)
+    b = np.linalg.lstsq(nw, rw - aw * x, rcond=None)[0] if nw.shape[1] else np.zeros(0)
+    resid = np.where(used, r - a * x - nuisance @ b, 0.0)
     q = np.concatenate([u, (a_perp / math.sqrt(info))[:, None]], axis=1)
     leverage = np.sum(q**2, axis=1)
-    return x, 1.0 / info, estimator, resid, leverage
+    return x, 1.0 / info, estimator, resid, noise.whiten(resid), leverage
 
 
 def reduce_transit_contacts(
@@ -171,6 +227,8 @@ def reduce_transit_contacts(
     site_sigma_km: float = DEFAULT_SITE_SIGMA_KM,
     clock_sigma_s: float = DEFAULT_CLOCK_SIGMA_S,
     reject_sigma: float = REJECT_SIGMA,
+    fit_clocks: bool = True,
+    instrument: np.ndarray | None = None,
 ) -> TransitReduction:
     """Fit the solar parallax to timed contacts.
 
@@ -193,6 +251,13 @@ def reduce_transit_contacts(
         Error of a clock where no offset is fitted (a site that timed one contact) [s].
     reject_sigma : float
         Rejection threshold on normalised residuals [1].
+    fit_clocks : bool
+        A free clock offset per site and transit where the site timed two or more different
+        contacts. Without it every clock carries ``clock_sigma_s``, shared by that site's
+        contacts of a transit (the budget adds it as one error per site, not per contact).
+    instrument : numpy.ndarray, shape (m,), optional
+        Each row's instrument (e.g. site and observer): one black drop is shared by an
+        instrument's C2 and C3 in a transit. Default: one instrument per site.
 
     Returns
     -------
@@ -206,9 +271,12 @@ def reduce_transit_contacts(
     observed_s = np.asarray(observed_s, dtype=float)
     transit, contact = np.asarray(transit, dtype=int), np.asarray(contact, dtype=int)
     site = np.asarray(site, dtype=object)
-    internal = np.isin(contact, (1, 2))
-    drop = np.where(internal, np.asarray(black_drop_sigma_s, dtype=float), 0.0)
-    sd = np.sqrt(np.asarray(time_sigma_s, dtype=float) ** 2 + drop**2)
+    sign = np.select([contact == 1, contact == 2], [1.0, -1.0], 0.0)  # the drop: C2 late, C3 early
+    drop = np.abs(sign) * np.asarray(black_drop_sigma_s, dtype=float)
+    time_sigma_s = np.asarray(time_sigma_s, dtype=float)
+    keys = site if instrument is None else np.asarray(instrument, dtype=object)
+    group, _ = _groups(list(zip(keys.tolist(), transit.tolist(), strict=True)))
+    row_groups = _row_groups(transit, contact, site)
     m = observed_s.size
     if m < 3:
         raise ComputationError(f"the parallax needs contacts from at least two sites; got {m} timing(s)")
@@ -220,25 +288,26 @@ def reduce_transit_contacts(
             predicted, rate = predict(f)
             ok = np.isfinite(predicted) & np.isfinite(rate)
             used &= ok
-            nuisance, names = _design(transit, contact, site, used)
-            x, var, estimator, resid, leverage = _fit(observed_s - np.where(ok, predicted, 0.0),
-                                                      np.where(ok, rate, 0.0), nuisance, sd, used)
+            nuisance, names = _design(transit, contact, site, used, fit_clocks, row_groups)
+            noise = _Noise(time_sigma_s, drop, sign, group, used)
+            x, var, estimator, resid, white, leverage = _fit(observed_s - np.where(ok, predicted, 0.0),
+                                                             np.where(ok, rate, 0.0), nuisance, noise, used)
             f += x
             if abs(x) < 1e-7:
                 break
-        z = np.where(used, resid / (sd * np.sqrt(np.clip(1.0 - leverage, 1e-6, None))), 0.0)
+        z = np.where(used, white / np.sqrt(np.clip(1.0 - leverage, 1e-6, None)), 0.0)
         worst = int(np.argmax(np.abs(z)))
         if abs(z[worst]) <= reject_sigma or (~used).sum() >= max_rejected:
             break
         used[worst] = False
     dof = int(used.sum()) - 1 - nuisance.shape[1]
-    chi2 = float(np.sum((resid[used] / sd[used]) ** 2))
+    chi2 = float(np.sum(white[used] ** 2))
     if dof < 1:
         raise ComputationError("too few timings for the contact offsets, the clocks and the parallax "
                                f"({int(used.sum())} used); time more contacts or more sites")
-    offsets = _offsets(observed_s - predicted, nuisance, names, sd, used)
-    contributions = _budget(estimator, time_sigma_s, drop, rate, site, transit, names, site_sigma_km,
-                            clock_sigma_s, used)
+    offsets = _offsets(observed_s - predicted, nuisance, names, noise)
+    contributions = _budget(estimator, time_sigma_s, sign * drop, group, rate, site, transit, names,
+                            site_sigma_km, clock_sigma_s, used)
     # the fit's variance holds the timing and the black drop; the clocks and the site positions add
     sigma_f = math.sqrt(var + sum(v**2 for k, v in contributions.items() if k.startswith(("clocks", "site"))))
     scale = SOLAR_PARALLAX_DE421_ARCSEC
@@ -247,7 +316,8 @@ def reduce_transit_contacts(
         "the planet and the Earth at DE421's directions, every solar-system distance scaled by one factor",
         "one free offset per contact (the Sun's and the planet's radii, the mean black drop): the parallax "
         "rests on differences between sites",
-        "one free clock offset per site that timed two or more different contacts",
+        "one free clock offset per site that timed two or more different contacts" if fit_clocks else
+        f"clocks not fitted: each site's clock off by {clock_sigma_s:g} s (one sigma), shared by its contacts",
         f"contacts rejected beyond {reject_sigma:g} sigma: {int((~used).sum())}",
         f"chi2 {chi2:.1f} for {dof} degrees of freedom",
     )
@@ -269,24 +339,25 @@ def reduce_transit_contacts(
     )
 
 
-def _offsets(r, nuisance, names, sd, used):
+def _offsets(r, nuisance, names, noise):
     """The fitted nuisance offsets [s] (for the report; the parallax does not need them)."""
     out = {"contact": {}, "clock": {}}
     if not names:
         return out
-    w = np.where(used, 1.0 / sd, 0.0)
-    b = np.linalg.lstsq(nuisance * w[:, None], r * w, rcond=None)[0]
+    b = np.linalg.lstsq(noise.whiten(nuisance), noise.whiten(r), rcond=None)[0]
     for (kind, key), value in zip(names, b, strict=True):
         out[kind][key] = float(value)
     return out
 
 
-def _budget(estimator, time_sigma_s, drop, rate, site, transit, names, site_sigma_km, clock_sigma_s, used):
+def _budget(estimator, time_sigma_s, signed_drop, group, rate, site, transit, names, site_sigma_km,
+            clock_sigma_s, used):
     """One-sigma contributions to f of each error source (the estimator is linear in the timings)."""
     from firstrung.constants import IUGG_MEAN_RADIUS_KM
 
     timing = math.sqrt(float(np.sum(estimator**2 * np.asarray(time_sigma_s, dtype=float) ** 2)))
-    black = math.sqrt(float(np.sum(estimator**2 * drop**2)))
+    # one drop per instrument, shared by its C2 and C3 with opposite signs
+    black = math.sqrt(float(np.sum(np.bincount(group, weights=estimator * signed_drop) ** 2)))
     # a site moved by site_sigma_km changes its contacts by about rate * (shift / Earth radius)
     position = math.sqrt(float(np.sum((estimator * rate * site_sigma_km / IUGG_MEAN_RADIUS_KM) ** 2)))
     fitted = {key for kind, key in names if kind == "clock"}
@@ -297,7 +368,7 @@ def _budget(estimator, time_sigma_s, drop, rate, site, transit, names, site_sigm
     return {
         "timing (stated errors)": timing,
         "black drop (internal contacts)": black,
-        "clocks of sites that timed one contact": math.sqrt(clock_var),
+        "clocks not fitted (one error per site)": math.sqrt(clock_var),
         "site positions": position,
         "Sun's and planet's radii (fitted offsets)": 0.0,
     }

@@ -155,7 +155,10 @@ def run_transit(campaign_path, *, include_flagged: bool = False, black_drop_sigm
         b = predicted_contacts_tt_jd(p.transits, transit, contact, itrs, scale + _RATE_STEP)
         return (a - origin) * SECONDS_PER_DAY, (b - a) * SECONDS_PER_DAY / _RATE_STEP
 
-    site = np.asarray(log.site[keep], dtype=object) if fit_clocks else np.arange(int(keep.sum())).astype(object)
-    reduction = reduce_transit_contacts(predict, observed_s, transit, contact, site, sigma, drop)
+    site = np.asarray(log.site[keep], dtype=object)
+    # one black drop per instrument: the site and its observer
+    instrument = np.array([f"{s}\x1f{o}" for s, o in zip(log.site[keep], log.observer[keep], strict=True)], dtype=object)
+    reduction = reduce_transit_contacts(predict, observed_s, transit, contact, site, sigma, drop, fit_clocks=fit_clocks,
+                                        instrument=instrument)
     return TransitRun(campaign, p.transits, p.transit, reduction, log.select(keep), problems, rows_read, left_out,
                       drops, fit_clocks)
