@@ -106,12 +106,12 @@ def test_an_output_equal_to_an_input_is_refused(tmp_path, monkeypatch):
     assert refuse_overwriting_inputs(tmp_path / "out.html", [campaign]) == tmp_path / "out.html"
 
 
-def test_a_missing_folder_or_a_folder_as_output_is_refused(tmp_path):
+def test_a_missing_folder_is_created_and_a_folder_as_output_refused(tmp_path):
+    assert write_atomic(tmp_path / "nowhere" / "deeper" / "a.txt", "x").read_text() == "x"
+    (tmp_path / "plain").write_text("")
     with pytest.raises(InputError) as info:
-        write_atomic(tmp_path / "nowhere" / "a.txt", "x")
-    assert str(info.value) == (
-        f"cannot write {tmp_path / 'nowhere' / 'a.txt'}: the folder {tmp_path / 'nowhere'} does not exist"
-    )
+        write_atomic(tmp_path / "plain" / "a.txt", "x")
+    assert str(info.value) == f"cannot write {tmp_path / 'plain' / 'a.txt'}: {tmp_path / 'plain'} exists and is not a folder"
     (tmp_path / "out").mkdir()
     with pytest.raises(InputError) as info:
         write_atomic(tmp_path / "out", "x")

@@ -112,15 +112,24 @@ def make_folder(folder, option: str = "-o") -> Path:
     True
     """
     out = Path(folder)
-    if out.exists() and not out.is_dir():
-        raise InputError(f"{option}: {out} exists and is not a folder")
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as error:
-        raise InputError(f"{option}: cannot create the folder {out}: {error.strerror or error}") from None
+    problem = _create_folder(out)
+    if problem is not None:
+        raise InputError(f"{option}: {problem}")
     if not os.access(out, os.W_OK | os.X_OK):
         raise InputError(f"{option}: cannot write into the folder {out}: permission denied")
     return out
+
+
+def _create_folder(folder: Path) -> str | None:
+    """Create a missing output folder and its parents, the one way every output does; what went wrong, or None."""
+    blocking = next((p for p in (folder, *folder.parents) if p.exists()), None)
+    if blocking is not None and not blocking.is_dir():  # a file where a folder should be, named
+        return f"{blocking} exists and is not a folder"
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as error:
+        return f"cannot create the folder {folder}: {error.strerror or error}"
+    return None
 
 
 def refuse_replacing_others(files, ours, what: str) -> None:
@@ -195,8 +204,9 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
     Parameters
     ----------
     path : path-like
-        Destination; its folder must exist (InputError otherwise). An
-        existing file there is replaced whole, keeping its permissions.
+        Destination; a missing folder (and its parents) is created, as
+        :func:`make_folder` creates a command's output folder. An existing
+        file there is replaced whole, keeping its permissions.
     data : str or bytes
         Text is written as UTF-8 with ``\\n`` line ends.
     inputs : iterable of path-like
@@ -210,7 +220,7 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
     Raises
     ------
     InputError
-        When the output is one of the inputs, its folder does not exist, it
+        When the output is one of the inputs, its folder cannot be created, it
         names a folder, or the system refuses the write (permissions, disk
         full); nothing is left behind.
     TypeError
@@ -229,8 +239,10 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
         raise TypeError(f"write_atomic: expected the data as str or bytes, got {type(data).__name__}")
     out = refuse_overwriting_inputs(path, inputs)
     folder = out.parent if str(out.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"cannot write {out}: the folder {folder} does not exist")
+    if not folder.is_dir():  # a missing folder is created, as make_folder creates a command's output folder
+        problem = _create_folder(folder)
+        if problem is not None:
+            raise InputError(f"cannot write {out}: {problem}")
     if out.is_dir():
         raise InputError(f"cannot write {out}: it is a folder; give a file name")
     payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
