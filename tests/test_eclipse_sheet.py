@@ -95,3 +95,41 @@ def test_half_moon_sheet_gives_the_sites_half_moon_in_its_clock_time(tmp_path, c
     code, out, err = run_cli(["sheet", EXAMPLE, "--kind", "phases", "--site", "lowmead", "--date", "2027-03-15",
                               "-o", sheet, "--blind"], capsys, monkeypatch)
     assert code == 0 and t.strftime("%Y-%m-%d %H:%M") not in sheet.read_text()
+
+
+#: Excerpt of the IAU Gazetteer of Planetary Nomenclature (USGS Astrogeology), Moon craters: centre
+#: latitude and east longitude (planetocentric, Mean Earth/Polar Axis frame) and diameter, as read in
+#: its 2015 full CSV export and re-read for the craters of 50 km and more in a September 2025 export
+#: (same centres; Grimaldi's diameter there 235 km, 173.49 km in 2015). Copied from the project's
+#: reference values, section 8.1 (certainty V: read in the source).
+GAZETTEER_EXCERPT = {
+    "Riccioli": (-2.90, -74.42, 155.66), "Grimaldi": (-5.38, -68.36, 235.0), "Billy": (-13.83, -50.24, 45.57),
+    "Byrgius A": (-24.55, -63.81, 18.45), "Campanus": (-28.04, -27.90, 46.41), "Kepler": (8.12, -38.01, 29.49),
+    "Aristarchus": (23.73, -47.49, 39.99), "Harpalus": (52.73, -43.49, 39.77), "Copernicus": (9.62, -20.08, 96.07),
+    "Pytheas": (20.57, -20.59, 18.81), "Timocharis": (26.72, -13.10, 34.14), "Tycho": (-43.30, -11.22, 85.29),
+    "Plato": (51.62, -9.38, 100.68), "Manilius": (14.45, 9.07, 38.34), "Menelaus": (16.26, 15.93, 27.13),
+    "Dionysius": (2.77, 17.29, 17.25), "Aristoteles": (50.24, 17.32, 87.57), "Eudoxus": (44.27, 16.23, 70.16),
+    "Plinius": (15.36, 23.61, 41.31), "Nicolai A": (-42.47, 23.60, 13.71), "Censorinus": (-0.42, 32.69, 4.10),
+    "Goclenius": (-10.05, 45.03, 73.04), "Taruntius": (5.50, 46.54, 57.32), "Proclus": (16.09, 46.89, 26.91),
+    "Langrenus": (-8.86, 61.04, 131.98),
+}
+
+
+def test_the_crater_table_is_the_gazetteers_and_the_sheet_never_chooses_a_crater_from_memory():
+    from firstrung.methods.eclipse.craters import load_craters
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.sheet import crater_selection
+
+    table = load_craters()
+    read = {n for n, s in zip(table.name, table.source, strict=True) if s == "gazetteer"}
+    assert read == set(GAZETTEER_EXCERPT)  # every row marked as read in the Gazetteer is in the excerpt
+    for name, (lat, lon, diameter) in GAZETTEER_EXCERPT.items():
+        i = table.index(name)
+        assert (table.latitude_deg[i], table.longitude_deg[i], table.diameter_km[i]) == (lat, lon, diameter), name
+    # every other row says it was written from memory, and no sheet lists it
+    memory = {n for n, s in zip(table.name, table.source, strict=True) if s != "gazetteer"}
+    assert memory and {table.source[table.index(n)] for n in memory} == {"memory"}
+    assert {"Petavius", "Eratosthenes", "Theophilus"} <= memory
+    for day in ("2029-12-20", "2028-12-31", "2026-03-03"):
+        chosen = {x["name"] for x in crater_selection(eclipse_near(day + "T12:00:00Z", window_days=1.0))}
+        assert len(chosen) == 12 and chosen <= read and not chosen & memory, day

@@ -2,8 +2,8 @@
 altitude, and a crater list with predicted immersion and emersion times and a chart.
 
 Craters are chosen by our own criterion and said so on the sheet: of the tool's crater table
-(positions from the IAU Gazetteer of Planetary Nomenclature, ``craters.csv``), those at least
-25 km across (easy to find in a small telescope or binoculars), then as many as asked whose
+(``craters.csv``), those whose positions were read in the IAU Gazetteer of Planetary
+Nomenclature (never one written from memory) and at least 25 km across (easy to find in a small telescope or binoculars), then as many as asked whose
 predicted immersions are spread as evenly as possible over the partial phase, so that the
 timings sample the whole edge of the shadow; they are listed in the order they go in.
 """
@@ -41,7 +41,8 @@ def crater_selection(eclipse, n: int = SHEET_CRATERS) -> list[dict]:
     from firstrung.methods.eclipse.prediction import feature_edge_times
 
     table = load_craters()
-    wide = np.flatnonzero(table.diameter_km >= MIN_DIAMETER_KM)
+    read = np.array([s == "gazetteer" for s in table.source], bool)  # never a position written from memory
+    wide = np.flatnonzero(read & (table.diameter_km >= MIN_DIAMETER_KM))
     lat, lon = table.latitude_deg[wide], table.longitude_deg[wide]
     conv = str(eclipse.convention)
     imm = feature_edge_times(eclipse, lat, lon, ["immersion"] * len(wide), convention=conv)
