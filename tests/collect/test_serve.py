@@ -230,3 +230,32 @@ def test_restart_keeps_every_reading_and_downloads_reduce_like_the_files(tmp_pat
     assert served_result["sites"] == files["sites"]
     # a sanity bound, not the reference: the synthetic campaign's radius within 5 % of the WGS84 meridional radius
     assert abs(files["earth_radius_km"]["value"] / files["expected_radius_km"] - 1) < 0.05
+
+
+def test_the_shadow_page_offers_the_angle_and_tip_trace_forms_with_their_own_predictions(served):
+    _, _, server = served
+    site = server.links["sites"]["fjell"]
+    page = request(site).text
+    assert page.count('name="kind" value="shadows"') == 3  # a length, an angle, a tip position
+    for title in ("Shadow length", "The Sun&#39;s altitude", "Shadow tip on the board"):
+        assert title in page, title
+    angle = page[page.index('id="shadows-angle-way"'):page.index('id="shadows-trace-way"')]
+    # the angle form asks for an angle and predicts one: no length field, no length in its hint
+    assert 'name="value:altitude_deg"' in angle and "zenith distance" in angle
+    assert "value:shadow_m" not in angle and "Shortest shadow" not in angle and " cm" not in angle
+    hint = angle[angle.index('class="hint"'):angle.index("</div>")]
+    assert "lower limb" in hint and "upper limb" in hint and "refraction included" in hint
+    trace = page[page.index('id="shadows-trace-way"'):]
+    trace = trace[:trace.index("</form>")]
+    assert 'name="value:tip_x_mm"' in trace and 'name="value:tip_y_mm"' in trace and "value:shadow_m" not in trace
+    assert "every 5 minutes" in trace
+    # an angle and a timed tip position are stored as the log's own columns and checked
+    angle_reading = post_reading(site, "shadows", {"time_local": "2027-03-20T12:30:00", "altitude_deg": "28.1",
+                                                   "limb": "lower"})
+    tip_reading = post_reading(site, "shadows", {"time_local": "2027-03-20T12:30:00", "tip_x_mm": "12",
+                                                 "tip_y_mm": "2110"})
+    for answer in (angle_reading, tip_reading):
+        assert answer.status == 201, answer.text
+    log = request(server.links["coordinator"] + "/logs/shadows.csv").text
+    header = log.splitlines()[0].split(",")
+    assert {"altitude_deg", "limb", "tip_x_mm", "tip_y_mm"} <= set(header)

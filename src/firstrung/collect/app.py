@@ -296,14 +296,25 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         date = form_fields.local_now(site.timezone, now)[:10]
         kinds = []
         for name, kind in state.kinds.items():
-            form_id = new_form_id()
+            ways = []
+            for k, (form, fields) in enumerate(form_fields.forms(kind, site.timezone)):
+                form_id = new_form_id()
+                ways.append({
+                    "id_prefix": name if k == 0 else f"{name}-{form.key}",
+                    "title": form.title if form is not None else "",
+                    "fields": fields,
+                    "hints": form_fields.hints(name, site, date, form.key if form is not None else None),
+                    "form_id": form_id,
+                    "csrf": form_token(state.key, token, form_id, now.timestamp()),
+                    "sent": form is not None and kind_shown == name and any(
+                        (refill or {}).get(key) for n in form.needs for key in (n, f"value:{n}")),
+                })
+            if not any(w["sent"] for w in ways):
+                ways[0]["sent"] = True  # the first form open unless another was just sent
             kinds.append({
                 "name": name,
-                "fields": form_fields.fields(kind, site.timezone),
-                "hints": form_fields.hints(name, site, date),
+                "forms": ways,
                 "caution": form_fields.caution(name),
-                "form_id": form_id,
-                "csrf": form_token(state.key, token, form_id, now.timestamp()),
                 "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
             })
         readings = [r for r in state.store.readings(sites=[site_id])]

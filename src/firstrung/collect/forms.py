@@ -42,6 +42,7 @@ class Field:
     choices: tuple[str, ...] = ()
     columns: tuple[str, ...] = ()  # for a slot with several names: the names offered
     default_column: str = ""
+    column_words: tuple[str, ...] = ()  # how each offered column reads in its choice (its unit by default)
 
 
 def label_of(column: str) -> str:
@@ -56,25 +57,49 @@ def label_of(column: str) -> str:
     return f"{text} ({unit})" if unit else text
 
 
-def fields(kind: LogKind, zone: str | None) -> list[Field]:
-    """The fields of a kind's form, required ones first."""
+def fields(kind: LogKind, zone: str | None, form=None) -> list[Field]:
+    """The fields of a kind's form, required ones first.
+
+    ``form`` is one of the kind's ways of recording a reading (its ``forms``): its
+    own fields only, those it needs required.
+
+    >>> from firstrung.collect.kinds import log_kind
+    >>> shadows = log_kind("shadows")
+    >>> [f.name for f in fields(shadows, None, shadows.forms[1]) if f.required]
+    ['value:time_utc', 'value:altitude_deg']
+    >>> [f.column_words for f in fields(shadows, None, shadows.forms[1]) if f.name == 'value:altitude_deg']
+    [('altitude', 'zenith distance')]
+    """
     out = []
+    left_out = form.leaves_out if form is not None else ()
+    needs = form.needs if form is not None else ()
+    words = dict(form.choice_words) if form is not None else {}
     for slot in kind.slots:
-        if slot.names == ("site",):
-            continue
         first = slot.names[0]
+        if slot.names == ("site",) or first in left_out:
+            continue
+        required = slot.required and not (form is not None and set(slot.unless) & set(needs)) or first in needs
         if slot.names == TIME_COLUMNS:
             default = "time_local" if zone is not None else "time_utc"
-            out.append(Field(f"value:{first}", "Time", "time", slot.required, (), slot.names, default))
+            out.append(Field(f"value:{first}", "Time", "time", required, (), slot.names, default,
+                             tuple("local clock" if c == "time_local" else "UTC" for c in slot.names)))
         elif len(slot.names) > 1:
             default = next((n for n in slot.names if n.endswith("_cm")), first)
             out.append(Field(f"value:{first}", label_of(first).split(" (")[0], "number" if slot.numeric else "text",
-                             slot.required, (), slot.names, default))
+                             required, (), slot.names, default,
+                             tuple(words.get(c, c.rsplit("_", 1)[1]) for c in slot.names)))
         elif first in CHOICES:
-            out.append(Field(first, label_of(first), "choice", slot.required, CHOICES[first]))
+            out.append(Field(first, label_of(first), "choice", required, CHOICES[first]))
         else:
-            out.append(Field(first, label_of(first), "number" if slot.numeric else "text", slot.required))
+            out.append(Field(first, label_of(first), "number" if slot.numeric else "text", required))
     return sorted(out, key=lambda f: not f.required)
+
+
+def forms(kind: LogKind, zone: str | None) -> list[tuple[object | None, list[Field]]]:
+    """Each way of recording a reading of a kind with its fields: one form, or one per ``kind.forms``."""
+    if not kind.forms:
+        return [(None, fields(kind, zone))]
+    return [(form, fields(kind, zone, form)) for form in kind.forms]
 
 
 def clean(text: str) -> str:
@@ -122,6 +147,25 @@ def local_now(zone: str | None, now: dt.datetime) -> str:
 # --- what the site may expect ------------------------------------------------------------------
 
 
+def _noon(site, date: str):
+    """The Sun's transit on a date at a site, and its time on the site's clock (UTC without a zone)."""
+    from firstrung import ephemeris
+
+    transit = ephemeris.solar_transit(date, site.latitude_deg, site.longitude_deg, site.elevation_m)
+    noon = dt.datetime.fromisoformat(str(transit.time_utc.astype("datetime64[s]"))).replace(tzinfo=dt.UTC)
+    return transit, noon
+
+
+def _clock(noon: dt.datetime, zone: str | None, minutes: float = 0.0) -> str:
+    t = noon + dt.timedelta(minutes=minutes)
+    return t.astimezone(ZoneInfo(zone)).strftime("%H:%M:%S") if zone else t.strftime("%H:%M:%S UTC")
+
+
+def _noon_line(site, date: str, noon: dt.datetime) -> str:
+    return f"Local apparent noon on {date}: {_clock(noon, site.timezone)}" + (
+        f" ({site.timezone})" if site.timezone else "")
+
+
 @functools.lru_cache(maxsize=1024)
 def _shadow_hints(site, date: str) -> tuple[str, ...]:
     from firstrung.methods.shadows.prediction import PlanSite
@@ -132,21 +176,59 @@ def _shadow_hints(site, date: str) -> tuple[str, ...]:
         return (f"No gnomon for {site.id} in the campaign file: give its height with each reading.",)
     p = shadow_sheet_predictions(PlanSite(site.id, site.name, site.latitude_deg, site.longitude_deg, site.elevation_m,
                                           site.timezone, g.height_m, g.height_sigma_m, g.shadow_sigma_m, g.edge), date)
-    noon = p["transit_utc"].astype(dt.datetime).replace(tzinfo=dt.UTC)
-    clock = noon.astimezone(ZoneInfo(site.timezone)).strftime("%H:%M:%S") if site.timezone else noon.strftime("%H:%M:%S UTC")
+    _, noon = _noon(site, date)
     return (
-        f"Local apparent noon on {date}: {clock}" + (f" ({site.timezone})" if site.timezone else ""),
+        _noon_line(site, date, noon),
         f"Shortest shadow then: {p['noon_shadow_m'] * 100:.1f} cm of a {g.height_m * 100:.1f} cm gnomon "
-        f"({g.edge} edge), pointing {p['direction']}; the Sun {p['noon_altitude_deg']:.1f} deg high",
+        f"({g.edge} edge), pointing {p['direction']}; the Sun {p['noon_altitude_deg']:.1f}° high",
     )
 
 
-#: Predictions shown beside a kind's form, by log kind (a kind without an entry shows none).
-HINTS = {"shadows": _shadow_hints}
+@functools.lru_cache(maxsize=1024)
+def _angle_hints(site, date: str) -> tuple[str, ...]:
+    """What an instrument set on the Sun reads at noon: altitudes of the centre and both limbs, refracted."""
+    from firstrung.refraction import apparent_from_true_altitude_deg
+
+    transit, noon = _noon(site, date)
+    true = float(transit.altitude_deg)
+    sd = float(transit.semidiameter_deg)
+    lower, centre, upper = (float(apparent_from_true_altitude_deg(true + k * sd)) for k in (-1, 0, 1))
+    return (
+        _noon_line(site, date, noon),
+        f"The Sun's altitude then, as an instrument reads it (refraction included): {centre:.2f}° at its centre, "
+        f"{lower:.2f}° on its lower limb, {upper:.2f}° on its upper limb (zenith distance of the centre "
+        f"{90.0 - centre:.2f}°)",
+        "Never sight the Sun through the instrument: align it by its own shadow or a projected image.",
+    )
 
 
-def hints(kind: str, site, date: str) -> tuple[str, ...]:
-    maker = HINTS.get(kind)
+@functools.lru_cache(maxsize=1024)
+def _trace_hints(site, date: str) -> tuple[str, ...]:
+    """When to mark the tip, and where the noon mark falls from the plumb point."""
+    _, noon = _noon(site, date)
+    lines = [_noon_line(site, date, noon)]
+    lines.append(f"Mark the shadow's tip every 5 minutes from {_clock(noon, site.timezone, -90)[:5]} to "
+                 f"{_clock(noon, site.timezone, 90)[:5]}, at least 5 marks on both sides of noon")
+    g = site.gnomon
+    if g is not None:
+        from firstrung.methods.shadows.prediction import PlanSite
+        from firstrung.methods.shadows.sheet import shadow_sheet_predictions
+
+        p = shadow_sheet_predictions(PlanSite(site.id, site.name, site.latitude_deg, site.longitude_deg,
+                                              site.elevation_m, site.timezone, g.height_m, g.height_sigma_m,
+                                              g.shadow_sigma_m, g.edge), date)
+        lines.append(f"At noon the tip falls about {p['noon_shadow_m'] * 100:.1f} cm {p['direction']} of the plumb "
+                     f"point (the gnomon's tip {g.height_m * 100:.1f} cm above the board)")
+    return tuple(lines)
+
+
+#: Predictions shown beside a kind's form, by log kind and form (a kind without an entry shows none).
+HINTS = {"shadows": {None: _shadow_hints, "length": _shadow_hints, "angle": _angle_hints, "trace": _trace_hints}}
+
+
+def hints(kind: str, site, date: str, form: str | None = None) -> tuple[str, ...]:
+    """The predictions beside one form of a kind: for an angle, the Sun's altitude, never a length."""
+    maker = HINTS.get(kind, {}).get(form)
     if maker is None:
         return ()
     try:

@@ -34,6 +34,10 @@ class LogKind:
         ``log_flags(campaign, log)``: the method's own check, as ``firstrung check`` runs it.
     check_campaign : callable
         ``check_campaign(campaign)``: the method's check of every log of the kind.
+    forms : tuple
+        The log module's ``LOG_FORMS`` when it records a reading in more than one way (a
+        length, an angle, a tip position): each has ``key``, ``title``, ``needs``,
+        ``leaves_out`` and ``choice_words``; empty for a log with one form.
     """
 
     kind: str
@@ -41,6 +45,7 @@ class LogKind:
     read: Callable
     log_flags: Callable
     check_campaign: Callable
+    forms: tuple = ()
 
     @property
     def columns(self) -> tuple[str, ...]:
@@ -87,7 +92,7 @@ def log_kind(kind: str) -> LogKind:
     log_module = method.module("log")
     check_module = method.module("check")
     return LogKind(kind, _slots(log_module), _reader(log_module), check_module.log_flags,
-                   check_module.check_campaign)
+                   check_module.check_campaign, tuple(getattr(log_module, "LOG_FORMS", ())))
 
 
 def named_kinds(campaign_path) -> tuple[str, ...]:

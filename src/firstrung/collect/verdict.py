@@ -61,7 +61,8 @@ def cells_problem(kind: LogKind, cells: dict[str, str]) -> tuple[str, str] | Non
         given = [n for n in slot.names if cells.get(n, "") != ""]
         if len(given) > 1:
             return given[0], f"give one of {', '.join(slot.names)}, not {' and '.join(given)}"
-        if slot.required and not given:
+        instead = [n for n in slot.unless if cells.get(n, "") != ""]  # an angle or a tip instead of a length
+        if slot.required and not given and not instead:
             return slot.names[0], f"a value is needed (as {' or '.join(slot.names)})"
     return None
 

@@ -23,6 +23,7 @@ from firstrung.errors import RowProblem
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
+    FORM_VARIANTS,
     INSTEAD_OF_LENGTH,
     INSTEAD_OF_TIME,
     LENGTH_FORM,
@@ -158,6 +159,9 @@ LOG_SLOTS = (
     Slot(("observer",)),
     Slot(("note",)),
 ) + FORM_SLOTS
+
+#: The ways a reading of this log is recorded, each its own form at the collection point.
+LOG_FORMS = FORM_VARIANTS
 
 
 def _unit_of(column: str) -> str:

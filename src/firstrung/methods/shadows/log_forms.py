@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 import re
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -38,6 +39,34 @@ FORM_SLOTS = (
     Slot(TIP_X_COLUMNS, numeric=True),
     Slot(TIP_Y_COLUMNS, numeric=True),
     Slot(("date",)),
+)
+
+
+@dataclass(frozen=True)
+class FormVariant:
+    """One way of recording a reading, as the collection point offers it: its own form on the kind's page.
+
+    ``needs`` are the first names of the slots a reading of this form must fill; ``leaves_out`` the
+    first names of the slots it does not show (every other slot of the log is offered, optional).
+    """
+
+    key: str
+    title: str
+    needs: tuple[str, ...]
+    leaves_out: tuple[str, ...]
+    #: Words for a slot's alternative columns where they are not units (``altitude_deg``: "altitude").
+    choice_words: tuple[tuple[str, str], ...] = ()
+
+
+#: The shadow log's forms at the collection point: a length, an angle, a tip's position.
+FORM_VARIANTS = (
+    FormVariant("length", "Shadow length", ("shadow_m",),
+                ("altitude_deg", "limb", "angle_sigma_deg", "tip_x_mm", "tip_y_mm", "date")),
+    FormVariant("angle", "The Sun's altitude (quadrant, clinometer, theodolite)", ("altitude_deg",),
+                ("shadow_m", "gnomon_m", "edge", "tip_x_mm", "tip_y_mm", "date"),
+                (("altitude_deg", "altitude"), ("zenith_distance_deg", "zenith distance"))),
+    FormVariant("trace", "Shadow tip on the board (x, y from the plumb point)", ("tip_x_mm", "tip_y_mm"),
+                ("shadow_m", "altitude_deg", "limb", "angle_sigma_deg", "date")),
 )
 
 #: Columns that make a length column unnecessary, and a time column (``date`` for untimed traces).
