@@ -174,7 +174,15 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
             "save the campaign file as UTF-8",
             file=label,
         ) from None
-    return parse_campaign(text, path=file_path)
+    key = (label, data)
+    if key not in _READ:  # the same file read twice in one command (its note, then its work) is parsed once
+        _READ.clear()
+        _READ[key] = parse_campaign(text, path=file_path)
+    return _READ[key]
+
+
+#: The last campaign read, by its path and bytes (a Campaign is frozen: sharing it is safe).
+_READ: dict[tuple[str, bytes], Campaign] = {}
 
 
 def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> Campaign:

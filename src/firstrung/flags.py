@@ -144,18 +144,58 @@ def summarize(records, flags) -> tuple[SummaryRow, ...]:
     >>> [(s.site, s.observer, s.read, s.accepted, s.errors) for s in summarize(rec, fl)]
     [('ridge', '', 2, 1, 1), ('ridge', 'T. O.', 2, 1, 1)]
     """
-    severity = row_severities(flags)
+    if not records:
+        return ()
+    file, row, site, observer = zip(*records, strict=True)
+    return summarize_columns(file, row, site, observer, flags)
+
+
+def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...]:
+    """:func:`summarize` of rows given column by column (arrays or sequences of equal length), in one pass
+    of array operations: the flags are looked up by their rows, the counts by site and observer."""
+    file = np.asarray(file, dtype=object).astype(str)
+    row = np.asarray(row, dtype=np.int64)
+    site = np.asarray(["" if s is None else s for s in site] if any(s is None for s in site) else site,
+                      dtype=object).astype(str)
+    observer = np.asarray(observer, dtype=object).astype(str)
+    n = row.size
+    if n == 0:
+        return ()
+    error = np.zeros(n, bool)
+    flagged = np.zeros(n, bool)
+    refused = {f.file for f in flags if f.row is None and f.code == "unreadable-file" and f.severity == "error"}
+    marked: dict[str, tuple[list[int], list[int]]] = {}  # per file: rows with a flag, rows with an error flag
+    for f in flags:
+        if f.row is not None:
+            rows_of = marked.setdefault(f.file, ([], []))
+            rows_of[0].append(f.row)
+            if f.severity == "error":
+                rows_of[1].append(f.row)
+    for name in np.unique(file):
+        if name not in refused and name not in marked:
+            continue
+        k = np.flatnonzero(file == name)
+        if name in refused:
+            error[k] = flagged[k] = True
+            continue
+        any_flag, with_error = marked[name]
+        flagged[k] = np.isin(row[k], any_flag)
+        error[k] = np.isin(row[k], with_error)
+    warning = flagged & ~error
+    counts = np.stack([np.ones(n, np.int64), ~error, flagged, error, warning]).astype(np.int64)
+    site_names, site_k = np.unique(site, return_inverse=True)
+    observer_names, observer_k = np.unique(observer, return_inverse=True)
     table: dict[tuple[str, str], list[int]] = {}
-    for file, row, site, observer in records:
-        state = severity(file, row)
-        keys = [(site or "", "")] + ([(site or "", observer)] if observer else [])
-        for key in keys:
-            cell = table.setdefault(key, [0, 0, 0, 0, 0])
-            cell[0] += 1
-            cell[1] += state != "error"
-            cell[2] += state is not None
-            cell[3] += state == "error"
-            cell[4] += state == "warning"
+    named = observer != ""
+    for key, pick in ((site_k, slice(None)), (site_k * observer_names.size + observer_k, named)):
+        values, inverse = np.unique(key[pick], return_inverse=True)
+        sums = np.stack([np.bincount(inverse, weights=c[pick], minlength=values.size) for c in counts]).astype(np.int64)
+        for j, value in enumerate(values):
+            if pick is named:
+                name = (str(site_names[value // observer_names.size]), str(observer_names[value % observer_names.size]))
+            else:
+                name = (str(site_names[value]), "")
+            table[name] = [int(v) for v in sums[:, j]]
     return tuple(SummaryRow(s, o, *v) for (s, o), v in sorted(table.items()))
 
 

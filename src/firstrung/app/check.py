@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import io
+import itertools
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -20,7 +21,7 @@ from firstrung import text_files
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
-from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize
+from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize_columns
 
 
 @dataclass(frozen=True)
@@ -161,18 +162,25 @@ def run_check(campaign_path) -> CheckRun:
         series.extend(result.series)
         noon_only = result.noon_only if result.noon_only is not None else noon_only
         files.extend(read_raw_rows(campaign, kind, kept))
+    columns = [(f.label, [n for n, _ in f.rows], f.column_cells("site"), f.column_cells("observer")) for f in files]
+    needed = {(f.file, f.row) for f in flags if f.site is None and f.row is not None}
     site_of, observer_of = {}, {}
-    for f in files:
-        keys = [(f.label, n) for n, _ in f.rows]
-        site_of.update(zip(keys, f.column_cells("site"), strict=True))
-        observer_of.update(zip(keys, f.column_cells("observer"), strict=True))
+    for label, numbers, sites, observers in columns:  # only the rows whose flags lack a site
+        if any(file == label for file, _ in needed):
+            place = dict(zip(numbers, range(len(numbers)), strict=True))
+            for file, row in needed:
+                if file == label and row in place:
+                    site_of[(file, row)] = sites[place[row]]
+                    observer_of[(file, row)] = observers[place[row]]
     flags = [
         f if (f.site is not None or f.row is None) else _with_site(f, site_of.get((f.file, f.row)), observer_of)
         for f in flags
     ]
     flags.sort(key=lambda f: (f.file, -1 if f.row is None else f.row))
-    records = [(f.label, n, site_of[(f.label, n)], observer_of[(f.label, n)]) for f in files for n, _ in f.rows]
-    return CheckRun(campaign, kinds, tuple(flags), tuple(series), summarize(records, flags), tuple(files), noon_only)
+    summary = summarize_columns(*(
+        [value for column in columns for value in itertools.repeat(column[0], len(column[1]))] if k == 0 else
+        [value for column in columns for value in column[k]] for k in range(4)), flags)
+    return CheckRun(campaign, kinds, tuple(flags), tuple(series), summary, tuple(files), noon_only)
 
 
 def _with_site(flag: Flag, site: str | None, observer_of) -> Flag:

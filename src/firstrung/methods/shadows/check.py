@@ -74,6 +74,7 @@ from firstrung.methods.shadows.check_messages import (
     _outlier_flags,
     _pair_flags,
 )
+from firstrung.methods.shadows.check_pairs import _subset
 from firstrung.methods.shadows.check_statistics import (
     _ARCMIN_PER_RAD,
     CHECK_CLOCK_SIGMA_S,
@@ -230,43 +231,16 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     base = series_statistic(group, n_groups, obs0 - pred0, rate0, np.sqrt(rand0), sys0)
 
     zone_offset_h = _zone_offsets_h(sites, rows, group, group_site, group_day)
-    stats, fits, separations = [], [], []
-    for h in HYPOTHESES:  # a few dozen hypotheses, each vectorised over every row
-        pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
-        if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
-            shift_h = -zone_offset_h if h.local_as_utc else np.full(n, h.hours)
-            t_h = t + np.round(shift_h * 3600e3).astype(np.int64).astype("timedelta64[ms]")
-            if _in_span(t_h):
-                pred, rate, _, _ = sun_altitude_rad(t_h, lat * h.latitude_sign, lon * h.longitude_sign)
-            else:
-                stats.append(None)
-                fits.append(None)
-                separations.append(np.zeros(n_groups))
-                continue
-            rand = rand0 - (rate0 * READING_TIME_SIGMA_S) ** 2 + (rate * READING_TIME_SIGMA_S) ** 2
-        if h.factor != 1.0:
-            length = rows.shadow_m / h.factor
-            obs, refr = _observed(rows, length, sign, sd, temperature, pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, sd, refr, measured_weather)
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
-        if h.angle is not None:
-            angle = np.isfinite(rows.altitude_read_deg)
-            retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
-            length = np.where(angle, equivalent_length_m(retyped), rows.shadow_m)
-            obs, refr = _observed(rows, length, sign, sd, temperature, pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, sd, refr, measured_weather)
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
-        if h.edge is not None:
-            obs = obs0 - np.radians((EDGE_LIMB_SIGN[h.edge] - sign) * sd)
-            rand, sysv = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather,
-                                      edge=np.full(n, h.edge, dtype=object))
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
-        fit = series_statistic(group, n_groups, obs - pred, rate, np.sqrt(rand), sysv)
-        delta = (obs0 - pred0) - (obs - pred)
-        sep = series_statistic(group, n_groups, delta, rate0, np.sqrt(rand0), sys0, robust=False).statistic
-        stats.append(fit.statistic)
-        fits.append(fit)
-        separations.append(sep)
+    # Only a series whose statistic as logged reaches DECISIVE_IMPROVEMENT can be explained by a
+    # hypothesis (every statistic is a sum of squares, never below zero); the others are judged on
+    # their level alone, so the hypotheses are tried on the rows of the series that need them.
+    needy = np.flatnonzero(base.statistic >= DECISIVE_IMPROVEMENT)
+    sel = np.flatnonzero(np.isin(group, needy))
+    sub = _Inputs(_subset(rows, sel), np.searchsorted(needy, group[sel]), needy.size, t[sel], lat[sel], lon[sel],
+                  sign[sel], sd[sel], temperature[sel], pressure[sel], measured_weather[sel], zone_offset_h[sel])
+    tried = _single_hypotheses(sub, (obs0 - pred0)[sel], pred0[sel], rate0[sel], obs0[sel], refr0[sel], rand0[sel],
+                               sys0[sel])
+    stats, fits, separations = _widen(tried, needy, sel, n_groups, n)
 
     verdicts = _decide(base, stats, fits, separations, count)
     from firstrung.methods.shadows.check_pairs import pair_verdicts
@@ -331,6 +305,86 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     flags.extend(_duplicate_flags(sites, rows))
     flags.sort(key=lambda f: (f.file, -1 if f.row is None else f.row, CODES.index(f.code) if f.code in CODES else 99))
     return ShadowCheck(tuple(flags), tuple(diagnoses), noon_only)
+
+
+@dataclass(frozen=True)
+class _Inputs:
+    """The rows the hypotheses are tried on and what each needs of them."""
+
+    rows: ShadowReadings
+    group: np.ndarray
+    n_groups: int
+    t: np.ndarray
+    lat: np.ndarray
+    lon: np.ndarray
+    sign: np.ndarray
+    sd: np.ndarray
+    temperature: np.ndarray
+    pressure: np.ndarray
+    measured_weather: np.ndarray
+    zone_offset_h: np.ndarray
+
+
+def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0):
+    """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``."""
+    rows, n = x.rows, len(x.rows)
+    pred0_deg = np.degrees(pred0)
+    stats, fits, separations = [], [], []
+    for h in HYPOTHESES:  # a few dozen hypotheses, each vectorised over every row
+        pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
+        if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
+            shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
+            t_h = x.t + np.round(shift_h * 3600e3).astype(np.int64).astype("timedelta64[ms]")
+            if not _in_span(t_h):
+                stats.append(None)
+                fits.append(None)
+                separations.append(np.zeros(x.n_groups))
+                continue
+            pred, rate, _, _ = sun_altitude_rad(t_h, x.lat * h.latitude_sign, x.lon * h.longitude_sign)
+            rand = rand0 - (rate0 * READING_TIME_SIGMA_S) ** 2 + (rate * READING_TIME_SIGMA_S) ** 2
+        if h.factor != 1.0:
+            length = rows.shadow_m / h.factor
+            obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
+            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather)
+            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+        if h.angle is not None:
+            angle = np.isfinite(rows.altitude_read_deg)
+            retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
+            length = np.where(angle, equivalent_length_m(retyped), rows.shadow_m)
+            obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
+            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather)
+            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+        if h.edge is not None:
+            obs = obs0 - np.radians((EDGE_LIMB_SIGN[h.edge] - x.sign) * x.sd)
+            rand, sysv = _error_terms(rows, rows.shadow_m, pred0_deg, x.sd, refr0, x.measured_weather,
+                                      edge=np.full(n, h.edge, dtype=object))
+            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+        fit = series_statistic(x.group, x.n_groups, obs - pred, rate, np.sqrt(rand), sysv)
+        sep = series_statistic(x.group, x.n_groups, residual0 - (obs - pred), rate0, np.sqrt(rand0), sys0,
+                               robust=False).statistic
+        stats.append(fit.statistic)
+        fits.append(fit)
+        separations.append(sep)
+    return stats, fits, separations
+
+
+def _widen(tried, needy, sel, n_groups: int, n: int):
+    """The hypotheses' results for every series: those of ``needy`` (rows ``sel``), the others never decisive."""
+    stats, fits, separations = [], [], []
+
+    def wide(values, size, where, fill):
+        out = np.full(size, fill)
+        out[where] = values
+        return out
+
+    for s, f, sep in zip(*tried, strict=True):
+        stats.append(None if s is None else wide(s, n_groups, needy, np.inf))
+        fits.append(None if f is None else SeriesStatistic(
+            wide(f.statistic, n_groups, needy, np.inf), wide(f.level_rad, n_groups, needy, np.nan),
+            wide(f.level_sigma_rad, n_groups, needy, np.nan), wide(f.clock_s, n_groups, needy, np.nan),
+            wide(f.mean_square, n_groups, needy, np.nan), wide(f.z, n, sel, np.nan)))
+        separations.append(wide(sep, n_groups, needy, 0.0))
+    return stats, fits, separations
 
 
 def _in_span(t) -> bool:

@@ -1,0 +1,108 @@
+"""The faster paths give what the plain ones gave: the check's hypotheses tried only where they can
+decide, the per-site summary counted by array operations, the campaign file parsed once per command.
+
+No test here times anything (speed is measured by ``benchmarks/run.py``); each compares the fast
+path's result with one computed independently, row by row.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections import Counter
+
+import numpy as np
+
+from firstrung.campaign import read_campaign
+from firstrung.flags import Flag, summarize_columns
+from firstrung.methods.shadows.check import CheckSite, check_shadow_rows
+from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
+
+
+def _rows(site_index, t, shadow_m, sites, rng):
+    n = len(t)
+    return ShadowReadings(
+        np.asarray(site_index), t, shadow_m, np.ones(n), np.full(n, "umbra", dtype=object), np.full(n, 0.002),
+        np.full(n, 0.001), np.full(n, np.nan), np.full(n, np.nan), file=np.full(n, "a.csv", dtype=object),
+        row=np.arange(1, n + 1), time_column=np.full(n, "time_utc", dtype=object),
+        shadow_column=np.full(n, "shadow_m", dtype=object), observer=np.full(n, "", dtype=object))
+
+
+def _day(site: CheckSite, k: int, day: str, noon_utc: str, rng):
+    """Twelve readings 4 minutes apart around a site's noon, simulated with the usual errors."""
+    t = np.datetime64(f"{day}T{noon_utc}", "ms") + np.arange(-6, 6) * np.timedelta64(4, "m")
+    syn = simulate_shadow_readings(np.zeros(t.size, int), t, [site.latitude_deg], [site.longitude_deg],
+                                   [site.elevation_m], [1.0], np.array(["umbra"], dtype=object), ShadowErrors(), rng)
+    return np.full(t.size, k), t, syn.shadow_m
+
+
+def test_a_series_verdict_does_not_depend_on_the_other_series():
+    """A series with centimetres typed as metres is diagnosed the same alone and among many clean series
+    (the hypotheses are tried only on series whose statistic can be lowered decisively)."""
+    rng = np.random.default_rng(7)
+    sites = tuple(CheckSite(f"s{k}", 40.0 + k, 5.0 + 3 * k, 100.0) for k in range(6))
+    parts = [_day(sites[k], k, "2027-03-20", f"{11 - k // 3:02d}:{40 - 12 * (k % 3):02d}", rng) for k in range(6)]
+    index, t, shadow = (np.concatenate(p) for p in zip(*parts, strict=True))
+    shadow[index == 2] *= 100.0  # centimetres typed in a metre column at the third site
+    every = check_shadow_rows(sites, _rows(index, t, shadow, sites, rng))
+    alone_pick = index == 2
+    alone = check_shadow_rows(sites, _rows(index[alone_pick], t[alone_pick], shadow[alone_pick], sites, rng))
+    codes = {(f.code, f.fields.get("factor")) for f in every.flags if f.site == "s2"}
+    assert codes == {("length-unit", 100.0)}
+    assert codes == {(f.code, f.fields.get("factor")) for f in alone.flags}
+    diag = [d for d in every.series if d.site == "s2"]
+    assert [(d.verdict, d.best, d.statistic_best) for d in diag] == [(d.verdict, d.best, d.statistic_best)
+                                                                     for d in alone.series]
+    assert all(d.verdict == "fits" for d in every.series if d.site != "s2")
+
+
+def _row_by_row(file, row, site, observer, flags):
+    """The per-site summary counted one row at a time (the definition, written out)."""
+    refused = {f.file for f in flags if f.row is None and f.code == "unreadable-file" and f.severity == "error"}
+    states = {}
+    for f in flags:
+        if f.row is not None:
+            key = (f.file, f.row)
+            states[key] = "error" if "error" in (states.get(key), f.severity) else f.severity
+    table = Counter()
+    for fi, r, s, o in zip(file, row, site, observer, strict=True):
+        state = "error" if fi in refused else states.get((fi, r))
+        for key in [(s, "")] + ([(s, o)] if o else []):
+            table[key + ("read",)] += 1
+            table[key + ("accepted",)] += state != "error"
+            table[key + ("flagged",)] += state is not None
+            table[key + ("errors",)] += state == "error"
+            table[key + ("warnings",)] += state == "warning"
+    return table
+
+
+def test_summary_by_arrays_equals_the_row_by_row_count():
+    rng = np.random.default_rng(3)
+    n = 2_000
+    file = rng.choice(["a.csv", "b.csv", "c.csv"], n)
+    row = np.zeros(n, int)
+    for name in ("a.csv", "b.csv", "c.csv"):
+        row[file == name] = np.arange(1, int((file == name).sum()) + 1)
+    site = rng.choice(["ridge", "fjell", "kap", ""], n)
+    observer = rng.choice(["", "A. B.", "C. D."], n)
+    picked = rng.choice(n, 300, replace=False)
+    flags = [Flag(str(file[k]), int(row[k]), None, "outlier", str(rng.choice(["error", "warning"])), "m", "f")
+             for k in itertools.chain(picked, picked[:50])]  # some rows flagged twice
+    flags.append(Flag("c.csv", None, None, "unreadable-file", "error", "m", "f"))
+    summary = summarize_columns(file, row, site, observer, flags)
+    expected = _row_by_row(file, row, site, observer, flags)
+    keys = sorted({k[:2] for k in expected})
+    assert [(s.site, s.observer) for s in summary] == keys
+    for s in summary:
+        for what in ("read", "accepted", "flagged", "errors", "warnings"):
+            assert getattr(s, what) == expected[(s.site, s.observer, what)], (s, what)
+    assert sum(s.read for s in summary if s.observer == "") == n
+
+
+def test_campaign_parsed_once_but_never_stale(tmp_path):
+    path = tmp_path / "c.toml"
+    path.write_text('[[site]]\nid = "ridge"\nlatitude_deg = 46.2\nlongitude_deg = 7.4\n')
+    first = read_campaign(path)
+    assert read_campaign(path) is first  # the same bytes: parsed once
+    path.write_text('[[site]]\nid = "ridge"\nlatitude_deg = 46.3\nlongitude_deg = 7.4\n')
+    assert read_campaign(path).sites[0].latitude_deg == 46.3  # new bytes: read again
