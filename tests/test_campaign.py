@@ -128,6 +128,8 @@ def test_valid_campaign_round_trip(tmp_path):
         "eclipse": (tmp_path / "logs/eclipse.csv",),
         "phases": (),
         "transits": (),
+        "astrometry": (),
+        "light_curves": (),
     }
     assert campaign.eclipse == EclipseSettings(
         moon_diameter_arcmin=31.2,
@@ -211,11 +213,11 @@ def test_toml_syntax_error_is_relative_to_the_given_path():
         ('[campaign]\ntitle = "x"\n' + SITE, "campaign.title: unknown key 'title' (allowed: name)"),
         (
             "[sites]\n" + SITE,
-            "sites: unknown table 'sites' (allowed: campaign, site, baseline, logs, eclipse)",
+            "sites: unknown table 'sites' (allowed: campaign, site, baseline, logs, eclipse, star)",
         ),
         (
             "version = 2\n" + SITE,
-            "version: unknown top-level key 'version' (allowed: campaign, site, baseline, logs, eclipse)",
+            "version: unknown top-level key 'version' (allowed: campaign, site, baseline, logs, eclipse, star)",
         ),
     ],
 )
@@ -445,7 +447,7 @@ def test_a_pair_has_one_baseline(tmp_path):
     [
         (
             'shadow = ["a.csv"]\n',
-            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases, transits, date_order)",
+            "logs.shadow: unknown key 'shadow' (allowed: shadows, eclipse, phases, transits, astrometry, light_curves, date_order)",
         ),
         (
             "shadows = 3\n",

@@ -94,7 +94,7 @@ def _distinct(paths) -> tuple[Path, ...]:
     return tuple(out)
 
 
-_TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse")
+_TOP_LEVEL_KEYS = ("campaign", "site", "baseline", "logs", "eclipse", "star")
 _CAMPAIGN_KEYS = ("name",)
 _SITE_KEYS = ("id", "name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "gnomon", "angle_instrument")
 _ANGLE_KEYS = ("sigma_deg", "limb", "index_correction_deg", "index_correction_sigma_deg")
@@ -242,7 +242,10 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
 
     default_name = "campaign" if file_path is None else file_path.stem
     name = reader.campaign_name(document.get("campaign"), default_name)
-    sites = reader.sites(document.get("site"))
+    from firstrung.campaign_stars import read_stars
+
+    stars = read_stars(reader, document.get("star"))
+    sites = reader.sites(document.get("site")) if "site" in document or not stars else ()
     baselines = reader.baselines(document.get("baseline"), sites)
     folder = Path(".") if file_path is None else file_path.parent
     logs = reader.logs(document.get("logs"), folder if file_path is not None else None)
@@ -256,6 +259,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
         logs=logs,
         eclipse=eclipse,
         date_order=date_order,
+        stars=stars,
     )
 
 

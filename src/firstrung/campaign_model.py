@@ -26,7 +26,7 @@ EDGES = ("umbra", "middle", "outer")
 
 
 #: The kinds of log a campaign lists under ``[logs]``.
-LOG_KINDS = ("shadows", "eclipse", "phases", "transits")
+LOG_KINDS = ("shadows", "eclipse", "phases", "transits", "astrometry", "light_curves")
 
 
 #: Site ids: letters, digits, ``-`` and ``_``.
@@ -183,6 +183,36 @@ class EclipseSettings:
     moon_diameter_utc: str | None = None
 
 
+@dataclass(frozen=True)
+class Star:
+    """One star of a campaign (``[[star]]``): its place and the extinction towards it.
+
+    Parameters
+    ----------
+    id : str
+        Short id used in the logs' ``star`` column.
+    name : str
+        Free text (the id when the file gives none).
+    ra_deg, dec_deg : float
+        ICRS right ascension and declination [deg].
+    extinction_mag, extinction_sigma_mag : float or None
+        Interstellar extinction in the light-curve log's band and its one-sigma [mag].
+    hip : int or None
+        Its Hipparcos number, when given (else the shipped catalogue is searched by position).
+    period_days : float or None
+        A Cepheid's known period, for planning its nights [d].
+    """
+
+    id: str
+    name: str
+    ra_deg: float
+    dec_deg: float
+    extinction_mag: float | None = None
+    extinction_sigma_mag: float | None = None
+    hip: int | None = None
+    period_days: float | None = None
+
+
 def _empty_logs() -> dict[str, tuple[Path, ...]]:
     return {kind: () for kind in LOG_KINDS}
 
@@ -215,6 +245,19 @@ class Campaign:
     logs: dict[str, tuple[Path, ...]] = field(default_factory=_empty_logs)
     eclipse: EclipseSettings = field(default_factory=EclipseSettings)
     date_order: str = "iso"
+    stars: tuple[Star, ...] = ()
+
+    def star_matching(self, cell: str) -> Star | None:
+        """The star whose id or name is ``cell`` (case and surrounding spaces ignored), else ``None``.
+
+        >>> Campaign("c", stars=(Star("dcep", "delta Cephei", 337.3, 58.4),)).star_matching("Delta Cephei").id
+        'dcep'
+        """
+        key = cell.strip().lower()
+        for star in self.stars:
+            if star.id.lower() == key or star.name.strip().lower() == key:
+                return star
+        return None
 
     @functools.cached_property
     def site_ids(self) -> tuple[str, ...]:

@@ -2,7 +2,9 @@
 
 Each method (``shadows``: noon Sun -> the Earth's radius; ``eclipse``: lunar
 eclipse -> the Moon's distance; ``phases``: half moon -> the Sun/Moon distance
-ratio) is one package holding everything specific to it:
+ratio; ``transit``: a transit of Mercury or Venus -> the solar parallax; ``parallax``:
+a star's yearly parallax -> its distance in parsecs; ``cepheids``: a Cepheid's period
+and mean magnitude -> its distance) is one package holding everything specific to it:
 
 ``prediction``   what the ephemeris predicts, for planning
 ``log``          its log's columns and row parsing (on :mod:`firstrung.tabular`)
@@ -94,6 +96,12 @@ REGISTRY: tuple[Method, ...] = (
         "transit", "The solar parallax and the Sun's distance from timed contacts of a transit.",
         "transit", "Transit logs: C1-C4 at every site of every transit of the range where the Sun is up.",
         aliases=("transits",),
+    ),
+    Method(
+        "parallax", "astrometry",
+        "parallax", "Dates when each star's parallax displacement is largest and it is well placed at the sites.",
+        "parallax", "Each star's parallax, distance and proper motion from its measured positions.",
+        "parallax", "Astrometry logs: each star's place every few weeks when a site sees it in a dark sky.",
     ),
 )
 

@@ -1,0 +1,199 @@
+"""``firstrung plan parallax``, ``reduce parallax``, ``simulate parallax``: the parallax method's commands."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from firstrung.cli.common import (
+    CampaignArgument,
+    FromOption,
+    IncludeFlaggedOption,
+    JsonOption,
+    OutputOption,
+    SeedOption,
+    ToOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    print_json,
+    report_left_out,
+    report_problems,
+    simulation_range,
+    write_simulated,
+)
+
+StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
+
+
+def register_plan(group: typer.Typer) -> None:
+    """Add ``parallax`` to the ``plan`` group."""
+    group.command("parallax")(handles_errors(plan_parallax))
+
+
+def plan_parallax(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    star: StarOption = None,
+    step_days: Annotated[int, typer.Option("--step-days", min=1, max=366, help="Days between the listed dates.")] = 7,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+) -> None:
+    """Dates when each star's parallax displacement is largest and it is well placed at the sites."""
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.parallax.present import parallax_plan_to_json
+    from firstrung.methods.parallax.run import plan_parallax as plan
+
+    first, last = simulation_range(date_from, date_to)
+    data = parallax_plan_to_json(plan(read_campaign(campaign), first, last, step_days=step_days, star_id=star))
+    if json_output:
+        print_json(data)
+        return
+    render_plan(data, verbose)
+
+
+def render_plan(data: dict, verbose: bool) -> None:
+    """Rich tables for a parallax plan: the ranked dates of each star (every date with --verbose)."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: parallax epochs {data['from']} to {data['to']}")
+    for s in data["stars"]:
+        cat = s["catalogue"]
+        known = (f"catalogue parallax {cat['parallax_mas']:.2f} ± {cat['parallax_sigma_mas']:.2f} mas (HIP {cat['hip']})"
+                 if cat else "not in the catalogue: displacement per 1 mas of parallax")
+        table = Table(box=box.SIMPLE_HEAD, title=f"{escape(s['name'])}: {known}", pad_edge=False)
+        for col in ("rank", "date", "factor RA", "factor Dec", "shift (mas)", "dark hours (best site)"):
+            table.add_column(col, justify="left" if col == "date" else "right", no_wrap=True)
+        days = s["days"] if verbose else sorted((d for d in s["days"] if d["rank"]), key=lambda d: d["rank"])[:12]
+        for d in days:
+            hours = max((v["dark_hours"] for v in d["sites"].values()), default=None)
+            table.add_row("-" if d["rank"] is None else str(d["rank"]), d["date"], f"{d['parallax_factor_ra']:+.3f}",
+                          f"{d['parallax_factor_dec']:+.3f}", f"{d['displacement_mas']:.1f}",
+                          "" if hours is None else f"{hours:.1f}")
+        out.print(table)
+        ruled_out = sum(1 for d in s["days"] if d["rank"] is None)
+        if ruled_out:
+            out.print(f"  {ruled_out} of {len(s['days'])} dates ruled out: the star is not well placed in a dark sky")
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+
+
+def register_reduce(group: typer.Typer) -> None:
+    """Add ``parallax`` to the ``reduce`` group."""
+    group.command("parallax")(handles_errors(reduce_parallax))
+
+
+def reduce_parallax(
+    campaign: CampaignArgument,
+    figure: Annotated[Path | None, typer.Option("--figure", help="Also write the parallax ellipse with the epochs (.svg or .png).")] = None,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+    include_flagged: IncludeFlaggedOption = False,
+) -> None:
+    """Each star's parallax, distance and proper motion from its measured positions.
+
+    Exit status 2 when any row or file was refused (the result from the good rows is still shown).
+    """
+    from firstrung.errors import InputError
+    from firstrung.methods.parallax.present import parallax_run_to_json
+    from firstrung.methods.parallax.run import run_parallax
+
+    if figure is not None and figure.suffix.lower() not in (".svg", ".png"):
+        raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
+    run = run_parallax(campaign, include_flagged=include_flagged)
+    data = parallax_run_to_json(run)
+    if figure is not None:
+        from firstrung import figures
+        from firstrung.methods.parallax.present import parallax_ellipse_figure
+        from firstrung.output import write_atomic
+
+        fig = parallax_ellipse_figure([(s.star.name, s.fit) for s in run.stars])
+        body = figures.to_png(fig) if figure.suffix.lower() == ".png" else figures.to_svg(fig).encode()
+        write_atomic(figure, body, inputs=[campaign])
+    if json_output:
+        print_json(data)
+    else:
+        render_reduction(data, verbose)
+        if figure is not None:
+            console().print(f"  figure written to {figure}")
+    report_left_out(run.rows_left_out_flagged)
+    report_problems(run.problems)
+    if run.problems:
+        raise typer.Exit(2)
+
+
+def _interval(q: dict, digits: int) -> str:
+    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
+    low = "?" if q["low"] is None else f"{q['low']:.{digits}f}"
+    return f"{low} to {high}"
+
+
+def render_reduction(data: dict, verbose: bool) -> None:
+    """Rich tables for a parallax reduction."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: stellar parallax from the campaign's astrometry")
+    for s in data["stars"]:
+        p, d, ly = s["parallax_mas"], s["distance_pc"], s["distance_ly"]
+        out.print(f"  [bold]{escape(s['name'])}[/bold]: {len(s['epochs'])} epochs over {s['span_days']:.0f} days")
+        out.print(f"    parallax       {p['value']:.2f} ± {p['sigma']:.2f} mas")
+        value = "undetermined" if d["value"] is None else f"{d['value']:.2f}"
+        out.print(f"    distance       {value} pc   (68 % interval {_interval(d, 2)})")
+        if ly["value"] is not None:
+            out.print(f"                   {ly['value']:.2f} light years   (68 % interval {_interval(ly, 2)})")
+        out.print(f"    proper motion  {s['proper_motion_ra_mas_per_yr']['value']:+.1f} mas/yr in RA, "
+                  f"{s['proper_motion_dec_mas_per_yr']['value']:+.1f} mas/yr in Dec")
+        cat = s["catalogue"]
+        if cat:
+            out.print(f"    catalogue      {cat['parallax_mas']:.2f} ± {cat['parallax_sigma_mas']:.2f} mas (HIP {cat['hip']}, "
+                      "Hipparcos new reduction)")
+        out.print(f"    chi2 {s['chi2']:.1f} for {s['dof']} degrees of freedom"
+                  + ("" if s["error_scale"] == 1 else f"; errors scaled by {s['error_scale']:.2f}"))
+        budget = Table(title="Error budget of the parallax", box=box.SIMPLE_HEAD)
+        budget.add_column("source")
+        budget.add_column("sigma (mas)", justify="right", no_wrap=True)
+        for b in s["error_budget"]:
+            budget.add_row(b["source"], f"{b['sigma_mas']:.3f}")
+        out.print(budget)
+    for note in data["notes"]:
+        out.print(f"  not fitted: {escape(note)}")
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+    rows = data["rows"]
+    out.print(f"  rows: {rows['read']} read, {rows['accepted']} used" + (f", {rows['refused']} refused" if rows["refused"] else ""))
+
+
+def register_simulate(group: typer.Typer) -> None:
+    """Add ``parallax`` to the ``simulate`` group."""
+    group.command("parallax")(handles_errors(simulate_parallax))
+
+
+def simulate_parallax(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    output: OutputOption,
+    seed: SeedOption = 1,
+    sigma_arcsec: Annotated[float, typer.Option("--sigma-arcsec", min=0.0001, max=60.0, help="Error of one coordinate of one position [arcsec].")] = 0.05,
+    cadence_days: Annotated[int, typer.Option("--cadence-days", min=1, max=366, help="Days between epochs.")] = 14,
+    parallax_mas: Annotated[float | None, typer.Option("--parallax-mas", min=0.0, help="Give every star this parallax instead of the catalogue's [mas].")] = None,
+) -> None:
+    """Astrometry logs: each star's place every few weeks when a site sees it in a dark sky."""
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.parallax.rehearsal import LOG_COLUMNS, rehearsal_rows
+
+    first, last = simulation_range(date_from, date_to)
+    rows = rehearsal_rows(read_campaign(campaign), first, last, seed, sigma_arcsec=sigma_arcsec,
+                          cadence_days=cadence_days, parallax_mas=parallax_mas)
+    write_simulated(campaign, "astrometry", rows, LOG_COLUMNS, output, "star positions")

@@ -1,0 +1,66 @@
+"""What the parallax method gives the ladder: the parsec rung (each measured star's parallax).
+And what it gives the report: its section (:func:`report_section`).
+"""
+
+from __future__ import annotations
+
+from firstrung.errors import ComputationError, InputError
+from firstrung.uncertainty import Draw
+
+
+def ladder_draws(ctx) -> None:
+    """Each star's parallax (Gaussian in mas) for the parsec rung."""
+    from firstrung.methods.parallax.present import CATALOGUE_SOURCE
+    from firstrung.methods.parallax.run import run_parallax
+
+    try:
+        run = run_parallax(ctx.campaign_path)
+    except (InputError, ComputationError) as error:
+        ctx.notes.append(f"parallax not reduced: {error}")
+        return
+    ctx.runs["parallax"] = run
+    stars = list(ctx.draws.get("star_parallaxes", ()))
+    for sp in run.stars:
+        p = sp.fit.parallax_mas
+        cat = sp.catalogue
+        modern = None if cat is None or not cat.parallax_mas > 0 else (
+            1000.0 / cat.parallax_mas, f"HIP {cat.hip}, {CATALOGUE_SOURCE}")
+        stars.append((sp.star.id, sp.star.name, "parallax", Draw("gaussian", p.value, p.sigma or 0.0), modern))
+    ctx.draws["star_parallaxes"] = tuple(stars)
+    ctx.sources.append(("star_distance_pc", "stellar parallax from the campaign's astrometry (reduce parallax)"))
+    ctx.problems.extend(run.problems)
+
+
+TITLE = "Stellar parallax: the distance of a nearby star"
+
+METHOD = (
+    "Through the year the Earth's motion about the Sun makes a nearby star trace a small ellipse against "
+    "the distant background stars. Each epoch's position, measured against reference stars on the "
+    "observatory's own images, is fitted with the star's place, its proper motion and its parallax "
+    "together; the parallax factors come from the Earth's position in the JPL DE421 ephemeris. The "
+    "distance in parsecs is 1000 over the parallax in milliarcseconds: one parsec is the distance at "
+    "which one astronomical unit subtends one arcsecond."
+)
+
+
+def report_section(run, progress=lambda step: None) -> dict:
+    """The parallax section of the report: its context (``data``), the ellipse figure, headline and dates."""
+    from firstrung.methods.parallax.present import parallax_ellipse_figure, parallax_run_to_json
+    from firstrung.numbers import rounded
+
+    progress("drawing the parallax ellipses")
+    data = parallax_run_to_json(run)
+    parts = []
+    for s in data["stars"]:
+        d = s["distance_pc"]
+        if d["value"] is None:
+            parts.append(f"{s['name']}'s parallax is {s['parallax_mas']['value']:.1f} ± "
+                         f"{s['parallax_mas']['sigma']:.1f} mas: too small to give a distance")
+            continue
+        value, interval = rounded(d["value"], d["low"], d["high"], space=" ")
+        parts.append(f"{s['name']} is {value} pc away (68 % interval {interval} pc)")
+    figs = {"ellipse": parallax_ellipse_figure([(s.star.name, s.fit) for s in run.stars])}
+    dates = sorted({e["time_utc"][:10] for s in data["stars"] for e in s["epochs"]})
+    return {"name": "parallax", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
+            "headline": "From the campaign's own astrometry, " + "; ".join(parts) + ".",
+            "dates": dates[:1] + dates[-1:]}
