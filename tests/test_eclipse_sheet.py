@@ -81,7 +81,8 @@ def test_half_moon_sheet_gives_the_sites_half_moon_in_its_clock_time(tmp_path, c
     code, out, err = run_cli(["plan", "phases", EXAMPLE, "--from", "2027-03-13", "--to", "2027-03-17", "--json"],
                              capsys, monkeypatch)
     assert code == 0, err
-    here = json.loads(out)["quarters"][0]["sites"]["lowmead"]
+    quarter = json.loads(out)["quarters"][0]
+    here = quarter["sites"]["lowmead"]
     sheet = tmp_path / "p.html"
     code, out, err = run_cli(["sheet", EXAMPLE, "--kind", "phases", "--site", "lowmead", "--date", "2027-03-15",
                               "-o", sheet], capsys, monkeypatch)
@@ -94,7 +95,18 @@ def test_half_moon_sheet_gives_the_sites_half_moon_in_its_clock_time(tmp_path, c
     assert "never sight the Sun" in text
     code, out, err = run_cli(["sheet", EXAMPLE, "--kind", "phases", "--site", "lowmead", "--date", "2027-03-15",
                               "-o", sheet, "--blind"], capsys, monkeypatch)
-    assert code == 0 and t.strftime("%Y-%m-%d %H:%M") not in sheet.read_text()
+    assert code == 0, err
+    blind = sheet.read_text()
+    # nothing that gives the half moon's moment away: neither its time, nor the quadrature's (minutes from
+    # it), nor which window holds it, nor the altitudes at it; the windows and the boxes to fill stay
+    q = dt.datetime.fromisoformat(quarter["quadrature_utc"].replace("Z", "+00:00")).astimezone(ZoneInfo("Europe/Zurich"))
+    assert q.strftime("%Y-%m-%d %H:%M") in text
+    for leak in (t.strftime("%H:%M"), q.strftime("%H:%M"), "<th>holds the half moon", "Moon's altitude", "quadrature "):
+        assert leak not in blind, leak
+    blind_rows, full_rows = parse(blind).rows, parse(text).rows
+    windows = [r for r in full_rows if len(r) == 6 and r[2].replace(".", "").isdigit()]
+    assert windows and all(r[:3] in blind_rows for r in windows)
+    assert "Clock offset" in blind and blind.count('class="blank"') == text.count('class="blank"')
 
 
 #: Excerpt of the IAU Gazetteer of Planetary Nomenclature (USGS Astrogeology), Moon craters: centre
