@@ -14,6 +14,7 @@ from pathlib import Path
 import pytest
 
 from firstrung.cli import main
+from tests.cli.test_widths import twelve_sites  # noqa: F401 (a fixture)
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
 BROWSER = shutil.which("chromium") or shutil.which("chromium-browser")
@@ -23,6 +24,27 @@ PRINTABLE_HEIGHT_PT = (297 - 2 * 14) * 72 / 25.4
 CONTENT_WIDTH_PT = 190 * 72 / 25.4
 
 
+def printed_pages(html: Path, tmp_path: Path) -> int:
+    """Print an HTML file to A4 PDF with headless Chromium; its number of pages."""
+    pdf = html.with_suffix(".pdf")
+    cmd = [BROWSER, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
+           html.as_uri()]
+    subprocess.run(cmd, capture_output=True, timeout=120, check=False)
+    assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-"
+    return len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
+
+
+def assert_figures_whole(html: Path, expected: int) -> None:
+    """Every figure fits on one printed page (the print CSS keeps figures whole: break-inside: avoid)."""
+    figures = re.findall(r'<svg[^>]*width="([\d.]+)pt"[^>]*height="([\d.]+)pt"', html.read_text())
+    assert len(figures) == expected
+    for width, height in figures:
+        scale = min(1.0, CONTENT_WIDTH_PT / float(width))
+        assert float(height) * scale < PRINTABLE_HEIGHT_PT
+
+
 @pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
 def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypatch):
     html = tmp_path / "report.html"
@@ -30,19 +52,21 @@ def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypa
         main(["report", str(EXAMPLE), "-o", str(html), "--samples", "20000"])
     assert done.value.code == 0
     capsys.readouterr()
-    pdf = tmp_path / "report.pdf"
-    cmd = [BROWSER, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-           "--disable-background-networking", "--disable-component-update", "--disable-sync",
-           f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
-           html.as_uri()]
-    subprocess.run(cmd, capture_output=True, timeout=120, check=False)
-    assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-"
-    pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
+    pages = printed_pages(html, tmp_path)
     assert 2 <= pages <= 8, pages  # the demo's report: at most 8 A4 pages
-    # every figure fits on one printed page (the print CSS keeps figures whole: break-inside: avoid)
+    assert_figures_whole(html, 5)
+
+
+@pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
+def test_a_twelve_site_report_keeps_to_eight_pages(twelve_sites, tmp_path, capsys, monkeypatch):
+    """Twelve sites (64 N to 41 S) with shadow, eclipse and half-moon logs: still at most 8 A4 pages."""
+    html = tmp_path / "report.html"
+    with pytest.raises(SystemExit) as done:
+        main(["report", str(twelve_sites), "-o", str(html), "--samples", "4000"])
+    assert done.value.code == 0
+    capsys.readouterr()
     text = html.read_text()
-    figures = re.findall(r'<svg[^>]*width="([\d.]+)pt"[^>]*height="([\d.]+)pt"', text)
-    assert len(figures) == 5
-    for width, height in figures:
-        scale = min(1.0, CONTENT_WIDTH_PT / float(width))
-        assert float(height) * scale < PRINTABLE_HEIGHT_PT
+    assert all(f"site{i:02d}" in text for i in range(1, 13))  # every site is in it, none left out to save room
+    pages = printed_pages(html, tmp_path)
+    assert 2 <= pages <= 8, pages
+    assert_figures_whole(html, 5)
