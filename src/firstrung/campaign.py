@@ -83,6 +83,9 @@ SHADOW_SIGMA_MIN_M = 1e-5
 #: the longest shortest path between two points on the Earth's surface.
 BASELINE_LIMIT_KM = math.pi * WGS84_SEMI_MAJOR_AXIS_M / 1000.0
 
+_NO_SITES = "no [[site]] table; a campaign needs at least one site (id, latitude_deg, longitude_deg)"
+
+
 def _distinct(paths) -> tuple[Path, ...]:
     """The paths in order, each file once: ``logs/x.csv`` and ``./logs/x.csv`` (or a link to it) are one log."""
     out, seen = [], set()
@@ -178,7 +181,14 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
     if key not in _READ:  # the same file read twice in one command (its note, then its work) is parsed once
         _READ.clear()
         _READ[key] = parse_campaign(text, path=file_path)
-    return _READ[key]
+    from firstrung.open_sites import with_row_sites
+
+    # the sites that log rows carry are read every time: the logs may have changed since
+    campaign = with_row_sites(_READ[key])
+    if not campaign.sites and not campaign.stars:
+        raise InputError(_NO_SITES + " (or shadow-log rows that give their own latitude_deg and longitude_deg)",
+                         file=label)
+    return campaign
 
 
 #: The last campaign read, by its path and bytes (a Campaign is frozen: sharing it is safe).
@@ -249,6 +259,8 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
     baselines = reader.baselines(document.get("baseline"), sites)
     folder = Path(".") if file_path is None else file_path.parent
     logs = reader.logs(document.get("logs"), folder if file_path is not None else None)
+    if not sites and not stars and not logs["shadows"]:  # open networks: the shadow logs' rows may give the sites
+        raise reader.error(None, _NO_SITES)
     eclipse = reader.eclipse(document.get("eclipse"))
     date_order = reader.date_order(document.get("logs"))
     return Campaign(
@@ -360,11 +372,7 @@ class _Reader:
 
     def sites(self, value: object) -> tuple[Site, ...]:
         if value is None:
-            raise self.error(
-                None,
-                "no [[site]] table; a campaign needs at least one site (id, latitude_deg, "
-                "longitude_deg)",
-            )
+            return ()
         if not isinstance(value, list):
             raise self.error("site", "expected sites written as [[site]] (an array of tables)")
         sites: list[Site] = []

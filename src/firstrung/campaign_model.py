@@ -246,6 +246,10 @@ class Campaign:
     eclipse: EclipseSettings = field(default_factory=EclipseSettings)
     date_order: str = "iso"
     stars: tuple[Star, ...] = ()
+    #: Sites that shadow-log rows gave themselves (open networks, see :mod:`firstrung.open_sites`),
+    #: and the rows refused on the way (positions that disagree, bad position cells).
+    row_site_ids: tuple[str, ...] = ()
+    row_problems: tuple = ()
 
     def star_matching(self, cell: str) -> Star | None:
         """The star whose id or name is ``cell`` (case and surrounding spaces ignored), else ``None``.

@@ -236,6 +236,11 @@ def _outlier_flags(sites, rows, group, n_groups, count, z, residual0, rand0, sys
         spread = np.where(big, np.maximum(1.0, 1.4826 * mad), 1.0)
     score = np.abs(z) / spread[group]
     direct = np.abs(residual0) / np.sqrt(rand0 + sys0)
+    if np.count_nonzero(small) >= MIN_ROWS_FOR_SPREAD:
+        # a network of single readings: their spread about the Sun, when larger than stated, scales
+        # the test as a series' own spread does (schools state no errors; their readings scatter)
+        d = (residual0 / np.sqrt(rand0 + sys0))[small]
+        direct = direct / max(1.0, 1.4826 * float(np.median(np.abs(d - np.median(d)))))
     score = np.where(small, direct, score)
     explained = np.array([v[0] == "explained" for v in verdicts])
     # in an unexplained series the whole series is flagged; rows are not tested one by one

@@ -21,6 +21,7 @@ from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.open_sites import POSITION_SLOTS, without_refused_rows
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
     FORM_VARIANTS,
@@ -158,7 +159,7 @@ LOG_SLOTS = (
     Slot(("pressure_hpa",), numeric=True),
     Slot(("observer",)),
     Slot(("note",)),
-) + FORM_SLOTS
+) + FORM_SLOTS + POSITION_SLOTS
 
 #: The ways a reading of this log is recorded, each its own form at the collection point.
 LOG_FORMS = FORM_VARIANTS
@@ -540,6 +541,7 @@ def read_shadow_logs(
     if short:
         columns = {name: values[keep] for name, values in columns.items()}
         problems = sorted(list(problems) + short, key=lambda p: (p.file, p.row or 0))
+    columns, problems = without_refused_rows(campaign, columns, problems)
     return ShadowLog(
         **columns,
         problems=tuple(problems),

@@ -9,7 +9,11 @@ from firstrung.jsonout import time_z as _time
 
 def shadow_run_to_json(run) -> dict:
     """The ``reduce shadows`` result (see DESIGN section 4)."""
+    from firstrung.methods.shadows.pairs import partners_of
+    from firstrung.methods.shadows.present_network import network_json, site_network_json
+
     r = run.reduction
+    partners = partners_of(run.pairs) if getattr(run, "pairs", None) is not None else {}
     sites = []
     for s in r.sites:
         sites.append(
@@ -40,13 +44,13 @@ def shadow_run_to_json(run) -> dict:
                     } | _board(d)
                     for d in s.series
                 ],
-            }
+            } | site_network_json(run, s.id, partners)
         )
     total = sum(t.sigma**2 for t in r.budget)
     warnings = {"warnings": list(r.warnings)} if r.warnings else {}
     return warnings | {
         "campaign": run.campaign.name,
-        "method": "noon gnomon shadows: astronomical latitude against north-south arc",
+        **network_json(run),
         "earth_radius_km": _q(r.earth_radius_km),
         "circumference_km": _q(r.circumference_km),
         "expected_radius_km": _num(r.expected_radius_km, 3),

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
@@ -28,6 +30,10 @@ class ShadowRun:
     readings: ShadowReadings | None = None
     rows_left_out_flagged: int = 0
     notes: tuple[str, ...] = ()
+    #: The network's additions: the method, each pair's radius, each site's subsolar radius.
+    network: object = None  # network_model.NetworkFit
+    pairs: object = None  # pairs.NetworkPairs
+    subsolar: dict | None = None  # site id -> (Measured or None, reason or None)
 
 
 def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
@@ -76,9 +82,38 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
         raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path),
                          problems=problems)
     try:
-        reduction = reduce_shadows(site_inputs(campaign), readings, baseline_inputs(campaign))
+        reduction, network = _reduce(campaign, readings)
     except ComputationError as error:
         raise ComputationError(error.message, problems=problems) from None
+    from firstrung.methods.shadows.pairs import network_pairs
+    from firstrung.methods.shadows.subsolar import site_subsolar
+
     return ShadowRun(
-        campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes)
+        campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes),
+        network=network, pairs=network_pairs(reduction.sites, network.flagged), subsolar=site_subsolar(reduction.sites),
     )
+
+
+def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
+    """True when the network method reduces the readings: sites from the log's rows, or one site alone."""
+    return bool(campaign.row_site_ids) or np.unique(readings.site_index).size == 1
+
+
+def errors_stated(campaign: Campaign, readings: ShadowReadings) -> bool:
+    """True when every site with readings states its errors (a ``[site.gnomon]`` or an angle instrument)."""
+    sites = campaign.sites
+    return all(sites[i].gnomon is not None or sites[i].angle_instrument is not None
+               for i in np.unique(readings.site_index))
+
+
+def _reduce(campaign: Campaign, readings: ShadowReadings):
+    """The reduction and what the network method adds (the classical fit for declared sites' series)."""
+    from firstrung.methods.shadows.network_model import NetworkFit
+
+    sites, baselines = site_inputs(campaign), baseline_inputs(campaign)
+    if is_open_network(campaign, readings):
+        from firstrung.methods.shadows.network import reduce_network
+
+        return reduce_network(sites, readings, baselines, errors_stated=errors_stated(campaign, readings))
+    reduction = reduce_shadows(sites, readings, baselines)
+    return reduction, NetworkFit("network", False, None, reduction.outliers, {})
