@@ -249,7 +249,11 @@ def render_shadows(data: dict, verbose: bool) -> None:
         + (f" ({left} left out)" if left else "")
         + (f", {rows['refused']} refused" if rows["refused"] else "")
     )
-    if data["outliers"]:
+    from firstrung.methods.shadows.commands_network import network_lines
+
+    for line in network_lines(data):
+        out.print(line)
+    if data["outliers"] and not data.get("flagged_sites"):
         out.print(f"  outlying sites left out: {', '.join(data['outliers'])}")
 
     table = Table(title="Sites", box=box.SIMPLE_HEAD, caption="Sun: the side of the zenith it culminates on; decl.: the Sun's at that site's own transit")
@@ -322,7 +326,9 @@ def _sites_shown(sites: list[dict], verbose: bool) -> tuple[list[dict], int]:
     if verbose or sum(len(s["days"]) for s in sites) <= SITE_ROWS_SHOWN:
         return sites, 0
     keep, rows = set(), 0
-    for k in [k for k, s in enumerate(sites) if s["outlier"]] + [k for k, s in enumerate(sites) if not s["outlier"]]:
+    # the outlying sites first, then the furthest from the line (a network's worst rows)
+    order = sorted(range(len(sites)), key=lambda k: (not sites[k]["outlier"], -abs(sites[k]["normalized_residual"] or 0.0)))
+    for k in order:
         if rows + len(sites[k]["days"]) <= SITE_ROWS_SHOWN:
             keep.add(k)
             rows += len(sites[k]["days"])
@@ -356,6 +362,11 @@ def simulate_shadows(
         typer.Option("--form", help="How the noon Sun is recorded: length (shadow lengths), altitude (an angle "
                      "instrument's readings) or trace (shadow-tip positions on a turned board, with times)."),
     ] = "length",
+    network: Annotated[
+        int,
+        typer.Option("--network", min=0, help="Instead: an open network of this many invented schools at random "
+                     "land positions, one reading each on the --from date, with the usual blunders (0: off)."),
+    ] = 0,
 ) -> None:
     """Shadow logs: every site with a gnomon, every 2 minutes around local apparent noon."""
     from firstrung.campaign import read_campaign
@@ -364,6 +375,13 @@ def simulate_shadows(
     from firstrung.methods.shadows.rehearsal_forms import FORM_COLUMNS, FORMS, form_rows
 
     first, last = simulation_range(date_from, date_to)
+    if network:
+        from firstrung.methods.shadows.commands_network import simulate_network_log
+
+        if blunders or form != "length":
+            raise InputError("--network: the network's usual blunders are injected; give no --blunders or --form")
+        simulate_network_log(campaign, first, seed, network, output)
+        return
     if form not in FORMS:
         raise InputError(f"--form: expected one of {', '.join(FORMS)}, got {form!r}")
     if form != "length":

@@ -63,9 +63,7 @@ def site_network_json(run, site_id: str, partners: dict) -> dict:
     """Per site: its subsolar radius (and why it has none), its partners and their median radius."""
     result, reason = (run.subsolar or {}).get(site_id, (None, None))
     count, median = partners.get(site_id, (0, None))
-    out = {"subsolar_radius_km": None if result is None else _q(result)}
-    if reason:
-        out["subsolar_note"] = reason
+    out = {"subsolar_radius_km": None if result is None else _q(result), "subsolar_note": reason}
     out["partners"] = count
     out["partners_median_radius_km"] = _num(median, 1) if median is not None else None
     return out

@@ -128,6 +128,13 @@ def report_section(run, progress=lambda step: None) -> dict:
     slope = np.degrees(1.0 / red.earth_radius_km.value)
     intercept = float(np.mean((lat - resid_deg) - slope * pos))
     figs["latitude"] = figures.latitude_line_figure(pos, lat, sig, [s.id for s in red.sites], out, intercept, slope)
+    if run.pairs is not None and len(red.sites) > 1 and data.get("method") == "network":
+        from firstrung.figures_network import network_map_figure, pairs_histogram_figure
+
+        figs["map"] = network_map_figure([s.latitude_deg for s in red.sites], [s.longitude_deg for s in red.sites], out)
+        figs["pairs"] = pairs_histogram_figure(run.pairs.radius_km, run.pairs.flagged, red.earth_radius_km.value,
+                                               red.expected_radius_km)
+        data = data | {"participants": sorted({s["name"] for s in data["sites"]}, key=str.lower)}
     r = red.earth_radius_km
     value, interval = rounded(r.value, r.low, r.high, space=" ")
     expected = rounded(red.expected_radius_km, red.expected_radius_km - r.sigma, red.expected_radius_km + r.sigma)[0]
