@@ -58,6 +58,11 @@ METHOD = (
 )
 
 
+#: A campaign of more sites than this (or whose sites come from its log's rows) is shown as a network:
+#: a map, the pairs' histogram and a table of every site's own result.
+NETWORK_SITES = 12
+
+
 #: Panels of the shadow-series figure: every series up to this many, else the outlying sites' first.
 SERIES_SHOWN = 12
 
@@ -128,7 +133,8 @@ def report_section(run, progress=lambda step: None) -> dict:
     slope = np.degrees(1.0 / red.earth_radius_km.value)
     intercept = float(np.mean((lat - resid_deg) - slope * pos))
     figs["latitude"] = figures.latitude_line_figure(pos, lat, sig, [s.id for s in red.sites], out, intercept, slope)
-    if run.pairs is not None and len(red.sites) > 1 and data.get("method") == "network":
+    network = bool(run.campaign.row_site_ids) or len(red.sites) > NETWORK_SITES
+    if network and run.pairs is not None and len(red.sites) > 1 and data.get("method") == "network":
         from firstrung.figures_network import network_map_figure, pairs_histogram_figure
 
         figs["map"] = network_map_figure([s.latitude_deg for s in red.sites], [s.longitude_deg for s in red.sites], out)
