@@ -183,12 +183,7 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
         _READ[key] = parse_campaign(text, path=file_path)
     from firstrung.open_sites import with_row_sites
 
-    # the sites that log rows carry are read every time: the logs may have changed since
-    campaign = with_row_sites(_READ[key])
-    if not campaign.sites and not campaign.stars:
-        raise InputError(_NO_SITES + " (or shadow-log rows that give their own latitude_deg and longitude_deg)",
-                         file=label)
-    return campaign
+    return with_row_sites(_READ[key], label)  # read every time: the logs may have changed since
 
 
 #: The last campaign read, by its path and bytes (a Campaign is frozen: sharing it is safe).

@@ -170,11 +170,21 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
     return marks
 
 
-def with_row_sites(campaign: Campaign) -> Campaign:
+def with_row_sites(campaign: Campaign, label: str | None = None) -> Campaign:
     """The campaign with a site for every name its shadow-log rows give a position for.
 
     Returns the campaign unchanged when no shadow log carries positions.
+    With ``label`` (the campaign file, for the message), a campaign left with
+    no site and no star is refused.
     """
+    out = _with_row_sites(campaign)
+    if label is not None and not out.sites and not out.stars:
+        raise InputError("no [[site]] table; a campaign needs at least one site (id, latitude_deg, longitude_deg) "
+                         "or shadow-log rows that give their own latitude_deg and longitude_deg", file=label)
+    return out
+
+
+def _with_row_sites(campaign: Campaign) -> Campaign:
     problems: list[RowProblem] = []
     marks: list[_Mark] = []
     for path in campaign.logs.get("shadows", ()):
