@@ -173,3 +173,54 @@ def test_json_times_are_rounded_to_the_second():
 
     assert time_z(np.datetime64("2029-06-26T03:22:13.6")) == "2029-06-26T03:22:14Z"
     assert time_z(np.datetime64("2029-06-26T03:22:13.4")) == "2029-06-26T03:22:13Z"
+
+
+def _crater_rows(e, site_id, enlargement_percent, sigma_s=10.0, seed=7):
+    """Every catalogued crater's immersion and emersion for an umbra ``enlargement_percent`` over the geometric."""
+    from firstrung.methods.eclipse.craters import load_craters
+    from firstrung.methods.eclipse.prediction import feature_edge_times
+
+    table = load_craters()
+    lat = np.concatenate([table.latitude_deg, table.latitude_deg])
+    lon = np.concatenate([table.longitude_deg, table.longitude_deg])
+    events = ["immersion"] * len(table) + ["emersion"] * len(table)
+    t = feature_edge_times(e, lat, lon, events, enlargement_percent=enlargement_percent)
+    names = list(table.name) * 2
+    rng = np.random.default_rng(seed)
+    return [[site_id, str(np.datetime64(tt, "ms") + np.timedelta64(int(rng.normal(0, sigma_s) * 1e3), "ms")) + "Z",
+             ev, name, f"{sigma_s:g}", "crater timer"]
+            for tt, ev, name in zip(t, events, names, strict=True) if not np.isnat(tt)]
+
+
+@pytest.mark.parametrize("over_danjon", [0.0, 0.6])
+def test_crater_timings_say_when_the_umbra_departs_from_the_convention(tmp_path, sky, over_danjon):
+    # Danjon's rule (Danjon 1951: the Moon's parallax enlarged by 1/100, the NASA canon's) gives
+    # this eclipse's umbra about 1.4 % over the geometric shadow; an umbra 0.6 points larger biases
+    # the distance inverted with Danjon's rule beyond the allowance its budget carries (half the
+    # Danjon-Chauvenet spread, 0.17 points): the reduction says so and by how much
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.present import eclipse_run_to_json
+    from firstrung.methods.eclipse.run import run_eclipse
+    from firstrung.methods.eclipse.umbra import umbra_radius_deg
+
+    e = eclipse_near(ECLIPSE)
+    pm, ps, ss = (float(x[0]) for x in (e.moon_parallax_deg, e.sun_parallax_deg, e.sun_semidiameter_deg))
+    danjon = 100 * (float(umbra_radius_deg(pm, ps, ss, "danjon")) / float(umbra_radius_deg(pm, ps, ss, "geometric")) - 1)
+    assert danjon == pytest.approx(100 * 0.01 * pm / (pm + ps - ss), rel=1e-9)  # Danjon's rule written out
+    built = danjon + over_danjon
+    site = SITES["norte"]
+    rows = perfect_contact_rows(e, site[0], sigma_s=10.0) + _crater_rows(e, site[0], built)
+    run = run_eclipse(write_campaign(tmp_path, [site], eclipse=rows))
+    (item,) = eclipse_run_to_json(run)["eclipses"]
+    against = item["enlargement_against_convention"]
+    assert against["convention_percent"] == pytest.approx(danjon, abs=1e-3)
+    assert against["measured_percent"] == pytest.approx(built, abs=0.1)
+    assert against["departs"] is (over_danjon > 0)
+    # the stated shift is what the distance really is off by (truth from skyfield's DE421 Moon)
+    truth = geocentric_distance_earth_radii(sky, e.greatest_utc[0])
+    off = 100 * (item["moon_distance_earth_radii"]["value"] / truth - 1)
+    if over_danjon:
+        assert off == pytest.approx(against["distance_shift_percent"], abs=0.08)
+        assert off < -0.3
+    else:
+        assert abs(off) < 0.08 and abs(against["distance_shift_percent"]) < 0.08

@@ -233,11 +233,16 @@ def _true_fraction(site, t):
     return observer.at(_t(t)).observe(eph["moon"]).apparent().fraction_illuminated(eph["sun"])
 
 
-def phases(n, scenario, seed=3):
+def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
     try:
         from firstrung.methods.phases.run import run_phases
     except ImportError:
         from firstrung.runs.phases import run_phases
+    settings = {}
+    if common_zero_point_sigma:
+        from firstrung.methods.phases.run import PhaseSettings
+
+        settings = {"settings": PhaseSettings(common_zero_point_sigma=common_zero_point_sigma)}
 
     q, half, up = _physical_halves()
     usable = [k for k in range(len(q)) if up[k].sum() >= 2]
@@ -266,14 +271,15 @@ def phases(n, scenario, seed=3):
                     rows.append([site[0], z(t), str(q.quarter[k]), "", "", "1200", f"eye {site[0]} {o}"])
         folder = Path(tempfile.mkdtemp())
         path = write_campaign(folder, [s + (False,) for s in PHASE_SITES], phases=rows)
-        run = run_phases(path)
+        run = run_phases(path, **settings)
         truth_e = float(np.mean([x.expected_elongation_deg for x in run.estimates]))
         truth = 1 / math.cos(math.radians(truth_e))
         r = run.sun_moon_distance_ratio
         low = r.low if r.low is not None else math.inf
         hits.append(low <= truth <= (r.high if r.high is not None else math.inf))
         bias.append((run.combined.elongation_deg - truth_e) * 60)  # arcmin
-    return summary(f"half moon: {scenario}", hits, bias, {"bias_unit": "arcmin of E"})
+    stated = f", stated as common {common_zero_point_sigma:g}" if common_zero_point_sigma else ""
+    return summary(f"half moon: {scenario}{stated}", hits, bias, {"bias_unit": "arcmin of E"})
 
 
 SCENARIOS = {
@@ -287,4 +293,5 @@ SCENARIOS = {
     "phases-shared-fixed": lambda n: phases(n, "shared judgement +20 min (fixed)"),
     "phases-zero-point": lambda n: phases(n, "series zero point N(0, 0.005)"),
     "phases-zero-point-fixed": lambda n: phases(n, "series zero point +0.005 (fixed)"),
+    "phases-zero-point-fixed-stated": lambda n: phases(n, "series zero point +0.005 (fixed)", common_zero_point_sigma=0.005),
 }

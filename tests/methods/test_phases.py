@@ -18,6 +18,7 @@ import pytest
 from firstrung.errors import InputError
 from firstrung.methods.phases import prediction as ep
 from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.combine import combine_elongations
 from firstrung.methods.phases.interval_method import interval_method
 from firstrung.methods.phases.run import PhaseSettings, run_phases
 from firstrung.methods.phases.topocentric import sun_moon_topocentric
@@ -79,7 +80,7 @@ def test_precision_needed_matches_the_design_figures():
 def test_combination_is_a_weighted_mean_of_the_elongation_not_of_ratios():
     e = np.array([89.70, 89.88, 89.84])
     s = np.array([0.03, 0.03, 0.03])
-    c = m.combine_elongations(e, s)
+    c = combine_elongations(e, s)
     w = 1 / s**2
     assert c.elongation_deg == pytest.approx(90 - (w * (90 - e)).sum() / w.sum())
     # averaging ratios weights the observer nearest to 90 deg most: 342 instead of 296
@@ -87,7 +88,7 @@ def test_combination_is_a_weighted_mean_of_the_elongation_not_of_ratios():
     assert c.sun_moon_distance_ratio.value == pytest.approx(296.4, abs=0.1)
     assert mean_of_ratios > 1.1 * c.sun_moon_distance_ratio.value
     assert c.chi2_per_dof > 1 and c.scale == pytest.approx(math.sqrt(c.chi2_per_dof))
-    one = m.combine_elongations([89.85], [0.01])
+    one = combine_elongations([89.85], [0.01])
     assert one.chi2_per_dof is None and one.scale == 1.0
 
 

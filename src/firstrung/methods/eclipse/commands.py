@@ -303,6 +303,11 @@ def render_eclipse(data: dict, verbose: bool) -> None:
             )
             if en["flattening"] is not None:
                 out.print(f"  shadow flattening    {_pm(en['flattening'], 4)}")
+            against = e["enlargement_against_convention"]
+            if against["departs"]:
+                out.print(f"  the umbra departs from the {against['convention']} convention by "
+                          f"{against['difference_percent']:+.2f} points (allowance {against['allowance_percent']:.2f}): "
+                          f"the distance may be off by about {against['distance_shift_percent']:+.2f} %")
         elif verbose:
             out.print(f"  no enlargement: {e['enlargement_problem']}")
         table = Table(title="Timings (combined per event)", box=box.SIMPLE_HEAD)

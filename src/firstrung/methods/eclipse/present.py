@@ -6,6 +6,7 @@ import numpy as np
 
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import time_z as _time
+from firstrung.methods.eclipse.umbra import enlargement_against_convention
 
 #: Contacts in the plan's ``contacts_utc`` (DESIGN section 4).
 _CONTACTS = ("P1", "U1", "U2", "U3", "U4", "P4")
@@ -156,6 +157,9 @@ def eclipse_run_to_json(run) -> dict:
                 "reduction_problem": res.reduction_problem,
                 "enlargement": None if en is None else _enlargement_json(en),
                 "enlargement_problem": res.enlargement_problem,
+                "enlargement_against_convention": None if en is None else enlargement_against_convention(
+                    en.enlargement_percent.value, en.enlargement_percent.sigma, e.moon_parallax_deg,
+                    e.sun_parallax_deg, e.sun_semidiameter_deg, run.convention),
                 "moon": {
                     "semidiameter_arcmin": _num(m.semidiameter_deg * 60, 4),
                     "semidiameter_sigma_arcmin": _num(m.semidiameter_sigma_deg * 60, 4),

@@ -115,3 +115,49 @@ def shadow_rate_from_sky_rate_deg_per_h(moon_sky_rate_deg_per_h):
     0.4919
     """
     return np.asarray(moon_sky_rate_deg_per_h, dtype=float) - SUN_MEAN_RATE_DEG_PER_H
+
+
+def enlargement_against_convention(measured_percent, measured_sigma_percent, moon_parallax_deg, sun_parallax_deg,
+                                   sun_semidiameter_deg, convention="danjon") -> dict:
+    """The umbra's enlargement measured from crater timings against the convention's, and what it means.
+
+    The distance is inverted with a convention (the enlargement varies from
+    eclipse to eclipse; its budget allows half the Danjon-Chauvenet spread).
+    The crater fit measures this eclipse's enlargement over the geometric
+    shadow of the ephemeris's geometry; when it departs from the convention's
+    by more than that allowance and its own error, the distance carries a
+    bias the budget does not hold: ``distance_shift_percent`` is how far the
+    distance inverted with the convention falls from the truth for an umbra
+    as the craters measured it (with the ephemeris's parallaxes, so it is a
+    diagnosis, never applied to the result).
+
+    >>> d = enlargement_against_convention(2.0, 0.05, 0.9, 8.8 / 3600, 0.27)   # Danjon's is 1.42 % here
+    >>> d["difference_percent"], d["allowance_percent"], d["distance_shift_percent"], d["departs"]
+    (0.577, 0.168, -0.4, True)
+    """
+    _check_convention(convention)
+    pm, ps, ss = (float(np.asarray(x, dtype=float).ravel()[0]) for x in (moon_parallax_deg, sun_parallax_deg, sun_semidiameter_deg))
+    geo = float(umbra_radius_deg(pm, ps, ss, "geometric"))
+    ru = {c: float(umbra_radius_deg(pm, ps, ss, c)) for c in CONVENTIONS}
+    convention_percent = 100.0 * (ru[convention] / geo - 1.0)
+    allowance = 100.0 * abs(ru["chauvenet"] - ru["danjon"]) / 2.0 / geo
+    diff = float(measured_percent) - convention_percent
+    sigma = float(measured_sigma_percent)
+    inferred = float(moon_parallax_from_umbra_deg(geo * (1.0 + float(measured_percent) / 100.0), ps, ss, convention))
+    shift = 100.0 * (np.sin(np.radians(pm)) / np.sin(np.radians(inferred)) - 1.0)
+    departs = bool(abs(diff) > 2.0 * float(np.hypot(allowance, sigma)))
+    return {
+        "measured_percent": round(float(measured_percent), 4),
+        "measured_sigma_percent": round(sigma, 4),
+        "convention": convention,
+        "convention_percent": round(convention_percent, 4),
+        "difference_percent": round(diff, 4),
+        "sigma_apart": round(diff / sigma, 2) if sigma > 0 else None,
+        "allowance_percent": round(allowance, 4),
+        "distance_shift_percent": round(float(shift), 3),
+        "departs": departs,
+        "note": ("the craters' umbra departs from the convention's by more than twice the allowance and its error "
+                 "together: the distance's interval may not hold the truth; reduce with the other convention "
+                 "to see the spread" if departs else
+                 "the craters' umbra agrees with the convention's within the allowance the distance's budget carries"),
+    }

@@ -144,6 +144,10 @@ def reduce_phases(
     zero_point_sigma: Annotated[
         float, typer.Option("--zero-point-sigma", help="Error of the fractions shared by one photo series (zero point).")
     ] = 0.005,
+    common_zero_point_sigma: Annotated[
+        float, typer.Option("--common-zero-point-sigma",
+                            help="Error of the fractions shared by every photo series (one camera and processing for all).")
+    ] = 0.0,
     include_flagged: IncludeFlaggedOption = False,
 ) -> None:
     """D_sun/D_moon with its 68 % interval, and how much better the angle or the timing must be.
@@ -154,7 +158,8 @@ def reduce_phases(
     from firstrung.methods.phases.run import PhaseSettings, run_phases
 
     settings = PhaseSettings(elongation_sigma_deg=elongation_sigma_deg, time_sigma_s=time_sigma_min * 60.0,
-                             fraction_sigma=fraction_sigma, fraction_zero_point_sigma=zero_point_sigma)
+                             fraction_sigma=fraction_sigma, fraction_zero_point_sigma=zero_point_sigma,
+                             common_zero_point_sigma=common_zero_point_sigma)
     run = run_phases(campaign, settings, include_flagged=include_flagged)
     data = phase_run_to_json(run)
     if json_output:

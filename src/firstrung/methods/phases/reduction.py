@@ -37,7 +37,7 @@ What each kind of observation gives (one small step per function):
    the time of half phase with its sigma, which is then used as a timing.
 
 Estimates from many observers are combined in delta = 90 deg - E, where the
-errors are Gaussian, by a weighted mean (:func:`combine_elongations`), never
+errors are Gaussian, by a weighted mean (:func:`~firstrung.methods.phases.combine.combine_elongations`), never
 by averaging ratios. :func:`interval_method` implements the other classical
 route (the time from first to last quarter is longer than from last to first
 by 4 delta / 360 of a month), with the Moon's uneven motion either ignored
@@ -60,14 +60,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.arguments import checked
-from firstrung.errors import ComputationError, InputError
+from firstrung.errors import InputError
 from firstrung.uncertainty import Measured
 
 __all__ = [
-    "CombinedElongation",
     "HalfPhaseFit",
     "Precision",
-    "combine_elongations",
     "corrected_elongation_deg",
     "distance_ratio_from_elongation",
     "elongation_from_distance_ratio",
@@ -404,109 +402,7 @@ def fit_half_phase(elongation_deg, illuminated_fraction, fraction_sigma, elongat
 # --- many observers ------------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class CombinedElongation:
-    """A weighted mean of elongations at half moon (in delta = 90 deg - E).
-
-    ``sigma_deg`` is scaled by ``scale`` = sqrt(chi2/dof) when that exceeds 1
-    (the Particle Data Group's scale factor: the estimates scatter more than
-    their stated errors allow).
-    """
-
-    elongation_deg: float
-    sigma_deg: float
-    estimates: int
-    chi2_per_dof: float | None
-    scale: float
-
-    @property
-    def sun_moon_distance_ratio(self) -> Measured:
-        """The ratio with its skewed 68 % interval."""
-        return ratio_from_elongation(self.elongation_deg, self.sigma_deg)
-
-
-def combine_elongations(elongation_deg, sigma_deg, shared_sigma_deg=None, group=None) -> CombinedElongation:
-    """Combine half-moon elongations from many observers: weighted mean in delta = 90 deg - E.
-
-    The errors are Gaussian in E, not in the ratio: averaging ratios would
-    be dominated by the observers whose E came closest to 90 deg. Errors
-    shared by several estimates (the judgement of "exactly half lit" by all
-    who look at the same Moon) do not average down: with ``shared_sigma_deg``
-    and ``group`` each group is averaged first (weights 1/sigma^2; its own
-    errors average down, the shared part stays whole), then the groups as
-    independent estimates; the scale factor comes from the groups' scatter.
-    For a shared part common to the group this is the generalised
-    least-squares mean (Sherman-Morrison: its weights are the own ones).
-
-    Parameters
-    ----------
-    elongation_deg, sigma_deg : array_like
-        Each estimate and its total one-sigma error [deg].
-    shared_sigma_deg : array_like, optional
-        The part of each sigma shared with the other estimates of its group [deg].
-    group : array_like, optional
-        Group label of each estimate (estimates of one group share that part).
-
-    Returns
-    -------
-    CombinedElongation
-
-    Raises
-    ------
-    ComputationError
-        With no estimate.
-
-    Examples
-    --------
-    >>> c = combine_elongations([89.80, 89.90], [0.05, 0.05])
-    >>> round(c.elongation_deg, 3), round(c.sigma_deg, 4), round(c.scale, 2)
-    (89.85, 0.05, 1.41)
-
-    Two observers of one Moon sharing their whole judgement error gain nothing:
-
-    >>> round(combine_elongations([89.85, 89.85], [0.3, 0.3], [0.3, 0.3], [1, 1]).sigma_deg, 3)
-    0.3
-    """
-    e = np.atleast_1d(checked("elongation_deg", elongation_deg, 0.0, 180.0, "deg"))
-    s = np.atleast_1d(checked("sigma_deg", sigma_deg, 0.0, 180.0, "deg"))
-    if e.size == 0:
-        raise ComputationError("no half-moon estimate to combine")
-    if e.shape != s.shape or np.any(s <= 0):
-        raise InputError("sigma_deg: expected one positive error per elongation")
-    delta = 90.0 - e
-    if shared_sigma_deg is None:
-        w = 1.0 / s**2
-        mean = float((w * delta).sum() / w.sum())
-        sigma = math.sqrt(1.0 / float(w.sum()))
-        chi2_dof = None
-        scale = 1.0
-        if e.size > 1:
-            chi2_dof = float((w * (delta - mean) ** 2).sum()) / (e.size - 1)
-            scale = max(1.0, math.sqrt(chi2_dof))
-        return CombinedElongation(90.0 - mean, sigma * scale, int(e.size), chi2_dof, scale)
-    shared = np.broadcast_to(np.asarray(shared_sigma_deg, dtype=float), e.shape)
-    labels = np.asarray(group if group is not None else np.arange(e.size), dtype=object)
-    own = np.sqrt(np.maximum(s**2 - shared**2, 0.0))
-    # each group first: weights 1/sigma^2, its own errors average down, the shared part does not
-    keys = sorted(set(labels.tolist()), key=str)
-    g_delta, g_var = [], []
-    for key in keys:
-        sel = labels == key
-        w = 1.0 / s[sel] ** 2
-        w = w / w.sum()
-        g_delta.append(float((w * delta[sel]).sum()))
-        g_var.append(float((w**2 * own[sel] ** 2).sum()) + float((w * shared[sel]).sum()) ** 2)
-    g_delta, g_var = np.array(g_delta), np.array(g_var)
-    # then the groups, independent of one another
-    w = 1.0 / g_var
-    mean = float((w * g_delta).sum() / w.sum())
-    sigma = math.sqrt(1.0 / float(w.sum()))
-    chi2_dof = None
-    scale = 1.0
-    if len(keys) > 1:
-        chi2_dof = float((w * (g_delta - mean) ** 2).sum()) / (len(keys) - 1)
-        scale = max(1.0, math.sqrt(chi2_dof))
-    return CombinedElongation(90.0 - mean, sigma * scale, int(e.size), chi2_dof, scale)
+# CombinedElongation and combine_elongations live in combine.py (which errors are shared, the scale factor)
 
 
 # --- how good it must be --------------------------------------------------------------------------

@@ -20,9 +20,10 @@ from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
 from firstrung.methods.phases import reduction as m
+from firstrung.methods.phases.combine import CombinedElongation, combine_half_moon
 from firstrung.methods.phases.interval_method import IntervalMethod, interval_method
 from firstrung.methods.phases.log import read_phase_logs
-from firstrung.methods.phases.shared import mark_shared_judgement, shared_groups
+from firstrung.methods.phases.shared import mark_shared_judgement
 from firstrung.methods.phases.topocentric import both_up_windows, sun_moon_topocentric
 from firstrung.uncertainty import Measured
 
@@ -315,19 +316,23 @@ class PhaseSettings:
         Error shared by every fraction of one photo series (a photometric zero
         point: exposure, processing, the threshold of "lit") [1]; half the
         per-image error by default.
+    common_zero_point_sigma : float
+        Error of the fractions shared by every series (one camera and processing for all) [1]; 0 by default.
     """
 
     elongation_sigma_deg: float = 0.25
     time_sigma_s: float = 7200.0
     fraction_sigma: float = 0.01
     fraction_zero_point_sigma: float = 0.005
+    common_zero_point_sigma: float = 0.0
 
     def check(self) -> None:
         for name, value in (("elongation_sigma_deg", self.elongation_sigma_deg), ("time_sigma_s", self.time_sigma_s),
                             ("fraction_sigma", self.fraction_sigma)):
             if not (np.isfinite(value) and value > 0):
                 raise InputError(f"{name}: received {value!r}; expected a positive error")
-        for name, value in (("fraction_zero_point_sigma", self.fraction_zero_point_sigma),):
+        for name, value in (("fraction_zero_point_sigma", self.fraction_zero_point_sigma),
+                            ("common_zero_point_sigma", self.common_zero_point_sigma)):
             if not (np.isfinite(value) and value >= 0):
                 raise InputError(f"{name}: received {value!r}; expected a non-negative error")
 
@@ -369,7 +374,7 @@ class PhaseRun:
     campaign: Campaign
     settings: PhaseSettings
     estimates: tuple[HalfMoonEstimate, ...]
-    combined: m.CombinedElongation
+    combined: CombinedElongation
     by_kind: dict
     interval: IntervalMethod | None
     within_10_percent: m.Precision
@@ -565,15 +570,9 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         raise ComputationError("no half-moon estimate could be made from the rows", problems=tuple(problems))
     estimates.sort(key=lambda x: (x.time_utc, x.site, x.rows))
 
-    e_all = np.array([x.elongation_deg.value for x in estimates])
-    s_all = np.array([x.elongation_deg.sigma for x in estimates])
-    shared_all, group = shared_groups(estimates)
-    combined = m.combine_elongations(np.clip(e_all, 0, 180), s_all, shared_all, group)
-    by_kind = {}
-    for kind in ("elongation", "timing", "fraction series"):
-        sel = np.array([x.kind == kind for x in estimates])
-        if sel.any():
-            by_kind[kind] = m.combine_elongations(np.clip(e_all[sel], 0, 180), s_all[sel], shared_all[sel], group[sel])
+    combined = combine_half_moon(estimates, settings.common_zero_point_sigma)
+    by_kind = {kind: combine_half_moon(estimates, settings.common_zero_point_sigma, (kind,))
+               for kind in ("elongation", "timing", "fraction series") if any(x.kind == kind for x in estimates)}
 
     expected_e = float(np.mean([x.expected_elongation_deg for x in estimates]))
     expected_r = float(np.mean([x.expected_ratio for x in estimates]))
@@ -594,12 +593,16 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         "the ephemeris's directions; the Sun's aberration stays (it lights the Moon from the same place)",
         f"instrument error of a measured angle {settings.elongation_sigma_deg:g} deg (option)",
         f"illuminated fractions measured to {settings.fraction_sigma:g} (option), with a zero point shared by "
-        f"each series of {settings.fraction_zero_point_sigma:g} (option); a series' slope is fixed "
-        "by the geometry unless its images determine it to 10 %",
+        f"each series of {settings.fraction_zero_point_sigma:g} and by every series of "
+        f"{settings.common_zero_point_sigma:g} (options); a series' slope is fixed by the geometry unless its "
+        "images determine it to 10 %",
         "judging \"exactly half lit\" carries an error shared by all who look at the same Moon: the smallest "
-        "judgement error among a quarter's timings and angles is common to them all (it does not average down)",
+        "judgement error among a quarter's timings and angles is common to them all, unless four or more of "
+        "them scatter as independent errors would (chi2 not below its 5 % point)"
+        + (f": quarter(s) {', '.join(str(q) for q in combined.independent_quarters)} combined as independent"
+           if combined.independent_quarters else ""),
         "estimates are combined by generalised least squares in 90 deg - E (shared errors do not average "
-        "down), scaled by sqrt(chi2/dof) when above 1",
+        "down), scaled by sqrt(chi2/dof) when the scatter is significant at 5 %",
         "the 68 % interval of the ratio is the image of E +/- sigma; no upper bound when E + sigma reaches 90 deg",
     ]
     if defaulted_time:

@@ -1,4 +1,4 @@
-"""Errors the half-moon estimates share: the judgement of one Moon, and which estimates go together.
+"""Errors the half-moon estimates share: the judgement of one Moon (combine.py decides from the scatter).
 
 Everyone who looks at the same Moon faces the same ambiguity of its look:
 the terminator is straight at half moon and bows by only about 4" half an
@@ -32,11 +32,3 @@ def mark_shared_judgement(estimates):
         for x in estimates
     ]
 
-
-def shared_groups(estimates):
-    """The shared part of each estimate's sigma [deg] and its group label (timings and angles of
-    one quarter together; each photo series alone)."""
-    shared = np.array([x.shared_sigma_deg for x in estimates])
-    group = np.array([f"quarter {x.quarter_index}" if x.kind != "fraction series" else f"series {n}"
-                      for n, x in enumerate(estimates)], dtype=object)
-    return shared, group
