@@ -38,11 +38,25 @@ def _t(t64):
     return _sky()[0].from_datetime(np.datetime64(t64, "us").astype(dt.datetime).replace(tzinfo=dt.UTC))
 
 
-def summary(name, hits, bias, extra=None):
+def predicted_coverage(error, sigma):
+    """The coverage expected of intervals +/- ``sigma`` when the errors are their mean (a fixed part: a
+    single draw of a shared error) plus a scatter with their spread: mean of P(|b + N(0, s)| <= sigma)."""
+    from scipy.special import ndtr
+
+    error, sigma = np.asarray(error, float), np.asarray(sigma, float)
+    if error.size < 2:
+        return None
+    b, s = float(error.mean()), float(error.std(ddof=1))
+    return round(float(np.mean(ndtr((sigma - b) / s) - ndtr((-sigma - b) / s))), 3)
+
+
+def summary(name, hits, bias, extra=None, error=None, sigma=None):
     hits = np.asarray(hits, bool)
     out = {"scenario": name, "campaigns": int(hits.size), "coverage": round(float(hits.mean()), 3),
            "binomial_sigma": round(float(math.sqrt(0.68 * 0.32 / max(hits.size, 1))), 3),
            "median_bias": round(float(np.median(bias)), 5)}
+    if error is not None:
+        out["predicted"] = predicted_coverage(error, sigma)
     out.update(extra or {})
     if VERBOSE:
         print(json.dumps(out), flush=True)
@@ -98,7 +112,7 @@ def eclipse(n, seed=2, observed_moon=False):
     from firstrung.methods.eclipse.run import run_eclipse
 
     rng = np.random.default_rng(seed)
-    hits, bias = [], []
+    hits, bias, error, sigma = [], [], [], []
     for i in range(n):
         when, sites = ECLIPSES[i % len(ECLIPSES)]
         e = eclipse_near(when)
@@ -125,9 +139,11 @@ def eclipse(n, seed=2, observed_moon=False):
         m, truth = r.reduction.moon_distance_earth_radii, r.ephemeris_distance_earth_radii
         hits.append(m.low <= truth <= (m.high if m.high is not None else math.inf))
         bias.append(m.value / truth - 1)
+        error.append(m.value - truth)
+        sigma.append(m.sigma)
     name = ("eclipse: observers' topocentric sky rate (1 %) and diameter (0.15') at their site, contacts 40 s, craters 20 s"
             if observed_moon else "eclipse: ephemeris Moon, contacts 40 s, craters 20 s (stated)")
-    return summary(name, hits, bias)
+    return summary(name, hits, bias, error=error, sigma=sigma)
 
 
 def _umbra_contacts(when, enlargement):
@@ -171,7 +187,7 @@ def eclipse_enlargement(n, seed=5, fixed=None):
     except ImportError:
         from firstrung.runs.eclipse import run_eclipse
     rng = np.random.default_rng(seed)
-    hits, bias = [], []
+    hits, bias, error, sigma = [], [], [], []
     for i in range(n):
         when, sites = ECLIPSES[i % len(ECLIPSES)]
         e0, _ = _umbra_contacts(when, 1.0)
@@ -196,8 +212,10 @@ def eclipse_enlargement(n, seed=5, fixed=None):
         m, truth = r.reduction.moon_distance_earth_radii, r.ephemeris_distance_earth_radii
         hits.append(m.low <= truth <= (m.high if m.high is not None else math.inf))
         bias.append(m.value / truth - 1)
+        error.append(m.value - truth)
+        sigma.append(m.sigma)
     what = f"umbra {fixed * 100:+.1f} % from Danjon's" if fixed is not None else "umbra's enlargement drawn at the stated spread"
-    return summary(f"eclipse: {what}, contacts only 40 s", hits, bias)
+    return summary(f"eclipse: {what}, contacts only 40 s", hits, bias, error=error, sigma=sigma)
 
 
 # --- half moon -----------------------------------------------------------------------------
@@ -247,7 +265,7 @@ def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
     q, half, up = _physical_halves()
     usable = [k for k in range(len(q)) if up[k].sum() >= 2]
     rng = np.random.default_rng(seed)
-    hits, bias = [], []
+    hits, bias, error, sigma = [], [], [], []
     for i in range(n):
         k = usable[i % len(usable)]
         rows = []
@@ -278,8 +296,10 @@ def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
         low = r.low if r.low is not None else math.inf
         hits.append(low <= truth <= (r.high if r.high is not None else math.inf))
         bias.append((run.combined.elongation_deg - truth_e) * 60)  # arcmin
+        error.append(run.combined.elongation_deg - truth_e)
+        sigma.append(run.combined.sigma_deg)
     stated = f", stated as common {common_zero_point_sigma:g}" if common_zero_point_sigma else ""
-    return summary(f"half moon: {scenario}{stated}", hits, bias, {"bias_unit": "arcmin of E"})
+    return summary(f"half moon: {scenario}{stated}", hits, bias, {"bias_unit": "arcmin of E"}, error, sigma)
 
 
 SCENARIOS = {
