@@ -514,6 +514,26 @@ def bench_command(name: str, workload: str, args: list[str], repeats: int, targe
     return Row(name, workload, whole, warm_s, target=target)
 
 
+def bench_network(root: Path, schools: int, repeats: int, quick: bool) -> list[Row]:
+    """An open network (issue 16): ``schools`` schools, one reading each, no [[site]]: reduce and report."""
+    import shutil
+
+    folder = root / f"network-{schools}"
+    shutil.rmtree(folder, ignore_errors=True)  # a log the campaign reads is never written over
+    folder.mkdir(parents=True)
+    camp = folder / "network.toml"
+    camp.write_text('[campaign]\nname = "Benchmark network"\n[logs]\nshadows = ["logs/shadows.csv"]\n')
+    subprocess.run(FIRSTRUNG + ["simulate", "shadows", str(camp), "--from", "2027-03-20", "--to", "2027-03-20",
+                                "-o", str(folder / "logs"), "--network", str(schools), "--seed", "3"],
+                   env=ENV, capture_output=True, check=True)
+    work = f"{schools:,} schools, one reading each, pairs included"
+    out = folder / "report.html"
+    return [bench_command("reduce shadows", work, ["reduce", "shadows", str(camp)], repeats,
+                          "" if quick else "< 2 s", ok=(0, 1, 2)),
+            bench_command("report", work, ["report", str(camp), "-o", str(out)], max(1, repeats // 2),
+                          "" if quick else "< 10 s", ok=(0, 1, 2))]
+
+
 def bench_cli_start(repeats: int) -> Row:
     whole = cold(["--help"], repeats, ok=(0,))
     times = []
@@ -637,6 +657,7 @@ def main() -> None:
                                        "--json"], 3, "< 2 s"))
             demo_out = work.root / "demo"
             rows.append(bench_command("demo", "firstrung demo", ["demo", "-o", str(demo_out)], 1))
+        rows.extend(bench_network(work.root, 40 if quick else 1_000, r, quick))
         rows.append(bench_cli_start(3 if quick else 15))
         points = scaling(work, quick, 1 if quick else 3)
     header = machine_line(quick)

@@ -177,10 +177,35 @@ def with_row_sites(campaign: Campaign, label: str | None = None) -> Campaign:
     With ``label`` (the campaign file, for the message), a campaign left with
     no site and no star is refused.
     """
-    out = _with_row_sites(campaign)
+    out = _cached(campaign)
     if label is not None and not out.sites and not out.stars:
         raise InputError("no [[site]] table; a campaign needs at least one site (id, latitude_deg, longitude_deg) "
                          "or shadow-log rows that give their own latitude_deg and longitude_deg", file=label)
+    return out
+
+
+#: The last campaign given its row sites, by the campaign and its logs' sizes and times (one command
+#: reads its campaign more than once; a log that changes is read again).
+_LAST: dict = {}
+
+
+def _cached(campaign: Campaign) -> Campaign:
+    import os
+
+    stamps = []
+    for path in campaign.logs.get("shadows", ()):
+        try:
+            info = os.stat(path)
+            stamps.append((str(path), info.st_mtime_ns, info.st_size))
+        except (OSError, ValueError):
+            stamps.append((str(path), None, None))
+    key = (id(campaign), tuple(stamps))
+    hit = _LAST.get(key)
+    if hit is not None and hit[0] is campaign:
+        return hit[1]
+    out = _with_row_sites(campaign)
+    _LAST.clear()
+    _LAST[key] = (campaign, out)
     return out
 
 
@@ -201,7 +226,9 @@ def _with_row_sites(campaign: Campaign) -> Campaign:
         declared = campaign.site_matching(first.name)
         lat = np.array([m.latitude_deg for m in group])
         lon = np.array([m.longitude_deg for m in group])
-        if declared is not None:
+        if declared is None and len(group) == 1:
+            apart = np.zeros(1)
+        elif declared is not None:
             apart = _apart_km(declared.latitude_deg, declared.longitude_deg, lat, lon)
             worst = int(np.argmax(apart))
             if apart[worst] > AGREE_KM:
@@ -209,7 +236,8 @@ def _with_row_sites(campaign: Campaign) -> Campaign:
                          f"(site '{declared.id}')")
                 _refuse(group, where, group[worst], float(apart[worst]), problems)
             continue
-        apart = _apart_km(lat[0], lon[0], lat, lon)
+        else:
+            apart = _apart_km(lat[0], lon[0], lat, lon)
         worst = int(np.argmax(apart))
         if apart[worst] > AGREE_KM:
             _refuse(group, _where(first), group[worst], float(apart[worst]), problems)

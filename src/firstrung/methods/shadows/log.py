@@ -403,6 +403,15 @@ def _utc_times(cells: list[str]) -> np.ndarray:
         return np.array([_datetime_or_nat(str(text)) for text in iso], dtype="datetime64[ms]")
 
 
+def _site_ids(campaign: Campaign, cells) -> tuple[np.ndarray, np.ndarray]:
+    """Each site cell's site id (a cell may give the id or the name, as the row checks take it) and
+    whether it names a site at all."""
+    by_id = campaign._site_by_id
+    ids = [c if c in by_id else (site.id if (site := campaign.site_matching(c)) is not None else "") for c in cells]
+    sites = np.array(ids, dtype=object)
+    return sites, sites != ""
+
+
 def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None, np.ndarray]:
     """Plain shadow rows (known site, ISO UTC time, plain numbers) of a columnar table, all at once.
 
@@ -414,14 +423,11 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     if chosen["time_utc"] != "time_utc":
         return None, handled
     if chosen["shadow_m"] is None or uses_forms(chosen):  # angles and traces: their own plain rows
-        site_cells = columns[chosen["site"]]
-        ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)
+        sites, ok = _site_ids(campaign, columns[chosen["site"]])
         t = _utc_times(columns["time_utc"])
         ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
-        return fast_form_columns(chosen, columns, ok, np.array(site_cells, dtype=object), t, SHADOW_LIMIT_M)
-    site_cells = columns[chosen["site"]]
-    sites = np.array(site_cells, dtype=object)
-    ok = np.fromiter(map(campaign._site_by_id.__contains__, site_cells), bool, n)
+        return fast_form_columns(chosen, columns, ok, sites, t, SHADOW_LIMIT_M)
+    sites, ok = _site_ids(campaign, columns[chosen["site"]])
     t = _utc_times(columns["time_utc"])
     ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
     shadow_column = chosen["shadow_m"]

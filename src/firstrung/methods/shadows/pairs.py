@@ -24,7 +24,7 @@ from firstrung.methods.shadows.network_model import MIN_NORTH_SOUTH_KM
 #: Days with at most this many sites list every pair of them.
 ALL_PAIRS_MAX_SITES = 200
 #: Larger days pair each site with this many neighbours in longitude (on each side, half).
-NEIGHBOURS = 20
+NEIGHBOURS = 10
 
 EVERY_PAIR = "every pair of sites observed on the same day at least 100 km apart north-south"
 NEIGHBOUR_PAIRS = (f"each site with its {NEIGHBOURS} neighbours in longitude observed the same day at least "

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from firstrung.jsonout import number as _num
@@ -14,8 +16,8 @@ DESCRIPTIONS = {
 }
 
 
-def _float(x) -> float | None:
-    return None if not np.isfinite(x) else float(x)
+def _float(x: float) -> float | None:
+    return x if math.isfinite(x) else None
 
 
 def pairs_json(pairs) -> list[dict]:

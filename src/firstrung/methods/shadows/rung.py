@@ -124,7 +124,10 @@ def report_section(run, progress=lambda step: None) -> dict:
     progress("drawing the shadow fits")
     data = shadow_run_to_json(run)
     red = run.reduction
-    figs = {"series": figures.shadow_series_figure(*_series(run))}
+    network = bool(run.campaign.row_site_ids) or len(red.sites) > NETWORK_SITES
+    # one reading per site has no series to draw: a network shows its map and pairs instead
+    single = float(np.median([d.readings for s in red.sites for d in s.series])) <= 2
+    figs = {} if network and single else {"series": figures.shadow_series_figure(*_series(run))}
     pos = np.array([s.north_south_km for s in red.sites])
     lat = np.array([s.astronomical_latitude_deg.value for s in red.sites])
     sig = np.array([s.astronomical_latitude_deg.sigma for s in red.sites])
@@ -133,7 +136,6 @@ def report_section(run, progress=lambda step: None) -> dict:
     slope = np.degrees(1.0 / red.earth_radius_km.value)
     intercept = float(np.mean((lat - resid_deg) - slope * pos))
     figs["latitude"] = figures.latitude_line_figure(pos, lat, sig, [s.id for s in red.sites], out, intercept, slope)
-    network = bool(run.campaign.row_site_ids) or len(red.sites) > NETWORK_SITES
     if network and run.pairs is not None and len(red.sites) > 1 and data.get("method") == "network":
         from firstrung.figures_network import network_map_figure, pairs_histogram_figure
 
