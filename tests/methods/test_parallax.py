@@ -142,6 +142,28 @@ def test_plan_simulate_reduce_check(tmp_path, capsys, monkeypatch):
     assert "<svg" in (tmp_path / "e.svg").read_text()
     code, out, _ = run_cli(["reduce", "parallax", c], capsys, monkeypatch, columns=80)
     assert "parallax" in out and "light years" in out
+    code, out, _ = run_cli(["ladder", c, "--json", "--samples", "20000"], capsys, monkeypatch)
+    assert code == 0
+    rung = json.loads(out)["stars"][0]
+    assert rung["method"] == "parallax" and rung["modern_pc"] == pytest.approx(1000 / 286.82, abs=0.01)
+    assert rung["distance_pc"]["value"] == pytest.approx(1000 / p["value"], rel=0.01)
+    assert {"step": "the astronomical unit in km", "source": "published: IAU 2012 Resolution B2"} in rung["steps"]
+
+
+def test_parsec_rung_maps_the_parallax_and_uses_the_campaigns_au():
+    from firstrung.app.parsec import AU_PER_PARSEC, parsec_rungs
+    from firstrung.uncertainty import Draw
+
+    rng = np.random.default_rng(1)
+    au = np.full(50_000, 1.02)  # a campaign whose Sun rung measured 1.02 au
+    (r,) = parsec_rungs((("s", "S", "parallax", Draw("gaussian", 100.0, 10.0), (10.0, "x")),), rng, 50_000, au, "transit")
+    assert r.distance_pc.value == pytest.approx(10.0, rel=0.01)
+    assert r.distance_pc.low == pytest.approx(1000 / 110, rel=0.01) and r.distance_pc.high == pytest.approx(1000 / 90, rel=0.01)
+    # 1 pc = 206,264.806 au (IAU 2015 Resolution B2); the au from the campaign's own Sun rung
+    assert r.distance_km.value == pytest.approx(10.0 * AU_PER_PARSEC * 1.02 * 149_597_870.7, rel=0.01)
+    assert ("the astronomical unit in km", "measured by the campaign (transit rung)") in r.steps
+    (weak,) = parsec_rungs((("w", "W", "parallax", Draw("gaussian", -0.5, 2.0), None),), rng, 50_000, None, "half-moon")
+    assert np.isnan(weak.distance_pc.value) and weak.distance_pc.high is None and weak.distance_pc.low > 0
 
 
 def test_check_flags_hours_outliers_and_local_time(tmp_path, capsys, monkeypatch):

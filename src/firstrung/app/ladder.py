@@ -43,6 +43,9 @@ class LadderInputs:
     sun_angular_diameter_deg: Draw | None = None
     #: The Sun's distance in au from a transit's solar parallax (replaces the half moon's when given).
     sun_distance_au_transit: Draw | None = None
+    #: The parsec rung: (id, name, "parallax"|"cepheid", Draw of the parallax [mas] or the distance
+    #: modulus [mag], (modern distance [pc], source) or None), one per measured star.
+    star_parallaxes: tuple = ()
     sources: tuple[tuple[str, str], ...] = ()
     #: Modern values that fit this campaign better than the table's (key -> (value, source)),
     #: e.g. the Moon's distance on the eclipse night instead of its mean distance.
@@ -82,6 +85,8 @@ class Ladder:
     #: The exact factors the chain applied (see :class:`LadderInputs`).
     equatorial_radius_factor: float = 1.0
     half_moon_distance_factor: float = 1.0
+    #: The parsec rung (:class:`firstrung.app.parsec.StarRung`), one per measured star.
+    stars: tuple = ()
 
     def rung(self, key: str) -> Rung:
         return next(r for r in self.rungs if r.key == key)
@@ -169,8 +174,11 @@ def climb(inputs: LadderInputs, *, samples: int = DEFAULT_SAMPLES, seed: int = 1
         z = (m.value - modern) / half if half and half > 0 and not (modern > m.value and m.high is None) else None
         note = "" if m.high is not None else "lower bound only: the data allow any larger value"
         rungs.append(Rung(key, m, modern, unit, source, m.value / modern if np.isfinite(m.value) else None, z, note))
+    from firstrung.app.parsec import parsec_rungs
+
+    stars = parsec_rungs(inputs.star_parallaxes, rng, samples, chain["sun_distance_au"], method)
     return Ladder(tuple(rungs), samples, seed, inputs.sources, sun_distance_method=method,
                   equatorial_radius_factor=inputs.equatorial_radius_factor,
-                  half_moon_distance_factor=inputs.half_moon_distance_factor)
+                  half_moon_distance_factor=inputs.half_moon_distance_factor, stars=stars)
 
 

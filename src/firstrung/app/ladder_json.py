@@ -28,6 +28,9 @@ def ladder_to_json(run) -> dict:
             }
         )
     out["sun_distance_method"] = lad.sun_distance_method
+    from firstrung.app.parsec import parsec_json
+
+    out["stars"] = parsec_json(lad.stars)
     out["comparison"] = comparison
     out["rung_sources"] = dict(lad.sources)
     # exact factors: the shadows' radius to the equatorial one; the eclipse night's Moon to the half moon's

@@ -116,3 +116,29 @@ def _render(data: dict) -> None:
     for row in data["comparison"]:
         if row["note"]:
             out.print(f"  {LABELS[row['quantity']]} ({row['unit']}): {row['note']}")
+    if data.get("stars"):
+        _render_stars(data["stars"])
+
+
+def _render_stars(stars: list[dict]) -> None:
+    """The parsec rung: each star's distance, and which steps the campaign measured."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    t = Table(box=box.SIMPLE_HEAD, title="The parsec rung: the stars")
+    for col, just in (("star", "left"), ("by", "left"), ("distance (pc)", "right"), ("68 % interval", "right"),
+                      ("catalogue (pc)", "right"), ("sigma apart", "right")):
+        t.add_column(col, justify=just)
+    for s in stars:
+        d = s["distance_pc"]
+        high = "no upper bound" if d["high"] is None else f"{d['high']:.1f}"
+        t.add_row(escape(s["name"]), s["method"], "lower bound" if d["value"] is None else f"{d['value']:.1f}",
+                  f"{d['low']:.1f} to {high}",
+                  "" if s["modern_pc"] is None else f"{s['modern_pc']:.1f}",
+                  "" if s["z_score"] is None else f"{s['z_score']:+.1f}")
+    out.print(t)
+    for s in stars:
+        steps = "; ".join(f"{x['step']}: {x['source']}" for x in s["steps"])
+        out.print(f"  {escape(s['name'])}: {escape(steps)}")

@@ -41,12 +41,13 @@ def report(
     inputs = campaign_inputs(camp)
     refuse_overwriting_inputs(output, inputs)
     steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "checking the logs",
-             "drawing the eclipse", "drawing the half moon", "writing"]
+             "drawing the eclipse", "drawing the half moon", "drawing the parallax ellipses",
+             "drawing the light curves", "writing"]
     with progress_bar() as bar:
         task = bar.add_task("report", total=len(steps))
 
         def step(name):
-            bar.update(task, description=name, completed=steps.index(name))
+            bar.update(task, description=name, completed=steps.index(name) if name in steps else None)
 
         rep = build_report(campaign, samples=samples, seed=seed, progress=step)
         step("writing")

@@ -103,6 +103,12 @@ REGISTRY: tuple[Method, ...] = (
         "parallax", "Each star's parallax, distance and proper motion from its measured positions.",
         "parallax", "Astrometry logs: each star's place every few weeks when a site sees it in a dark sky.",
     ),
+    Method(
+        "cepheids", "light_curves",
+        "cepheids", "Which nights cover each Cepheid's phase most evenly for its period.",
+        "cepheids", "Each Cepheid's period, mean magnitude and distance through a period-luminosity relation.",
+        "cepheids", "Light-curve logs: one magnitude of each star every night a site sees it in a dark sky.",
+    ),
 )
 
 

@@ -188,6 +188,7 @@ def simulate_parallax(
     sigma_arcsec: Annotated[float, typer.Option("--sigma-arcsec", min=0.0001, max=60.0, help="Error of one coordinate of one position [arcsec].")] = 0.05,
     cadence_days: Annotated[int, typer.Option("--cadence-days", min=1, max=366, help="Days between epochs.")] = 14,
     parallax_mas: Annotated[float | None, typer.Option("--parallax-mas", min=0.0, help="Give every star this parallax instead of the catalogue's [mas].")] = None,
+    star: StarOption = None,
 ) -> None:
     """Astrometry logs: each star's place every few weeks when a site sees it in a dark sky."""
     from firstrung.campaign import read_campaign
@@ -195,5 +196,5 @@ def simulate_parallax(
 
     first, last = simulation_range(date_from, date_to)
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed, sigma_arcsec=sigma_arcsec,
-                          cadence_days=cadence_days, parallax_mas=parallax_mas)
+                          cadence_days=cadence_days, parallax_mas=parallax_mas, star_id=star)
     write_simulated(campaign, "astrometry", rows, LOG_COLUMNS, output, "star positions")

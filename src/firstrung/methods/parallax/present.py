@@ -121,6 +121,6 @@ def parallax_ellipse_figure(fits: list[tuple[str, object]]):
         ax.set_xlabel("east offset (arcsec)")
         ax.set_ylabel("north offset (arcsec)")
         ax.set_title(f"{label}: parallax {p:.1f} ± {f.parallax_mas.sigma:.1f} mas", fontsize=9)
-        ax.legend(fontsize=7, loc="lower left")
+        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.18), ncol=2, frameon=False)
     fig.tight_layout()
     return fig

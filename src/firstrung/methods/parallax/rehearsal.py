@@ -10,7 +10,7 @@ LOG_COLUMNS = ("site", "star", "time_utc", "ra_deg", "dec_deg", "sigma_arcsec", 
 
 
 def rehearsal_rows(campaign, first_date, last_date, seed: int, *, sigma_arcsec: float = 0.05,
-                   cadence_days: int = 14, parallax_mas: float | None = None):
+                   cadence_days: int = 14, parallax_mas: float | None = None, star_id: str | None = None):
     """One position of every star every ``cadence_days`` when some site sees it in a dark sky.
 
     Each epoch is taken at the site with the most dark hours that night, when the star stands
@@ -20,7 +20,7 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, sigma_arcsec: 
     from firstrung.methods.parallax.run import plan_parallax
     from firstrung.star_catalogue import CATALOGUE_EPOCH_JYEAR, campaign_star_entry
 
-    plan = plan_parallax(campaign, first_date, last_date, step_days=cadence_days)
+    plan = plan_parallax(campaign, first_date, last_date, step_days=cadence_days, star_id=star_id)
     rng = np.random.default_rng(seed)
     rows = []
     for sp in plan.stars:

@@ -44,7 +44,7 @@ class ParallaxPlan:
     stars: tuple[StarPlan, ...]
 
 
-def _stars(campaign: Campaign, star_id: str | None):
+def chosen_stars(campaign: Campaign, star_id: str | None):
     if not campaign.stars:
         raise InputError("no [[star]] in the campaign file: name a target (id, name, ra_deg, dec_deg)",
                          file=str(campaign.path) if campaign.path else None)
@@ -67,7 +67,7 @@ def plan_parallax(campaign: Campaign, first_date: str, last_date: str, *, step_d
 
     dates = np.arange(np.datetime64(first_date, "D"), np.datetime64(last_date, "D") + 1, step_days)
     out = []
-    for star in _stars(campaign, star_id):
+    for star in chosen_stars(campaign, star_id):
         entry = campaign_star_entry(star)
         f_ra, f_dec = parallax_factors(star.ra_deg, star.dec_deg, dates.astype("datetime64[ms]"))
         parallax = entry.parallax_mas if entry is not None else 1.0

@@ -1,0 +1,191 @@
+"""``firstrung plan cepheids``, ``reduce cepheids``, ``simulate cepheids``: the Cepheid method's commands."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from firstrung.cli.common import (
+    CampaignArgument,
+    FromOption,
+    IncludeFlaggedOption,
+    JsonOption,
+    OutputOption,
+    SeedOption,
+    ToOption,
+    VerboseOption,
+    console,
+    handles_errors,
+    print_json,
+    report_left_out,
+    report_problems,
+    simulation_range,
+    write_simulated,
+)
+
+StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
+PeriodOption = Annotated[float | None, typer.Option("--period-days", min=0.05, max=1000.0,
+                                                     help="The Cepheid's period [d] (default: period_days of its [[star]]).")]
+
+
+def register_plan(group: typer.Typer) -> None:
+    """Add ``cepheids`` to the ``plan`` group."""
+    group.command("cepheids")(handles_errors(plan_cepheids))
+
+
+def plan_cepheids(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    star: StarOption = None,
+    period_days: PeriodOption = None,
+    nights: Annotated[int, typer.Option("--nights", min=2, max=1000, help="How many nights to choose.")] = 12,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+) -> None:
+    """Which nights cover each Cepheid's phase most evenly for its period."""
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.cepheids.present import cepheid_plan_to_json
+    from firstrung.methods.cepheids.run import plan_cepheids as plan
+
+    first, last = simulation_range(date_from, date_to)
+    data = cepheid_plan_to_json(plan(read_campaign(campaign), first, last, nights=nights, period_days=period_days,
+                                     star_id=star))
+    if json_output:
+        print_json(data)
+        return
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: Cepheid nights {data['from']} to {data['to']}")
+    for s in data["stars"]:
+        table = Table(box=box.SIMPLE_HEAD, pad_edge=False,
+                      title=f"{escape(s['name'])}: {s['chosen']} nights for a period of {s['period_days']:g} d")
+        for col in ("rank", "date", "time (UTC)", "phase"):
+            table.add_column(col, justify="left" if col == "date" else "right", no_wrap=True)
+        for n in (s["nights"] if verbose else [n for n in s["nights"] if n["rank"]]):
+            table.add_row("-" if n["rank"] is None else str(n["rank"]), n["date"],
+                          "" if n["time_utc"] is None else n["time_utc"][11:16], f"{n['phase']:.2f}")
+        out.print(table)
+        out.print(f"  largest gap in phase between chosen nights: {s['largest_phase_gap']:.2f} of a cycle")
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+
+
+def register_reduce(group: typer.Typer) -> None:
+    """Add ``cepheids`` to the ``reduce`` group."""
+    group.command("cepheids")(handles_errors(reduce_cepheids))
+
+
+def reduce_cepheids(
+    campaign: CampaignArgument,
+    relation: Annotated[str | None, typer.Option(
+        "--relation", help="Period-luminosity relation by name: benedict2007-v (default for V), benedict2007-i, "
+                           "benedict2007-k (Benedict et al. 2007, AJ 133, 1810).")] = None,
+    figure: Annotated[Path | None, typer.Option("--figure", help="Also write the folded light curves (.svg or .png).")] = None,
+    json_output: JsonOption = False,
+    verbose: VerboseOption = False,
+    include_flagged: IncludeFlaggedOption = False,
+) -> None:
+    """Each Cepheid's period, mean magnitude and distance through a period-luminosity relation.
+
+    Exit status 2 when any row or file was refused (the result from the good rows is still shown).
+    """
+    from firstrung.errors import InputError
+    from firstrung.methods.cepheids.present import cepheid_run_to_json
+    from firstrung.methods.cepheids.run import run_cepheids
+
+    if figure is not None and figure.suffix.lower() not in (".svg", ".png"):
+        raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
+    run = run_cepheids(campaign, relation_name=relation, include_flagged=include_flagged)
+    data = cepheid_run_to_json(run)
+    if figure is not None:
+        from firstrung import figures
+        from firstrung.methods.cepheids.present import light_curve_figure
+        from firstrung.output import write_atomic
+
+        fig = light_curve_figure([(s.star.name, s.fit) for s in run.stars])
+        body = figures.to_png(fig) if figure.suffix.lower() == ".png" else figures.to_svg(fig).encode()
+        write_atomic(figure, body, inputs=[campaign])
+    if json_output:
+        print_json(data)
+    else:
+        render_reduction(data, verbose)
+        if figure is not None:
+            console().print(f"  figure written to {figure}")
+    report_left_out(run.rows_left_out_flagged)
+    report_problems(run.problems)
+    if run.problems:
+        raise typer.Exit(2)
+
+
+def render_reduction(data: dict, verbose: bool) -> None:
+    """Rich tables for a Cepheid reduction."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    out = console()
+    out.print(f"[bold]{escape(data['campaign'])}[/bold]: Cepheid distances from the campaign's photometry")
+    for s in data["stars"]:
+        p, m, big, d = s["period_days"], s["mean_magnitude"], s["absolute_magnitude"], s["distance_pc"]
+        out.print(f"  [bold]{escape(s['name'])}[/bold]: {s['magnitudes']} magnitudes in {s['band']} over {s['span_days']:.0f} days")
+        out.print(f"    period              {p['value']:.4f} ± {p['sigma']:.4f} d   "
+                  f"(false-alarm probability {s['false_alarm_probability']:.2g})")
+        out.print(f"    mean magnitude      {m['value']:.3f} ± {m['sigma']:.3f}")
+        out.print(f"    absolute magnitude  {big['value']:.2f} ± {big['sigma']:.2f}   ({s['relation']})")
+        ext = s["extinction_mag"]
+        out.print(f"    extinction          {ext['value']:.2f} ± {ext['sigma']:.2f}"
+                  + ("" if ext["stated"] else "   (none stated: the distance is overstated)"))
+        out.print(f"    distance            {d['value']:.0f} pc   (68 % interval {d['low']:.0f} to {d['high']:.0f})")
+        budget = Table(title="Error budget of the distance modulus", box=box.SIMPLE_HEAD)
+        budget.add_column("source")
+        budget.add_column("sigma (mag)", justify="right", no_wrap=True)
+        for b in s["error_budget"]:
+            budget.add_row(b["source"], f"{b['sigma_mag']:.3f}")
+        out.print(budget)
+        if verbose:
+            out.print(f"    relation: {escape(s['relation_detail']['source'])}")
+    for note in data["notes"]:
+        out.print(f"  not reduced: {escape(note)}")
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+    rows = data["rows"]
+    out.print(f"  rows: {rows['read']} read, {rows['accepted']} used" + (f", {rows['refused']} refused" if rows["refused"] else ""))
+
+
+def register_simulate(group: typer.Typer) -> None:
+    """Add ``cepheids`` to the ``simulate`` group."""
+    group.command("cepheids")(handles_errors(simulate_cepheids))
+
+
+def simulate_cepheids(
+    campaign: CampaignArgument,
+    date_from: FromOption,
+    date_to: ToOption,
+    output: OutputOption,
+    seed: SeedOption = 1,
+    sigma_mag: Annotated[float, typer.Option("--sigma-mag", min=0.0001, max=2.0, help="Error of one magnitude [mag].")] = 0.02,
+    period_days: PeriodOption = None,
+    mean_magnitude: Annotated[float, typer.Option("--mean-magnitude", min=-30.0, max=30.0, help="Mean magnitude of the light curve (default: delta Cephei's in V).")] = 3.954,
+    range_mag: Annotated[float, typer.Option("--range-mag", min=0.0, max=5.0, help="Peak-to-peak range of the light curve [mag].")] = 0.89,
+    band: Annotated[str, typer.Option("--band", help="Band written in the log.")] = "V",
+    star: StarOption = None,
+) -> None:
+    """Light-curve logs: one magnitude of each Cepheid every night a site sees it in a dark sky.
+
+    The stars are those with period_days in the campaign file (every star with --period-days), or --star.
+    """
+    from firstrung.campaign import read_campaign
+    from firstrung.methods.cepheids.rehearsal import LOG_COLUMNS, rehearsal_rows
+
+    first, last = simulation_range(date_from, date_to)
+    rows = rehearsal_rows(read_campaign(campaign), first, last, seed, sigma_mag=sigma_mag, band=band,
+                          period_days=period_days, mean_magnitude=mean_magnitude, range_mag=range_mag, star_id=star)
+    write_simulated(campaign, "light_curves", rows, LOG_COLUMNS, output, "magnitudes")
