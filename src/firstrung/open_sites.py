@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from firstrung.campaign_model import Campaign, Site
+from firstrung.campaign_model import Campaign, Gnomon, Site
 from firstrung.csv_cells import Slot, got
 from firstrung.errors import InputError, RowProblem
 from firstrung.tabular import _read_table, display_name
@@ -45,7 +45,8 @@ POSITION_SLOTS = (
     Slot(("elevation_m",), numeric=True),
     Slot(("timezone",)),
 )
-_SLOTS = (Slot(("site",)),) + POSITION_SLOTS
+_SLOTS = (Slot(("site",)),) + POSITION_SLOTS + (Slot(("gnomon_m", "gnomon_cm", "gnomon_mm"), numeric=True),)
+_GNOMON_FACTORS = {"gnomon_m": 1.0, "gnomon_cm": 0.01, "gnomon_mm": 0.001}
 
 
 @dataclass(frozen=True)
@@ -59,6 +60,7 @@ class _Mark:
     longitude_deg: float
     elevation_m: float
     timezone: str | None
+    gnomon_m: float = math.nan
 
 
 def site_id_for(name: str, taken: set[str]) -> str:
@@ -133,6 +135,7 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
     else:
         rows = [(number, cells) for number, cells in table.rows if cells]
     site_col, elev_col, zone_col = chosen.get("site"), chosen.get("elevation_m"), chosen.get("timezone")
+    gnomon_col = chosen.get("gnomon_m")
     marks, zones = [], {}
     for number, cells in rows:
         name = cells.get(site_col, "").strip() if site_col else ""
@@ -165,8 +168,12 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
                                        f"expected an IANA time zone such as Europe/Paris, got {got(zone)}"))
         if len(problems) > bad:
             continue
+        gnomon = math.nan
+        if gnomon_col is not None:  # checked by the log's reader; here only the site's plain height
+            value, _ = table.read_number(cells.get(gnomon_col, ""))
+            gnomon = value * _GNOMON_FACTORS[gnomon_col] if value is not None and value > 0 else math.nan
         marks.append(_Mark(label, number, name, float(lat), float(lon),
-                           0.0 if math.isnan(elev) else float(elev), zone or None))
+                           0.0 if math.isnan(elev) else float(elev), zone or None, gnomon))
     return marks
 
 
@@ -246,7 +253,10 @@ def _with_row_sites(campaign: Campaign) -> Campaign:
         taken.add(site_id)
         elevation = next((m.elevation_m for m in group if m.elevation_m != 0.0), 0.0)
         zone = next((m.timezone for m in group if m.timezone), None)
-        new_sites.append(Site(site_id, first.name, first.latitude_deg, first.longitude_deg, elevation, zone))
+        heights = [m.gnomon_m for m in group if m.gnomon_m == m.gnomon_m and m.gnomon_m < 100.0]
+        # the school's rod, for planning and sheets (its rows give their own heights to the reduction)
+        gnomon = Gnomon(float(np.median(heights))) if heights else None
+        new_sites.append(Site(site_id, first.name, first.latitude_deg, first.longitude_deg, elevation, zone, gnomon))
         new_ids.append(site_id)
     return replace(
         campaign,

@@ -123,24 +123,27 @@ def test_realistic_networks_with_blunders_hold_the_truth_68_percent_of_the_time_
     # 2015 equinox network found), 15 % blunders; the truth is the same fit on the schools' geodetic
     # latitudes (the WGS84 meridional radius over their span)
     inside, blunders, caught, good, good_flagged, pair_spread = 0, 0, 0, 0, 0, []
-    for net in _coverage_networks():
+    for k, net in enumerate(_coverage_networks()):
         sites, readings = network_readings(net)
-        reduction, fit = reduce_network(sites, readings)
+        detail = k < 20  # the first networks with every site's results (for their pairs), the rest without
+        reduction, fit = reduce_network(sites, readings, site_table=detail)
         r = reduction.earth_radius_km
         truth = reduction.expected_radius_km
         inside += r.low <= truth <= r.high
-        used = {s.id for s in reduction.sites if not s.outlier}
+        used = set(fit.site_sigma_deg) - set(fit.flagged)
         bad = net.blunder != ""
         ids = np.array([s.id for s in sites])
         blunders += int(bad.sum())
         caught += sum(i not in used for i in ids[bad])
         good += int((~bad).sum())
         good_flagged += sum(i not in used for i in ids[~bad])
-        if len(pair_spread) < 20:
+        if detail:
             from firstrung.methods.shadows.pairs import network_pairs, pairs_summary
 
             p = pairs_summary(network_pairs(reduction.sites, fit.flagged))
             pair_spread.append((p["high_km"] - p["low_km"]) / 2 / p["median_km"])
+            lean, _ = reduce_network(sites, readings, site_table=False)
+            assert lean.earth_radius_km == r and lean.outliers == reduction.outliers
     assert 0.60 <= inside / 200 <= 0.76, inside
     assert blunders >= 0.14 * 200 * 150
     assert caught / blunders >= 0.9  # flagged, or left out (the Sun below 5 deg or 3 h from noon at the logged time)
@@ -219,3 +222,36 @@ def test_rows_of_one_school_that_disagree_on_the_position_are_refused_with_both_
     # and check says the same, one line per row
     code, out, err = run_cli(["check", camp, "--json"], capsys, monkeypatch)
     assert "disagree on the position" in out
+
+
+def test_plan_for_many_schools_sums_up_each_day_and_writes_every_site_to_a_file(tmp_path, capsys, monkeypatch):
+    net = simulate_network(60, EQUINOX, 4, blunder_fraction=0.0)
+    camp = _write_network(tmp_path, network_log_rows(net))
+    csv_path = tmp_path / "sites.csv"
+    code, out, err = run_cli(["plan", "shadows", camp, "--from", "2027-03-01", "--to", "2027-04-30", "--top", "4",
+                              "--sites-csv", csv_path], capsys, monkeypatch, columns=80)
+    assert code == 0, err
+    assert "part 2" not in out  # one table, not a column per school split over many parts
+    assert "60 sites: the table sums them up" in out and "zero-shadow days" in out
+    lines = csv_path.read_text().splitlines()
+    assert lines[0].startswith("date,rank,site,name,transit_utc") and len(lines) == 1 + 4 * 60
+
+
+def test_zero_shadow_days_fall_when_the_sun_stands_at_the_site_latitude(tmp_path, capsys, monkeypatch):
+    # a tropical school: its zero-shadow days in a year are the two days the Sun's declination
+    # (astropy, DE421) passes its latitude
+    rows = [{"site": "Coral Reef School", "latitude_deg": "12.5000", "longitude_deg": "-70.0000",
+             "time_utc": "2027-03-20T16:40:00Z", "shadow_cm": "22.5", "gnomon_m": "1.0"},
+            {"site": "Pine Ridge School", "latitude_deg": "45.0000", "longitude_deg": "-70.0000",
+             "time_utc": "2027-03-20T16:40:00Z", "shadow_cm": "100.0", "gnomon_m": "1.0"}]
+    camp = _write_network(tmp_path, rows)
+    code, out, err = run_cli(["plan", "shadows", camp, "--from", "2027-01-01", "--to", "2027-12-31", "--json"],
+                             capsys, monkeypatch)
+    assert code == 0, err
+    days = json.loads(out)["zero_shadow_days"]
+    assert {d["site"] for d in days} == {"coral-reef-school"}
+    assert [d["date"][:7] for d in days] == ["2027-04", "2027-08"]  # northward in April, southward in August
+    times = [np.datetime64(d["transit_utc"][:-1]) for d in days]
+    dec = _astropy_declination_deg(times, [12.5, 12.5], [-70.0, -70.0], [0.0, 0.0])
+    assert np.all(np.abs(dec - 12.5) < 0.3)  # within a day's motion of the Sun (about 0.4 deg) / 2
+    assert all(d["altitude_deg"] > 89.6 for d in days)

@@ -61,6 +61,10 @@ def plan_shadows(
     ] = None,
     site: CalendarSiteOption = None,
     json_output: JsonOption = False,
+    sites_csv: Annotated[
+        Path | None, typer.Option("--sites-csv", help="Write every site's noon, altitude and shadow on the best "
+                                  "days (--top) to this CSV file (for many sites the table sums them up).")
+    ] = None,
 ) -> None:
     """Rank the days of a range by the precision of the Earth's radius they allow.
 
@@ -88,13 +92,17 @@ def plan_shadows(
     if ics is not None:
         check_site_id(run.campaign, site)
         write_atomic(ics, calendar_bytes(run, days, site), inputs=campaign_inputs(run.campaign))
+    if sites_csv is not None:
+        from firstrung.methods.shadows.plan_network import sites_csv as site_rows
+
+        write_atomic(sites_csv, site_rows(run.plan, days).encode("utf-8"), inputs=campaign_inputs(run.campaign))
     if json_output:  # the JSON of every day and site only when it is printed
         print_json(shadow_plan_to_json(run))
         return
-    _render(run, days, SOLAR_CAUTION, ics, site)
+    _render(run, days, SOLAR_CAUTION, ics, site, sites_csv)
 
 
-def _render(run, days, caution: str, ics, site=None) -> None:
+def _render(run, days, caution: str, ics, site=None, sites_csv=None) -> None:
     from rich import box
     from rich.markup import escape
     from rich.table import Table
@@ -117,19 +125,34 @@ def _render(run, days, caution: str, ics, site=None) -> None:
     table.add_column("rank", justify="right")
     table.add_column("date")
     table.add_column("sigma R (km)", justify="right")
-    # every site's column, however many: the terminal's tables split a table too wide, never drop
-    for s in plan.sites:
+    from firstrung.methods.shadows.plan_network import (
+        SITE_COLUMNS_SHOWN,
+        summary_columns,
+        summary_note,
+        zero_shadow_days,
+    )
+
+    many = len(plan.sites) > SITE_COLUMNS_SHOWN  # many sites: a summary per day, every site in --sites-csv
+    # up to a few sites, a column each (the terminal's tables split a table too wide, never drop)
+    for s in () if many else plan.sites:
         table.add_column(f"{escape(s.id)}\nnoon alt shadow(m)")
+    if many:
+        for col in ("noon alt (deg)", "shadow (m)", "noon (UTC)"):
+            table.add_column(col, justify="right")
     table.add_column("note")
     table.caption = "noon: local apparent noon (site's zone, or Z for UTC); alt: Sun's refracted altitude (deg); N/S: shadow direction"
+    if many:
+        table.caption = f"the range over the {len(plan.sites)} sites; alt: the Sun's refracted altitude at noon"
     for k in days:
         row = [str(plan.rank[k]), str(plan.dates[k]), f"{plan.sigma_radius_km[k]:.0f}"]
-        for j, _s in enumerate(plan.sites):
+        if many:
+            row.extend(summary_columns(plan, k))
+        for j, _s in enumerate(() if many else plan.sites):
             d = site_day(plan, k, j)
             clock = (d["transit_local"] or d["transit_utc"])[11:16]
             zone = "" if d["transit_local"] else "Z"
             row.append(f"{clock}{zone} {d['altitude_deg']:.1f} {d['shadow_m']:.2f}{d['shadow_direction'][0].upper()}")
-        row.append(", ".join(plan.special[k]))
+        row.append(", ".join(plan.special[k]) if not many else summary_note(plan.special[k]))
         table.add_row(*row)
     out.print(table)
     reasons: dict[str, int] = {}
@@ -148,6 +171,16 @@ def _render(run, days, caution: str, ics, site=None) -> None:
         out.print(f"  days ruled out: {n_out} of {len(plan.dates)} (a day may have several reasons)")
         for k, v in sorted(reasons.items()):
             out.print(f"    {k}: {v} {'day' if v == 1 else 'days'}")
+    if many:
+        out.print(f"  {len(plan.sites)} sites: the table sums them up; "
+                  + (f"every site's noon is in {escape(str(sites_csv))}" if sites_csv is not None
+                     else "--sites-csv FILE writes every site's noon, --json gives them all"))
+    zeniths = zero_shadow_days(plan)
+    if zeniths:
+        shown = ", ".join(f"{escape(z['site'])} {z['date']} {(z['transit_local'] or z['transit_utc'])[11:16]}"
+                          f"{'' if z['transit_local'] else 'Z'}" for z in zeniths[:6])
+        more = f" and {len(zeniths) - 6} more (--json)" if len(zeniths) > 6 else ""
+        out.print(f"  zero-shadow days (the Sun at the zenith at noon): {shown}{more}")
     if ics is not None:
         out.print(f"  calendar written: {escape(str(ics))} ({plural(len(days), 'day')} x "
                   f"{plural(1 if site else len(plan.sites), 'site')})")

@@ -82,7 +82,7 @@ def _extra_variance(residual, variance, dof):
     if dof < 1 or chi2(0.0) <= dof:
         return 0.0
     low, high = 0.0, float(np.max(residual**2)) + 1e-30
-    for _ in range(40):  # bisection: chi2 falls as tau^2 grows
+    for _ in range(32):  # bisection: chi2 falls as tau^2 grows
         mid = 0.5 * (low + high)
         low, high = (mid, high) if chi2(mid) > dof else (low, mid)
     return 0.5 * (low + high)
@@ -137,6 +137,7 @@ def reduce_network(
     baselines: tuple[BaselineInput, ...] = (),
     *,
     errors_stated: bool = False,
+    site_table: bool = True,
 ) -> tuple[ShadowReduction, NetworkFit]:
     """The Earth's radius from an open network (or from one site against the subsolar point).
 
@@ -147,6 +148,10 @@ def reduce_network(
     errors_stated : bool
         True when every site states its reading errors; else each site's
         error is estimated from the network's scatter.
+    site_table : bool
+        False leaves out the per-site results (``sites`` empty): the radius,
+        its budget and the flagged sites are the same (calibration runs over
+        many networks).
 
     Returns
     -------
@@ -162,7 +167,10 @@ def reduce_network(
     fit = fit_series(prep.group, len(prep.group_site), prep.altitude_rad, prep.sigma_reading_rad,
                      prep.declination_rad, prep.hour_angle_rad, prep.declination_rate, prep.hour_angle_rate,
                      lat_guess, clock_prior_sigma_s=NETWORK_CLOCK_SIGMA_S)
-    chi2_dof, scale = _series_scatter_scale(fit)
+    if fit.count.max() >= 4:
+        chi2_dof, scale = _series_scatter_scale(fit)
+    else:  # no series long enough to show its own scatter (what _series_scatter_scale gives then)
+        chi2_dof, scale = np.full(fit.count.size, np.nan), np.ones(fit.count.size)
     present, latitude, contributions, per_series, total = _combine_sites(prep, fit, scale)
     if int(present.sum()) == 1:
         series = _series_results(prep, fit, per_series, total, scale, chi2_dof)
@@ -186,10 +194,10 @@ def reduce_network(
     # each day's latitude error: the network's when it comes from the scatter
     per_day = total if errors_stated else np.sqrt(tau2 + (per_series["clock"] if "clock" in per_series else 0.0) ** 2)
     by_site: dict[str, list[SeriesResult]] = {}
-    for s in _series_results(prep, fit, per_series, per_day, scale, chi2_dof):
+    for s in _series_results(prep, fit, per_series, per_day, scale, chi2_dof) if site_table else ():
         by_site.setdefault(s.site_id, []).append(s)
     results = []
-    for i in np.flatnonzero(present):
+    for i in np.flatnonzero(present) if site_table else ():
         s = prep.sites[i]
         lat_deg, sig_deg = float(np.degrees(latitude[i])), float(np.degrees(sigma[i]))
         results.append(SiteResult(

@@ -24,6 +24,8 @@ def site_day(plan, k: int, j: int) -> dict:
 
 
 def shadow_plan_to_json(run) -> dict:
+    from firstrung.methods.shadows.plan_network import zero_shadow_days
+
     plan = run.plan
     days = []
     for k, date in enumerate(plan.dates):
@@ -52,6 +54,7 @@ def shadow_plan_to_json(run) -> dict:
             "excluded_dates": list(c.excluded_dates),
         },
         "sites_without_gnomon": list(run.skipped_sites),
+        "zero_shadow_days": zero_shadow_days(plan),
         "days": days,
         "assumptions": list(plan.assumptions),
     }

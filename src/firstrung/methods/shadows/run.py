@@ -100,9 +100,10 @@ def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
 
 
 def errors_stated(campaign: Campaign, readings: ShadowReadings) -> bool:
-    """True when every site with readings states its errors (a ``[site.gnomon]`` or an angle instrument)."""
-    sites = campaign.sites
-    return all(sites[i].gnomon is not None or sites[i].angle_instrument is not None
+    """True when every site with readings states its errors (a ``[site.gnomon]`` or an angle instrument; a
+    site from the log's rows states none)."""
+    sites, from_rows = campaign.sites, set(campaign.row_site_ids)
+    return all(sites[i].id not in from_rows and (sites[i].gnomon is not None or sites[i].angle_instrument is not None)
                for i in np.unique(readings.site_index))
 
 
