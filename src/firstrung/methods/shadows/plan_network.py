@@ -52,17 +52,17 @@ def zero_shadow_days(plan) -> list[dict]:
 
 def sites_csv(plan, days) -> str:
     """Every site's noon on the chosen days, one row per day and site (CSV text)."""
-    from firstrung.methods.shadows.present_plan import site_day
+    from firstrung.methods.shadows.plan import local_time_iso
     from firstrung.output import rows_to_csv
 
     rows = []
     for k in days:
         for j, s in enumerate(plan.sites):
-            d = site_day(plan, k, j)
+            t = plan.transit_utc[k, j]
             rows.append({"date": str(plan.dates[k]), "rank": int(plan.rank[k]), "site": s.id, "name": s.name,
-                         "transit_utc": d["transit_utc"], "transit_local": d["transit_local"] or "",
-                         "altitude_deg": d["altitude_deg"], "shadow_m": d["shadow_m"],
-                         "shadow_direction": d["shadow_direction"]})
+                         "transit_utc": time_z(t), "transit_local": local_time_iso(t, s.timezone) or "",
+                         "altitude_deg": number(plan.altitude_deg[k, j], 5), "shadow_m": number(plan.shadow_m[k, j], 4),
+                         "shadow_direction": str(plan.shadow_direction[k, j])})
     return rows_to_csv(rows, SITES_CSV_COLUMNS)
 
 
