@@ -33,15 +33,16 @@ def demo_folder(tmp_path_factory):
 
 
 def test_demo_writes_every_result_and_the_report(demo_folder):
-    for name in ("campaign.toml", "logs/shadows.csv", "logs/eclipse.csv", "logs/phases.csv", "check.json",
-                 "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "ladder.json", "report.html"):
+    for name in ("campaign.toml", "logs/shadows.csv", "logs/eclipse.csv", "logs/phases.csv", "logs/transits.csv",
+                 "check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "sun-parallax.json",
+                 "ladder.json", "report.html"):
         assert (demo_folder / name).exists(), name
     html = (demo_folder / "report.html").read_text()
-    assert html.count("<svg") == 5  # ladder, shadow fits, latitude line, eclipse, half moon
+    assert html.count("<svg") == 6  # ladder, shadow fits, latitude line, eclipse, half moon, transit chords
     check = json.loads((demo_folder / "check.json").read_text())
     # the demo's blunders (a clock an hour out, a mistyped reading, a duplicated row) are found
     codes = set(check["counts"]["by_code"])
-    assert {"outlier", "duplicate-row"} <= codes
+    assert {"outlier", "duplicate-row", "contact-label"} <= codes  # and a C4 logged as C3
     assert codes & {"time-shift-hours", "local-time-as-utc"}
 
 
@@ -55,7 +56,17 @@ def test_ladder_agrees_with_the_separate_reductions(demo_folder):
     assert ladder["earth_radius_km"]["low"] == pytest.approx(radius["low"], rel=1e-3)
     assert ladder["moon_distance_km"]["value"] == pytest.approx(moon["moon_distance_km"]["value"], rel=1e-3)
     assert ladder["moon_distance_km"]["sigma"] == pytest.approx(moon["moon_distance_km"]["sigma"], rel=0.05)
-    sun = ladder["sun_distance_km"]["value"]
-    # the ratio holds at the half moon: the eclipse night's Moon is carried there first (exact factor)
-    sun_expected = moon["moon_distance_km"]["value"] * ladder["half_moon_distance_factor"] * ratio["value"]
-    assert sun == pytest.approx(sun_expected, rel=0.01)
+    # the half-moon ratio is reduced (the ratio holds at the half moon, where the eclipse night's
+    # Moon is carried by an exact factor), but the Sun comes from the transit of 2032 when present
+    assert ratio["value"] > 0 and ladder["half_moon_distance_factor"] > 0
+    transit = json.loads((demo_folder / "sun-parallax.json").read_text())
+    assert ladder["sun_distance_method"] == "transit"
+    # the median of 1/f samples is 1/f: the Sun's distance in au as reduce transit gives it
+    assert ladder["sun_distance_au"]["value"] == pytest.approx(transit["sun_distance_au"]["value"], rel=2e-3)
+    assert ladder["sun_distance_km"]["value"] == pytest.approx(transit["sun_distance_km"]["value"], rel=2e-3)
+    # the demo's timings are simulated at DE421's distances (1 au) with 5 s errors: within 3 sigma
+    p = transit["solar_parallax_arcsec"]
+    assert abs(p["value"] - 8.794143) < 3 * p["sigma"]
+    assert [t["date"] for t in transit["transits"]] == ["2032-11-13"]
+    rejected = [t for t in transit["timings"] if not t["used"]]
+    assert rejected == [] and len(transit["timings"]) == 19  # the mislabelled C4 was left out by the check

@@ -57,6 +57,9 @@ def elongation_past_90(c: Path) -> None:
             r[e], r[f] = "89.95", ""
 
     edit_csv(c / "logs" / "phases.csv", change)
+    # the half moon's own bound on the Sun: without the transit, which would give the Sun instead
+    camp = c / "campaign.toml"
+    camp.write_text(camp.read_text().replace('transits = ["logs/transits.csv"]\n', ""))
 
 
 def test_ladder_with_the_half_moon_past_90_deg_shows_lower_bounds(c, capsys, monkeypatch):

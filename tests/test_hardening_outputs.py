@@ -72,14 +72,14 @@ def folder_commands(campaign: Path, target: Path) -> list[list]:
 def test_every_input_is_listed(campaign):
     names = sorted(str(p.relative_to(campaign.parent)) for p in campaign_inputs(campaign))
     assert names == ["campaign.toml", "logs/eclipse.csv", "logs/phases.csv", "logs/shadows-template.csv",
-                     "logs/shadows.csv"]
+                     "logs/shadows.csv", "logs/transits.csv"]
 
 
 def test_no_command_replaces_any_input(campaign, capsys, monkeypatch):
     folder = campaign.parent
     before = tree(folder)
     inputs = campaign_inputs(campaign)
-    assert len(inputs) == 5
+    assert len(inputs) == 6
     tried = 0
     for target in inputs:
         runs = file_commands(campaign, target) + folder_commands(campaign, target)
@@ -96,7 +96,7 @@ def test_no_command_replaces_any_input(campaign, capsys, monkeypatch):
             assert err.count("\n") == 1 and err.startswith("firstrung: "), (args, err)
             assert "Traceback" not in err
             assert tree(folder) == before, args
-    assert tried == 5 * (7 + 5) + 4 * 5 + 1
+    assert tried == 6 * (7 + 5) + 5 * 5 + 1
 
 
 def test_the_input_under_another_name_is_refused(campaign, capsys, monkeypatch):

@@ -37,6 +37,7 @@ CODES = (
     "zenith-distance-as-altitude",
     "degrees-minutes",
     "wrong-limb",
+    "contact-label",
 )
 
 

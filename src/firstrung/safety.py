@@ -42,3 +42,10 @@ TRANSIT_CAUTION = (
     "finder or camera, never leave an instrument pointing at the Sun unattended, and keep "
     "people away from the projected beam's focus. Follow your host institution's safety rules."
 )
+
+TRANSIT_CAUTION_MORE = (
+    "Ordinary sunglasses, smoked glass and exposed film are not safe; eye injury from the Sun is "
+    "painless and can be permanent. Cap the finder, let only trained people align the instrument, "
+    "and keep children with an adult at the screen. Follow local rules and your host institution's "
+    "safety officer."
+)

@@ -11,11 +11,14 @@ from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
-#: What the demo simulates: (kind, first day, last day, seed, options).
+#: The demo's European sites, which take part in every rung; the others time the transit only.
+EUROPEAN_SITES = ("fjell", "lowmead", "sardo")
+#: What the demo simulates: (kind, first day, last day, seed, the sites that log it (None: all), options).
 DEMO_LOGS = (
-    ("shadows", "2027-03-22", "2027-03-23", 20270322, {"blunders": ("clock", "wild", "duplicate")}),
-    ("eclipse", "2029-12-01", "2029-12-31", 20291220, {"late_contact": True}),
-    ("phases", "2027-01-01", "2027-03-31", 1, {}),
+    ("shadows", "2027-03-22", "2027-03-23", 20270322, EUROPEAN_SITES, {"blunders": ("clock", "wild", "duplicate")}),
+    ("eclipse", "2029-12-01", "2029-12-31", 20291220, EUROPEAN_SITES, {"late_contact": True}),
+    ("phases", "2027-01-01", "2027-03-31", 1, EUROPEAN_SITES, {}),
+    ("transits", "2032-11-13", "2032-11-13", 20321113, None, {"swap_label": True}),
 )
 DEMO_SEED = 1
 DEMO_SAMPLES = 100_000
@@ -39,17 +42,21 @@ def demo_logs(campaign) -> dict[str, str]:
     from firstrung.methods import by_log_kind
     from firstrung.output import rows_to_csv
 
+    import dataclasses
+
     out = {}
-    for kind, first, last, seed, options in DEMO_LOGS:
+    for kind, first, last, seed, sites, options in DEMO_LOGS:
         rehearsal = by_log_kind(kind).module("rehearsal")
-        rows, columns = rehearsal.rehearsal_rows(campaign, first, last, seed, **options), rehearsal.LOG_COLUMNS
+        logged = campaign if sites is None else dataclasses.replace(
+            campaign, sites=tuple(s for s in campaign.sites if s.id in sites))
+        rows, columns = rehearsal.rehearsal_rows(logged, first, last, seed, **options), rehearsal.LOG_COLUMNS
         out[f"{kind}.csv"] = rows_to_csv(rows, columns)
     return out
 
 
 #: The files the demo writes beside its campaign file and logs.
-DEMO_RESULTS = ("check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "ladder.json",
-                "report.html")
+DEMO_RESULTS = ("check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "sun-parallax.json",
+                "ladder.json", "report.html")
 
 
 def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str] | None) -> None:
@@ -88,6 +95,7 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     from firstrung.methods.eclipse.present import eclipse_run_to_json
     from firstrung.methods.phases.present import phase_run_to_json
     from firstrung.methods.shadows.present import shadow_run_to_json
+    from firstrung.methods.transit.present import transit_run_to_json
     from firstrung.output import make_folder, write_atomic
 
     folder = Path(folder)
@@ -110,6 +118,7 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     files["shadows"] = write_atomic(folder / "earth-radius.json", dumps(shadow_run_to_json(runs["shadows"])) + "\n")
     files["eclipse"] = write_atomic(folder / "moon-distance.json", dumps(eclipse_run_to_json(runs["eclipse"])) + "\n")
     files["phases"] = write_atomic(folder / "sun-moon-ratio.json", dumps(phase_run_to_json(runs["phases"])) + "\n")
+    files["transit"] = write_atomic(folder / "sun-parallax.json", dumps(transit_run_to_json(runs["transit"])) + "\n")
     progress("writing the report")
     files["ladder"] = write_atomic(folder / "ladder.json", dumps(report.context["ladder_json"]) + "\n")
     files["report"] = write_atomic(folder / "report.html", render_html(report))

@@ -41,8 +41,8 @@ def report(
     inputs = campaign_inputs(camp)
     refuse_overwriting_inputs(output, inputs)
     steps = ["reducing the campaign's logs", "chaining the ladder", "drawing the shadow fits", "checking the logs",
-             "drawing the eclipse", "drawing the half moon", "drawing the parallax ellipses",
-             "drawing the light curves", "writing"]
+             "drawing the eclipse", "drawing the half moon", "drawing the transit's chords",
+             "drawing the parallax ellipses", "drawing the light curves", "writing"]
     with progress_bar() as bar:
         task = bar.add_task("report", total=len(steps))
 

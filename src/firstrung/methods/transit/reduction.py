@@ -368,7 +368,7 @@ def _budget(estimator, time_sigma_s, signed_drop, group, rate, site, transit, na
     return {
         "timing (stated errors)": timing,
         "black drop (internal contacts)": black,
-        "clocks not fitted (one error per site)": math.sqrt(clock_var),
+        "clocks whose offset is not fitted (one error per site)": math.sqrt(clock_var),
         "site positions": position,
         "Sun's and planet's radii (fitted offsets)": 0.0,
     }

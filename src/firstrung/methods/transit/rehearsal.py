@@ -13,12 +13,14 @@ REHEARSAL_MIN_SUN_DEG = 5.0
 
 
 def rehearsal_rows(campaign, first_date, last_date, seed: int, *, time_sigma_s: float = 5.0,
-                   black_drop_s: float = 3.0, observers_per_site: int = 1):
+                   black_drop_s: float = 3.0, observers_per_site: int = 1, swap_label: bool = False):
     """C1-C4 at every site of every transit of the range, where the Sun is up.
 
     Each timing is the site's predicted contact plus a Gaussian error of
     ``time_sigma_s``; internal contacts (C2, C3) also get the instrument's black
     drop: C2 late and C3 early by one draw of ``|N(0, black_drop_s)|`` per observer.
+    With ``swap_label`` one C4 (the last one logged) is written as C3, the usual slip
+    for ``check`` to find.
     """
     from firstrung.methods.transit.run import plan_transits
 
@@ -41,6 +43,10 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, time_sigma_s: 
                                  "time_sigma_s": f"{time_sigma_s:g}", "observer": observer,
                                  "note": "projection screen, time signal"})
     rows.sort(key=lambda r: (r["time_utc"], r["site"], r["observer"]))
+    if swap_label:
+        last = [r for r in rows if r["event"] == "C4"]
+        if last:
+            last[-1]["event"] = "C3"
     return rows
 
 
