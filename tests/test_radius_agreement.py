@@ -54,4 +54,7 @@ def test_the_report_states_the_same_radius_and_sigma_as_reduce_shadows():
     assert f"({z:+.1f} sigma)" in section["headline"]
     row = next(r for r in rep.context["ladder"] if r["quantity"] == "earth_radius_km")
     assert row["z_score"] == round(z, 2)
-    assert row["measured"]["value"] == round(red.earth_radius_km.value, 1)
+    assert row["measured"]["value"] == round(red.earth_radius_km.value, 3)  # as reduce shadows' JSON gives it
+    # page one says each number once: the headline's radius and interval are the table's, rounded once
+    assert f"{row['value_text']} km (68 % interval {row['interval_text']} km)" in section["headline"]
+    assert row["value_text"] == f"{red.earth_radius_km.value:,.0f}"

@@ -72,3 +72,15 @@ def test_a_shadows_only_campaign_shows_the_other_rungs_as_not_measured(tmp_path,
     assert code == 0, err
     html = out_file.read_text()
     assert "Not measured in this campaign" in html and html.count("<svg") == 3
+
+
+def test_page_one_says_each_number_once():
+    """The headlines' values and intervals are the ladder table's beside them, never a second value of one thing."""
+    from firstrung.app.report import build_report
+
+    rep = build_report(EXAMPLES / "campaign.toml", samples=2000, seed=1)
+    rows = {r["quantity"]: r for r in rep.context["ladder"]}
+    for name, quantity in (("shadows", "earth_radius_km"), ("eclipse", "moon_distance_km")):
+        row, headline = rows[quantity], rep.context["section"][name]["headline"]
+        assert f"{row['value_text']} km" in headline, (headline, row)
+        assert f"(68 % interval {row['interval_text']} km)" in headline, (headline, row)

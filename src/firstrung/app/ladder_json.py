@@ -5,7 +5,7 @@ from __future__ import annotations
 from firstrung.jsonout import number
 from firstrung.uncertainty import Measured
 
-_DIGITS = {"km": 1, "au": 5}
+_DIGITS = {"km": 3, "au": 5}  # km as reduce gives them: a value is rounded once, for display
 
 
 def ladder_to_json(run) -> dict:

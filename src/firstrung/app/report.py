@@ -82,6 +82,24 @@ def _acknowledgements(campaign, check: dict | None) -> list[dict]:
     return [{"id": s.id, "name": s.name, "observers": observers[s.id]} for s in campaign.sites]
 
 
+def _same_numbers_as_the_table(section: dict, rows: list[dict]) -> None:
+    """Page one says each number once: a headline's value and interval become the ladder table's own.
+
+    A rung's headline states its result as its own reduction gives it; the table beside it
+    gives the ladder's (the radius carried through, the Moon's distance from the chained
+    radius). Where a headline names a quantity of the table (``headline_numbers``), its
+    figures are replaced by the table's, so that a reader never sees two values of one thing.
+    """
+    numbers = section.get("headline_numbers")
+    row = next((r for r in rows if numbers and r["quantity"] == numbers["quantity"]), None)
+    if row is None or row["measured"] is None or not row["interval_text"]:
+        return
+    headline = section["headline"]
+    headline = headline.replace(f"{numbers['value']} km", f"{row['value_text']} km", 1)
+    headline = headline.replace(f"68 % interval {numbers['interval']} km", f"68 % interval {row['interval_text']} km", 1)
+    section["headline"] = headline
+
+
 def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step: None) -> Report:
     """Reduce every rung with logs, chain the ladder, and ask each method for its section."""
     from firstrung import figures
@@ -105,6 +123,7 @@ def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step
         if run is None:
             continue
         section = method.module("rung").report_section(run, progress)
+        _same_numbers_as_the_table(section, rows)
         for name, fig in section.pop("figures").items():
             figs[f"{method.name}_{name}"] = fig
         section["figure_names"] = [n for n in figs if n.startswith(method.name + "_")]

@@ -76,6 +76,7 @@ def report_section(run, progress=lambda step: None) -> dict:
             value, _ = rounded(k["value"], k["value"] - k["sigma"], k["value"] + k["sigma"], space=" ")
             e["distance_text"] = f"{value} ± {rounded(k['sigma'], k['sigma'] * 0.9, k['sigma'] * 1.1)[0]}"
     headline = "No eclipse in the logs could be reduced."
+    numbers = None
     for e in data["eclipses"]:
         if e.get("reduction") and e.get("moon_distance_km"):
             k = e["moon_distance_km"]
@@ -84,6 +85,7 @@ def report_section(run, progress=lambda step: None) -> dict:
             headline = (f"The Moon is {value} km away (68 % interval {interval} km), {d['value']:.1f} Earth radii, "
                         f"from the {e['kind']} eclipse of {e['date']}; the ephemeris gives "
                         f"{e['modern']['moon_distance_earth_radii']:.1f} Earth radii that night.")
+            numbers = {"quantity": "moon_distance_km", "value": value, "interval": interval}
             break
     return {"name": "eclipse", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
-            "headline": headline, "dates": [e["date"] for e in data["eclipses"]]}
+            "headline": headline, "dates": [e["date"] for e in data["eclipses"]], "headline_numbers": numbers}

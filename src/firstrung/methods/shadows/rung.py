@@ -155,4 +155,5 @@ def report_section(run, progress=lambda step: None) -> dict:
         "name": "shadows", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
         "headline": headline, "dates": dates, "z": z,
         "radius_text": f"{value} km", "interval_text": f"{interval} km", "expected_text": f"{expected} km",
+        "headline_numbers": {"quantity": "earth_radius_km", "value": value, "interval": interval},
     }
