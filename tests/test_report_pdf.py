@@ -12,9 +12,9 @@ import subprocess
 from pathlib import Path
 
 import pytest
+from tests.cli.test_widths import twelve_site_campaign
 
 from firstrung.cli import main
-from tests.cli.test_widths import twelve_sites  # noqa: F401 (a fixture)
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
 BROWSER = shutil.which("chromium") or shutil.which("chromium-browser")
@@ -58,8 +58,10 @@ def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypa
 
 
 @pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
-def test_a_twelve_site_report_keeps_to_eight_pages(twelve_sites, tmp_path, capsys, monkeypatch):
+def test_a_twelve_site_report_keeps_to_eight_pages(tmp_path, capsys, monkeypatch):
     """Twelve sites (64 N to 41 S) with shadow, eclipse and half-moon logs: still at most 8 A4 pages."""
+    twelve_sites = twelve_site_campaign(tmp_path / "twelve")
+    capsys.readouterr()
     html = tmp_path / "report.html"
     with pytest.raises(SystemExit) as done:
         main(["report", str(twelve_sites), "-o", str(html), "--samples", "4000"])

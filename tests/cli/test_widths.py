@@ -46,9 +46,14 @@ def commands(campaign: Path) -> list[list[str]]:
 @pytest.fixture(scope="module")
 def twelve_sites(tmp_path_factory) -> Path:
     """A twelve-site campaign with shadow, eclipse and half-moon logs from ``simulate``."""
+    return twelve_site_campaign(tmp_path_factory.mktemp("twelve"))
+
+
+def twelve_site_campaign(root: Path) -> Path:
+    """Write the twelve-site campaign and its simulated logs into ``root``; its campaign file."""
     from firstrung.cli import main
 
-    root = tmp_path_factory.mktemp("twelve")
+    root.mkdir(parents=True, exist_ok=True)
     parts = ['[campaign]\nname = "Twelve invented sites"\n']
     for i, (lat, lon, zone) in enumerate(TWELVE, 1):
         parts.append(
