@@ -25,7 +25,11 @@ minute (the test suite smoke-runs it; no test asserts a time).
 The workloads are synthetic logs written by firstrung's own rehearsal
 (every row one the reader accepts; the script stops if not).
 
-Run: python benchmarks/run.py [--quick] [--markdown FILE]
+Run: python benchmarks/run.py [--quick] [--forms] [--markdown FILE]
+
+``--forms`` runs only the table of the ways of recording the noon Sun (length, altitude, timed and
+untimed tip traces): ``reduce shadows`` on about 100,000 rows of each, CPU per row against the length
+form's.
 """
 
 from __future__ import annotations
@@ -209,6 +213,66 @@ def shadow_workload(folder: Path, n_sites: int, n_rows: int, seed: int = 5, decl
     if declared > n_sites:  # the same sites first, then many more that logged nothing
         write_campaign(folder, n_sites, seed, declared=declared)
     return path, len(rows)
+
+
+def form_workloads(folder: Path, n_sites: int, days: int, seed: int = 5) -> dict[str, tuple[Path, int]]:
+    """One campaign, and a shadow log of it in each way of recording the noon Sun, by firstrung's rehearsal.
+
+    ``length`` (17 readings a site-day, 2 minutes apart), ``altitude`` (the same times, an angle
+    instrument's readings), ``timed trace`` (tip positions every 10 minutes over two hours, 13 a
+    site-day) and ``untimed trace`` (the same points with the date only: the log a class without a
+    clock writes). Returns form -> (campaign file, rows); each campaign names its own log.
+    """
+    read_campaign = _lib("read_campaign", "firstrung.campaign")
+    shadow_rows = _lib("rehearsal_rows", "firstrung.methods.shadows.rehearsal")
+    form_rows = _lib("form_rows", "firstrung.methods.shadows.rehearsal_forms")
+    first = np.datetime64("2027-03-20")
+    last = str(first + np.timedelta64(days - 1, "D"))
+    out = {}
+    for form in ("length", "altitude", "timed trace", "untimed trace"):
+        sub = folder / form.replace(" ", "-")
+        path = write_campaign(sub, n_sites, seed)
+        campaign = read_campaign(str(path))
+        if form == "length":
+            rows = shadow_rows(campaign, str(first), last, seed, half_span_min=16.0, step_min=2.0)
+            lines = ["site,time_utc,shadow_mm,observer,note"] + [
+                f"{r['site']},{r['time_utc']},{r['shadow_mm']},{r['observer']},{r['note']}" for r in rows]
+        elif form == "altitude":
+            rows = form_rows(campaign, "altitude", str(first), last, seed, half_span_min=16.0, step_min=2.0)
+            lines = ["site,time_utc,altitude_deg,limb,observer,note"] + [
+                f"{r['site']},{r['time_utc']},{r['altitude_deg']},{r['limb']},{r['observer']},{r['note']}" for r in rows]
+        else:
+            rows = form_rows(campaign, "trace", str(first), last, seed)
+            if form == "timed trace":
+                lines = ["site,time_utc,tip_x_mm,tip_y_mm,observer,note"] + [
+                    f"{r['site']},{r['time_utc']},{r['tip_x_mm']},{r['tip_y_mm']},{r['observer']},{r['note']}"
+                    for r in rows]
+            else:  # the date of the site's mean noon (the benchmark's sites keep UTC and no zone)
+                lon = {s.id: s.longitude_deg for s in campaign.sites}
+                lines = ["site,date,tip_x_mm,tip_y_mm,observer,note"]
+                for r in rows:
+                    t = np.datetime64(r["time_utc"].rstrip("Z"), "s") + np.timedelta64(int(lon[r["site"]] * 240), "s")
+                    lines.append(f"{r['site']},{str(t)[:10]},{r['tip_x_mm']},{r['tip_y_mm']},{r['observer']},{r['note']}")
+        (sub / "shadows.csv").write_text("\n".join(lines) + "\n")
+        out[form] = (path, len(lines) - 1)
+    return out
+
+
+def bench_forms(work: Workloads, n_sites: int, days: int, repeats: int) -> list[Row]:
+    """``reduce shadows`` on a log of each form: time and CPU per row against the length form's."""
+    found = []
+    for form, (path, n) in form_workloads(work.root / "forms", n_sites, days).items():
+        whole = cold(["reduce", "shadows", str(path)], repeats)
+        found.append((form, n, whole))
+    _, n_length, length = found[0]
+    rows = []
+    for form, n, whole in found:
+        per_row = (whole.cpu_s / n) / (length.cpu_s / n_length)
+        wall = (whole.seconds / n) / (length.seconds / n_length)
+        rows.append(Row(f"forms: {form}", f"reduce shadows, {n:,} rows, {n_sites} sites", whole,
+                        agreement=f"{per_row:.2f}x the length form's CPU per row ({wall:.2f}x wall)",
+                        target="" if form == "length" else "<= 1.5x the length form"))
+    return rows
 
 
 class Workloads:
@@ -618,9 +682,20 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="reduced workloads, about a minute")
     parser.add_argument("--markdown", type=Path, help="also write the tables as Markdown to this file")
+    parser.add_argument("--forms", action="store_true",
+                        help="only the ways of recording the noon Sun: reduce shadows on ~100,000 rows of each form")
     args = parser.parse_args()
     quick = args.quick
     r = 1 if quick else 5  # cold runs per measurement (median)
+    if args.forms:
+        with tempfile.TemporaryDirectory() as scratch:
+            rows = bench_forms(Workloads(Path(scratch)), 50 if quick else 500, 2 if quick else 12, 1 if quick else 3)
+        header = machine_line(quick)
+        print(header)
+        print_table(rows)
+        if args.markdown:
+            args.markdown.write_text(markdown(rows, [], header))
+        return
     with tempfile.TemporaryDirectory() as scratch:
         work = Workloads(Path(scratch))
         rows: list[Row] = []
