@@ -23,7 +23,7 @@ MODERN_VALUES = {
     "moon_distance_km": (384_400.0, "km", "mean Earth-Moon distance, NASA NSSDCA Moon Fact Sheet"),
     "sun_distance_km": (149_597_870.7, "km", "astronomical unit, IAU 2012 Resolution B2"),
     "sun_distance_au": (1.0, "au", "astronomical unit, IAU 2012 Resolution B2"),
-    "moon_diameter_km": (2 * 1737.4, "km", "twice the lunar mean radius 1737.4 km (IAU/WGCCRE)"),
+    "moon_diameter_km": (2 * 1737.4, "km", "twice the lunar mean radius 1,737.4 km (IAU/WGCCRE)"),
     "sun_diameter_km": (2 * 695_700.0, "km", "twice the nominal solar radius 695,700 km (IAU 2015 Resolution B3)"),
 }
 ASTRONOMICAL_UNIT_KM = 149_597_870.7

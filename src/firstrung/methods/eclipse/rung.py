@@ -39,7 +39,7 @@ def ladder_draws(ctx) -> None:
     sources.append(("moon_angular_diameter_deg", f"the Moon's angular size from the {r.moon.semidiameter_source}"))
     overrides.append((
         "moon_distance_km", r.ephemeris_distance_earth_radii * SHADOW_EARTH_RADIUS_KM,
-        f"the Moon's geocentric distance at greatest eclipse {str(r.epoch_utc)[:10]} (DE421); its mean is 384 400 km",
+        f"the Moon's geocentric distance at greatest eclipse {str(r.epoch_utc)[:10]} (DE421); its mean is 384,400 km",
     ))
     if len(reduced) > 1:
         notes.append(f"{len(reduced)} eclipses reduced; the ladder uses the first ({str(r.epoch_utc)[:10]})")

@@ -117,7 +117,7 @@ def _render(run, days, caution: str, ics, site=None, sites_csv=None) -> None:
         f"[bold]{escape(run.campaign.name)}[/bold]: noon shadows, {plan.dates[0]} to {plan.dates[-1]}; "
         f"{n_ranked} of {len(plan.dates)} days work at every site"
     )
-    out.print(f"  a perfect measurement at these sites gives {number(plan.expected_radius_km, 3):.1f} km")
+    out.print(f"  a perfect measurement at these sites gives {number(plan.expected_radius_km, 3):,.1f} km")
     if run.skipped_sites:
         out.print(f"  sites without a gnomon, left out: {', '.join(run.skipped_sites)}")
     table = Table(title=f"Best days (of {n_ranked})", box=box.SIMPLE_HEAD)
@@ -247,14 +247,15 @@ def reduce_shadows(
 
 
 def _pm(q: dict, digits: int = 1) -> str:
+    """Value±sigma with the thousands separated by commas, as every number firstrung prints."""
     if q["sigma"] is None:
-        return f"{q['value']:.{digits}f}"
-    return f"{q['value']:.{digits}f}±{q['sigma']:.{digits}f}"
+        return f"{q['value']:,.{digits}f}"
+    return f"{q['value']:,.{digits}f}±{q['sigma']:,.{digits}f}"
 
 
 def _interval(q: dict, digits: int = 0) -> str:
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    return f"{q['low']:.{digits}f} to {high}"
+    high = "no upper bound" if q["high"] is None else f"{q['high']:,.{digits}f}"
+    return f"{q['low']:,.{digits}f} to {high}"
 
 
 def render_shadows(data: dict, verbose: bool) -> None:
@@ -269,12 +270,12 @@ def render_shadows(data: dict, verbose: bool) -> None:
     out.print(f"  radius          {_pm(r, 0)} km   (68 % interval {_interval(r)} km)")
     out.print(f"  circumference   {_pm(c, 0)} km   (68 % interval {_interval(c)} km)")
     out.print(
-        f"  a perfect measurement at these sites gives {data['expected_radius_km']:.1f} km\n"
-        f"  (the WGS84 meridional radius over their span); IUGG mean radius {data['mean_radius_km']:.1f} km"
+        f"  a perfect measurement at these sites gives {data['expected_radius_km']:,.1f} km\n"
+        f"  (the WGS84 meridional radius over their span); IUGG mean radius {data['mean_radius_km']:,.1f} km"
     )
     ratio = data["ratio_to_expected"]
     z = (r["value"] - data["expected_radius_km"]) / r["sigma"] if r["sigma"] else float("nan")
-    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma; the ladder and the report state the same)")
+    out.print(f"  measured / expected = {ratio:.4f} ({z:+.1f} sigma, as in the ladder and the report)")
     rows = data["rows"]
     left = ", ".join(f"{v} {k}" for k, v in rows["left_out"].items() if v)
     out.print(
