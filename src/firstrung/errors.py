@@ -85,6 +85,25 @@ def merged_problems(problems) -> list[RowProblem]:
     return out
 
 
+def refused_rows(problems) -> int:
+    """How many rows the problems refuse: each row once, a problem with no row as one.
+
+    >>> ps = [RowProblem("a.csv", 3, "t", "x", (3, 4, 5)), RowProblem("a.csv", 4, "d", "y"),
+    ...       RowProblem("a.csv", None, None, "no header")]
+    >>> refused_rows(ps)
+    4
+    """
+    rows, whole = set(), 0
+    for p in problems:
+        if p.rows:
+            rows.update((p.file, r) for r in p.rows)
+        elif p.row is not None:
+            rows.add((p.file, p.row))
+        else:
+            whole += 1
+    return len(rows) + whole
+
+
 class InputError(FirstrungError, ValueError):
     """Bad input: a file, a cell or a parameter that is not what was expected.
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import quantity as _q
 from firstrung.jsonout import time_z as _time
@@ -68,7 +69,7 @@ def shadow_run_to_json(run) -> dict:
             "read": run.rows_read,
             "accepted": run.rows_accepted,
             "used": r.readings_used,
-            "refused": len(run.problems),
+            "refused": refused_rows(run.problems),
             "left_out_flagged": run.rows_left_out_flagged,
             "left_out": r.readings_left_out,
         },
