@@ -594,7 +594,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         f"instrument error of a measured angle {settings.elongation_sigma_deg:g} deg (option)",
         f"illuminated fractions measured to {settings.fraction_sigma:g} (option), with a zero point shared by "
         f"each series of {settings.fraction_zero_point_sigma:g} and by every series of "
-        f"{settings.common_zero_point_sigma:g} (options); a series' slope is fixed by the geometry unless its "
+        f"{settings.common_zero_point_sigma or 'none'} (options); a series' slope is fixed by the geometry unless its "
         "images determine it to 10 %",
         "judging \"exactly half lit\" carries an error shared by all who look at the same Moon: the smallest "
         "judgement error among a quarter's timings and angles is common to them all, unless four or more of "
