@@ -588,7 +588,8 @@ class _Reader:
                     f'expected a list of paths such as ["logs/{kind}.csv"], got {_show(entry)}',
                 )
             paths = (Path(item) for item in items)
-            logs[kind] = _distinct(path if folder is None else folder / path for path in paths)
+            from firstrung.log_paths import expand_log_paths  # folders and patterns: their files
+            logs[kind] = _distinct(expand_log_paths(path if folder is None else folder / path for path in paths))
         return logs
 
     def date_order(self, value: object) -> str:

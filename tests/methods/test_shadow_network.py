@@ -255,3 +255,57 @@ def test_zero_shadow_days_fall_when_the_sun_stands_at_the_site_latitude(tmp_path
     dec = _astropy_declination_deg(times, [12.5, 12.5], [-70.0, -70.0], [0.0, 0.0])
     assert np.all(np.abs(dec - 12.5) < 0.3)  # within a day's motion of the Sun (about 0.4 deg) / 2
     assert all(d["altitude_deg"] > 89.6 for d in days)
+
+
+def test_one_file_per_school_in_a_folder_or_a_pattern_and_a_row_sent_twice_is_a_duplicate(
+        tmp_path, capsys, monkeypatch):
+    import csv
+
+    net = simulate_network(8, EQUINOX, 21, blunder_fraction=0.0)
+    rows = network_log_rows(net)
+    folder = tmp_path / "logs" / "schools"
+    folder.mkdir(parents=True)
+    for k, row in enumerate(rows):
+        with open(folder / f"school-{k:02d}.csv", "w", newline="") as f:
+            w = csv.DictWriter(f, fieldnames=list(row))
+            w.writeheader()
+            w.writerow(row)
+    with open(folder / "school-99-again.csv", "w", newline="") as f:  # school 3 sends its row again
+        w = csv.DictWriter(f, fieldnames=list(rows[3]))
+        w.writeheader()
+        w.writerow(rows[3])
+    for entry in ('"logs/schools"', '"logs/schools/*.csv"'):
+        camp = tmp_path / "network.toml"
+        camp.write_text(f'[campaign]\nname = "Folder network"\n[logs]\nshadows = [{entry}]\n')
+        code, out, err = run_cli(["check", camp, "--json"], capsys, monkeypatch)
+        data = json.loads(out)
+        dup = [f for f in data["flags"] if f["code"] == "duplicate-row"]
+        assert len(dup) == 1 and dup[0]["file"].endswith("school-99-again.csv") and "school-03.csv" in dup[0]["message"]
+        code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
+        data = json.loads(out)
+        assert data["rows"]["read"] == 9 and data["rows"]["left_out_flagged"] == 1 and len(data["sites"]) == 8
+
+
+def test_rows_with_a_date_and_no_time_are_read_at_apparent_noon_with_a_wider_stated_error(
+        tmp_path, capsys, monkeypatch):
+    # schools reading at their apparent noon (noise-free), a third of them sending the date alone
+    net = simulate_network(30, EQUINOX, 31, errors=None, blunder_fraction=0.0, within_min=0.0)
+    rows = []
+    for k, row in enumerate(network_log_rows(net)):
+        t = row.pop("time_utc")
+        rows.append(dict(row, date=t[:10], time_utc="" if k % 3 == 0 else t[11:]))
+    camp = _write_network(tmp_path, rows)
+    code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["rows"]["used"] == 30
+    assert any(t["source"] == "noon without a time" for t in data["error_budget"])
+    sigma = {s["id"]: s["astronomical_latitude_deg"]["sigma"] for s in data["sites"]}
+    untimed = [s["id"] for k, s in enumerate(data["sites"]) if k % 3 == 0]
+    timed = [s["id"] for k, s in enumerate(data["sites"]) if k % 3 != 0]
+    assert min(sigma[i] for i in untimed) > max(sigma[i] for i in timed)  # the wider stated error
+    # read at the transit, so the latitudes are right (WGS84 radius over the span, GeographicLib arcs)
+    lat = np.array([s["latitude_deg"] for s in data["sites"]])
+    astro = np.array([s["astronomical_latitude_deg"]["value"] for s in data["sites"]])
+    assert np.max(np.abs(astro - lat)) < 0.01
+    assert data["earth_radius_km"]["value"] == pytest.approx(data["expected_radius_km"], rel=1e-3)

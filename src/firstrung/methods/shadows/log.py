@@ -172,7 +172,8 @@ def _unit_of(column: str) -> str:
 def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
     forms = uses_forms(row.table.chosen)
     form = row_form(row) if forms else "length"
-    site_id, t = row.site_and_time(campaign, untimed=form == "trace")
+    # a trace, or a length or angle read at noon with no time given (a date alone): see ``untimed``
+    site_id, t = row.site_and_time(campaign, untimed=True)
     shadow_column = row.column("shadow_m")
     shadow_m = math.nan
     if form == "length":
@@ -597,8 +598,9 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
 def _form_columns(log: ShadowLog, inst, ok) -> dict:
     """The other forms' columns of the readings; a trace's length is its tip's distance from the plumb point."""
     form = np.asarray(log.form)
-    if not (form != "length").any():
-        return {}
+    if not (form != "length").any():  # plain lengths: only whether each has a time (a date alone: noon)
+        timed = np.asarray(log.timed, bool)
+        return {} if timed.all() else {"timed": timed[ok]}
     columns = {name: np.asarray(values)[ok] for name, values in inst.angle.items()}
     columns.update(
         form=form[ok], timed=np.asarray(log.timed, bool)[ok], altitude_read_deg=np.asarray(log.altitude_deg, float)[ok],

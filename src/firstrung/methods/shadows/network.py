@@ -162,6 +162,9 @@ def reduce_network(
     ComputationError
         No site with a usable reading, or no north-south spread.
     """
+    from firstrung.methods.shadows.untimed import at_apparent_noon
+
+    readings, noon_sigma_rad = at_apparent_noon(sites, readings)
     prep = _prepare(tuple(sites), tuple(baselines), readings)
     lat_guess = np.radians(np.array([prep.sites[i].latitude_deg for i in prep.group_site]))
     fit = fit_series(prep.group, len(prep.group_site), prep.altitude_rad, prep.sigma_reading_rad,
@@ -180,19 +183,23 @@ def reduce_network(
     positions = north_south_positions(prep.sites, prep.baselines)
     x = positions.position_km
     clock = contributions.get("clock", np.zeros(len(prep.sites)))
-    base = sum(c**2 for c in contributions.values()) if errors_stated else clock**2
+    # a reading without a time: the error of its noon judged by eye (already in its stated reading error)
+    noon = np.zeros(len(prep.sites))
+    np.maximum.at(noon, np.asarray(readings.site_index, int), noon_sigma_rad)
+    base = sum(c**2 for c in contributions.values()) if errors_stated else clock**2 + noon**2
     geodetic = np.radians(np.array([s.latitude_deg for s in prep.sites]))
     kept, tau2, variance, residual = _clip(x, latitude - geodetic, base, present, not errors_stated)
     if np.ptp(x[kept]) < 1.0:
         raise ComputationError("the sites are less than 1 km apart north-south; the method needs a north-south baseline")
     tau = np.full(len(prep.sites), np.sqrt(tau2))
-    terms = {SCATTER_TERM: tau, "clock": clock} if not errors_stated else dict(contributions) | (
+    terms = {SCATTER_TERM: tau, "clock": clock} | ({"noon without a time": noon} if noon.any() else {}) if not errors_stated else dict(contributions) | (
         {EXTRA_SCATTER_TERM: tau} if tau2 > 0 else {})
     line, radius, budget, _, expected = _radius_from(prep, positions, latitude, terms, kept)
     flagged = present & ~kept
     sigma = np.sqrt(variance)
     # each day's latitude error: the network's when it comes from the scatter
-    per_day = total if errors_stated else np.sqrt(tau2 + (per_series["clock"] if "clock" in per_series else 0.0) ** 2)
+    per_day = total if errors_stated else np.sqrt(tau2 + (per_series["clock"] if "clock" in per_series else 0.0) ** 2
+                                                  + noon[prep.group_site] ** 2)
     by_site: dict[str, list[SeriesResult]] = {}
     for s in _series_results(prep, fit, per_series, per_day, scale, chi2_dof) if site_table else ():
         by_site.setdefault(s.site_id, []).append(s)

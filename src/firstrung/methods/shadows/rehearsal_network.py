@@ -75,7 +75,7 @@ def school_names(n: int) -> np.ndarray:
 
 
 def simulate_network(n: int, date, seed: int, *, errors: ShadowErrors | None = SCHOOL_ERRORS,
-                     blunder_fraction: float = BLUNDER_FRACTION) -> SyntheticNetwork:
+                     blunder_fraction: float = BLUNDER_FRACTION, within_min: float = WITHIN_MIN) -> SyntheticNetwork:
     """``n`` schools on land between 47 S and 62 N, each with one reading on ``date``.
 
     ``errors=None`` gives noise-free readings; ``blunder_fraction`` 0 gives none.
@@ -85,7 +85,7 @@ def simulate_network(n: int, date, seed: int, *, errors: ShadowErrors | None = S
     elev = np.round(rng.uniform(0.0, 800.0, n), 0)
     day = np.datetime64(date, "D")
     transit = ephemeris.solar_transit(np.full(n, day), lat, lon, elev)
-    offset_s = rng.uniform(-WITHIN_MIN * 60.0, WITHIN_MIN * 60.0, n)
+    offset_s = rng.uniform(-within_min * 60.0, within_min * 60.0, n)
     t_true = transit.time_utc.astype("datetime64[ms]") + np.round(offset_s * 1000).astype("timedelta64[ms]")
     gnomon = rng.choice(_GNOMONS_M, n)
     syn = simulate_shadow_readings(np.arange(n), t_true, lat, lon, elev, gnomon, np.full(n, "umbra", dtype=object),

@@ -116,5 +116,7 @@ def _reduce(campaign: Campaign, readings: ShadowReadings):
         from firstrung.methods.shadows.network import reduce_network
 
         return reduce_network(sites, readings, baselines, errors_stated=errors_stated(campaign, readings))
-    reduction = reduce_shadows(sites, readings, baselines)
+    from firstrung.methods.shadows.untimed import at_apparent_noon
+
+    reduction = reduce_shadows(sites, at_apparent_noon(sites, readings)[0], baselines)
     return reduction, NetworkFit("network", False, None, reduction.outliers, {})
