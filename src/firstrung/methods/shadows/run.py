@@ -95,8 +95,9 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
 
 
 def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
-    """True when the network method reduces the readings: sites from the log's rows, or one site alone."""
-    return bool(campaign.row_site_ids) or np.unique(readings.site_index).size == 1
+    """True when the network method reduces the readings: sites from the log's rows, or a campaign of one site
+    (a campaign of declared sites that is left with one by its refusals says so, it is not reduced alone)."""
+    return bool(campaign.row_site_ids) or len(campaign.sites) == 1
 
 
 def errors_stated(campaign: Campaign, readings: ShadowReadings) -> bool:
