@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import itertools
 from collections import Counter
+from pathlib import Path
 
 import numpy as np
 
@@ -106,3 +107,45 @@ def test_campaign_parsed_once_but_never_stale(tmp_path):
     assert read_campaign(path) is first  # the same bytes: parsed once
     path.write_text('[[site]]\nid = "ridge"\nlatitude_deg = 46.3\nlongitude_deg = 7.4\n')
     assert read_campaign(path).sites[0].latitude_deg == 46.3  # new bytes: read again
+
+
+# --- the reader in chunks ------------------------------------------------------------------------
+
+
+def test_reading_in_chunks_gives_what_the_row_checks_give(tmp_path, monkeypatch):
+    """A log read three rows at a time (skipped lines, refused rows and bad cells falling on the chunks'
+    edges) gives the rows, numbers, problems and notes of the row-by-row read, and check keeps every row."""
+    import shutil
+
+    from firstrung import csv_table, tabular
+    from firstrung.app.check import run_check
+    from firstrung.methods.shadows.log import read_shadow_logs
+
+    shutil.copytree(Path(__file__).resolve().parents[1] / "examples", tmp_path / "camp")
+    log = tmp_path / "camp" / "logs" / "shadows.csv"
+    lines = log.read_text().splitlines()
+    body = lines[1:]
+    odd = ["", "# a comment", ",,,", "", "fjell,2027-03-22T11:00:00Z,1500,x,y,extra", "nowhere,2027-03-22T11:00:00Z,1500,x,y",
+           "fjell,2027-03-22T11:00:00Z,abc,x,y", "", "", "", "fjell,2027-02-30T11:00:00Z,1500,x,y"]
+    mixed = []
+    for k, line in enumerate(body):
+        mixed.append(line)
+        if k % 7 == 3:
+            mixed.append(odd[(k // 7) % len(odd)])
+    log.write_text("\n".join(["", "# kept for the chunks' sake", lines[0]] + mixed + ["", ""]) + "\n")
+    campaign = read_campaign(tmp_path / "camp" / "campaign.toml")
+    monkeypatch.setattr(csv_table, "CHUNK_CHARS", 100)  # about two rows a chunk
+    chunked = read_shadow_logs(campaign)
+    monkeypatch.setattr(tabular, "FAST_PATH", False)
+    slow = read_shadow_logs(campaign)
+    monkeypatch.setattr(tabular, "FAST_PATH", True)
+    assert len(chunked) > 100 and len(chunked) == len(slow)
+    for name in ("file", "row", "site", "time_utc", "shadow_m", "observer", "note"):
+        assert np.asarray(getattr(chunked, name)).tolist() == np.asarray(getattr(slow, name)).tolist(), name
+    assert [str(p) for p in chunked.problems] == [str(p) for p in slow.problems]
+    assert len(chunked.problems) >= 5
+    assert chunked.rows_read == slow.rows_read and chunked.notes == slow.notes
+    run = run_check(tmp_path / "camp" / "campaign.toml")  # the check's copy of every row, kept across chunks
+    kept = [f for f in run.files if f.kind == "shadows"][0]
+    assert len(kept.rows) == slow.rows_read
+    assert [n for n, _ in kept.rows] == list(range(1, slow.rows_read + 1))

@@ -309,5 +309,14 @@ def without_error_rows(campaign, log, check):
     if len(log) == 0:
         return log, 0
     bad = error_rows(campaign, log, check)
-    keep = np.array([(str(f), int(r)) not in bad for f, r in zip(log.file, log.row, strict=True)], bool)
+    if not bad:
+        return log, 0  # nothing to leave out: the log as it is, not a copy
+    keep = np.ones(len(log), bool)
+    file, row = np.asarray(log.file), np.asarray(log.row)
+    by_file: dict[str, list[int]] = {}
+    for f, r in bad:
+        by_file.setdefault(f, []).append(r)
+    for f, rows in by_file.items():  # a file at a time, its bad rows looked up together
+        at = np.flatnonzero(file == f)
+        keep[at[np.isin(row[at], rows)]] = False
     return log.select(keep), int(np.sum(~keep))

@@ -36,17 +36,15 @@ such file gets one line in the log's ``notes``:
 
 from __future__ import annotations
 
-import contextlib
 import csv
 import io
 import itertools
 import math
-import operator
 import os
 import stat
 import sys
 from collections.abc import Callable, Iterable, Sequence
-from dataclasses import dataclass, fields, replace
+from dataclasses import fields, replace
 from pathlib import Path
 
 import numpy as np
@@ -55,21 +53,19 @@ from firstrung.campaign_model import Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import (
     _DECIMAL_COMMA_RE,
-    _GROUPED_POINT_RE,
-    _NUMBER_RE,
     TIME_COLUMNS,
     Slot,
     _choose_columns,
-    _number,
     _surplus_message,
     _swallowed,
     column_arrays,
     got,
 )
+from firstrung.csv_table import Table, column_chunks, raw_rows_kept
 from firstrung.errors import RowProblem, merged_problems
+from firstrung.memory import release_free_memory
 from firstrung.spreadsheet import date_and_time_text, mean_noon_utc
 from firstrung.text_files import (
-    _DELIMITER_NAMES,
     decode,
     is_skipped,
     normal_name,
@@ -83,7 +79,7 @@ from firstrung.times import (
     quoted,
 )
 
-__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "column_arrays", "decode", "display_name", "got", "is_skipped", "read_log", "read_rows"]
+__all__ = ["COMMON_DTYPES", "FAST_PATH", "TIME_COLUMNS", "LogRows", "Row", "Slot", "Table", "column_arrays", "decode", "display_name", "got", "is_skipped", "raw_rows_kept", "read_log", "read_rows"]
 
 
 #: Largest log file read [bytes]: about four million rows; a larger file is refused with a
@@ -96,6 +92,8 @@ csv.field_size_limit(min(sys.maxsize, 2**31 - 1))
 #: Plain rows of a kind with a column reader take it (same results as the full row checks, which
 #: read every row when this is off; a test compares the two on the whole bad-input corpus).
 FAST_PATH = True
+#: After reading this many rows the freed memory of their cells is given back to the system.
+_RELEASE_AFTER_ROWS = 100_000
 _TIME_EXAMPLES = {"time_utc": "2027-03-20T11:38:00Z", "time_local": "2027-03-20T12:38:00"}
 _SPAN_TEXT = f"{EPHEMERIS_FIRST_UTC[:10]} and {EPHEMERIS_LAST_UTC[:10]}"
 
@@ -135,64 +133,6 @@ class LogRows:
 # --- the shared core -----------------------------------------------------------
 
 
-@dataclass
-class Table:
-    """The cells of one file, keyed by the chosen name of each slot, and how it was read."""
-
-    label: str
-    chosen: dict[str, str | None]
-    rows: list[tuple[int, dict[str, str]]]
-    problems: list[RowProblem]
-    ignored: list[str]
-    delimiter: str = ","
-    decimal_comma: bool = False
-    encoding: str | None = None
-    #: Read in one columnar pass (see :func:`_columns_pass`): the kept rows' numbers and their
-    #: cells column by column; ``rows`` then holds only the rows counted but not kept.
-    numbers: list[int] | None = None
-    columns: dict[str, list[str]] | None = None
-    path: Path | None = None
-
-    def cells_of(self, k: int) -> dict[str, str]:
-        """The cells of the ``k``-th kept row of a columnar read, as the row-by-row read gives them."""
-        return {name: column[k] for name, column in self.columns.items()}
-
-    @property
-    def note(self) -> str | None:
-        """One line saying how the file was read, when that is not plain CSV UTF-8."""
-        parts = []
-        if self.encoding is not None:
-            parts.append(self.encoding)
-        if self.delimiter != ",":
-            shown = _DELIMITER_NAMES[self.delimiter]
-            parts.append(shown + (" with decimal commas" if self.decimal_comma else ""))
-        return f"{self.label}: read as {', '.join(parts)}" if parts else None
-
-    def read_number(self, cell: str) -> tuple[float | None, str | None]:
-        """A cell as a finite number, or ``None`` and, when it helps, why it is refused."""
-        if "," in cell:
-            if "." in cell:
-                return None, "write numbers without thousands separators"
-            if self.delimiter == ",":
-                return None, (
-                    "a comma in a number in a ','-separated file: write it with a decimal "
-                    "point and no thousands separator"
-                )
-            if not _DECIMAL_COMMA_RE.match(cell):
-                return None, None
-            cell = cell.replace(",", ".")
-        elif self.decimal_comma and _GROUPED_POINT_RE.match(cell):
-            digits = cell.replace(".", "")
-            return None, (
-                f"ambiguous in a file with decimal commas: {cell.lstrip('+')} or "
-                f"{int(digits)}? write {cell.replace('.', ',')} or {digits}"
-            )
-        value = _number(cell)
-        if value is None and _NUMBER_RE.match(cell):
-            return None, "too large to be a measurement"
-        return value, None
-
-
 def display_name(path: Path, campaign: Campaign) -> str:
     """A log path as given relative to the campaign's folder when that is possible."""
     if campaign.path is None:
@@ -203,105 +143,10 @@ def display_name(path: Path, campaign: Campaign) -> str:
         return Path(path).as_posix()
 
 
-_FIRST_CELL = operator.itemgetter(0)
-_FIRST_CHAR = operator.itemgetter(slice(0, 1))
-
-
-#: While :func:`raw_rows_kept` runs: every row of each file read in one columnar pass, by path.
-_RAW_KEPT: dict[str, tuple[tuple[str, ...], list[int], list[list[str]]]] | None = None
-
-
-@contextlib.contextmanager
-def raw_rows_kept():
-    """Keep, for the files read inside the block, their header and every data row as read.
-
-    Yields a dictionary: path (as ``str``) -> (header names, row numbers, the rows' cells).
-    A file read another way (a quoted line end, a bad header, not decodable) is
-    not in it; the caller reads those itself.
-    """
-    global _RAW_KEPT
-    previous, _RAW_KEPT = _RAW_KEPT, {}
-    try:
-        yield _RAW_KEPT
-    finally:
-        _RAW_KEPT = previous
-
-
-def _columns_pass(table: Table, text: str, slots: Sequence[Slot], known: set[str]) -> bool:
-    """Read a file whose records are one line each in one pass, column by column.
-
-    The same rows, numbers, problems and cells as the row-by-row loop of
-    :func:`_read_table` (a test compares them on the whole bad-input corpus),
-    with the per-row work left to C (the csv module, ``zip``, ``map``). False,
-    with nothing changed, when a record spans lines (a quoted line end) or the
-    csv module stops: the loop then reads the file and says what it found.
-    """
-    try:
-        reader = csv.reader(io.StringIO(text, newline=""), delimiter=table.delimiter)
-        records = list(reader)
-    except csv.Error:
-        return False
-    if len(records) != reader.line_num:  # a record spans lines
-        return False
-    # a row can be skipped only when it is empty or its first cell starts with no letter or digit
-    lengths = np.fromiter(map(len, records), np.int64, len(records))
-    filled = np.flatnonzero(lengths > 0)
-    firsts = list(map(_FIRST_CHAR, map(_FIRST_CELL, records if filled.size == len(records) else
-                                       (records[k] for k in filled))))
-    codes = np.array(firsts, dtype="<U1").view(np.uint32) if firsts else np.zeros(0, np.uint32)
-    alnum = (codes - 48 < 10) | (codes - 65 < 26) | (codes - 97 < 26)
-    maybe = np.concatenate([np.flatnonzero(lengths == 0), filled[~alnum]])
-    skipped = {int(k) for k in maybe if is_skipped(records[k])}
-    data = [r for k, r in enumerate(records) if k not in skipped] if skipped else records
-    if not data:
-        return False  # an empty file: the loop's message
-    header = [normal_name(cell) for cell in data[0]]
-    table.chosen, problems = _choose_columns(header, slots, table.label)
-    table.problems.extend(problems)
-    table.numbers, table.columns = [], {}
-    if problems:
-        return True
-    table.ignored = [name for name in header if name and name not in known]
-    data = data[1:]
-    if _RAW_KEPT is not None:  # the check's copy of every row: the same read, kept
-        _RAW_KEPT[str(table.path)] = (tuple(header), list(range(1, len(data) + 1)), data)
-    width = len(header)
-    refused = set()
-    for k, cells in enumerate(data):
-        if len(cells) > width and any(cell.strip() for cell in cells[width:]):
-            message = _surplus_message(cells, width, table.delimiter)
-            table.problems.append(RowProblem(table.label, k + 1, None, message))
-            table.rows.append((k + 1, {}))  # counted as read, not kept
-            refused.add(k)
-    kept = [cells for k, cells in enumerate(data) if k not in refused] if refused else data
-    table.numbers = [k + 1 for k in range(len(data)) if k not in refused] if refused else list(range(1, len(data) + 1))
-    short = bool(kept) and min(map(len, kept)) < width
-    wanted = {}
-    for index, name in enumerate(header):
-        if name in known and name not in wanted:
-            wanted[name] = index
-    by_index = list(zip(*kept, strict=False)) if kept and not short else None  # every column at once, in C
-    for name, index in wanted.items():
-        if by_index is not None:
-            cells = by_index[index] if index < len(by_index) else ("",) * len(kept)
-        else:
-            cells = [c[index] if index < len(c) else "" for c in kept]
-        table.columns[name] = list(map(str.strip, cells))
-    if table.delimiter != ",":
-        numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
-        table.decimal_comma = any(
-            _DECIMAL_COMMA_RE.match(value)
-            for column in numeric
-            if column is not None
-            for value in table.columns.get(column, ())
-        )
-    return True
-
-
 def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = False) -> Table:
     """Read one CSV file into its data rows; file-level problems leave it without rows.
 
-    ``columnar``: try :func:`_columns_pass` first (rows in ``numbers`` and ``columns``).
+    ``columnar``: try :func:`firstrung.csv_table.column_chunks` first (rows in ``chunks``).
     """
     table = Table(label=label, chosen={}, rows=[], problems=[], ignored=[], path=Path(path))
     try:
@@ -340,8 +185,10 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = sniff_delimiter(text, known)
-    if columnar and _columns_pass(table, text, slots, known):
-        return table
+    if columnar:
+        table.chunks = column_chunks(table, text, slots, known)
+        if table.chunks is not None:
+            return table
     lines = io.StringIO(text, newline="").readlines()
     del text
     header: list[str] | None = None
@@ -593,31 +440,40 @@ def read_columns(
             notes.append(table.note)
         ignored.extend(name for name in table.ignored if name not in ignored)
         good: list[dict] = []
-        if table.columns is None:  # read row by row (quoted line ends, csv errors, empty files)
+        if table.chunks is None:  # read row by row (quoted line ends, csv errors, empty files)
             for row_number, cells in table.rows:
                 rows_read += 1
                 if cells:
                     _parse_one(Row(table, row_number, cells), campaign, parse_row, label, good, problems)
             parts.append((file_index, column_arrays(good, dtypes)))
             continue
-        rows_read += len(table.numbers) + len(table.rows)
-        n = len(table.numbers)
-        handled = np.zeros(n, bool)
-        if n and table.delimiter == "," and not table.decimal_comma:
-            fast, handled = fast_columns(table, campaign)
-            if fast is not None:
-                fast["file"] = np.full(int(handled.sum()), label)
-                fast["row"] = np.asarray(table.numbers, dtype=np.int64)[handled]
-                parts.append((file_index, {name: fast[name] for name in dtypes}))
-        for k in np.flatnonzero(~handled):
-            _parse_one(Row(table, table.numbers[k], table.cells_of(k)), campaign, parse_row, label, good, problems)
-        if good:
-            parts.append((file_index, column_arrays(good, dtypes)))
+        surplus: list[RowProblem] = []  # the file's problems in the order a whole-file read gives them
+        checked: list[RowProblem] = []
+        for chunk in table.chunks:
+            surplus.extend(chunk.problems)
+            rows_read += len(chunk.numbers) + len(chunk.rows)
+            n = len(chunk.numbers)
+            handled = np.zeros(n, bool)
+            if n and chunk.delimiter == "," and not chunk.decimal_comma:
+                fast, handled = fast_columns(chunk, campaign)
+                if fast is not None:
+                    fast["file"] = np.full(int(handled.sum()), label)
+                    fast["row"] = np.asarray(chunk.numbers, dtype=np.int64)[handled]
+                    parts.append((file_index, {name: fast[name] for name in dtypes}))
+            good = []
+            for k in np.flatnonzero(~handled):
+                _parse_one(Row(chunk, chunk.numbers[k], chunk.cells_of(k)), campaign, parse_row, label, good, checked)
+            if good:
+                parts.append((file_index, column_arrays(good, dtypes)))
+        problems.extend(surplus + checked)
     if not parts:
         return column_arrays([], dtypes), merged_problems(problems), rows_read, tuple(ignored), tuple(notes)
-    merged = {name: np.concatenate([p[name] for _, p in parts]) for name in dtypes}
     # back to the files' order, and the rows' order inside each file
     file_of = np.concatenate([np.full(len(p["row"]), k, dtype=np.int64) for k, p in parts])
+    merged = {name: np.concatenate([p.pop(name) for _, p in parts]) for name in dtypes}  # each part freed as it goes
+    del parts
+    if rows_read >= _RELEASE_AFTER_ROWS:  # the chunks' strings are gone: give their memory back
+        release_free_memory()
     order = np.lexsort((merged["row"], file_of))
     if not np.array_equal(order, np.arange(order.size)):
         merged = {name: values[order] for name, values in merged.items()}

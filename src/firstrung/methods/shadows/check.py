@@ -236,10 +236,20 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     # their level alone, so the hypotheses are tried on the rows of the series that need them.
     needy = np.flatnonzero(base.statistic >= DECISIVE_IMPROVEMENT)
     sel = np.flatnonzero(np.isin(group, needy))
-    sub = _Inputs(_subset(rows, sel), np.searchsorted(needy, group[sel]), needy.size, t[sel], lat[sel], lon[sel],
-                  sign[sel], sd[sel], temperature[sel], pressure[sel], measured_weather[sel], zone_offset_h[sel])
-    tried = _single_hypotheses(sub, (obs0 - pred0)[sel], pred0[sel], rate0[sel], obs0[sel], refr0[sel], rand0[sel],
-                               sys0[sel])
+    if sel.size > n // 2:  # most rows: all of them, no copies (a long log's memory is in its copies)
+        needy, sel = np.arange(n_groups), np.arange(n)
+
+        def pick(values):
+            return values
+    else:
+        def pick(values):
+            return values[sel]
+    sub = _Inputs(rows if sel.size == n else _subset(rows, sel), np.searchsorted(needy, pick(group)), needy.size,
+                  pick(t), pick(lat), pick(lon), pick(sign), pick(sd), pick(temperature), pick(pressure),
+                  pick(measured_weather), pick(zone_offset_h))
+    tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),
+                               pick(rand0), pick(sys0))
+    del sub
     stats, fits, separations = _widen(tried, needy, sel, n_groups, n)
 
     verdicts = _decide(base, stats, fits, separations, count)
@@ -368,22 +378,37 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     return stats, fits, separations
 
 
+class _RowsOf:
+    """Per-row values known for some rows (``values`` at ``position``, -1 elsewhere), indexed by every row:
+    a hypothesis' residuals over the rows it was tried on, without a copy as long as the log."""
+
+    def __init__(self, values: np.ndarray, position: np.ndarray) -> None:
+        self.values, self.position = values, position
+
+    def __getitem__(self, rows) -> np.ndarray:
+        at = self.position[rows]
+        out = np.full(at.shape, np.nan)
+        out[at >= 0] = self.values[at[at >= 0]]
+        return out
+
+
 def _widen(tried, needy, sel, n_groups: int, n: int):
     """The hypotheses' results for every series: those of ``needy`` (rows ``sel``), the others never decisive."""
     stats, fits, separations = [], [], []
+    position = np.full(n, -1, np.int64)
+    position[sel] = np.arange(sel.size)
 
-    def wide(values, size, where, fill):
-        out = np.full(size, fill)
-        out[where] = values
+    def wide(values, fill):
+        out = np.full(n_groups, fill)
+        out[needy] = values
         return out
 
     for s, f, sep in zip(*tried, strict=True):
-        stats.append(None if s is None else wide(s, n_groups, needy, np.inf))
+        stats.append(None if s is None else wide(s, np.inf))
         fits.append(None if f is None else SeriesStatistic(
-            wide(f.statistic, n_groups, needy, np.inf), wide(f.level_rad, n_groups, needy, np.nan),
-            wide(f.level_sigma_rad, n_groups, needy, np.nan), wide(f.clock_s, n_groups, needy, np.nan),
-            wide(f.mean_square, n_groups, needy, np.nan), wide(f.z, n, sel, np.nan)))
-        separations.append(wide(sep, n_groups, needy, 0.0))
+            wide(f.statistic, np.inf), wide(f.level_rad, np.nan), wide(f.level_sigma_rad, np.nan),
+            wide(f.clock_s, np.nan), wide(f.mean_square, np.nan), _RowsOf(f.z, position)))
+        separations.append(wide(sep, 0.0))
     return stats, fits, separations
 
 

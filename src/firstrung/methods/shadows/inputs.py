@@ -65,9 +65,9 @@ class ShadowReadings:
                  ("limb", "centre", "<U6"), ("angle_sigma_deg", np.nan, float),
                  ("index_correction_deg", 0.0, float), ("index_sigma_deg", 0.0, float),
                  ("tip_x_m", np.nan, float), ("tip_y_m", np.nan, float))
-        for name, fill, dtype in fills:
+        for name, fill, dtype in fills:  # one value seen n times (read-only), not n copies of it
             if getattr(self, name) is None:
-                object.__setattr__(self, name, np.full(n, fill, dtype=dtype))
+                object.__setattr__(self, name, np.broadcast_to(np.array(fill, dtype=dtype), (n,)))
 
     def __len__(self) -> int:
         return int(np.size(self.shadow_m))

@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 import os
 import re
+import sys
 from collections.abc import Iterable
 from dataclasses import dataclass
 
@@ -468,8 +469,9 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
         weather[slot] = values
     observer_column, note_column = chosen.get("observer"), chosen.get("note")
     blank = np.full(n, "", dtype=object)
-    observer = np.array(columns[observer_column], dtype=object) if observer_column is not None else blank
-    note = np.array(columns[note_column], dtype=object) if note_column is not None else blank
+    # names and notes repeat from row to row: one string object for each distinct text
+    observer = np.array(list(map(sys.intern, columns[observer_column])), dtype=object) if observer_column is not None else blank
+    note = np.array(list(map(sys.intern, columns[note_column])), dtype=object) if note_column is not None else blank
     m = int(ok.sum())
     return {
         "site": sites[ok].astype(str),
@@ -483,7 +485,21 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
         "pressure_hpa": weather["pressure_hpa"][ok],
         "observer": observer[ok],
         "note": note[ok],
-    } | {name: np.full(m, value, dtype=_FORM_DTYPES[name]) for name, value in LENGTH_FORM.items()}, ok
+    } | {name: np.full(m, value, dtype=_narrow(_FORM_DTYPES[name], value)) for name, value in LENGTH_FORM.items()}, ok
+
+
+def _narrow(dtype, value):
+    """A text column's dtype no wider than its one value (an empty angle column: 4 bytes a row, not 76)."""
+    return f"<U{max(1, len(value))}" if isinstance(value, str) and np.dtype(dtype).kind == "U" else dtype
+
+
+def shared_objects(values) -> np.ndarray:
+    """A column of few distinct texts as an object array holding one string object per distinct text."""
+    values = np.asarray(values)
+    if values.dtype == object or values.size == 0:
+        return values.astype(object)
+    names, inverse = np.unique(values, return_inverse=True)
+    return names.astype(object)[inverse.reshape(values.shape)]
 
 
 def _datetime_or_nat(text: str) -> np.datetime64:
@@ -576,13 +592,13 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
     ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
     height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
     readings = ShadowReadings(
-        file=np.asarray(log.file, dtype=object)[ok],
+        file=shared_objects(np.asarray(log.file)[ok]),
         row=np.asarray(log.row, dtype=np.int64)[ok],
         site_index=site_index[ok],
         time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
-        time_column=np.asarray(log.time_column, dtype=object)[ok],
+        time_column=shared_objects(np.asarray(log.time_column)[ok]),
         shadow_m=np.where(np.asarray(log.form) == "trace", np.hypot(log.tip_x_m, log.tip_y_m), log.shadow_m)[ok],
-        shadow_column=np.asarray(log.shadow_column, dtype=object)[ok],
+        shadow_column=shared_objects(np.asarray(log.shadow_column)[ok]),
         gnomon_m=height[ok],
         edge=edge[ok],
         shadow_sigma_m=shadow_sigma[ok],

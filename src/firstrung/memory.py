@@ -1,0 +1,51 @@
+"""The process's memory: giving freed memory back to the system after a large read.
+
+A long log is read in chunks whose cells are many small Python strings; once they have become
+arrays, the C library keeps their freed memory for the process instead of returning it, and the
+arrays that follow (which the C library maps afresh) cannot use it. :func:`release_free_memory`
+hands it back, so a million-row reduction holds its arrays, not its read's leftovers.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import ctypes.util
+import functools
+
+__all__ = ["release_free_memory", "resident_mb"]
+
+
+@functools.cache
+def _trim():
+    """glibc's ``malloc_trim``, or None elsewhere (musl, macOS, Windows: nothing to do there)."""
+    name = ctypes.util.find_library("c")
+    if name is None:
+        return None
+    try:
+        trim = ctypes.CDLL(name).malloc_trim
+    except (OSError, AttributeError):
+        return None
+    trim.argtypes = [ctypes.c_size_t]
+    trim.restype = ctypes.c_int
+    return trim
+
+
+def release_free_memory() -> bool:
+    """Return the C library's freed memory to the system; whether that could be asked (glibc only)."""
+    trim = _trim()
+    if trim is None:
+        return False
+    trim(0)
+    return True
+
+
+def resident_mb() -> float | None:
+    """The process's resident memory now [MiB] (Linux's ``/proc/self/statm``), or None where it is not known."""
+    import os
+
+    try:
+        with open("/proc/self/statm") as f:
+            pages = int(f.read().split()[1])
+    except (OSError, ValueError, IndexError):
+        return None
+    return pages * os.sysconf("SC_PAGE_SIZE") / 2**20
