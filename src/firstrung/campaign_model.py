@@ -257,11 +257,17 @@ class Campaign:
         >>> Campaign("c", stars=(Star("dcep", "delta Cephei", 337.3, 58.4),)).star_matching("Delta Cephei").id
         'dcep'
         """
-        key = cell.strip().lower()
+        return self._star_by_label.get(cell.strip().lower())
+
+    @functools.cached_property
+    def _star_by_label(self) -> dict[str, Star]:
+        """Stars by id and by name, case and surrounding spaces ignored (ids first)."""
+        labels: dict[str, Star] = {}
         for star in self.stars:
-            if star.id.lower() == key or star.name.strip().lower() == key:
-                return star
-        return None
+            labels.setdefault(star.name.strip().lower(), star)
+        for star in self.stars:
+            labels[star.id.lower()] = star
+        return labels
 
     @functools.cached_property
     def site_ids(self) -> tuple[str, ...]:

@@ -159,7 +159,13 @@ def star_near(ra_deg: float, dec_deg: float, *, epoch_jyear: float = 2000.0, wit
     >>> star_near(316.73, 38.75).hip   # 61 Cygni A, J2000
     104214
     """
-    c = {name: _column(name) for name in ("ra_deg", "dec_deg", "pm_ra_mas_per_yr", "pm_dec_mas_per_yr")}
+    order, dec_sorted = _by_declination()
+    # no catalogue star moves 0.3 deg within the ephemeris's span (the fastest, Barnard's star, 10.4"/yr x 92 yr)
+    lo, hi = np.searchsorted(dec_sorted, [dec_deg - within_deg - 0.3, dec_deg + within_deg + 0.3])
+    near = order[lo:hi]
+    if near.size == 0:
+        return None
+    c = {name: _column(name)[near] for name in ("ra_deg", "dec_deg", "pm_ra_mas_per_yr", "pm_dec_mas_per_yr")}
     years = epoch_jyear - CATALOGUE_EPOCH_JYEAR
     dec = c["dec_deg"] + c["pm_dec_mas_per_yr"] * years / 3.6e6
     ra = c["ra_deg"] + c["pm_ra_mas_per_yr"] * years / 3.6e6 / np.maximum(np.cos(np.radians(dec)), 1e-6)
@@ -169,11 +175,21 @@ def star_near(ra_deg: float, dec_deg: float, *, epoch_jyear: float = 2000.0, wit
     k = int(np.nanargmax(cos_sep))
     if np.degrees(np.arccos(min(1.0, cos_sep[k]))) > within_deg:
         return None
-    return _entry(k)
+    return _entry(int(near[k]))
 
 
+@functools.lru_cache(maxsize=1)
+def _by_declination() -> tuple[np.ndarray, np.ndarray]:
+    """The catalogue's rows in order of declination, and those declinations (for windows of it)."""
+    dec = _column("dec_deg")
+    order = np.argsort(dec, kind="stable")
+    return order, dec[order]
+
+
+@functools.lru_cache(maxsize=4096)
 def campaign_star_entry(star) -> CatalogueStar | None:
-    """The catalogue entry of a campaign's ``[[star]]``: by its ``hip`` when given, else by position."""
+    """The catalogue entry of a campaign's ``[[star]]``: by its ``hip`` when given, else by position
+    (each star looked up once per process)."""
     if star.hip is not None:
         return catalogue_star(star.hip)
     return star_near(star.ra_deg, star.dec_deg)

@@ -49,7 +49,7 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, sigma_mag: flo
                    period_days: float | None = None, mean_magnitude: float = DELTA_CEP_MEAN_V,
                    range_mag: float = DELTA_CEP_RANGE_V, star_id: str | None = None):
     """One magnitude of each Cepheid every night some site sees it in a dark sky (within an hour of its
-    highest then).
+    highest then; a campaign without sites, within three hours of 00:00 UTC).
 
     The stars: ``star_id``'s, else every star with a ``period_days`` (every star when ``period_days``
     is given).
@@ -74,8 +74,9 @@ def rehearsal_rows(campaign, first_date, last_date, seed: int, *, sigma_mag: flo
         else:
             t, sites = dates.astype("datetime64[ms]"), [""] * dates.size
         # observers do not all observe at the same hour: up to an hour either side of the star's best
-        jitter_ms = np.round(rng.uniform(-3600_000.0, 3600_000.0, t.size)).astype("timedelta64[ms]")
-        t = t.astype("datetime64[ms]") + (jitter_ms if campaign.sites else np.timedelta64(0, "ms"))
+        # (without sites, of 00:00 UTC, three hours either side: a night)
+        spread_ms = 3600_000.0 if campaign.sites else 3 * 3600_000.0
+        t = t.astype("datetime64[ms]") + np.round(rng.uniform(-spread_ms, spread_ms, t.size)).astype("timedelta64[ms]")
         jd = t.astype(np.int64) / 86_400_000.0 + UNIX_EPOCH_JD
         phase = ((jd - DELTA_CEP_MAXIMUM_JD) / period) % 1.0
         m = light_curve_mag(phase, mean_magnitude, range_mag) + rng.normal(0.0, sigma_mag, jd.size)
