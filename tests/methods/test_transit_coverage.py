@@ -12,7 +12,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from firstrung.methods.transit.precision import contact_design, expected_precision, simulate_coverage
+from firstrung.methods.transit.precision import (
+    contact_design,
+    expected_precision,
+    simulate_coverage,
+)
 from firstrung.methods.transit.prediction import (
     SECONDS_PER_DAY,
     inferior_planet_transits,

@@ -14,7 +14,6 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 import pytest
-
 from tests.helpers import run_cli
 from tests.test_sheets import parse
 
@@ -105,7 +104,11 @@ def test_the_chords_meet_the_limb_at_the_contacts():
     """At a site's C1 the planet's centre lies one Sun radius plus one planet radius from the Sun's
     centre, at the position angle the contact solver gives (two computations of the same geometry)."""
     from firstrung.methods.transit.chords import disc_offsets, planet_radius_on_disc
-    from firstrung.methods.transit.prediction import contacts_at_sites, inferior_planet_transits, site_itrs_km
+    from firstrung.methods.transit.prediction import (
+        contacts_at_sites,
+        inferior_planet_transits,
+        site_itrs_km,
+    )
 
     transits = inferior_planet_transits("2032-11-13T00:00Z", "2032-11-13T23:59Z")
     lat, lon = np.array([-0.42, 58.95]), np.array([36.95, 10.2])

@@ -39,10 +39,10 @@ def demo_campaign_text() -> str:
 
 def demo_logs(campaign) -> dict[str, str]:
     """CSV text of each demo log, by file name (deterministic)."""
+    import dataclasses
+
     from firstrung.methods import by_log_kind
     from firstrung.output import rows_to_csv
-
-    import dataclasses
 
     out = {}
     for kind, first, last, seed, sites, options in DEMO_LOGS:

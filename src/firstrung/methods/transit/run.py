@@ -12,6 +12,7 @@ These functions read files but never print and never write.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -27,13 +28,10 @@ from firstrung.methods.transit.prediction import (
     inferior_planet_transits,
     predicted_contacts_tt_jd,
 )
-from firstrung.methods.transit.reduction import (
-    DEFAULT_BLACK_DROP_SIGMA_S,
-    DEFAULT_TIME_SIGMA_S,
-    TransitReduction,
-    reduce_transit_contacts,
-)
 from firstrung.safety import TRANSIT_CAUTION
+
+if TYPE_CHECKING:  # the reduction is imported when a reduction runs, not for a plan
+    from firstrung.methods.transit.reduction import TransitReduction
 
 #: Below this altitude of the Sun's centre a contact is hard to time (haze, refraction's shimmer) [deg].
 LOW_SUN_DEG = 10.0
@@ -125,6 +123,11 @@ def run_transit(campaign_path, *, include_flagged: bool = False, black_drop_sigm
         A free clock offset per site that timed two or more different contacts.
     """
     from firstrung.methods.transit.log import read_transit_logs
+    from firstrung.methods.transit.reduction import (
+        DEFAULT_BLACK_DROP_SIGMA_S,
+        DEFAULT_TIME_SIGMA_S,
+        reduce_transit_contacts,
+    )
     from firstrung.methods.transit.rows import row_predictions
 
     campaign = read_campaign(campaign_path)

@@ -76,7 +76,11 @@ def render_transit_sheet(campaign_name: str, site, date, paper: str = "a4", *,
                          blind: bool = False) -> tuple[str, str | None]:
     """The HTML transit sheet for one site (a campaign ``Site``) and the transit of ``date``, and a warning."""
     from firstrung.methods.shadows.sheet import PAPER_SIZES, _environment
-    from firstrung.methods.transit.prediction import CONTACTS, contacts_at_sites, inferior_planet_transits
+    from firstrung.methods.transit.prediction import (
+        CONTACTS,
+        contacts_at_sites,
+        inferior_planet_transits,
+    )
     from firstrung.numbers import latitude_text, longitude_text
     from firstrung.safety import TRANSIT_CAUTION, TRANSIT_CAUTION_MORE
 
