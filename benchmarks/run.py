@@ -722,14 +722,10 @@ def main() -> None:
             rows.append(bench_command("eclipses", "plan eclipses 1900-2050",
                                       ["plan", "eclipses", str(ROOT / "examples" / "campaign.toml"), "--from", "1900-01-01",
                                        "--to", "2050-12-31"], 3))
-            one = transit_campaign(work.root / "transits", 1)
-            rows.append(bench_command("plan transits", "every transit 1900-2050, contacts",
-                                      ["plan", "transits", str(one), "--from", "1900-01-01", "--to", "2050-12-31",
-                                       "--json"], 3, "< 5 s"))
-            many = transit_campaign(work.root / "transits", 1_000)
-            rows.append(bench_command("plan transits", "2032-11-13 at 1,000 sites",
-                                      ["plan", "transits", str(many), "--from", "2032-11-01", "--to", "2032-11-30",
-                                       "--json"], 3, "< 2 s"))
+            from transit_baselines import bench_all_transits, bench_site_contacts
+
+            rows.append(bench_all_transits(work.root, 3))
+            rows.append(bench_site_contacts(work.root, 3))
             demo_out = work.root / "demo"
             rows.append(bench_command("demo", "firstrung demo", ["demo", "-o", str(demo_out)], 1))
         rows.extend(bench_network(work.root, 40 if quick else 1_000, r, quick))
