@@ -183,34 +183,116 @@ def trace_scatter_m(x_m, y_m) -> float:
     0.0013
     """
     x, y = np.asarray(x_m, float), np.asarray(y_m, float)
-    if x.size < TRACE_CURVE_TERMS + 2:
-        return float("nan")
-    centre, along, across = _trace_frame(x, y)
-    u = (x - centre[0]) * along[0] + (y - centre[1]) * along[1]
-    v = (x - centre[0]) * across[0] + (y - centre[1]) * across[1]
-    scaled = (u - u.mean()) / max(float(np.ptp(u)), 1e-12)
-    residual = v - np.polynomial.polynomial.polyval(scaled, np.polynomial.polynomial.polyfit(scaled, v, 4))
-    return float(np.sqrt(np.sum(residual**2) / (x.size - TRACE_CURVE_TERMS)))
+    return float(_trace_fits(x[None, :], y[None, :])["scatter_m"][0])
+
+
+#: Traces fitted at once (each a row of a few thousand curve samples: a few megabytes a batch).
+_TRACES_PER_BATCH = 256
+
+
+def _trace_fits(x, y) -> dict:
+    """The fitted curves of ``T`` traces of ``n`` points each (``x``, ``y``: (T, n) [m]), all at once.
+
+    Each trace in its principal axes (``u`` along, ``v`` across), ``v`` a
+    quartic in ``u`` scaled to the trace's span, by least squares through the
+    pseudo-inverse of its Vandermonde matrix (the same for every copy of the
+    trace whose points move across it). Returns the frame, the scaled
+    positions, the pseudo-inverse ``(T, terms, n)``, the coefficients and the
+    RMS scatter across the curve (NaN below 7 points).
+    """
+    t, n = x.shape
+    centre = np.stack([x.mean(1), y.mean(1)], axis=1)
+    dx, dy = x - centre[:, :1], y - centre[:, 1:]
+    cov = np.stack([np.stack([(dx * dx).sum(1), (dx * dy).sum(1)], -1),
+                    np.stack([(dx * dy).sum(1), (dy * dy).sum(1)], -1)], axis=1)
+    _, vectors = np.linalg.eigh(cov)  # ascending: the main axis last
+    along, across = vectors[:, :, 1], vectors[:, :, 0]
+    u = dx * along[:, :1] + dy * along[:, 1:]
+    v = dx * across[:, :1] + dy * across[:, 1:]
+    low, high = u.min(1), u.max(1)
+    span = np.maximum(high - low, 1e-12)
+    middle = 0.5 * (low + high)
+    scaled = (u - middle[:, None]) / span[:, None]
+    terms = min(TRACE_CURVE_TERMS, n)
+    vander = scaled[:, :, None] ** np.arange(terms)
+    pinv = np.linalg.pinv(vander)
+    coefficients = np.einsum("tkn,tn->tk", pinv, v)
+    residual = v - np.einsum("tnk,tk->tn", vander, coefficients)
+    dof = n - TRACE_CURVE_TERMS
+    scatter = np.sqrt((residual**2).sum(1) / dof) if n >= TRACE_CURVE_TERMS + 2 else np.full(t, np.nan)
+    return {"centre": centre, "along": along, "across": across, "middle": middle, "span": span,
+            "pinv": pinv, "coefficients": coefficients, "scatter_m": scatter}
+
+
+def shortest_shadows(x_m, y_m, stated_sigma_m):
+    """Shortest shadow of each of ``T`` traces of ``n`` points (``(T, n)`` arrays [m]), vectorised.
+
+    Returns (length [m], one-sigma [m], passes noon, point error used [m]),
+    each of shape ``(T,)``. The curve is sampled along the trace's span
+    widened by a quarter each side, its point nearest the plumb point refined
+    by a parabola through the three nearest samples; a minimum in the widened
+    parts means the trace does not pass noon. The point error is the trace's
+    own scatter about its curve (7 or more points), else the stated reading
+    error; moving one point across the trace changes the shortest shadow, to
+    first order, by the curve's change there along the line of sight from the
+    plumb point (the minimum itself moves only to second order), and the sigma
+    is the root sum of squares of those changes (linear propagation).
+    """
+    x, y = np.atleast_2d(np.asarray(x_m, float)), np.atleast_2d(np.asarray(y_m, float))
+    t = x.shape[0]
+    stated = np.broadcast_to(np.asarray(stated_sigma_m, float), (t,))
+    lengths, sigmas, inside, points = np.empty(t), np.empty(t), np.empty(t, bool), np.empty(t)
+    grid = np.linspace(-0.75, 0.75, _CURVE_SAMPLES)
+    h = grid[1] - grid[0]
+    for b in range(0, t, _TRACES_PER_BATCH):  # a batch of traces at a time: memory, not Python, per trace
+        sl = slice(b, min(b + _TRACES_PER_BATCH, t))
+        f = _trace_fits(x[sl], y[sl])
+        c, a, e, k = f["centre"], f["along"], f["across"], f["coefficients"]
+        powers = grid[:, None] ** np.arange(k.shape[1])
+        curve_v = k @ powers.T
+        curve_u = f["middle"][:, None] + grid * f["span"][:, None]
+        r = np.hypot(c[:, :1] + curve_u * a[:, :1] + curve_v * e[:, :1],
+                     c[:, 1:] + curve_u * a[:, 1:] + curve_v * e[:, 1:])
+        i = np.argmin(r, axis=1)
+        rows = np.arange(r.shape[0])
+        interior = (i > 0) & (i < grid.size - 1)
+        j = np.clip(i, 1, grid.size - 2)
+        r0, rm, rp = r[rows, j], r[rows, j - 1], r[rows, j + 1]
+        d1, d2 = rp - rm, rp - 2 * r0 + rm
+        curved = interior & (d2 > 0)
+        safe = np.where(curved, d2, 1.0)
+        lengths[sl] = np.where(curved, r0 - d1 * d1 / (8 * safe), r[rows, i])
+        inside[sl] = np.abs(grid[i]) <= 0.5
+        at = grid[i] + np.where(curved, -h * d1 / (2 * safe), 0.0)  # the nearest point, refined
+        g = at[:, None] ** np.arange(k.shape[1])
+        v_at = (g * k).sum(1)
+        u_at = f["middle"] + at * f["span"]
+        px = c[:, 0] + u_at * a[:, 0] + v_at * e[:, 0]
+        py = c[:, 1] + u_at * a[:, 1] + v_at * e[:, 1]
+        toward = (px * e[:, 0] + py * e[:, 1]) / np.hypot(px, py)  # d(length) / d(curve's v) there
+        change = toward[:, None] * np.einsum("tk,tkn->tn", g, f["pinv"])  # per metre a point moves across
+        point = np.where(np.isfinite(f["scatter_m"]), f["scatter_m"], stated[sl])
+        sigmas[sl] = point * np.sqrt((change**2).sum(1))
+        points[sl] = point
+    return lengths, sigmas, inside, points
 
 
 def shortest_shadow_with_sigma(x_m, y_m, stated_sigma_m):
     """Shortest shadow [m], its one-sigma [m], whether the trace passes noon, and the point error used [m].
 
-    Each point is moved across the trace by the point error (the trace's own
-    scatter about its curve when it has 7 or more points, else the stated
-    reading error) and the curve refitted: the sigma is the root sum of
-    squares of the changes (linear propagation; a move along the trace
-    changes little).
+    One trace of :func:`shortest_shadows`.
+
+    A straight trace one metre from the plumb point, five points read to 2 mm:
+    the nearest point is the middle one, which alone moves the shortest shadow.
+
+    >>> t = np.radians(np.linspace(-30, 30, 5))
+    >>> length, sigma, inside, _ = shortest_shadow_with_sigma(np.tan(t), np.ones_like(t), 0.002)
+    >>> round(length, 9), inside, round(sigma, 6)
+    (1.0, True, 0.002)
     """
-    x, y = np.asarray(x_m, float), np.asarray(y_m, float)
-    scatter = trace_scatter_m(x, y)
-    point_sigma = scatter if np.isfinite(scatter) else float(stated_sigma_m)
-    _, _, across = _trace_frame(x, y)
-    step = 1e-4 * float(np.median(np.hypot(x, y)))
-    moved = np.eye(x.size) * step
-    lengths, inside = shortest_shadow_m(np.vstack([x, x + moved * across[0]]), np.vstack([y, y + moved * across[1]]))
-    change = (lengths[1:] - lengths[0]) / step * point_sigma
-    return float(lengths[0]), float(np.sqrt(np.sum(change**2))), bool(inside[0]), point_sigma
+    lengths, sigmas, inside, points = shortest_shadows(np.asarray(x_m, float)[None, :],
+                                                       np.asarray(y_m, float)[None, :], stated_sigma_m)
+    return float(lengths[0]), float(sigmas[0]), bool(inside[0]), float(points[0])
 
 
 def collapse_untimed_traces(sites, readings):
@@ -218,6 +300,7 @@ def collapse_untimed_traces(sites, readings):
 
     Returns the readings (the others unchanged, in their order, the new ones
     after them) and the number of traces that do not pass noon (left out).
+    Traces with the same number of points are fitted together.
     """
     from firstrung import ephemeris
 
@@ -229,21 +312,20 @@ def collapse_untimed_traces(sites, readings):
     local = (readings.time_utc.astype("datetime64[ms]")
              + np.round(lon / 15.0 * 3600e3).astype(np.int64).astype("timedelta64[ms]")).astype("datetime64[D]")
     keys = idx.astype(np.int64) * 10**6 + local.astype(np.int64)
-    groups, inverse = np.unique(keys[untimed], return_inverse=True)
     rows = np.flatnonzero(untimed)
-    picked, lengths, sigmas, missed = [], [], [], 0
-    for g in range(groups.size):  # one small conic fit per trace (site and day)
-        members = rows[inverse == g]
-        length, sigma, inside, _ = shortest_shadow_with_sigma(
-            readings.tip_x_m[members], readings.tip_y_m[members], float(readings.shadow_sigma_m[members[0]]))
-        if not inside:
-            missed += 1
-            continue
-        picked.append(members[0])
-        lengths.append(length)
-        sigmas.append(sigma)
-    picked = np.asarray(picked, int)
-    first = picked
+    groups, inverse, counts = np.unique(keys[rows], return_inverse=True, return_counts=True)
+    by_trace = rows[np.argsort(inverse, kind="stable")]  # each trace's rows together, in the log's order
+    starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
+    lengths, sigmas, inside = np.empty(groups.size), np.empty(groups.size), np.empty(groups.size, bool)
+    tip_x, tip_y = np.asarray(readings.tip_x_m, float), np.asarray(readings.tip_y_m, float)
+    for n in np.unique(counts):  # one batch per number of points
+        traces = np.flatnonzero(counts == n)
+        members = by_trace[starts[traces][:, None] + np.arange(n)]
+        lengths[traces], sigmas[traces], inside[traces], _ = shortest_shadows(
+            tip_x[members], tip_y[members], np.asarray(readings.shadow_sigma_m, float)[members[:, 0]])
+    missed = int((~inside).sum())
+    first = by_trace[starts[inside]]
+    lengths, sigmas = lengths[inside], sigmas[inside]
     site_of = idx[first]
     lat = np.array([s.latitude_deg for s in sites])[site_of]
     lon_g = np.array([s.longitude_deg for s in sites])[site_of]
