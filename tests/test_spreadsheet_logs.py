@@ -197,7 +197,7 @@ def test_the_templates_of_the_other_forms_read_as_logs(tmp_path):
 
 
 def test_the_fast_path_reads_angles_and_traces_as_the_full_checks_do(tmp_path):
-    """Plain angle and timed-trace rows take the reader's fast path: same arrays, same problems."""
+    """Plain angle and trace rows (timed or not) take the reader's fast path: same arrays, same problems."""
     from firstrung import tabular
 
     rows = ["site,time_utc,altitude_deg,limb,tip_x_cm,tip_y_mm,observer",
@@ -206,7 +206,12 @@ def test_the_fast_path_reads_angles_and_traces_as_the_full_checks_do(tmp_path):
             "coast,2027-09-22T11:22:00Z,,,15.2,,e", "coast,2027-09-22T11:24Z,43.1,,1,2,f",
             "coast,2027-09-22 11:26,90,upper,,,g", "nowhere,2027-09-22T11:28:00Z,40,,,,h",
             "ridge,2027-09-22T11:30:00Z,1e1,,,,i", "coast,2027-09-22T11:32:00Z,,,-0.5,7.25,j"]
-    files = {"a.csv": rows, "b.csv": [r.replace(",altitude_deg,", ",zenith_distance_deg,") for r in rows]}
+    untimed = ["site,date,tip_x_mm,tip_y_mm,observer", *(f"ridge,2027-09-22,{x},-988,a" for x in (-300, -150, 0, 150)),
+               "ridge,22/09/2027,300,-990,b", "coast,2027-09-22,15,,d", "nowhere,2027-09-22,1,2,e",
+               "coast,2027-02-30,3,4,f", "Coast,2027-09-23,1.5e2,-980,g", "coast,2027-09-23,-0.5,-970,h",
+               "ridge,1066-10-14,1,2,i", *(f"coast,2027-09-23,{x},-975,j" for x in (-200, -100, 100))]
+    files = {"a.csv": rows, "b.csv": [r.replace(",altitude_deg,", ",zenith_distance_deg,") for r in rows],
+             "untimed.csv": untimed}
     (tmp_path / "campaign.toml").write_text(CAMPAIGN.format(log="a.csv", order=""), encoding="utf-8")
     campaign = read_campaign(tmp_path / "campaign.toml")
     for name, lines in files.items():
@@ -218,7 +223,7 @@ def test_the_fast_path_reads_angles_and_traces_as_the_full_checks_do(tmp_path):
         finally:
             tabular.FAST_PATH = True
         assert [str(p) for p in fast.problems] == [str(p) for p in slow.problems] and len(fast) == len(slow) >= 6
-        for field in ("row", "site", "time_utc", "form", "timed", "altitude_deg", "angle_column", "limb",
+        for field in ("row", "site", "time_utc", "time_column", "form", "timed", "altitude_deg", "angle_column", "limb",
                       "angle_sigma_deg", "tip_x_m", "tip_y_m", "shadow_m", "shadow_column", "observer", "edge"):
             assert np.asarray(getattr(fast, field)).tolist() == np.asarray(getattr(slow, field)).tolist() or (
                 np.asarray(getattr(fast, field)).dtype.kind == "f"

@@ -146,7 +146,7 @@ def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) ->
     return None
 
 
-def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float):
+def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float, *, untimed: bool = False):
     """Plain angle and timed-trace rows of a columnar table, a column at a time: their values and a mask.
 
     ``ok`` marks the rows whose site and ISO UTC time the caller found plain.
@@ -154,11 +154,13 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float)
     deg, a known limb word or none, no stated sigma) or only both tip
     coordinates (plain numbers within ``limit_m``), and the file has no
     length, gnomon, date, edge or weather column; every other row takes the
-    full row checks (same results: a test compares both).
+    full row checks (same results: a test compares both). ``untimed``: a file
+    of traces with a date and no time column (``t`` each date's mean noon);
+    only tip positions are plain there.
     """
     n = ok.size
-    if any(chosen.get(k) is not None for k in ("shadow_m", "gnomon_m", "date", "edge", "temperature_c",
-                                                "pressure_hpa", "angle_sigma_deg")):
+    if any(chosen.get(k) is not None for k in ("shadow_m", "gnomon_m", "edge", "temperature_c",
+                                                "pressure_hpa", "angle_sigma_deg") + (() if untimed else ("date",))):
         return None, np.zeros(n, bool)
     blank = [""] * n
 
@@ -182,18 +184,18 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float)
     tip_x, tip_y = x_value * fx, y_value * fy
     with np.errstate(invalid="ignore"):
         trace = (~a_given & x_plain & y_plain & (np.abs(tip_x) <= limit_m) & (np.abs(tip_y) <= limit_m))
-    ok = ok & (angle | trace)
+    ok = ok & (trace if untimed else angle | trace)
     m = int(ok.sum())
     altitude = np.where(angle, 90.0 - a_value if angle_column == "zenith_distance_deg" else a_value, np.nan)
     blank_text = np.full(n, "", dtype=object)
     observer = np.array(columns[chosen["observer"]], dtype=object) if chosen.get("observer") else blank_text
     note = np.array(columns[chosen["note"]], dtype=object) if chosen.get("note") else blank_text
     return {
-        "site": sites[ok].astype(str), "time_utc": t[ok], "time_column": np.full(m, "time_utc"),
+        "site": sites[ok].astype(str), "time_utc": t[ok], "time_column": np.full(m, None if untimed else "time_utc"),
         "shadow_m": np.full(m, np.nan), "shadow_column": np.full(m, ""), "gnomon_m": np.full(m, np.nan),
         "edge": np.full(m, None, dtype=object), "temperature_c": np.full(m, np.nan),
         "pressure_hpa": np.full(m, np.nan), "observer": observer[ok], "note": note[ok],
-        "form": np.where(angle, "angle", "trace")[ok].astype("<U6"), "timed": np.ones(m, bool),
+        "form": np.where(angle, "angle", "trace")[ok].astype("<U6"), "timed": np.full(m, not untimed),
         "altitude_deg": altitude[ok], "angle_column": np.where(angle, angle_column or "", "")[ok].astype("<U19"),
         "limb": np.where(angle, limb, None)[ok], "angle_sigma_deg": np.full(m, np.nan),
         "tip_x_m": np.where(trace, tip_x, np.nan)[ok], "tip_y_m": np.where(trace, tip_y, np.nan)[ok],
