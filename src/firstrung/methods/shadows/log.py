@@ -22,7 +22,6 @@ from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
 from firstrung.methods.shadows.inputs import ShadowReadings
-from firstrung.open_sites import POSITION_SLOTS, without_refused_rows
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
     FORM_VARIANTS,
@@ -37,6 +36,7 @@ from firstrung.methods.shadows.log_forms import (
     trace_cells,
     uses_forms,
 )
+from firstrung.open_sites import POSITION_SLOTS, without_refused_rows
 from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, Table, read_columns
 from firstrung.times import quoted
 
