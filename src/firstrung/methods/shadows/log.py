@@ -31,6 +31,7 @@ from firstrung.methods.shadows.log_forms import (
     angle_cells,
     angle_instruments,
     fast_form_columns,
+    mean_noons_utc,
     row_form,
     short_traces,
     trace_cells,
@@ -414,37 +415,6 @@ def _site_ids(campaign: Campaign, cells) -> tuple[np.ndarray, np.ndarray]:
     return sites, sites != ""
 
 
-_PLAIN_DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
-
-
-def _day_or_nat(text: str) -> np.datetime64:
-    try:
-        return np.datetime64(text, "D")
-    except ValueError:
-        return np.datetime64("NaT", "D")
-
-
-def _mean_noons_utc(campaign: Campaign, cells, sites) -> tuple[np.ndarray, np.ndarray]:
-    """12:00 local mean time of each plain ISO date cell at its row's site, as UTC [ms], and which were plain.
-
-    The column-at-a-time twin of :func:`firstrung.spreadsheet.mean_noon_utc`
-    (other date spellings and unknown sites go the long way).
-    """
-    n = len(cells)
-    plain = np.fromiter((bool(_PLAIN_DATE_RE.match(c)) for c in cells), bool, n) & (sites != "")
-    days = np.full(n, "NaT", dtype="<U10")
-    days[plain] = np.asarray(cells, dtype=object)[plain].astype(str)
-    try:
-        day = days.astype("datetime64[D]")
-    except ValueError:  # a date that does not exist: that row alone goes the long way, which says so
-        day = np.array([_day_or_nat(text) for text in days], dtype="datetime64[D]")
-    longitude = {site.id: site.longitude_deg for site in campaign.sites}
-    lon = np.array([longitude.get(site, 0.0) for site in sites], float)
-    shift = np.round(lon / 15.0 * 3600e3).astype(np.int64).astype("timedelta64[ms]")
-    t = day.astype("datetime64[ms]") + np.timedelta64(12 * 3600 * 1000, "ms") - shift
-    return t, plain & ~np.isnat(t)
-
-
 def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None, np.ndarray]:
     """Plain shadow rows (known site, ISO UTC time, plain numbers) of a columnar table, all at once.
 
@@ -456,7 +426,7 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     if chosen["time_utc"] is None and chosen.get("date") is not None and chosen.get("altitude_deg") is None:
         # traces without times: each row at its date's mean noon, as the row checks place it
         sites, ok = _site_ids(campaign, columns[chosen["site"]])
-        t, plain = _mean_noons_utc(campaign, columns[chosen["date"]], sites)
+        t, plain = mean_noons_utc(campaign, columns[chosen["date"]], sites)
         ok &= plain & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
         return fast_form_columns(chosen, columns, ok, sites, t, SHADOW_LIMIT_M, untimed=True)
     if chosen["time_utc"] != "time_utc":

@@ -202,6 +202,37 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float,
     }, ok
 
 
+_PLAIN_DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+
+
+def _day_or_nat(text: str) -> np.datetime64:
+    try:
+        return np.datetime64(text, "D")
+    except ValueError:
+        return np.datetime64("NaT", "D")
+
+
+def mean_noons_utc(campaign, cells, sites) -> tuple[np.ndarray, np.ndarray]:
+    """12:00 local mean time of each plain ISO date cell at its row's site, as UTC [ms], and which were plain.
+
+    The column-at-a-time twin of :func:`firstrung.spreadsheet.mean_noon_utc`
+    (other date spellings and unknown sites go the long way).
+    """
+    n = len(cells)
+    plain = np.fromiter((bool(_PLAIN_DATE_RE.match(c)) for c in cells), bool, n) & (sites != "")
+    days = np.full(n, "NaT", dtype="<U10")
+    days[plain] = np.asarray(cells, dtype=object)[plain].astype(str)
+    try:
+        day = days.astype("datetime64[D]")
+    except ValueError:  # a date that does not exist: that row alone goes the long way, which says so
+        day = np.array([_day_or_nat(text) for text in days], dtype="datetime64[D]")
+    longitude = {site.id: site.longitude_deg for site in campaign.sites}
+    lon = np.array([longitude.get(site, 0.0) for site in sites], float)
+    shift = np.round(lon / 15.0 * 3600e3).astype(np.int64).astype("timedelta64[ms]")
+    t = day.astype("datetime64[ms]") + np.timedelta64(12 * 3600 * 1000, "ms") - shift
+    return t, plain & ~np.isnat(t)
+
+
 def angle_cells(row: Row) -> dict:
     """An angle row's altitude as read [deg], limb and stated error."""
     column = row.column("altitude_deg")
