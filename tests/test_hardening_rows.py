@@ -42,22 +42,35 @@ def edit_csv(path: Path, change) -> None:
 # --- refusals are shown, and counted as refused --------------------------------------------------
 
 
-def test_reduce_shadows_counts_every_refused_row_and_reduces_the_site_left(c, capsys, monkeypatch):
+def test_reduce_shadows_shows_the_refusals_that_leave_one_site(c, capsys, monkeypatch):
     def change(header, rows):
         for r in rows[:125]:
             r[header.index("time_utc")] = "2027-13-45T12:00:00Z"
 
     edit_csv(c / "logs" / "shadows.csv", change)
     code, out, err = run_cli(["reduce", "shadows", c / "campaign.toml"], capsys, monkeypatch)
-    # exit 2: rows were refused; the good rows still count (DEVELOPERS.md)
-    assert code == 2
+    # a campaign of declared sites left with one by its refusals is not quietly turned into
+    # the one-site (subsolar) method: it says so
+    assert (code, out) == (2, "")
     lines = err.splitlines()
-    # the 125 refusals are one problem on many rows: said once, with its rows
-    assert lines == [("firstrung: logs/shadows.csv:rows 1-125:time_utc: expected an ISO 8601 UTC time such as "
-                      "2027-03-20T11:38:00Z, got '2027-13-45T12:00:00Z' (no such date or time)")]
-    # the one site left is reduced against the subsolar point, and every refused row is counted
-    assert "readings: 187 read, 62 accepted, 62 used, 125 refused" in out
-    assert "method: one site against the subsolar point" in out
+    # the 125 refusals are one problem on many rows: said once with its rows, then why nothing was reduced
+    assert len(lines) == 2
+    assert lines[0] == ("firstrung: logs/shadows.csv:rows 1-125:time_utc: expected an ISO 8601 UTC time such as "
+                        "2027-03-20T11:38:00Z, got '2027-13-45T12:00:00Z' (no such date or time)")
+    assert lines[-1] == "firstrung: need usable shadow readings from at least two sites; got 1"
+
+
+def test_reduce_shadows_json_counts_every_refused_row(c, capsys, monkeypatch):
+    def change(header, rows):
+        for r in rows[:3]:
+            r[header.index("time_utc")] = "2027-13-45T12:00:00Z"
+
+    edit_csv(c / "logs" / "shadows.csv", change)
+    code, out, err = run_cli(["reduce", "shadows", c / "campaign.toml", "--json"], capsys, monkeypatch)
+    assert code == 2
+    # three rows with one problem are said once, and counted as three refused rows
+    assert "logs/shadows.csv:rows 1-3:time_utc: expected an ISO 8601 UTC time" in err
+    assert json.loads(out)["rows"]["refused"] == 3
 
 
 def test_check_counts_a_refused_file_as_refused(c, tmp_path, capsys, monkeypatch):
