@@ -49,3 +49,9 @@ TRANSIT_CAUTION_MORE = (
     "and keep children with an adult at the screen. Follow local rules and your host institution's "
     "safety officer."
 )
+
+STARS_NOTE = (
+    "Star work is done in the dark, far from the Sun: cap every telescope and finder before "
+    "sunrise and never slew towards the Sun in twilight. Use red light, mind cables and steps, "
+    "never work alone at night, and follow your host institution's safety rules for night work."
+)

@@ -186,3 +186,22 @@ def test_check_flags_hours_outliers_and_local_time(tmp_path, capsys, monkeypatch
     assert (7, "local-time-as-utc") in flags
     assert next(f for f in json.loads(out)["flags"] if f["row"] == 7)["hours"] == -2
     assert not any(r in (1, 4, 5) for r, _ in flags)
+
+
+def test_star_sheets_for_a_night(tmp_path, capsys, monkeypatch):
+    c = tmp_path / "c.toml"
+    c.write_text(CAMPAIGN.replace("[logs]", 'period_days = 5.366\n[logs]'))
+    code, _, _ = run_cli(["sheet", c, "--site", "ridge", "--date", "2027-09-10", "--kind", "parallax", "-o",
+                          tmp_path / "p.html"], capsys, monkeypatch)
+    assert code == 0
+    html = (tmp_path / "p.html").read_text()
+    assert "61 Cygni A" in html and "Dark sky" in html and "parallax shift RA" in html and "never slew towards the Sun" in html
+    code, _, _ = run_cli(["sheet", c, "--site", "ridge", "--date", "2027-09-10", "--kind", "parallax", "--blind", "-o",
+                          tmp_path / "b.html"], capsys, monkeypatch)
+    assert "parallax shift RA" not in (tmp_path / "b.html").read_text()
+    code, _, _ = run_cli(["sheet", c, "--site", "ridge", "--date", "2027-09-10", "--kind", "cepheids", "-o",
+                          tmp_path / "c.html"], capsys, monkeypatch)
+    assert code == 0 and "magnitude_sigma" in (tmp_path / "c.html").read_text()
+    code, _, err = run_cli(["sheet", c, "--site", "ridge", "--date", "2027-06-21", "--kind", "parallax", "-o",
+                            tmp_path / "x.html"], capsys, monkeypatch)
+    assert code == 0  # at 46 deg N the sky is dark (Sun below -12 deg) even at midsummer

@@ -37,7 +37,7 @@ def sheet(
     output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
     blind: Annotated[bool, typer.Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
-    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night), phases (a half moon) or transit (a transit of Mercury or Venus).")] = "shadows",
+    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night), phases (a half moon), transit (a transit of Mercury or Venus), parallax or cepheids (a night of star work).")] = "shadows",
 ) -> None:
     """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
 
