@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from firstrung.ephemeris._core import _body, _skyfield_time, timescale
+from firstrung.ephemeris._core import _body, _prepared_time, _skyfield_time, timescale
 
 #: Days per Julian year [d] (IAU).
 JULIAN_YEAR_D = 365.25
@@ -125,7 +125,8 @@ def star_altitude_deg(ra_deg: float, dec_deg: float, time_utc, latitude_deg, lon
     ra, dec, _ = _body("earth").at(middle).observe(star).radec(epoch="date")
     ra_rad, dec_rad = float(np.radians(ra._degrees).ravel()[0]), float(dec.radians.ravel()[0])
     unique, inverse = np.unique(flat, return_inverse=True)
-    gast_h = np.asarray(_skyfield_time(unique).gast, dtype=float).reshape(-1)[inverse].reshape(t_all.shape)
+    # apparent sidereal time with the IAU 2000B nutation (<= 0.001" from 2000A, five times faster)
+    gast_h = np.asarray(_prepared_time(unique).gast, dtype=float).reshape(-1)[inverse].reshape(t_all.shape)
     hour_angle = np.radians(gast_h * 15.0 + lon) - ra_rad
     lat_rad = np.radians(lat)
     sin_alt = np.sin(lat_rad) * np.sin(dec_rad) + np.cos(lat_rad) * np.cos(dec_rad) * np.cos(hour_angle)
