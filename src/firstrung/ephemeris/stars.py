@@ -64,7 +64,12 @@ def parallax_factors(ra_deg, dec_deg, time_utc) -> tuple[np.ndarray, np.ndarray]
     >>> bool(np.all(np.abs(f_ra) <= 1.02) and np.all(np.abs(f_dec) <= 1.02))
     True
     """
-    x, y, z = earth_barycentric_au(time_utc)
+    return factors_from_earth(ra_deg, dec_deg, earth_barycentric_au(time_utc))
+
+
+def factors_from_earth(ra_deg, dec_deg, earth_au) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`parallax_factors` from the Earth's barycentric positions already at hand [au], (3, n)."""
+    x, y, z = earth_au
     a, d = np.radians(ra_deg), np.radians(dec_deg)
     f_ra = x * np.sin(a) - y * np.cos(a)
     f_dec = (x * np.cos(a) + y * np.sin(a)) * np.sin(d) - z * np.cos(d)

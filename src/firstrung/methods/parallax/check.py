@@ -20,14 +20,13 @@ OUTLIER_ARCSEC = 120.0
 HOURS_MATCH_DEG = 0.5
 
 
-def _expected_place(star, time_utc):
+def _expected_place(star, epoch_jyear):
     """The star's place at the rows' epochs: the campaign's place moved by the catalogue's proper motion
     from J2000 (the place a campaign file copies)."""
-    from firstrung.ephemeris.stars import julian_year_tt
     from firstrung.star_catalogue import campaign_star_entry
 
     entry = campaign_star_entry(star)
-    years = julian_year_tt(time_utc) - 2000.0
+    years = epoch_jyear - 2000.0
     pm_ra, pm_dec = (entry.pm_ra_mas_per_yr, entry.pm_dec_mas_per_yr) if entry is not None else (0.0, 0.0)
     dec = star.dec_deg + pm_dec * years / 3.6e6
     ra = star.ra_deg + pm_ra * years / 3.6e6 / max(np.cos(np.radians(star.dec_deg)), 1e-6)
@@ -42,11 +41,14 @@ def log_flags(campaign, log) -> list[Flag]:
     flags: list[Flag] = []
     if len(log) == 0:
         return flags
+    from firstrung.ephemeris.stars import julian_year_tt
+
     stars = {s.id: s for s in campaign.stars}
+    epochs = julian_year_tt(np.asarray(log.time_utc, dtype="datetime64[ms]"))  # once for every row
     for sid in np.unique(np.asarray(log.star, dtype=str)):
         rows = np.flatnonzero(log.star == sid)
         star = stars[sid]
-        ra, dec = _expected_place(star, np.asarray(log.time_utc[rows], dtype="datetime64[ms]"))
+        ra, dec = _expected_place(star, epochs[rows])
         dx, dy = tangent_offsets_mas(log.ra_deg[rows], log.dec_deg[rows], float(star.ra_deg), float(star.dec_deg))
         ex, ey = tangent_offsets_mas(ra, dec, float(star.ra_deg), float(star.dec_deg))
         sep_arcsec = np.hypot(dx - ex, dy - ey) / 1000.0

@@ -104,13 +104,19 @@ class ParallaxRun:
     notes: tuple[str, ...] = ()
 
 
-def fit_star(star, log, rows) -> ParallaxFit:
-    """Fit one star from its rows of an astrometry log (parallax factors from DE421's Earth)."""
-    from firstrung.ephemeris.stars import julian_year_tt, parallax_factors
+def fit_star(star, log, rows, earth_au=None, years=None) -> ParallaxFit:
+    """Fit one star from its rows of an astrometry log (parallax factors from DE421's Earth).
+
+    ``earth_au`` (3, rows) and ``years``: the Earth's barycentric place and the Julian epoch of
+    every row of the log, when computed once for all the stars.
+    """
+    from firstrung.ephemeris.stars import earth_barycentric_au, factors_from_earth, julian_year_tt
 
     t = np.asarray(log.time_utc[rows], dtype="datetime64[ms]")
-    f_ra, f_dec = parallax_factors(star.ra_deg, star.dec_deg, t)
-    return fit_parallax(log.ra_deg[rows], log.dec_deg[rows], log.sigma_arcsec[rows], julian_year_tt(t), f_ra, f_dec)
+    earth = earth_barycentric_au(t) if earth_au is None else earth_au[:, rows]
+    f_ra, f_dec = factors_from_earth(star.ra_deg, star.dec_deg, earth)
+    epochs = julian_year_tt(t) if years is None else years[rows]
+    return fit_parallax(log.ra_deg[rows], log.dec_deg[rows], log.sigma_arcsec[rows], epochs, f_ra, f_dec)
 
 
 def run_parallax(campaign_path, *, include_flagged: bool = False) -> ParallaxRun:
@@ -133,12 +139,16 @@ def run_parallax(campaign_path, *, include_flagged: bool = False) -> ParallaxRun
 
         log, left_out = without_error_rows(campaign, log, log_flags)
     stars, notes = [], []
+    from firstrung.ephemeris.stars import earth_barycentric_au, julian_year_tt
+
+    t = np.asarray(log.time_utc, dtype="datetime64[ms]")
+    earth, years = (earth_barycentric_au(t), julian_year_tt(t)) if len(log) else (None, None)
     for star in campaign.stars:
         rows = np.flatnonzero(log.star == star.id)
         if rows.size == 0:
             continue
         try:
-            fit = fit_star(star, log, rows)
+            fit = fit_star(star, log, rows, earth, years)
         except ComputationError as error:
             notes.append(f"{star.id}: {error}")
             continue
