@@ -309,3 +309,23 @@ def test_rows_with_a_date_and_no_time_are_read_at_apparent_noon_with_a_wider_sta
     astro = np.array([s["astronomical_latitude_deg"]["value"] for s in data["sites"]])
     assert np.max(np.abs(astro - lat)) < 0.01
     assert data["earth_radius_km"]["value"] == pytest.approx(data["expected_radius_km"], rel=1e-3)
+
+
+def test_every_school_gets_a_printable_result_page(tmp_path, capsys, monkeypatch):
+    net = simulate_network(10, EQUINOX, 41, blunder_fraction=0.0)
+    rows = network_log_rows(net)
+    rows[0]["site"] = "<b>Bold</b> & Co School"
+    camp = _write_network(tmp_path, rows)
+    sheets = tmp_path / "schools.html"
+    code, out, err = run_cli(["reduce", "shadows", camp, "--json", "--school-sheets", sheets], capsys, monkeypatch)
+    assert code == 0, err
+    data = json.loads(out)
+    html = sheets.read_text()
+    assert html.count("<section>") == len(data["sites"]) == 10
+    assert "<b>Bold</b>" not in html and "&lt;b&gt;Bold&lt;/b&gt; &amp; Co School" in html
+    assert html.count("ISO 12312-2") == 10  # the solar caution on every page
+    first = data["sites"][0]
+    assert f"{first['subsolar_radius_km']['value']:,.0f} ± {first['subsolar_radius_km']['sigma']:,.0f} km" in html
+    assert f"{data['earth_radius_km']['value']:,.0f} ± {data['earth_radius_km']['sigma']:,.0f} km" in html
+    code, out, err = run_cli(["reduce", "shadows", camp, "--school-sheets", tmp_path / "s.pdf"], capsys, monkeypatch)
+    assert code == 2 and "HTML made to print" in err and len(err.strip().splitlines()) == 1

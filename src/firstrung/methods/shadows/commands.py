@@ -208,6 +208,10 @@ def reduce_shadows(
     monte_carlo_old: Annotated[int | None, typer.Option("--monte-carlo", min=0, hidden=True)] = None,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
     include_flagged: IncludeFlaggedOption = False,
+    school_sheets: Annotated[
+        Path | None, typer.Option("--school-sheets", help="Also write every site's result sheet (one printable "
+                                  "page per site: its reading, its result, its partners, the network's) as HTML.")
+    ] = None,
 ) -> None:
     """The Earth's radius from noon gnomon shadows at two or more sites.
 
@@ -219,6 +223,10 @@ def reduce_shadows(
 
     run = run_shadows(campaign, include_flagged=include_flagged)
     data = shadow_run_to_json(run)
+    if school_sheets is not None:
+        from firstrung.methods.shadows.commands_network import write_school_sheets
+
+        write_school_sheets(run, school_sheets)
     monte_carlo = monte_carlo_old if monte_carlo_old is not None and not monte_carlo else monte_carlo
     if monte_carlo:
         from firstrung.methods.shadows.reduction import monte_carlo_radius

@@ -68,3 +68,15 @@ def network_lines(data: dict) -> list[str]:
         lines.append(f"  flagged as blunders and left out: {len(flagged)} site{'s' if len(flagged) != 1 else ''} "
                      f"({shown})")
     return lines
+
+
+def write_school_sheets(run, path: Path) -> None:
+    """Write every school's result page (HTML made to print), never over an input."""
+    from firstrung.errors import InputError
+    from firstrung.methods.shadows.school_sheets import school_pages
+    from firstrung.output import campaign_inputs, write_atomic
+
+    if Path(path).suffix.lower() == ".pdf":
+        raise InputError("--school-sheets: firstrung writes HTML made to print; give a .html name and print it "
+                         "from a browser")
+    write_atomic(path, school_pages(run).encode("utf-8"), inputs=campaign_inputs(run.campaign))
