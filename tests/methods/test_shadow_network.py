@@ -225,7 +225,7 @@ def test_rows_of_one_school_that_disagree_on_the_position_are_refused_with_both_
 
 
 def test_plan_for_many_schools_sums_up_each_day_and_writes_every_site_to_a_file(tmp_path, capsys, monkeypatch):
-    net = simulate_network(60, EQUINOX, 4, blunder_fraction=0.0)
+    net = simulate_network(60, EQUINOX, 4, blunder_fraction=0.0)  # more than SITE_COLUMNS_SHOWN
     camp = _write_network(tmp_path, network_log_rows(net))
     csv_path = tmp_path / "sites.csv"
     code, out, err = run_cli(["plan", "shadows", camp, "--from", "2027-03-01", "--to", "2027-04-30", "--top", "4",

@@ -29,6 +29,8 @@ CHOICES = {
 _UNIT_WORDS = {"m": "m", "cm": "cm", "mm": "mm", "deg": "degrees", "s": "s", "c": "deg C", "hpa": "hPa",
                "arcmin": "arcmin"}
 _CONTROL_RE = re.compile(r"[\x00-\x1f\x7f]+")
+#: Columns a log row may carry its own site with (open networks): not asked on a known site's page.
+_SITE_POSITION = ("latitude_deg", "longitude_deg", "elevation_m", "timezone")
 
 
 @dataclass(frozen=True)
@@ -76,8 +78,8 @@ def fields(kind: LogKind, zone: str | None, form=None) -> list[Field]:
     words = dict(form.choice_words) if form is not None else {}
     for slot in kind.slots:
         first = slot.names[0]
-        if slot.names == ("site",) or first in left_out:
-            continue
+        if slot.names == ("site",) or first in left_out or first in _SITE_POSITION:
+            continue  # a site's page knows its site (a school's own position is for the log's rows)
         required = slot.required and not (form is not None and set(slot.unless) & set(needs)) or first in needs
         if slot.names == TIME_COLUMNS:
             default = "time_local" if zone is not None else "time_utc"

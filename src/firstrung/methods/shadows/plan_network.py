@@ -9,7 +9,7 @@ import numpy as np
 from firstrung.jsonout import number, time_z
 
 #: Up to this many sites the plan's table has a column per site; more, a summary per day.
-SITE_COLUMNS_SHOWN = 8
+SITE_COLUMNS_SHOWN = 30
 #: The Sun's disc covers the zenith at noon when the site's latitude is within the Sun's
 #: semi-diameter of its declination [deg] (about 0.27 deg, common practice).
 SUN_SEMIDIAMETER_DEG = 0.27
