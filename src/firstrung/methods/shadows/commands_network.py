@@ -61,7 +61,10 @@ def network_lines(data: dict) -> list[str]:
                      f"{summary['median_km']:.0f} km, the middle 68 % from {summary['low_km']:.0f} to "
                      f"{summary['high_km']:.0f} km")
         if "neighbours" in data.get("pairs_selection", ""):
-            lines.append("  (a day of more than 200 sites pairs each site with its 20 neighbours in longitude)")
+            from firstrung.methods.shadows.pairs import ALL_PAIRS_MAX_SITES, NEIGHBOURS
+
+            lines.append(f"  (a day of more than {ALL_PAIRS_MAX_SITES} sites pairs each site with its {NEIGHBOURS} "
+                         "neighbours in longitude)")
     flagged = data.get("flagged_sites") or []
     if flagged:
         shown = ", ".join(escape(f) for f in flagged[:8]) + (f" and {len(flagged) - 8} more" if len(flagged) > 8 else "")

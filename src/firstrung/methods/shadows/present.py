@@ -8,8 +8,9 @@ from firstrung.jsonout import quantity as _q
 from firstrung.jsonout import time_z as _time
 
 
-def shadow_run_to_json(run) -> dict:
-    """The ``reduce shadows`` result (see DESIGN section 4)."""
+def shadow_run_to_json(run, *, pairs: bool = True) -> dict:
+    """The ``reduce shadows`` result (see DESIGN section 4); ``pairs=False`` leaves out the list of pairs
+    (their summary stays), for the terminal and the report."""
     from firstrung.methods.shadows.pairs import partners_of
     from firstrung.methods.shadows.present_network import network_json, site_network_json
 
@@ -51,7 +52,7 @@ def shadow_run_to_json(run) -> dict:
     warnings = {"warnings": list(r.warnings)} if r.warnings else {}
     return warnings | {
         "campaign": run.campaign.name,
-        **network_json(run),
+        **network_json(run, pairs=pairs),
         "earth_radius_km": _q(r.earth_radius_km),
         "circumference_km": _q(r.circumference_km),
         "expected_radius_km": _num(r.expected_radius_km, 3),

@@ -39,7 +39,7 @@ def pairs_json(pairs) -> list[dict]:
     ]
 
 
-def network_json(run) -> dict:
+def network_json(run, pairs: bool = True) -> dict:
     """The top-level keys the network method adds (``method`` and the rest)."""
     from firstrung.methods.shadows.pairs import pairs_summary
 
@@ -57,7 +57,8 @@ def network_json(run) -> dict:
         summary = pairs_summary(run.pairs)
         out["pairs_selection"] = run.pairs.selection
         out["pairs_summary"] = {k: (_num(v, 1) if k != "count" else v) for k, v in summary.items()}
-        out["pairs"] = pairs_json(run.pairs)
+        if pairs:
+            out["pairs"] = pairs_json(run.pairs)
     return out
 
 

@@ -122,7 +122,7 @@ def report_section(run, progress=lambda step: None) -> dict:
     from firstrung.methods.shadows.present import shadow_run_to_json
 
     progress("drawing the shadow fits")
-    data = shadow_run_to_json(run)
+    data = shadow_run_to_json(run, pairs=False)
     red = run.reduction
     network = bool(run.campaign.row_site_ids) or len(red.sites) > NETWORK_SITES
     # one reading per site has no series to draw: a network shows its map and pairs instead
