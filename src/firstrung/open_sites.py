@@ -130,14 +130,17 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
     lat_col, lon_col = chosen.get("latitude_deg"), chosen.get("longitude_deg")
     if lat_col is None and lon_col is None:
         return []
-    if table.columns is not None:
-        rows = [(table.numbers[k], table.cells_of(k)) for k in range(len(table.numbers))]
+    chunks = getattr(table, "chunks", None)
+    if chunks is not None:  # read a slice of lines at a time (each chunk its own number reading)
+        rows = [(chunk, chunk.numbers[k], chunk.cells_of(k)) for chunk in chunks for k in range(len(chunk.numbers))]
+    elif table.columns is not None:
+        rows = [(table, table.numbers[k], table.cells_of(k)) for k in range(len(table.numbers))]
     else:
-        rows = [(number, cells) for number, cells in table.rows if cells]
+        rows = [(table, number, cells) for number, cells in table.rows if cells]
     site_col, elev_col, zone_col = chosen.get("site"), chosen.get("elevation_m"), chosen.get("timezone")
     gnomon_col = chosen.get("gnomon_m")
     marks, zones = [], {}
-    for number, cells in rows:
+    for part, number, cells in rows:
         name = cells.get(site_col, "").strip() if site_col else ""
         lat_cell = cells.get(lat_col, "") if lat_col else ""
         lon_cell = cells.get(lon_col, "") if lon_col else ""
@@ -149,12 +152,12 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
                                        "give latitude_deg and longitude_deg together (the row's own position)"))
             continue
         bad = len(problems)
-        lat = _number(table, cells, lat_col, -90.0, 90.0, "a latitude from -90 to 90 deg (+ north)",
+        lat = _number(part, cells, lat_col, -90.0, 90.0, "a latitude from -90 to 90 deg (+ north)",
                       label, number, problems)
-        lon = _number(table, cells, lon_col, -180.0, 180.0, "a longitude from -180 to 180 deg (+ east)",
+        lon = _number(part, cells, lon_col, -180.0, 180.0, "a longitude from -180 to 180 deg (+ east)",
                       label, number, problems)
         low, high = ELEVATION_RANGE_M
-        elev = _number(table, cells, elev_col, low, high, f"an elevation from {low:g} to {high:g} m",
+        elev = _number(part, cells, elev_col, low, high, f"an elevation from {low:g} to {high:g} m",
                        label, number, problems)
         zone = cells.get(zone_col, "").strip() if zone_col else ""
         if zone and zone not in zones:
@@ -170,7 +173,7 @@ def _marks_of_file(path: Path, campaign: Campaign, problems: list) -> list[_Mark
             continue
         gnomon = math.nan
         if gnomon_col is not None:  # checked by the log's reader; here only the site's plain height
-            value, _ = table.read_number(cells.get(gnomon_col, ""))
+            value, _ = part.read_number(cells.get(gnomon_col, ""))
             gnomon = value * _GNOMON_FACTORS[gnomon_col] if value is not None and value > 0 else math.nan
         marks.append(_Mark(label, number, name, float(lat), float(lon),
                            0.0 if math.isnan(elev) else float(elev), zone or None, gnomon))
