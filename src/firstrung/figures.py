@@ -132,7 +132,7 @@ def ladder_figure(rows: list[dict]):
 
     plt = _plt()
     rows = [r for r in rows if r["measured"] is not None and r.get("quantity") != "sun_distance_au"]
-    fig, ax = plt.subplots(figsize=(7.0, 0.9 + 0.42 * max(len(rows), 1)))
+    fig, ax = plt.subplots(figsize=(7.0, 1.25 + 0.42 * max(len(rows), 1)))
     arrows = False
     spans = [1.0]
     for k, r in enumerate(rows):
@@ -165,8 +165,10 @@ def ladder_figure(rows: list[dict]):
                Line2D([], [], color="C3", ls="--", label="modern value for this campaign's sites and dates")]
     if arrows:
         handles.append(Line2D([], [], color="C0", marker=">", lw=2, label="lower bound only (no upper bound)"))
-    ax.legend(handles=handles, fontsize=7, loc="lower right")
+    # the legend below the axes, where it can hide no point (inside, it covered the radius's)
+    legend_inches = 0.3
+    fig.legend(handles=handles, fontsize=7, loc="lower center", ncol=len(handles), frameon=False)
     ax.set_xlabel("measured / compared value (1 = agreement)")
     ax.set_title("What the campaign measured, against what a perfect measurement gives")
-    fig.tight_layout()
+    fig.tight_layout(rect=(0.0, legend_inches / fig.get_figheight(), 1.0, 1.0))
     return fig

@@ -81,9 +81,6 @@ def format_modern(row: dict, space: str = "") -> str:
         return rounded(row["modern"], row["modern"] * 0.9999, row["modern"] * 1.0001, space=space)[0]
     if m["value"] is None or m["low"] is None:
         return rounded(row["modern"], row["modern"] * 0.5, row["modern"] * 2.0, space=space)[0]
-    value, _ = rounded(m["value"], m["low"], m["high"], space=space)
-    if "×" in value:
-        return rounded(row["modern"], row["modern"] * 0.5, row["modern"] * 2.0, space=space)[0]
     return rounded(row["modern"], row["modern"] - abs(m["value"] - m["low"]),
                    row["modern"] + abs(m["value"] - m["low"]), space=space)[0]
 
