@@ -217,3 +217,21 @@ def test_the_interval_methods_note_states_the_spread_of_single_intervals():
     from firstrung.methods.phases import present as sp
 
     assert "+/- 32 h" in inspect.getsource(sp) and "+/- 60 h" not in inspect.getsource(sp)
+
+
+def test_judgements_that_scatter_as_stated_are_combined_as_independent(tmp_path, sky, halves):
+    # four observers of one half moon, each off by their own error (chi2 = 3.2 on 3 dof with the
+    # stated 20 min): before, their judgement was taken as shared whatever the scatter and the
+    # combination kept one observer's sigma (coverage 1.000 over 200 campaigns)
+    from firstrung.methods.phases.run import run_phases
+
+    site, quarter, _, ref = _moon_up(halves)
+    rows = [[site[0], str(np.datetime64(ref + np.timedelta64(dt_s, "s"), "ms")) + "Z", quarter, "", "", "1200",
+             f"observer {n}"] for n, dt_s in enumerate((-1500, -300, 600, 1400))]
+    run = run_phases(write_campaign(tmp_path, [site + (False,)], phases=rows))
+    s = np.array([x.elongation_deg.sigma for x in run.estimates])  # each 20 min at that moment's rate
+    assert run.combined.scale == 1.0
+    assert run.combined.sigma_deg == pytest.approx(1 / math.sqrt(np.sum(1 / s**2)), rel=1e-9)  # about s / 2
+    assert len(run.combined.independent_quarters) == 1
+    assert run.combined.independent_quarters[0].startswith(f"{quarter} quarter of 20")
+    assert any("combined as independent: " + run.combined.independent_quarters[0] in a for a in run.assumptions)

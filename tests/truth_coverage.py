@@ -39,15 +39,19 @@ def _t(t64):
 
 
 def predicted_coverage(error, sigma):
-    """The coverage expected of intervals +/- ``sigma`` when the errors are their mean (a fixed part: a
-    single draw of a shared error) plus a scatter with their spread: mean of P(|b + N(0, s)| <= sigma)."""
+    """The coverage a Gaussian error gives with the campaigns' own shift and spread in units of their sigma.
+
+    z = error / sigma; a fixed shared error (one draw) shifts z by its mean, the random errors
+    spread it: the expected coverage is P(|m + N(0, sd)| <= 1) with m and sd the mean and spread of z.
+    Calibrated intervals with no fixed part give m ~ 0, sd ~ 1: 0.68.
+    """
     from scipy.special import ndtr
 
-    error, sigma = np.asarray(error, float), np.asarray(sigma, float)
-    if error.size < 2:
+    z = np.asarray(error, float) / np.asarray(sigma, float)
+    if z.size < 2:
         return None
-    b, s = float(error.mean()), float(error.std(ddof=1))
-    return round(float(np.mean(ndtr((sigma - b) / s) - ndtr((-sigma - b) / s))), 3)
+    m, sd = float(z.mean()), float(z.std(ddof=1))
+    return round(float(ndtr((1 - m) / sd) - ndtr((-1 - m) / sd)), 3)
 
 
 def summary(name, hits, bias, extra=None, error=None, sigma=None):

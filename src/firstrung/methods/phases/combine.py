@@ -51,8 +51,9 @@ class CombinedElongation:
     ``sigma_deg`` is scaled by ``scale`` = sqrt(chi2/dof) when the scatter
     of the (independent) groups is significant at 5 % (the Particle Data
     Group's scale factor: the estimates scatter more than their stated
-    errors allow). ``independent_quarters``: quarters whose judgements
-    scattered as independent errors and were combined as such.
+    errors allow). ``independent_quarters``: the quarters (named by their
+    date) whose judgements scattered as independent errors and were combined
+    as such.
     """
 
     elongation_deg: float
@@ -60,7 +61,7 @@ class CombinedElongation:
     estimates: int
     chi2_per_dof: float | None
     scale: float
-    independent_quarters: tuple[int, ...] = ()
+    independent_quarters: tuple[str, ...] = ()
 
     @property
     def sun_moon_distance_ratio(self) -> Measured:
@@ -207,4 +208,12 @@ def combine_half_moon(estimates, common_zero_point_sigma: float = 0.0, kinds=Non
     slope = np.array([x.fit.slope if x.fit is not None else 1.0 for x in xs])
     common = np.where(series, np.degrees(2.0 * float(common_zero_point_sigma)) / slope, 0.0)
     c = combine_elongations(e, s, shared, group, common)
-    return CombinedElongation(c.elongation_deg, c.sigma_deg, c.estimates, c.chi2_per_dof, c.scale, tuple(independent))
+    return CombinedElongation(c.elongation_deg, c.sigma_deg, c.estimates, c.chi2_per_dof, c.scale,
+                              tuple(_quarter_name(xs, q) for q in independent))
+
+
+def _quarter_name(xs, q) -> str:
+    """'first quarter of 2027-01-15' for a quarter's index (its index alone where the estimates carry no date)."""
+    x = next(x for x in xs if x.quarter_index == q)
+    when = getattr(x, "quadrature_utc", None)
+    return f"{x.quarter} quarter of {np.datetime64(when, 'D')}" if when is not None else f"quarter {q}"

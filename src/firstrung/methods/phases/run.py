@@ -599,7 +599,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         "judging \"exactly half lit\" carries an error shared by all who look at the same Moon: the smallest "
         "judgement error among a quarter's timings and angles is common to them all, unless four or more of "
         "them scatter as independent errors would (chi2 not below its 5 % point)"
-        + (f": quarter(s) {', '.join(str(q) for q in combined.independent_quarters)} combined as independent"
+        + (f"; combined as independent: {', '.join(combined.independent_quarters)}"
            if combined.independent_quarters else ""),
         "estimates are combined by generalised least squares in 90 deg - E (shared errors do not average "
         "down), scaled by sqrt(chi2/dof) when the scatter is significant at 5 %",
