@@ -19,7 +19,11 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from firstrung.methods.phases.combine import combine_elongations, combine_half_moon, judgement_is_shared
+from firstrung.methods.phases.combine import (
+    combine_elongations,
+    combine_half_moon,
+    judgement_is_shared,
+)
 from firstrung.uncertainty import Measured
 
 TRUE_E = 89.85
