@@ -269,7 +269,7 @@ def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
     q, half, up = _physical_halves()
     usable = [k for k in range(len(q)) if up[k].sum() >= 2]
     rng = np.random.default_rng(seed)
-    hits, bias, error, sigma = [], [], [], []
+    hits, bias = [], []
     for i in range(n):
         k = usable[i % len(usable)]
         rows = []
@@ -300,10 +300,10 @@ def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
         low = r.low if r.low is not None else math.inf
         hits.append(low <= truth <= (r.high if r.high is not None else math.inf))
         bias.append((run.combined.elongation_deg - truth_e) * 60)  # arcmin
-        error.append(run.combined.elongation_deg - truth_e)
-        sigma.append(run.combined.sigma_deg)
     stated = f", stated as common {common_zero_point_sigma:g}" if common_zero_point_sigma else ""
-    return summary(f"half moon: {scenario}{stated}", hits, bias, {"bias_unit": "arcmin of E"}, error, sigma)
+    # no Gaussian prediction here: E's errors mix quarters, rates and decisions, and one Gaussian fitted to them
+    # predicted 0.68 for the shared +20 min row, where a one-sigma shift gives 0.50 (as measured)
+    return summary(f"half moon: {scenario}{stated}", hits, bias, {"bias_unit": "arcmin of E"})
 
 
 SCENARIOS = {
