@@ -248,7 +248,7 @@ def test_the_shadow_page_offers_the_angle_and_tip_trace_forms_with_their_own_pre
     trace = page[page.index('id="shadows-trace-way"'):]
     trace = trace[:trace.index("</form>")]
     assert 'name="value:tip_x_mm"' in trace and 'name="value:tip_y_mm"' in trace and "value:shadow_m" not in trace
-    assert "every 5 minutes" in trace
+    assert "every 10 minutes" in trace  # as the blank trace sheet asks
     # an angle and a timed tip position are stored as the log's own columns and checked
     angle_reading = post_reading(site, "shadows", {"time_local": "2027-03-20T12:30:00", "altitude_deg": "28.1",
                                                    "limb": "lower"})

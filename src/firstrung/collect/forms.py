@@ -204,13 +204,18 @@ def _angle_hints(site, date: str) -> tuple[str, ...]:
     )
 
 
+#: A trace's marks, as the blank trace sheet asks for them: every 10 minutes, 2 hours either side of noon.
+TRACE_STEP_MIN, TRACE_HALF_SPAN_MIN = 10, 120
+
+
 @functools.lru_cache(maxsize=1024)
 def _trace_hints(site, date: str) -> tuple[str, ...]:
     """When to mark the tip, and where the noon mark falls from the plumb point."""
     _, noon = _noon(site, date)
     lines = [_noon_line(site, date, noon)]
-    lines.append(f"Mark the shadow's tip every 5 minutes from {_clock(noon, site.timezone, -90)[:5]} to "
-                 f"{_clock(noon, site.timezone, 90)[:5]}, at least 5 marks on both sides of noon")
+    lines.append(f"Mark the shadow's tip every {TRACE_STEP_MIN} minutes from "
+                 f"{_clock(noon, site.timezone, -TRACE_HALF_SPAN_MIN)[:5]} to "
+                 f"{_clock(noon, site.timezone, TRACE_HALF_SPAN_MIN)[:5]}, at least 5 marks on both sides of noon")
     g = site.gnomon
     if g is not None:
         from firstrung.methods.shadows.prediction import PlanSite

@@ -195,14 +195,14 @@ BLANK_KIT = {
             "lean: only the plumb point counts).",
             "Measure the tip's height above the board, to the millimetre.",
             "Draw two perpendicular axes through the plumb point; any turn of the board is fine.",
-            "Mark the shadow's tip every 5 minutes from about 90 minutes before to 90 minutes after noon; a "
+            "Mark the shadow's tip every 10 minutes from about 2 hours before to 2 hours after noon; a "
             "clock is not needed (at least 5 marks, both sides of noon).",
             "Measure each mark's x and y from the plumb point; write the time too if a clock was read.",
         ],
         "columns": ["mark", "x (mm)", "y (mm)", "clock time (if read)", "notes"],
         "csv_header": "site,date,time_local,tip_x_mm,tip_y_mm,observer,note",
         "example": "ridge,2027-09-22,,152,-988,class 4B,no clock",
-        "rows": 24,
+        "rows": 25,  # every 10 minutes over 4 hours
         "grid": True,
     },
     "eclipse": {
