@@ -19,6 +19,8 @@ DEMO_LOGS = (
     ("eclipse", "2029-12-01", "2029-12-31", 20291220, EUROPEAN_SITES, {"late_contact": True}),
     ("phases", "2027-01-01", "2027-03-31", 1, EUROPEAN_SITES, {}),
     ("transits", "2032-11-13", "2032-11-13", 20321113, None, {"swap_label": True}),
+    ("astrometry", "2027-01-01", "2027-12-31", 2027, EUROPEAN_SITES, {"star_id": "cyg61"}),
+    ("light_curves", "2027-09-01", "2027-09-30", 5366, EUROPEAN_SITES, {"star_id": "dcep"}),
 )
 DEMO_SEED = 1
 DEMO_SAMPLES = 100_000
@@ -56,7 +58,7 @@ def demo_logs(campaign) -> dict[str, str]:
 
 #: The files the demo writes beside its campaign file and logs.
 DEMO_RESULTS = ("check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "sun-parallax.json",
-                "ladder.json", "report.html")
+                "star-parallax.json", "cepheid-distances.json", "ladder.json", "report.html")
 
 
 def refuse_non_demo_folder(folder, campaign_text: str, logs: dict[str, str] | None) -> None:
@@ -119,6 +121,11 @@ def run_demo(folder, *, samples: int = DEMO_SAMPLES, seed: int = DEMO_SEED, prog
     files["eclipse"] = write_atomic(folder / "moon-distance.json", dumps(eclipse_run_to_json(runs["eclipse"])) + "\n")
     files["phases"] = write_atomic(folder / "sun-moon-ratio.json", dumps(phase_run_to_json(runs["phases"])) + "\n")
     files["transit"] = write_atomic(folder / "sun-parallax.json", dumps(transit_run_to_json(runs["transit"])) + "\n")
+    from firstrung.methods.cepheids.present import cepheid_run_to_json
+    from firstrung.methods.parallax.present import parallax_run_to_json
+
+    files["parallax"] = write_atomic(folder / "star-parallax.json", dumps(parallax_run_to_json(runs["parallax"])) + "\n")
+    files["cepheids"] = write_atomic(folder / "cepheid-distances.json", dumps(cepheid_run_to_json(runs["cepheids"])) + "\n")
     progress("writing the report")
     files["ladder"] = write_atomic(folder / "ladder.json", dumps(report.context["ladder_json"]) + "\n")
     files["report"] = write_atomic(folder / "report.html", render_html(report))

@@ -93,7 +93,7 @@ def light_curve_figure(fits: list[tuple[str, object]]):
 
     plt = _plt()
     n = max(len(fits), 1)
-    fig, axes = plt.subplots(1, n, figsize=(4.6 * n, 3.2), squeeze=False)
+    fig, axes = plt.subplots(1, n, figsize=(4.4 * n, 2.5), squeeze=False)
     for ax, (label, f) in zip(axes[0], fits, strict=False):
         p = f.period_days.value
         phase = ((f.time_d - f.time_origin_d) / p) % 1.0
@@ -106,6 +106,6 @@ def light_curve_figure(fits: list[tuple[str, object]]):
         ax.set_xlabel(f"phase (period {p:.4f} d)")
         ax.set_ylabel(f"magnitude ({f.relation.band})")
         ax.set_title(label, fontsize=9)
-        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.18), ncol=2, frameon=False)
+        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.3), ncol=2, frameon=False)
     fig.tight_layout()
     return fig

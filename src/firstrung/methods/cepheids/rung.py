@@ -56,11 +56,11 @@ def report_section(run, progress=lambda step: None) -> dict:
     for s in data["stars"]:
         d = s["distance_pc"]
         value, interval = rounded(d["value"], d["low"], d["high"], space=" ")
-        parts.append(f"{s['name']} pulsates every {s['period_days']['value']:.3f} days and is {value} pc away "
-                     f"(68 % interval {interval} pc, through {s['relation']})")
+        parts.append(f"{s['name']}, pulsating every {s['period_days']['value']:.2f} days, is {value} pc away "
+                     f"({interval} pc)")
     figs = {"light_curves": light_curve_figure([(s.star.name, s.fit) for s in run.stars])}
     import numpy as np
 
     dates = sorted({str(np.datetime64(t, "D")) for s in run.stars for t in run.log.time_utc[s.rows]})
     return {"name": "cepheids", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
-            "headline": "From the campaign's own photometry, " + "; ".join(parts) + ".", "dates": dates[:1] + dates[-1:]}
+            "headline": "As a Cepheid, " + "; ".join(parts) + ".", "dates": dates[:1] + dates[-1:]}

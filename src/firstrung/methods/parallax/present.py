@@ -102,7 +102,7 @@ def parallax_ellipse_figure(fits: list[tuple[str, object]]):
 
     plt = _plt()
     n = max(len(fits), 1)
-    fig, axes = plt.subplots(1, n, figsize=(4.2 * n, 4.0), squeeze=False)
+    fig, axes = plt.subplots(1, n, figsize=(3.4 * n, 3.0), squeeze=False)
     year = np.linspace(0.0, 1.0, 200)
     for ax, (label, f) in zip(axes[0], fits, strict=False):
         p = f.parallax_mas.value
@@ -121,6 +121,6 @@ def parallax_ellipse_figure(fits: list[tuple[str, object]]):
         ax.set_xlabel("east offset (arcsec)")
         ax.set_ylabel("north offset (arcsec)")
         ax.set_title(f"{label}: parallax {p:.1f} ± {f.parallax_mas.sigma:.1f} mas", fontsize=9)
-        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.18), ncol=2, frameon=False)
+        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.3), ncol=2, frameon=False)
     fig.tight_layout()
     return fig

@@ -58,9 +58,9 @@ def report_section(run, progress=lambda step: None) -> dict:
                          f"{s['parallax_mas']['sigma']:.1f} mas: too small to give a distance")
             continue
         value, interval = rounded(d["value"], d["low"], d["high"], space=" ")
-        parts.append(f"{s['name']} is {value} pc away (68 % interval {interval} pc)")
+        parts.append(f"{s['name']} is {value} pc away ({interval} pc)")
     figs = {"ellipse": parallax_ellipse_figure([(s.star.name, s.fit) for s in run.stars])}
     dates = sorted({e["time_utc"][:10] for s in data["stars"] for e in s["epochs"]})
     return {"name": "parallax", "title": TITLE, "method": METHOD, "data": data, "figures": figs,
-            "headline": "From the campaign's own astrometry, " + "; ".join(parts) + ".",
+            "headline": "By its parallax, " + "; ".join(parts) + ".",
             "dates": dates[:1] + dates[-1:]}
