@@ -34,11 +34,13 @@ def demo_folder(tmp_path_factory):
 
 def test_demo_writes_every_result_and_the_report(demo_folder):
     for name in ("campaign.toml", "logs/shadows.csv", "logs/eclipse.csv", "logs/phases.csv", "logs/transits.csv",
-                 "check.json", "earth-radius.json", "moon-distance.json", "sun-moon-ratio.json", "sun-parallax.json",
+                 "logs/astrometry.csv", "logs/light_curves.csv", "check.json", "earth-radius.json", "moon-distance.json",
+                 "sun-moon-ratio.json", "sun-parallax.json", "star-parallax.json", "cepheid-distances.json",
                  "ladder.json", "report.html"):
         assert (demo_folder / name).exists(), name
     html = (demo_folder / "report.html").read_text()
-    assert html.count("<svg") == 6  # ladder, shadow fits, latitude line, eclipse, half moon, transit chords
+    # ladder, shadow fits, latitude line, eclipse, half moon, transit chords, parallax ellipse, light curve
+    assert html.count("<svg") == 8
     check = json.loads((demo_folder / "check.json").read_text())
     # the demo's blunders (a clock an hour out, a mistyped reading, a duplicated row) are found
     codes = set(check["counts"]["by_code"])
@@ -70,3 +72,10 @@ def test_ladder_agrees_with_the_separate_reductions(demo_folder):
     assert [t["date"] for t in transit["transits"]] == ["2032-11-13"]
     rejected = [t for t in transit["timings"] if not t["used"]]
     assert rejected == [] and len(transit["timings"]) == 19  # the mislabelled C4 was left out by the check
+    # the parsec rung: each star as its own reduction gives it, and the steps that were measured
+    stars = {s["id"]: s for s in ladder["stars"]}
+    parallax = json.loads((demo_folder / "star-parallax.json").read_text())["stars"][0]
+    cepheid = json.loads((demo_folder / "cepheid-distances.json").read_text())["stars"][0]
+    assert stars["cyg61"]["distance_pc"]["value"] == pytest.approx(1000 / parallax["parallax_mas"]["value"], rel=2e-3)
+    assert stars["dcep"]["distance_pc"]["value"] == pytest.approx(cepheid["distance_pc"]["value"], rel=2e-3)
+    assert {"step": "the astronomical unit in km", "source": "measured by the campaign (transit rung)"} in stars["cyg61"]["steps"]

@@ -21,9 +21,17 @@ import numpy as np
 
 from firstrung.constants import IUGG_MEAN_RADIUS_KM
 from firstrung.errors import ComputationError
-from firstrung.geodesy import mean_meridional_radius_km, meridian_arc_m, meridional_radius_of_curvature_km
+from firstrung.geodesy import (
+    mean_meridional_radius_km,
+    meridian_arc_m,
+    meridional_radius_of_curvature_km,
+)
 from firstrung.methods.shadows.inputs import POSITION_SIGMA_KM
-from firstrung.methods.shadows.network_model import MIN_NORTH_SOUTH_KM, NETWORK_CLOCK_SIGMA_S, NetworkFit
+from firstrung.methods.shadows.network_model import (
+    MIN_NORTH_SOUTH_KM,
+    NETWORK_CLOCK_SIGMA_S,
+    NetworkFit,
+)
 from firstrung.uncertainty import Measured, budget_from_contributions
 
 #: Why a site has no subsolar result.
