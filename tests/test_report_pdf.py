@@ -54,7 +54,7 @@ def test_report_prints_to_pdf_with_every_figure_whole(tmp_path, capsys, monkeypa
     capsys.readouterr()
     pages = printed_pages(html, tmp_path)
     assert 2 <= pages <= 8, pages  # the demo's report: at most 8 A4 pages
-    assert_figures_whole(html, 6)  # the transit's chords beside the five of the other rungs
+    assert_figures_whole(html, 8)  # the transit's chords, the parallax ellipse and the light curve beside the five of the other rungs
 
 
 @pytest.mark.skipif(BROWSER is None, reason="no headless Chromium on this machine (Debian package 'chromium')")
