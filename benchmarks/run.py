@@ -729,7 +729,9 @@ def main() -> None:
             demo_out = work.root / "demo"
             rows.append(bench_command("demo", "firstrung demo", ["demo", "-o", str(demo_out)], 1))
         rows.extend(bench_network(work.root, 40 if quick else 1_000, r, quick))
-        from stars import bench_stars  # benchmarks/stars.py (this folder is on the path when run as a script)
+        from stars import (
+            bench_stars,  # benchmarks/stars.py (this folder is on the path when run as a script)
+        )
 
         rows.extend(bench_stars(work.root, quick, r, __import__("types").SimpleNamespace(
             FIRSTRUNG=FIRSTRUNG, ENV=ENV, cold=cold, median_time=median_time, bench_command=bench_command)))

@@ -205,7 +205,7 @@ def test_check_accepted_never_hands_a_spreadsheet_a_formula(tmp_path, capsys, mo
     out = tmp_path / "accepted.csv"
     code, _, _ = run_cli(["check", folder / "campaign.toml", "--accepted", out], capsys, monkeypatch)
     assert code == 1
-    written = list(csv.reader(io.StringIO(out.read_text()))) 
+    written = list(csv.reader(io.StringIO(out.read_text())))
     observers = [r[written[0].index("observer")] for r in written[1:len(hostile) + 1]]
     # OWASP's CSV-injection advice: a leading apostrophe; plain numbers stay numbers
     assert observers == ["'=HYPERLINK(\"http://example.invalid\",\"x\")", "'=1+1", "+1", "-2", "'@SUM(A1)", "'=1",

@@ -15,6 +15,7 @@ import json
 import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
+from tests.helpers import run_cli
 
 from firstrung.methods.shadows.network import reduce_network
 from firstrung.methods.shadows.rehearsal_network import (
@@ -24,7 +25,6 @@ from firstrung.methods.shadows.rehearsal_network import (
     simulate_network,
 )
 from firstrung.methods.shadows.subsolar import site_subsolar
-from tests.helpers import run_cli
 
 EQUINOX = "2027-03-20"
 
