@@ -684,9 +684,15 @@ def main() -> None:
     parser.add_argument("--markdown", type=Path, help="also write the tables as Markdown to this file")
     parser.add_argument("--forms", action="store_true",
                         help="only the ways of recording the noon Sun: reduce shadows on ~100,000 rows of each form")
+    parser.add_argument("--targets", action="store_true",
+                        help="only the paths with targets (issue 18) and the scaling table, 3 cold runs each "
+                             "(1 for the largest): for a shared machine where the full run takes hours")
     args = parser.parse_args()
     quick = args.quick
     r = 1 if quick else 5  # cold runs per measurement (median)
+    if args.targets:
+        targets_run(args.markdown)
+        return
     if args.forms:
         with tempfile.TemporaryDirectory() as scratch:
             rows = bench_forms(Workloads(Path(scratch)), 50 if quick else 500, 2 if quick else 12, 1 if quick else 3)
@@ -743,6 +749,41 @@ def main() -> None:
     print_scaling(points)
     if args.markdown:
         args.markdown.write_text(markdown(rows, points, header))
+
+
+def targets_run(markdown_path: Path | None) -> None:
+    """The paths with targets and the scaling table, fewer cold runs; the load average before and after."""
+    load_before = os.getloadavg()
+    r = 3
+    with tempfile.TemporaryDirectory() as scratch:
+        work = Workloads(Path(scratch))
+        rows: list[Row] = [bench_plan_transits(work, 30, r, False)]
+        rows[-1].target = "< 0.5 s"
+        check = bench_check(work, 1_000, 100_000, r)
+        check.target = "cold < 1.2 s, < 300 MB; >= 3x skyfield, >= 8x astropy"
+        rows.append(check)
+        path, n = work.shadows(500, 10_000)
+        rows.append(bench_command("reduce shadows", f"{n:,} rows, 500 sites", ["reduce", "shadows", str(path)], r,
+                                  "cold < 0.8 s"))
+        out = work.root / "report.html"
+        rows.append(bench_command("report", f"{n:,} shadow rows, 500 sites", ["report", str(path), "-o", str(out)],
+                                  r, "< 10 s"))
+        path, n = work.shadows(100, 1_000_000)
+        rows.append(bench_command("reduce shadows", f"{n:,} rows, 100 sites", ["reduce", "shadows", str(path)], 1,
+                                  "< 15 s, < 1 GB"))
+        big, n = shadow_workload(work.root / "declared", 3, 3 * 17, declared=10_000)
+        rows.append(bench_command("reduce shadows", f"10,000 sites declared, 3 logged {n} rows",
+                                  ["reduce", "shadows", str(big)], r, "cost grows with the data"))
+        rows.append(bench_cli_start(5))
+        points = scaling(work, False, 1)
+    load_after = os.getloadavg()
+    header = (machine_line(False).replace("(full)", "(targets)") + f"; load average (1 min) {load_before[0]:.1f} at "
+              f"the start, {load_after[0]:.1f} at the end, on {os.cpu_count()} cores")
+    print(header)
+    print_table(rows)
+    print_scaling(points)
+    if markdown_path:
+        markdown_path.write_text(markdown(rows, points, header))
 
 
 if __name__ == "__main__":

@@ -162,8 +162,15 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
         return _direct_geocentric_sun(t)
-    both = _lagrange4(tt, start, step, _sun_grid_stacked(float(start), nodes, step))
+    grid_values = _sun_grid_stacked(float(start), nodes, step)
+    both = np.empty((4, tt.size))
+    for first in range(0, tt.size, _BLOCK):  # a block at a time: the interpolation's temporaries stay small
+        both[:, first:first + _BLOCK] = _lagrange4(tt[first:first + _BLOCK], start, step, grid_values)
     return both[:3], np.mod(both[3], 2.0 * np.pi)
+
+
+#: Times interpolated at once from the grid (each costs some 200 bytes of temporaries).
+_BLOCK = 65_536
 
 
 @dataclass(frozen=True)

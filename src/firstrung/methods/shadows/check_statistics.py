@@ -173,18 +173,33 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
     t = np.asarray(time_utc, dtype="datetime64[us]")
     ephemeris.check_in_span(t)
     unique_t, inverse = np.unique(t, return_inverse=True)
+    del t
     xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
     distance_km = np.sqrt(np.sum(xyz_km**2, axis=0))
-    ra = np.arctan2(xyz_km[1], xyz_km[0])[inverse]
-    dec = np.arcsin(xyz_km[2] / distance_km)[inverse]
+    dec = np.arcsin(xyz_km[2] / distance_km)
+    # per distinct time what the rows share, then per row in place (a long log's memory is in its temporaries)
+    sin_dec, cos_dec = np.sin(dec)[inverse], np.cos(dec)[inverse]
+    ha = (gast_rad - np.arctan2(xyz_km[1], xyz_km[0]))[inverse]
     distance_km = distance_km[inverse]
-    lat = np.radians(np.asarray(latitude_deg, float))
-    ha = gast_rad[inverse] + np.radians(np.asarray(longitude_deg, float)) - ra
+    del inverse
+    ha += np.radians(np.asarray(longitude_deg, float))
     ha = np.angle(np.exp(1j * ha))
-    sin_alt = np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)
-    alt = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
-    alt = alt - (WGS84_SEMI_MAJOR_AXIS_M / 1000.0 / distance_km) * np.cos(alt)
-    rate = -np.cos(lat) * np.cos(dec) * np.sin(ha) / np.maximum(np.cos(alt), 1e-6) * _HOUR_ANGLE_RATE_RAD_S
+    lat = np.radians(np.asarray(latitude_deg, float))
+    cos_lat = np.cos(lat)
+    cos_ha = np.cos(ha)
+    cos_ha *= cos_lat
+    cos_ha *= cos_dec
+    sin_alt = np.sin(lat)
+    sin_alt *= sin_dec
+    sin_alt += cos_ha
+    del cos_ha, sin_dec, lat
+    alt = np.arcsin(np.clip(sin_alt, -1.0, 1.0, out=sin_alt), out=sin_alt)
+    alt -= (WGS84_SEMI_MAJOR_AXIS_M / 1000.0 / distance_km) * np.cos(alt)
+    rate = np.sin(ha)
+    rate *= -cos_lat
+    rate *= cos_dec
+    rate /= np.maximum(np.cos(alt), 1e-6)
+    rate *= _HOUR_ANGLE_RATE_RAD_S
     semidiameter_deg = SUN_SEMIDIAMETER_AT_1AU_ARCSEC / 3600.0 / (distance_km / ASTRONOMICAL_UNIT_KM)
     return alt, rate, ha, semidiameter_deg
 
