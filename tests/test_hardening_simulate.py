@@ -124,3 +124,15 @@ def test_the_equator_and_a_1_mm_gnomon_read_back_whole(tmp_path):
     assert 0.35 < np.median(tiny) < 1.0
     assert all(len(r["shadow_mm"].replace(".", "").lstrip("0")) >= 3 for r in rows)
     read_back(tmp_path, text, "shadows", rows, SHADOW_COLUMNS, read_shadow_logs)
+
+
+@SETTINGS
+@given(sites=st.lists(site, min_size=1, max_size=3), first=day, seed=st.integers(0, 2**32 - 1),
+       form=st.sampled_from(["altitude", "trace"]))
+def test_simulated_angle_and_trace_logs_read_back_whole(tmp_path, sites, first, seed, form):
+    """``simulate shadows --form altitude|trace`` writes rows the shadow reader takes, every one."""
+    from firstrung.methods.shadows.rehearsal_forms import FORM_COLUMNS, form_rows
+
+    text = campaign_text(sites)
+    rows = form_rows(parse_campaign(text), form, date(first), date(first + 1), seed)
+    read_back(tmp_path, text, "shadows", rows, FORM_COLUMNS[form], read_shadow_logs)

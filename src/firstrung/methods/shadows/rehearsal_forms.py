@@ -22,7 +22,12 @@ from firstrung import ephemeris
 from firstrung.constants import STANDARD_TEMPERATURE_C
 from firstrung.methods.shadows.altitude import REFRACTION_SIGMA_FRACTION_STANDARD
 from firstrung.methods.shadows.forms import LIMB_JUDGEMENT_FRACTION, LIMB_SIGN, PLUMB_SIGMA_M
-from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
+from firstrung.methods.shadows.log import SHADOW_LIMIT_M
+from firstrung.methods.shadows.rehearsal import (
+    MIN_SUN_ALTITUDE_DEG,
+    ShadowErrors,
+    simulate_shadow_readings,
+)
 from firstrung.refraction import apparent_from_true_altitude_deg, standard_pressure_hpa
 
 #: Forms ``simulate shadows --form`` writes.
@@ -124,18 +129,25 @@ def form_rows(campaign, form: str, first_date, last_date, seed: int, *, half_spa
                                     float(np.mean([i.index_correction_sigma_deg for i in instruments])))
         reading = simulate_angle_readings(index, times, lat, lon, elev, [i.limb for i in instruments],
                                           [i.index_correction_deg for i in instruments], errors, rng)
+        # as for lengths: no reading with the Sun this low (nor one the reader refuses, past the zenith)
+        shown = np.round(reading, 2)
+        loggable = (shown >= MIN_SUN_ALTITUDE_DEG) & (shown <= 90.0)
         return [{"site": sites[index[k]].id, "time_utc": time_z(logged[k]), "altitude_deg": f"{reading[k]:.2f}",
                  "limb": instruments[index[k]].limb, "observer": f"rehearsal {sites[index[k]].id}",
-                 "note": "synthetic"} for k in order]
+                 "note": "synthetic"} for k in order if loggable[k]]
     errors = ShadowErrors.stated(float(np.mean([s.gnomon.shadow_sigma_m for s in sites])) / np.sqrt(2.0),
                                  float(np.mean([s.gnomon.height_sigma_m for s in sites])))
     board = rng.uniform(0.0, 360.0, len(sites))
     x, y = simulate_trace_points(index, times, lat, lon, elev, np.array([s.gnomon.height_m for s in sites]),
                                  np.array([s.gnomon.edge for s in sites], dtype=object), board,
                                  np.zeros(len(sites), bool), errors, rng, PLUMB_SIGMA_M)
+    # no point with the Sun this low, nor one off the board the reader takes
+    altitude = np.degrees(np.arctan2(np.array([s.gnomon.height_m for s in sites])[index], np.hypot(x, y)))
+    loggable = ((altitude >= MIN_SUN_ALTITUDE_DEG) & np.isfinite(x) & np.isfinite(y)
+                & (np.abs(np.round(x * 1000)) <= SHADOW_LIMIT_M * 1000) & (np.abs(np.round(y * 1000)) <= SHADOW_LIMIT_M * 1000))
     return [{"site": sites[index[k]].id, "time_utc": time_z(logged[k]), "tip_x_mm": f"{x[k] * 1000:.0f}",
              "tip_y_mm": f"{y[k] * 1000:.0f}", "observer": f"rehearsal {sites[index[k]].id}", "note": "synthetic"}
-            for k in order]
+            for k in order if loggable[k]]
 
 
 #: The columns of each form's rehearsal log.
