@@ -71,15 +71,15 @@ def folder_commands(campaign: Path, target: Path) -> list[list]:
 
 def test_every_input_is_listed(campaign):
     names = sorted(str(p.relative_to(campaign.parent)) for p in campaign_inputs(campaign))
-    assert names == ["campaign.toml", "logs/eclipse.csv", "logs/phases.csv", "logs/shadows-template.csv",
-                     "logs/shadows.csv", "logs/transits.csv"]
+    assert names == ["campaign.toml", "logs/astrometry.csv", "logs/eclipse.csv", "logs/light_curves.csv",
+                     "logs/phases.csv", "logs/shadows-template.csv", "logs/shadows.csv", "logs/transits.csv"]
 
 
 def test_no_command_replaces_any_input(campaign, capsys, monkeypatch):
     folder = campaign.parent
     before = tree(folder)
     inputs = campaign_inputs(campaign)
-    assert len(inputs) == 6
+    assert len(inputs) == 8
     tried = 0
     for target in inputs:
         runs = file_commands(campaign, target) + folder_commands(campaign, target)

@@ -82,7 +82,8 @@ def test_check_counts_a_refused_file_as_refused(c, tmp_path, capsys, monkeypatch
     data = json.loads(out)
     # 187 shadow rows the reader refused whole (no 'site' column) + 139 eclipse and half-moon rows
     # + 20 transit timings, one of them a C4 logged as C3 on purpose (flagged and rejected)
-    assert data["rows"] == {"read": 346, "accepted": 158, "flagged": 188, "rejected": 188}
+    # + 27 astrometry and 30 light-curve rows of the stars
+    assert data["rows"] == {"read": 403, "accepted": 215, "flagged": 188, "rejected": 188}
     refused = [f for f in data["flags"] if f["code"] == "unreadable-file"]
     assert len(refused) == 1 and "missing column 'site'" in refused[0]["message"]
     rows = list(csv.DictReader(io.StringIO(out_file.read_text())))
@@ -208,7 +209,7 @@ def test_logs_outside_the_campaign_folder_are_read_with_a_note(c, tmp_path, caps
     code, out, err = run_cli(["check", camp, "--json"], capsys, monkeypatch)
     assert code == 1
     assert err == f"firstrung: note: the campaign reads logs outside its folder: {c / '..' / 'shared' / 'phases.csv'}\n"
-    assert json.loads(out)["rows"]["read"] == 346  # read all the same (the absolute path inside is not noted)
+    assert json.loads(out)["rows"]["read"] == 403  # read all the same (the absolute path inside is not noted)
     code, out, err = run_cli(["check", EXAMPLES / "campaign.toml", "--json"], capsys, monkeypatch)
     assert "note" not in err
 

@@ -36,7 +36,8 @@ def test_html_report_is_self_contained_escaped_and_deterministic(hostile_campaig
 
     parse(html)
     assert "<script>" not in html and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; dome" in html
-    assert html.count("<svg") == 6  # ladder, shadow fits, latitude line, eclipse, half moon, transit chords
+    # ladder, shadow fits, latitude line, eclipse, half moon, transit chords, parallax ellipse, light curves
+    assert html.count("<svg") == 8
     assert not re.search(r'(src|href)="(https?:)?//', html)  # nothing fetched when opened
     assert "Never look at the Sun" in html and "ISO 12312-2" in html
     assert "error budget" in html and "limited most by" in html

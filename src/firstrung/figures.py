@@ -132,7 +132,7 @@ def ladder_figure(rows: list[dict]):
 
     plt = _plt()
     rows = [r for r in rows if r["measured"] is not None and r.get("quantity") != "sun_distance_au"]
-    fig, ax = plt.subplots(figsize=(7.0, 1.25 + 0.42 * max(len(rows), 1)))
+    fig, ax = plt.subplots(figsize=(7.0, 1.1 + 0.34 * max(len(rows), 1)))
     arrows = False
     spans = [1.0]
     for k, r in enumerate(rows):
