@@ -96,7 +96,7 @@ def test_no_command_replaces_any_input(campaign, capsys, monkeypatch):
             assert err.count("\n") == 1 and err.startswith("firstrung: "), (args, err)
             assert "Traceback" not in err
             assert tree(folder) == before, args
-    assert tried == 6 * (7 + 5) + 5 * 5 + 1
+    assert tried == 8 * (7 + 5) + 7 * 5 + 1  # 8 inputs, 7 of them logs in one folder
 
 
 def test_the_input_under_another_name_is_refused(campaign, capsys, monkeypatch):
