@@ -203,6 +203,32 @@ def report_left_out(count: int) -> None:
               file=sys.stderr)
 
 
+def finish_reduction(run, data: dict, *, campaign: Path, figure: Path | None, draw, render, json_output: bool,
+                     verbose: bool) -> None:
+    """The common end of a ``reduce`` command: its figure, its output, its left-out rows and refusals.
+
+    ``draw()`` makes the figure (only when ``--figure`` names a file); ``render(data, verbose)``
+    prints the terminal form. Exit status 2 when any row or file was refused.
+    """
+    if figure is not None:
+        from firstrung import figures
+        from firstrung.output import write_atomic
+
+        fig = draw()
+        body = figures.to_png(fig) if figure.suffix.lower() == ".png" else figures.to_svg(fig).encode()
+        write_atomic(figure, body, inputs=[campaign])
+    if json_output:
+        print_json(data)
+    else:
+        render(data, verbose)
+        if figure is not None:
+            console().print(f"  figure written to {figure}")
+    report_left_out(run.rows_left_out_flagged)
+    report_problems(run.problems)
+    if run.problems:
+        raise typer.Exit(2)
+
+
 WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
 
 FromOption = Annotated[str, typer.Option("--from", help="First date (ISO 8601, e.g. 2027-01-01).", show_default=False)]

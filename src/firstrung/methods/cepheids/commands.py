@@ -17,10 +17,9 @@ from firstrung.cli.common import (
     ToOption,
     VerboseOption,
     console,
+    finish_reduction,
     handles_errors,
     print_json,
-    report_left_out,
-    report_problems,
     simulation_range,
     write_simulated,
 )
@@ -104,24 +103,10 @@ def reduce_cepheids(
         raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
     run = run_cepheids(campaign, relation_name=relation, include_flagged=include_flagged)
     data = cepheid_run_to_json(run)
-    if figure is not None:
-        from firstrung import figures
-        from firstrung.methods.cepheids.present import light_curve_figure
-        from firstrung.output import write_atomic
+    from firstrung.methods.cepheids.present import light_curve_figure
 
-        fig = light_curve_figure([(s.star.name, s.fit) for s in run.stars])
-        body = figures.to_png(fig) if figure.suffix.lower() == ".png" else figures.to_svg(fig).encode()
-        write_atomic(figure, body, inputs=[campaign])
-    if json_output:
-        print_json(data)
-    else:
-        render_reduction(data, verbose)
-        if figure is not None:
-            console().print(f"  figure written to {figure}")
-    report_left_out(run.rows_left_out_flagged)
-    report_problems(run.problems)
-    if run.problems:
-        raise typer.Exit(2)
+    finish_reduction(run, data, campaign=campaign, figure=figure, verbose=verbose, json_output=json_output,
+                     draw=lambda: light_curve_figure([(s.star.name, s.fit) for s in run.stars]), render=render_reduction)
 
 
 def render_reduction(data: dict, verbose: bool) -> None:

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import time_z as _time
 
@@ -83,7 +84,7 @@ def cepheid_run_to_json(run) -> dict:
         ],
         "notes": list(run.notes),
         "rows": {"read": run.rows_read, "accepted": len(run.log), "left_out_flagged": run.rows_left_out_flagged,
-                 "refused": len(run.problems)},
+                 "refused": refused_rows(run.problems)},
     }
 
 

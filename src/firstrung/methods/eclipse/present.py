@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import time_z as _time
 from firstrung.methods.eclipse.umbra import enlargement_against_convention
@@ -186,7 +187,7 @@ def eclipse_run_to_json(run) -> dict:
         "earth_radius_km": _q(er, 3),
         "earth_radius_source": run.earth_radius_source,
         "eclipses": items,
-        "rows": {"read": run.rows_read, "accepted": run.rows_accepted, "refused": len(run.problems),
+        "rows": {"read": run.rows_read, "accepted": run.rows_accepted, "refused": refused_rows(run.problems),
                  "left_out_flagged": run.rows_left_out_flagged},
         "problems": [str(p) for p in run.problems],
     }

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 
 CATALOGUE_SOURCE = "Hipparcos new reduction (van Leeuwen 2007, A&A 474, 653; catalogue I/311)"
@@ -91,7 +92,7 @@ def parallax_run_to_json(run) -> dict:
         ],
         "notes": list(run.notes),
         "rows": {"read": run.rows_read, "accepted": len(log), "left_out_flagged": run.rows_left_out_flagged,
-                 "refused": len(run.problems)},
+                 "refused": refused_rows(run.problems)},
     }
 
 

@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import quantity as _q
 from firstrung.jsonout import time_z as _time
@@ -261,7 +262,7 @@ def phase_run_to_json(run) -> dict:
         "rows": {
             "read": run.rows_read,
             "accepted": run.rows_accepted,
-            "refused": len(run.problems),
+            "refused": refused_rows(run.problems),
             "estimates": len(run.estimates),
             "left_out_flagged": run.rows_left_out_flagged,
         },

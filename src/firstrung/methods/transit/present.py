@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import time_z as _time
 from firstrung.methods.transit.prediction import CONTACTS
@@ -96,6 +97,6 @@ def transit_run_to_json(run) -> dict:
         "modern": {"solar_parallax_arcsec": 8.794143, "sun_distance_au": 1.0},
         "assumptions": list(r.assumptions),
         "rows": {"read": run.rows_read, "accepted": len(log), "left_out_flagged": run.rows_left_out_flagged,
-                 "refused": len(run.problems)},
+                 "refused": refused_rows(run.problems)},
         "safety": TRANSIT_CAUTION,
     }
