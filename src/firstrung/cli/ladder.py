@@ -107,8 +107,10 @@ def _render(data: dict) -> None:
     out.print("  compared with: the value a perfect measurement of this campaign gives; ratio: measured / that value")
     said = set()
     for row in data["comparison"]:
-        if row["measured"] is not None and row["modern_source"] not in said:
-            said.add(row["modern_source"])
+        # the Sun's distance in au is compared with the same value as in km: said once
+        source = row["modern_source"].removesuffix(", in au")
+        if row["measured"] is not None and source not in said:
+            said.add(source)
             out.print(f"  {LABELS[row['quantity']]}: {row['modern_source']}")
     for row in data["comparison"]:
         if row["note"]:
