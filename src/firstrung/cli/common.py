@@ -196,6 +196,16 @@ IncludeFlaggedOption = Annotated[
 ]
 
 
+def rows_line(rows: dict, accepted_as: str) -> str:
+    """The reduction's count of rows: read, accepted (``accepted_as`` names how), and refused if any.
+
+    >>> rows_line({"read": 30, "accepted": 28, "refused": 2}, "used")
+    '  rows: 30 read, 28 used, 2 refused'
+    """
+    return (f"  rows: {rows['read']} read, {rows['accepted']} {accepted_as}"
+            + (f", {rows['refused']} refused" if rows["refused"] else ""))
+
+
 def report_left_out(count: int) -> None:
     """One line on stderr saying how many rows the check's errors left out of a reduction."""
     if count:

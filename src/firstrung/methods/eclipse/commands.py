@@ -23,6 +23,7 @@ from firstrung.cli.common import (
     print_json,
     report_left_out,
     report_problems,
+    rows_line,
     simulation_range,
     write_simulated,
 )
@@ -324,7 +325,7 @@ def render_eclipse(data: dict, verbose: bool) -> None:
             for a in e["assumptions"]:
                 out.print(f"  - {a}")
     rows = data["rows"]
-    out.print(f"\n  rows: {rows['read']} read, {rows['accepted']} accepted" + (f", {rows['refused']} refused" if rows["refused"] else ""))
+    out.print("\n" + rows_line(rows, "accepted"))
 
 
 def register_simulate(group: typer.Typer) -> None:

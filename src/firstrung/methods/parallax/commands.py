@@ -20,6 +20,7 @@ from firstrung.cli.common import (
     finish_reduction,
     handles_errors,
     print_json,
+    rows_line,
     simulation_range,
     write_simulated,
 )
@@ -156,7 +157,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
         for a in data["assumptions"]:
             out.print(f"  - {a}")
     rows = data["rows"]
-    out.print(f"  rows: {rows['read']} read, {rows['accepted']} used" + (f", {rows['refused']} refused" if rows["refused"] else ""))
+    out.print(rows_line(rows, "used"))
 
 
 def register_simulate(group: typer.Typer) -> None:

@@ -21,6 +21,7 @@ from firstrung.cli.common import (
     print_json,
     report_left_out,
     report_problems,
+    rows_line,
     simulation_range,
     write_simulated,
 )
@@ -175,8 +176,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
         for a in data["assumptions"]:
             out.print(f"  - {a}")
     rows = data["rows"]
-    out.print(f"  rows: {rows['read']} read, {rows['accepted']} used in the fit" +
-              (f", {rows['refused']} refused" if rows["refused"] else ""))
+    out.print(rows_line(rows, "used in the fit"))
     out.print(f"  [bold]Safety:[/bold] {data['safety']}")
 
 
