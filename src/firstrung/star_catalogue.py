@@ -24,6 +24,8 @@ import numpy as np
 
 from firstrung.errors import InputError
 
+#: How the catalogue is cited beside a value taken from it.
+CATALOGUE_SOURCE = "Hipparcos new reduction (van Leeuwen 2007, A&A 474, 653; catalogue I/311)"
 #: Epoch of the catalogue's positions [Julian year, TT].
 CATALOGUE_EPOCH_JYEAR = 1991.25
 #: Characters per line of hip2.dat, with its newline.

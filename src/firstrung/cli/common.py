@@ -213,14 +213,15 @@ def report_left_out(count: int) -> None:
               file=sys.stderr)
 
 
-def finish_reduction(run, data: dict, *, campaign: Path, figure: Path | None, draw, render, json_output: bool,
-                     verbose: bool) -> None:
+def finish_reduction(run, data: dict, *, render, json_output: bool, verbose: bool, campaign: Path | None = None,
+                     figure: Path | None = None, draw=None) -> None:
     """The common end of a ``reduce`` command: its figure, its output, its left-out rows and refusals.
 
-    ``draw()`` makes the figure (only when ``--figure`` names a file); ``render(data, verbose)``
-    prints the terminal form. Exit status 2 when any row or file was refused.
+    ``draw()`` makes the figure (only when ``--figure`` names a file, for a reduction that has
+    one); ``render(data, verbose)`` prints the terminal form. Exit status 2 when any row or file
+    was refused.
     """
-    if figure is not None:
+    if figure is not None and draw is not None:
         from firstrung import figures
         from firstrung.output import write_atomic
 
@@ -325,3 +326,42 @@ def simulation_range(date_from: str, date_to: str) -> tuple[str, str]:
     if last < first:
         raise InputError(f"--to {last} is before --from {first}")
     return first, last
+
+
+def figure_path(figure: Path | None) -> Path | None:
+    """A ``--figure`` path, refused (before any work) unless it ends in .svg or .png."""
+    if figure is not None and figure.suffix.lower() not in (".svg", ".png"):
+        from firstrung.errors import InputError
+
+        raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
+    return figure
+
+
+def budget_table(title: str, rows: list[dict], key: str, unit: str, digits: int):
+    """A reduction's error budget as a terminal table: each source and its sigma (``rows[i][key]``)."""
+    from rich import box
+    from rich.table import Table
+
+    budget = Table(title=title, box=box.SIMPLE_HEAD)
+    budget.add_column("source")
+    budget.add_column(f"sigma ({unit})", justify="right", no_wrap=True)
+    for b in rows:
+        budget.add_row(b["source"], f"{b[key]:.{digits}f}")
+    return budget
+
+
+def print_assumptions(out, data: dict, verbose: bool) -> None:
+    """The assumptions a plan or reduction made, one line each, with ``--verbose``."""
+    if verbose:
+        for a in data["assumptions"]:
+            out.print(f"  - {a}")
+
+
+def registers(name: str, command):
+    """A method's ``register_plan``/``register_reduce``/``register_simulate``: adds ``command``
+    (its errors handled) to the group under ``name``."""
+
+    def register(group: typer.Typer) -> None:
+        group.command(name)(handles_errors(command))
+
+    return register

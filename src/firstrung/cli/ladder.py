@@ -129,7 +129,7 @@ def _render_stars(stars: list[dict]) -> None:
     t = Table(box=box.SIMPLE_HEAD, title="The parsec rung: the stars")
     for col, just in (("star", "left"), ("by", "left"), ("distance (pc)", "right"), ("68 % interval", "right"),
                       ("catalogue (pc)", "right"), ("sigma apart", "right")):
-        t.add_column(col, justify=just)
+        t.add_column(col, justify=just, no_wrap=just == "right")  # a name wraps, a number never
     for s in stars:
         d = s["distance_pc"]
         high = "no upper bound" if d["high"] is None else f"{d['high']:.1f}"

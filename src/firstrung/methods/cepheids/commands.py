@@ -16,10 +16,13 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    budget_table,
     console,
+    figure_path,
     finish_reduction,
-    handles_errors,
+    print_assumptions,
     print_json,
+    registers,
     rows_line,
     simulation_range,
     write_simulated,
@@ -28,11 +31,6 @@ from firstrung.cli.common import (
 StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
 PeriodOption = Annotated[float | None, typer.Option("--period-days", min=0.05, max=1000.0,
                                                      help="The Cepheid's period [d] (default: period_days of its [[star]]).")]
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``cepheids`` to the ``plan`` group."""
-    group.command("cepheids")(handles_errors(plan_cepheids))
 
 
 def plan_cepheids(
@@ -72,14 +70,7 @@ def plan_cepheids(
                           "" if n["time_utc"] is None else n["time_utc"][11:16], f"{n['phase']:.2f}")
         out.print(table)
         out.print(f"  largest gap in phase between chosen nights: {s['largest_phase_gap']:.2f} of a cycle")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
-
-
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``cepheids`` to the ``reduce`` group."""
-    group.command("cepheids")(handles_errors(reduce_cepheids))
+    print_assumptions(out, data, verbose)
 
 
 def reduce_cepheids(
@@ -96,12 +87,10 @@ def reduce_cepheids(
 
     Exit status 2 when any row or file was refused (the result from the good rows is still shown).
     """
-    from firstrung.errors import InputError
     from firstrung.methods.cepheids.present import cepheid_run_to_json
     from firstrung.methods.cepheids.run import run_cepheids
 
-    if figure is not None and figure.suffix.lower() not in (".svg", ".png"):
-        raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
+    figure = figure_path(figure)
     run = run_cepheids(campaign, relation_name=relation, include_flagged=include_flagged)
     data = cepheid_run_to_json(run)
     from firstrung.methods.cepheids.present import light_curve_figure
@@ -112,9 +101,7 @@ def reduce_cepheids(
 
 def render_reduction(data: dict, verbose: bool) -> None:
     """Rich tables for a Cepheid reduction."""
-    from rich import box
     from rich.markup import escape
-    from rich.table import Table
 
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: Cepheid distances from the campaign's photometry")
@@ -129,26 +116,14 @@ def render_reduction(data: dict, verbose: bool) -> None:
         out.print(f"    extinction          {ext['value']:.2f} ± {ext['sigma']:.2f}"
                   + ("" if ext["stated"] else "   (none stated: the distance is overstated)"))
         out.print(f"    distance            {d['value']:.0f} pc   (68 % interval {d['low']:.0f} to {d['high']:.0f})")
-        budget = Table(title="Error budget of the distance modulus", box=box.SIMPLE_HEAD)
-        budget.add_column("source")
-        budget.add_column("sigma (mag)", justify="right", no_wrap=True)
-        for b in s["error_budget"]:
-            budget.add_row(b["source"], f"{b['sigma_mag']:.3f}")
-        out.print(budget)
+        out.print(budget_table("Error budget of the distance modulus", s["error_budget"], "sigma_mag", "mag", 3))
         if verbose:
             out.print(f"    relation: {escape(s['relation_detail']['source'])}")
     for note in data["notes"]:
         out.print(f"  not reduced: {escape(note)}")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     rows = data["rows"]
     out.print(rows_line(rows, "used"))
-
-
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``cepheids`` to the ``simulate`` group."""
-    group.command("cepheids")(handles_errors(simulate_cepheids))
 
 
 def simulate_cepheids(
@@ -175,3 +150,8 @@ def simulate_cepheids(
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed, sigma_mag=sigma_mag, band=band,
                           period_days=period_days, mean_magnitude=mean_magnitude, range_mag=range_mag, star_id=star)
     write_simulated(campaign, "light_curves", rows, LOG_COLUMNS, output, "magnitudes")
+
+
+register_plan = registers("cepheids", plan_cepheids)
+register_reduce = registers("cepheids", reduce_cepheids)
+register_simulate = registers("cepheids", simulate_cepheids)

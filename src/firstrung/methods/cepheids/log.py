@@ -15,16 +15,16 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.csv_cells import TIME_COLUMNS, cell_text, got
-from firstrung.errors import RowProblem
+from firstrung.log_record import TimedRows
 from firstrung.star_rows import star_site_and_time
-from firstrung.tabular import LogRows, Row, Slot, read_log
+from firstrung.tabular import Row, Slot, read_log
 
 #: Largest stated error of one magnitude [mag].
 MAX_SIGMA_MAG = 2.0
 
 
 @dataclass(frozen=True)
-class LightCurveLog(LogRows):
+class LightCurveLog(TimedRows):
     """The good rows of light-curve logs and the problems found.
 
     Attributes
@@ -37,21 +37,12 @@ class LightCurveLog(LogRows):
     observer, note : numpy.ndarray of object
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     star: np.ndarray
     magnitude: np.ndarray
     magnitude_sigma: np.ndarray
     band: np.ndarray
     observer: np.ndarray
     note: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
 
 
 LOG_SLOTS = (

@@ -3,34 +3,23 @@ relation's calibration taken from published parallaxes, said so). And what it gi
 
 from __future__ import annotations
 
-from firstrung.errors import ComputationError, InputError
-from firstrung.uncertainty import Draw
-
 
 def ladder_draws(ctx) -> None:
     """Each Cepheid's distance modulus (Gaussian) for the parsec rung."""
     from firstrung.methods.cepheids.run import run_cepheids
     from firstrung.star_catalogue import campaign_star_entry
+    from firstrung.star_ladder import add_star_distances, reduced_for_ladder
+    from firstrung.uncertainty import Draw
 
-    try:
-        run = run_cepheids(ctx.campaign_path)
-    except (InputError, ComputationError) as error:
-        ctx.notes.append(f"cepheids not reduced: {error}")
+    run = reduced_for_ladder(ctx, "cepheids", run_cepheids)
+    if run is None:
         return
-    ctx.runs["cepheids"] = run
-    stars = list(ctx.draws.get("star_parallaxes", ()))
-    for sc in run.stars:
-        mu = sc.fit.distance_modulus_mag
-        cat = campaign_star_entry(sc.star)
-        modern = None if cat is None or not cat.parallax_mas > 0 else (
-            1000.0 / cat.parallax_mas, f"HIP {cat.hip}, Hipparcos new reduction (van Leeuwen 2007)")
-        stars.append((sc.star.id, sc.star.name, "cepheid", Draw("gaussian", mu.value, mu.sigma or 0.0), modern))
-    ctx.draws["star_parallaxes"] = tuple(stars)
     relations = sorted({sc.fit.relation.name for sc in run.stars})
-    ctx.sources.append(("star_distance_pc", "Cepheid period and mean magnitude from the campaign's photometry "
-                        f"(reduce cepheids); the period-luminosity calibration {', '.join(relations)} is published, "
-                        "not measured by the campaign"))
-    ctx.problems.extend(run.problems)
+    add_star_distances(ctx, run, "cepheid", (
+        (sc.star, Draw("gaussian", sc.fit.distance_modulus_mag.value, sc.fit.distance_modulus_mag.sigma or 0.0),
+         campaign_star_entry(sc.star)) for sc in run.stars),
+        "Cepheid period and mean magnitude from the campaign's photometry (reduce cepheids); the "
+        f"period-luminosity calibration {', '.join(relations)} is published, not measured by the campaign")
 
 
 TITLE = "Cepheids: a distance from a period"

@@ -19,10 +19,10 @@ from firstrung.cli.common import (
     VerboseOption,
     check_site_id,
     console,
-    handles_errors,
+    finish_reduction,
+    print_assumptions,
     print_json,
-    report_left_out,
-    report_problems,
+    registers,
     rows_line,
     simulation_range,
     write_simulated,
@@ -35,11 +35,6 @@ ConventionOption = Annotated[
         help="How the atmosphere enlarges the Earth's shadow: danjon (the NASA canon's), chauvenet or geometric.",
     ),
 ]
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``eclipse`` to the ``plan`` group (``plan eclipses`` reaches it too: the registry's alias)."""
-    group.command("eclipse")(handles_errors(plan_eclipses))
 
 
 def plan_eclipses(
@@ -179,15 +174,8 @@ def render_plan(data: dict, verbose: bool, zones: dict | None = None) -> None:
     if left and not verbose:
         out.print(f"  {len(left)} {'eclipse' if len(left) == 1 else 'eclipses'} not ranked (penumbral, or no site can "
                   "time a contact); --verbose shows them")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     out.print("  A lunar eclipse is safe to watch with the naked eye or any instrument; never look at the Sun.")
-
-
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``eclipse`` to the ``reduce`` group."""
-    group.command("eclipse")(handles_errors(reduce_eclipse))
 
 
 def reduce_eclipse(
@@ -234,15 +222,7 @@ def reduce_eclipse(
         earth_radius_sigma_km=earth_radius_sigma_km, magnitude=magnitude, magnitude_sigma=magnitude_sigma,
         include_flagged=include_flagged,
     )
-    data = eclipse_run_to_json(run)
-    if json_output:
-        print_json(data)
-    else:
-        render_eclipse(data, verbose)
-    report_left_out(run.rows_left_out_flagged)
-    report_problems(run.problems)
-    if run.problems:
-        raise typer.Exit(2)
+    finish_reduction(run, eclipse_run_to_json(run), render=render_eclipse, json_output=json_output, verbose=verbose)
 
 
 def _pm(q: dict | None, digits: int) -> str:
@@ -328,11 +308,6 @@ def render_eclipse(data: dict, verbose: bool) -> None:
     out.print("\n" + rows_line(rows, "accepted"))
 
 
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``eclipse`` to the ``simulate`` group."""
-    group.command("eclipse")(handles_errors(simulate_eclipse))
-
-
 def simulate_eclipse(
     campaign: CampaignArgument,
     date_from: FromOption,
@@ -348,3 +323,8 @@ def simulate_eclipse(
     first, last = simulation_range(date_from, date_to)
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed, observers_per_site=observers)
     write_simulated(campaign, "eclipse", rows, LOG_COLUMNS, output, "eclipse timings")
+
+
+register_plan = registers("eclipse", plan_eclipses)
+register_reduce = registers("eclipse", reduce_eclipse)
+register_simulate = registers("eclipse", simulate_eclipse)

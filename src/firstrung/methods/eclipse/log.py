@@ -14,8 +14,8 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.csv_cells import cell_text, got, time_sigma_s
-from firstrung.errors import RowProblem
-from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
+from firstrung.log_record import TimedRows
+from firstrung.tabular import TIME_COLUMNS, Row, Slot, read_log
 from firstrung.times import quoted
 
 #: Eclipse events in their canonical spelling: umbral contacts, then feature timings.
@@ -23,7 +23,7 @@ ECLIPSE_EVENTS = ("U1", "U2", "U3", "U4", "immersion", "emersion")
 
 
 @dataclass(frozen=True)
-class EclipseLog(LogRows):
+class EclipseLog(TimedRows):
     """The good rows of eclipse logs and the problems found.
 
     Attributes
@@ -42,19 +42,10 @@ class EclipseLog(LogRows):
         As in :class:`ShadowLog`.
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     event: np.ndarray
     feature: np.ndarray
     time_sigma_s: np.ndarray
     observer: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
 
 
 LOG_SLOTS = (

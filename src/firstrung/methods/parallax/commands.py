@@ -16,21 +16,19 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    budget_table,
     console,
+    figure_path,
     finish_reduction,
-    handles_errors,
+    print_assumptions,
     print_json,
+    registers,
     rows_line,
     simulation_range,
     write_simulated,
 )
 
 StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``parallax`` to the ``plan`` group."""
-    group.command("parallax")(handles_errors(plan_parallax))
 
 
 def plan_parallax(
@@ -80,14 +78,7 @@ def render_plan(data: dict, verbose: bool) -> None:
         ruled_out = sum(1 for d in s["days"] if d["rank"] is None)
         if ruled_out:
             out.print(f"  {ruled_out} of {len(s['days'])} dates ruled out: the star is not well placed in a dark sky")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
-
-
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``parallax`` to the ``reduce`` group."""
-    group.command("parallax")(handles_errors(reduce_parallax))
+    print_assumptions(out, data, verbose)
 
 
 def reduce_parallax(
@@ -101,12 +92,10 @@ def reduce_parallax(
 
     Exit status 2 when any row or file was refused (the result from the good rows is still shown).
     """
-    from firstrung.errors import InputError
     from firstrung.methods.parallax.present import parallax_run_to_json
     from firstrung.methods.parallax.run import run_parallax
 
-    if figure is not None and figure.suffix.lower() not in (".svg", ".png"):
-        raise InputError(f"--figure: expected a file name ending in .svg or .png, got {figure.name!r}")
+    figure = figure_path(figure)
     run = run_parallax(campaign, include_flagged=include_flagged)
     data = parallax_run_to_json(run)
     from firstrung.methods.parallax.present import parallax_ellipse_figure
@@ -123,9 +112,7 @@ def _interval(q: dict, digits: int) -> str:
 
 def render_reduction(data: dict, verbose: bool) -> None:
     """Rich tables for a parallax reduction."""
-    from rich import box
     from rich.markup import escape
-    from rich.table import Table
 
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: stellar parallax from the campaign's astrometry")
@@ -145,24 +132,12 @@ def render_reduction(data: dict, verbose: bool) -> None:
                       "Hipparcos new reduction)")
         out.print(f"    chi2 {s['chi2']:.1f} for {s['dof']} degrees of freedom"
                   + ("" if s["error_scale"] == 1 else f"; errors scaled by {s['error_scale']:.2f}"))
-        budget = Table(title="Error budget of the parallax", box=box.SIMPLE_HEAD)
-        budget.add_column("source")
-        budget.add_column("sigma (mas)", justify="right", no_wrap=True)
-        for b in s["error_budget"]:
-            budget.add_row(b["source"], f"{b['sigma_mas']:.3f}")
-        out.print(budget)
+        out.print(budget_table("Error budget of the parallax", s["error_budget"], "sigma_mas", "mas", 3))
     for note in data["notes"]:
         out.print(f"  not fitted: {escape(note)}")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     rows = data["rows"]
     out.print(rows_line(rows, "used"))
-
-
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``parallax`` to the ``simulate`` group."""
-    group.command("parallax")(handles_errors(simulate_parallax))
 
 
 def simulate_parallax(
@@ -184,3 +159,8 @@ def simulate_parallax(
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed, sigma_arcsec=sigma_arcsec,
                           cadence_days=cadence_days, parallax_mas=parallax_mas, star_id=star)
     write_simulated(campaign, "astrometry", rows, LOG_COLUMNS, output, "star positions")
+
+
+register_plan = registers("parallax", plan_parallax)
+register_reduce = registers("parallax", reduce_parallax)
+register_simulate = registers("parallax", simulate_parallax)

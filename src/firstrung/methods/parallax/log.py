@@ -16,16 +16,16 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.csv_cells import TIME_COLUMNS, cell_text
-from firstrung.errors import RowProblem
+from firstrung.log_record import TimedRows
 from firstrung.star_rows import star_site_and_time
-from firstrung.tabular import LogRows, Row, Slot, read_log
+from firstrung.tabular import Row, Slot, read_log
 
 #: Largest stated error of one position [arcsec] (beyond it a row holds no parallax worth the name).
 MAX_SIGMA_ARCSEC = 60.0
 
 
 @dataclass(frozen=True)
-class AstrometryLog(LogRows):
+class AstrometryLog(TimedRows):
     """The good rows of astrometry logs and the problems found.
 
     Attributes
@@ -41,21 +41,12 @@ class AstrometryLog(LogRows):
     observer, note : numpy.ndarray of object
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     star: np.ndarray
     ra_deg: np.ndarray
     dec_deg: np.ndarray
     sigma_arcsec: np.ndarray
     observer: np.ndarray
     note: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
 
 
 LOG_SLOTS = (

@@ -7,8 +7,7 @@ import numpy as np
 
 from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
-
-CATALOGUE_SOURCE = "Hipparcos new reduction (van Leeuwen 2007, A&A 474, 653; catalogue I/311)"
+from firstrung.star_catalogue import CATALOGUE_SOURCE
 
 
 def _catalogue_json(entry) -> dict | None:

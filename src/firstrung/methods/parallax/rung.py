@@ -4,31 +4,19 @@ And what it gives the report: its section (:func:`report_section`).
 
 from __future__ import annotations
 
-from firstrung.errors import ComputationError, InputError
-from firstrung.uncertainty import Draw
-
 
 def ladder_draws(ctx) -> None:
     """Each star's parallax (Gaussian in mas) for the parsec rung."""
-    from firstrung.methods.parallax.present import CATALOGUE_SOURCE
     from firstrung.methods.parallax.run import run_parallax
+    from firstrung.star_ladder import add_star_distances, reduced_for_ladder
+    from firstrung.uncertainty import Draw
 
-    try:
-        run = run_parallax(ctx.campaign_path)
-    except (InputError, ComputationError) as error:
-        ctx.notes.append(f"parallax not reduced: {error}")
+    run = reduced_for_ladder(ctx, "parallax", run_parallax)
+    if run is None:
         return
-    ctx.runs["parallax"] = run
-    stars = list(ctx.draws.get("star_parallaxes", ()))
-    for sp in run.stars:
-        p = sp.fit.parallax_mas
-        cat = sp.catalogue
-        modern = None if cat is None or not cat.parallax_mas > 0 else (
-            1000.0 / cat.parallax_mas, f"HIP {cat.hip}, {CATALOGUE_SOURCE}")
-        stars.append((sp.star.id, sp.star.name, "parallax", Draw("gaussian", p.value, p.sigma or 0.0), modern))
-    ctx.draws["star_parallaxes"] = tuple(stars)
-    ctx.sources.append(("star_distance_pc", "stellar parallax from the campaign's astrometry (reduce parallax)"))
-    ctx.problems.extend(run.problems)
+    add_star_distances(ctx, run, "parallax", (
+        (sp.star, Draw("gaussian", sp.fit.parallax_mas.value, sp.fit.parallax_mas.sigma or 0.0), sp.catalogue)
+        for sp in run.stars), "stellar parallax from the campaign's astrometry (reduce parallax)")
 
 
 TITLE = "Stellar parallax: the distance of a nearby star"

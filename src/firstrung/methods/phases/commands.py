@@ -19,19 +19,14 @@ from firstrung.cli.common import (
     VerboseOption,
     check_site_id,
     console,
-    handles_errors,
+    finish_reduction,
+    print_assumptions,
     print_json,
-    report_left_out,
-    report_problems,
+    registers,
     simulation_range,
     write_simulated,
 )
 from firstrung.numbers import plural
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``phases`` to the ``plan`` group."""
-    group.command("phases")(handles_errors(plan_phases))
 
 
 def plan_phases(
@@ -123,11 +118,6 @@ def render_plan(data: dict, ics) -> None:
     out.print(f"  {data['caution']}")
 
 
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``phases`` to the ``reduce`` group."""
-    group.command("phases")(handles_errors(reduce_phases))
-
-
 def reduce_phases(
     campaign: CampaignArgument,
     json_output: JsonOption = False,
@@ -161,15 +151,7 @@ def reduce_phases(
                              fraction_sigma=fraction_sigma, fraction_zero_point_sigma=zero_point_sigma,
                              common_zero_point_sigma=common_zero_point_sigma)
     run = run_phases(campaign, settings, include_flagged=include_flagged)
-    data = phase_run_to_json(run)
-    if json_output:
-        print_json(data)
-    else:
-        render_reduction(data, verbose)
-    report_left_out(run.rows_left_out_flagged)
-    report_problems(run.problems)
-    if run.problems:
-        raise typer.Exit(2)
+    finish_reduction(run, phase_run_to_json(run), render=render_reduction, json_output=json_output, verbose=verbose)
 
 
 def _interval_text(q: dict, digits: int = 0) -> str:
@@ -220,15 +202,8 @@ def render_reduction(data: dict, verbose: bool) -> None:
     rows = data["rows"]
     out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {plural(rows['estimates'], 'estimate')}"
               + (f", {rows['refused']} refused" if rows["refused"] else ""))
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     out.print(f"  {data['caution']}")
-
-
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``phases`` to the ``simulate`` group."""
-    group.command("phases")(handles_errors(simulate_phases))
 
 
 def simulate_phases(
@@ -245,3 +220,8 @@ def simulate_phases(
     first, last = simulation_range(date_from, date_to)
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed)
     write_simulated(campaign, "phases", rows, LOG_COLUMNS, output, "half-moon rows")
+
+
+register_plan = registers("phases", plan_phases)
+register_reduce = registers("phases", reduce_phases)
+register_simulate = registers("phases", simulate_phases)

@@ -14,15 +14,15 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.csv_cells import cell_text, got, time_sigma_s
-from firstrung.errors import RowProblem
-from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
+from firstrung.log_record import TimedRows
+from firstrung.tabular import TIME_COLUMNS, Row, Slot, read_log
 
 #: Quarters of a half-moon timing.
 QUARTERS = ("first", "last")
 
 
 @dataclass(frozen=True)
-class PhaseLog(LogRows):
+class PhaseLog(TimedRows):
     """The good rows of half-moon logs and the problems found.
 
     Attributes
@@ -43,20 +43,11 @@ class PhaseLog(LogRows):
         As in :class:`ShadowLog`.
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     quarter: np.ndarray
     elongation_deg: np.ndarray
     illuminated_fraction: np.ndarray
     time_sigma_s: np.ndarray
     observer: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
 
 
 LOG_SLOTS = (

@@ -20,11 +20,11 @@ from firstrung.cli.common import (
     VerboseOption,
     check_site_id,
     console,
-    handles_errors,
     parse_date,
     parse_dates,
     parse_weekdays,
     print_json,
+    registers,
     report_left_out,
     report_problems,
     simulation_range,
@@ -32,11 +32,6 @@ from firstrung.cli.common import (
     write_simulated,
 )
 from firstrung.numbers import plural
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``shadows`` to the ``plan`` group."""
-    group.command("shadows")(handles_errors(plan_shadows))
 
 
 def plan_shadows(
@@ -185,11 +180,6 @@ def _render(run, days, caution: str, ics, site=None, sites_csv=None) -> None:
         out.print(f"  calendar written: {escape(str(ics))} ({plural(len(days), 'day')} x "
                   f"{plural(1 if site else len(plan.sites), 'site')})")
     out.print(f"  Caution: {caution}")
-
-
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``shadows`` to the ``reduce`` group."""
-    group.command("shadows")(handles_errors(reduce_shadows))
 
 
 def reduce_shadows(
@@ -383,11 +373,6 @@ def _escape(text: str) -> str:
     return escape(text)
 
 
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``shadows`` to the ``simulate`` group."""
-    group.command("shadows")(handles_errors(simulate_shadows))
-
-
 def simulate_shadows(
     campaign: CampaignArgument,
     date_from: FromOption,
@@ -439,3 +424,8 @@ def simulate_shadows(
     write_simulated(campaign, "shadows", rows, LOG_COLUMNS, output, "shadow readings")
     for b in chosen:
         console().print(f"  blunder injected: {SHADOW_BLUNDERS[b]}")
+
+
+register_plan = registers("shadows", plan_shadows)
+register_reduce = registers("shadows", reduce_shadows)
+register_simulate = registers("shadows", simulate_shadows)

@@ -21,6 +21,7 @@ from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
+from firstrung.log_record import TimedRows
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
@@ -38,7 +39,7 @@ from firstrung.methods.shadows.log_forms import (
     uses_forms,
 )
 from firstrung.open_sites import POSITION_SLOTS, without_refused_rows
-from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, LogRows, Row, Slot, Table, read_columns
+from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, Row, Slot, Table, read_columns
 from firstrung.times import quoted
 
 #: Largest accepted shadow length [m]; longer readings are typing errors.
@@ -64,7 +65,7 @@ _UNIT_WORDS = {"m": "metres", "cm": "centimetres", "mm": "millimetres"}
 
 
 @dataclass(frozen=True)
-class ShadowLog(LogRows):
+class ShadowLog(TimedRows):
     """The good rows of shadow logs, as equal-length arrays, and the problems found.
 
     Attributes
@@ -106,11 +107,6 @@ class ShadowLog(LogRows):
         problems: every reading in such a file is kept.
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     shadow_m: np.ndarray
     shadow_column: np.ndarray
     gnomon_m: np.ndarray
@@ -119,10 +115,6 @@ class ShadowLog(LogRows):
     pressure_hpa: np.ndarray
     observer: np.ndarray
     note: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
     #: The other forms (see :mod:`firstrung.methods.shadows.log_forms`): ``form`` is
     #: ``"length"``, ``"angle"`` or ``"trace"``; ``timed`` False for a trace without times
     #: (its ``time_utc`` is the date's mean noon); ``altitude_deg`` the angle as read, as an

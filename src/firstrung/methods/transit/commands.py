@@ -16,20 +16,16 @@ from firstrung.cli.common import (
     SeedOption,
     ToOption,
     VerboseOption,
+    budget_table,
     console,
-    handles_errors,
+    finish_reduction,
+    print_assumptions,
     print_json,
-    report_left_out,
-    report_problems,
+    registers,
     rows_line,
     simulation_range,
     write_simulated,
 )
-
-
-def register_plan(group: typer.Typer) -> None:
-    """Add ``transits`` to the ``plan`` group."""
-    group.command("transit")(handles_errors(plan_transits))
 
 
 def plan_transits(
@@ -99,15 +95,8 @@ def render_plan(data: dict, verbose: bool) -> None:
         out.print(view)
         for w in warnings if verbose or len(warnings) <= 8 else warnings[:8] + [f"... {len(warnings) - 8} more with --verbose"]:
             out.print(f"  {escape(w)}")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     out.print(f"  [bold]Safety:[/bold] {data['safety']}")
-
-
-def register_reduce(group: typer.Typer) -> None:
-    """Add ``transit`` to the ``reduce`` group."""
-    group.command("transit")(handles_errors(reduce_transit))
 
 
 def reduce_transit(
@@ -130,15 +119,7 @@ def reduce_transit(
 
     run = run_transit(campaign, include_flagged=include_flagged, black_drop_sigma_s=black_drop_sigma_s,
                       fit_clocks=not no_clock_offsets)
-    data = transit_run_to_json(run)
-    if json_output:
-        print_json(data)
-    else:
-        render_reduction(data, verbose)
-    report_left_out(run.rows_left_out_flagged)
-    report_problems(run.problems)
-    if run.problems:
-        raise typer.Exit(2)
+    finish_reduction(run, transit_run_to_json(run), render=render_reduction, json_output=json_output, verbose=verbose)
 
 
 def _interval(q: dict, digits: int) -> str:
@@ -148,9 +129,7 @@ def _interval(q: dict, digits: int) -> str:
 
 def render_reduction(data: dict, verbose: bool) -> None:
     """Rich tables for a transit reduction."""
-    from rich import box
     from rich.markup import escape
-    from rich.table import Table
 
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: the Sun's distance from timed transit contacts")
@@ -162,27 +141,15 @@ def render_reduction(data: dict, verbose: bool) -> None:
     out.print(f"  Sun's distance   {km['value'] / 1e6:.2f} million km   (68 % interval {km['low'] / 1e6:.2f} to {high})")
     out.print(f"                   {au['value']:.4f} au   (68 % interval {_interval(au, 4)})")
     out.print(f"  chi2 {data['chi2']:.1f} for {data['dof']} degrees of freedom")
-    budget = Table(title="Error budget of the solar parallax", box=box.SIMPLE_HEAD)
-    budget.add_column("source")
-    budget.add_column("sigma (arcsec)", justify="right")
-    for b in data["error_budget"]:
-        budget.add_row(b["source"], f"{b['sigma_arcsec']:.4f}")
-    out.print(budget)
+    out.print(budget_table("Error budget of the solar parallax", data["error_budget"], "sigma_arcsec", "arcsec", 4))
     rejected = [t for t in data["timings"] if not t["used"]]
     for t in rejected:
         out.print(f"  rejected: {escape(t['site'])} {t['event']} ({escape(t['file'])} row {t['row']}), "
                   f"{t['residual_s']:+.0f} s from the fit")
-    if verbose:
-        for a in data["assumptions"]:
-            out.print(f"  - {a}")
+    print_assumptions(out, data, verbose)
     rows = data["rows"]
     out.print(rows_line(rows, "used in the fit"))
     out.print(f"  [bold]Safety:[/bold] {data['safety']}")
-
-
-def register_simulate(group: typer.Typer) -> None:
-    """Add ``transit`` to the ``simulate`` group."""
-    group.command("transit")(handles_errors(simulate_transit))
 
 
 def simulate_transit(
@@ -200,3 +167,8 @@ def simulate_transit(
     first, last = simulation_range(date_from, date_to)
     rows = rehearsal_rows(read_campaign(campaign), first, last, seed, time_sigma_s=time_sigma_s)
     write_simulated(campaign, "transits", rows, LOG_COLUMNS, output, "transit timings")
+
+
+register_plan = registers("transit", plan_transits)
+register_reduce = registers("transit", reduce_transit)
+register_simulate = registers("transit", simulate_transit)

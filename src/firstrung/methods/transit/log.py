@@ -15,15 +15,15 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.csv_cells import cell_text, got, time_sigma_s
-from firstrung.errors import RowProblem
-from firstrung.tabular import TIME_COLUMNS, LogRows, Row, Slot, read_log
+from firstrung.log_record import TimedRows
+from firstrung.tabular import TIME_COLUMNS, Row, Slot, read_log
 
 #: The contacts in their canonical spelling.
 TRANSIT_EVENTS = ("C1", "C2", "C3", "C4")
 
 
 @dataclass(frozen=True)
-class TransitLog(LogRows):
+class TransitLog(TimedRows):
     """The good rows of transit logs and the problems found.
 
     Attributes
@@ -40,19 +40,10 @@ class TransitLog(LogRows):
         As for every log.
     """
 
-    file: np.ndarray
-    row: np.ndarray
-    site: np.ndarray
-    time_utc: np.ndarray
-    time_column: np.ndarray
     event: np.ndarray
     time_sigma_s: np.ndarray
     observer: np.ndarray
     note: np.ndarray
-    problems: tuple[RowProblem, ...] = ()
-    rows_read: int = 0
-    ignored_columns: tuple[str, ...] = ()
-    notes: tuple[str, ...] = ()
 
 
 LOG_SLOTS = (
