@@ -29,7 +29,7 @@ class EclipseLog(TimedRows):
     Attributes
     ----------
     file, row, site, time_utc, time_column
-        As in :class:`ShadowLog`.
+        As in :class:`~firstrung.log_record.TimedRows`.
     event : numpy.ndarray of str
         ``U1``-``U4`` (umbral contacts) or ``immersion``/``emersion``.
     feature : numpy.ndarray of object
@@ -39,7 +39,7 @@ class EclipseLog(TimedRows):
     observer : numpy.ndarray of object
         Free text; ``''`` when absent.
     problems, rows_read, ignored_columns, notes
-        As in :class:`ShadowLog`.
+        As in :class:`~firstrung.log_record.TimedRows`.
     """
 
     event: np.ndarray

@@ -28,7 +28,7 @@ class PhaseLog(TimedRows):
     Attributes
     ----------
     file, row, site, time_utc, time_column
-        As in :class:`ShadowLog`.
+        As in :class:`~firstrung.log_record.TimedRows`.
     quarter : numpy.ndarray of str
         ``first`` or ``last``.
     elongation_deg : numpy.ndarray of float
@@ -40,7 +40,7 @@ class PhaseLog(TimedRows):
     observer : numpy.ndarray of object
         Free text; ``''`` when absent.
     problems, rows_read, ignored_columns, notes
-        As in :class:`ShadowLog`.
+        As in :class:`~firstrung.log_record.TimedRows`.
     """
 
     quarter: np.ndarray

@@ -70,16 +70,8 @@ class ShadowLog(TimedRows):
 
     Attributes
     ----------
-    file : numpy.ndarray of str
-        Log file of each row, relative to the campaign's folder when possible.
-    row : numpy.ndarray of int
-        1-based data row in that file.
-    site : numpy.ndarray of str
-        Site id.
-    time_utc : numpy.ndarray of datetime64[ms]
-        Time of the reading, UTC.
-    time_column : numpy.ndarray of str
-        ``"time_utc"`` or ``"time_local"``: how the time was given.
+    file, row, site, time_utc, time_column
+        As in :class:`~firstrung.log_record.TimedRows` (``site``: the site id).
     shadow_m : numpy.ndarray of float
         Shadow length [m], converted from the column's unit.
     shadow_column : numpy.ndarray of str
@@ -94,17 +86,8 @@ class ShadowLog(TimedRows):
         Air pressure [hPa]; NaN when absent.
     observer, note : numpy.ndarray of object
         Free text; ``''`` when absent.
-    problems : tuple of RowProblem
-        Every rejected row or file.
-    rows_read : int
-        Data rows read, good and bad.
-    ignored_columns : tuple of str
-        Columns the reader does not know, in order of first appearance.
-    notes : tuple of str
-        One line per file read in a form other than the plain one (``;``
-        separators, decimal commas, UTF-16 ...), e.g.
-        ``"logs/a.csv: read as ';'-separated with decimal commas"``; not
-        problems: every reading in such a file is kept.
+    problems, rows_read, ignored_columns, notes
+        As in :class:`~firstrung.log_record.TimedRows`.
     """
 
     shadow_m: np.ndarray
