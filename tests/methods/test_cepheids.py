@@ -204,3 +204,33 @@ def test_period_alias_is_flagged():
     assert flags and flags[0].code == "period-alias"
     periods = sorted([flags[0].fields["period_days"], flags[0].fields["alias_period_days"]])
     assert periods[0] == pytest.approx(period, abs=0.01) and periods[1] == pytest.approx(5.35, abs=0.1)
+
+
+def test_the_check_and_the_reduction_fit_one_light_curve_once(tmp_path, capsys, monkeypatch):
+    """The reduction leaves out the check's flagged rows and fits the rest: with none flagged, the
+    check's fit of the main band's magnitudes is the reduction's, made once (and equal to a fresh fit)."""
+    import firstrung.methods.cepheids.reduction as reduction
+    from firstrung.methods.cepheids.log import julian_date_utc
+    from firstrung.methods.cepheids.run import run_cepheids
+
+    c = tmp_path / "c.toml"
+    c.write_text(CAMPAIGN)
+    assert run_cli(["simulate", "cepheids", c, "--from", "2027-09-01", "--to", "2027-09-30", "-o", tmp_path / "logs",
+                    "--seed", "3"], capsys, monkeypatch)[0] == 0
+    sizes = []
+    fit = reduction._fit_light_curve
+
+    def counted(t, *rest):
+        sizes.append(t.size)
+        return fit(t, *rest)
+
+    monkeypatch.setattr(reduction, "_RECENT_FITS", {})
+    monkeypatch.setattr(reduction, "_fit_light_curve", counted)
+    run = run_cepheids(c)
+    (star,) = run.stars
+    assert run.rows_left_out_flagged == 0 and sizes.count(star.rows.size) == 1
+    rows = star.rows
+    fresh = fit(julian_date_utc(run.log.time_utc[rows]), run.log.magnitude[rows].astype(float),
+                run.log.magnitude_sigma[rows].astype(float), reduction.MIN_PERIOD_D, reduction.MAX_PERIOD_D,
+                reduction.DEFAULT_HARMONICS)
+    assert 1.0 / fresh[0] == pytest.approx(star.fit.period_days.value, rel=1e-9)

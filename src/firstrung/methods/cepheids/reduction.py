@@ -119,16 +119,37 @@ def harmonics_for(n_points: int, wanted: int = DEFAULT_HARMONICS) -> int:
     return max(1, min(wanted, (n_points - 5) // 2))
 
 
+#: The last light-curve fits made in this process, by their inputs: the check and the reduction
+#: fit the same magnitudes, and the periodogram is the costly part (results are read, never changed).
+_RECENT_FITS: dict[bytes, tuple] = {}
+_RECENT_FITS_KEPT = 8
+
+
 def fit_light_curve(time_d, magnitude, sigma_mag, *, min_period_d: float = MIN_PERIOD_D,
                     max_period_d: float = MAX_PERIOD_D, harmonics: int = DEFAULT_HARMONICS):
     """Period (periodogram peak, then refined) and the Fourier light curve.
 
     Returns (frequency, its sigma, coefficients, their covariance, chi2, dof, scale, power,
-    fap, frequencies, periodogram, harmonics, time origin).
+    fap, frequencies, periodogram, harmonics, time origin). The same inputs give the same
+    tuple, computed once (its arrays are shared: read them, never change them).
     """
+    import hashlib
+
     t_all = np.asarray(time_d, dtype=float)
     y = np.asarray(magnitude, dtype=float)
     s = np.asarray(sigma_mag, dtype=float)
+    digest = hashlib.blake2b(repr((t_all.size, min_period_d, max_period_d, harmonics)).encode())
+    for a in (t_all, y, s):
+        digest.update(np.ascontiguousarray(a).tobytes())
+    key = digest.digest()
+    if key not in _RECENT_FITS:
+        if len(_RECENT_FITS) >= _RECENT_FITS_KEPT:
+            del _RECENT_FITS[next(iter(_RECENT_FITS))]
+        _RECENT_FITS[key] = _fit_light_curve(t_all, y, s, min_period_d, max_period_d, harmonics)
+    return _RECENT_FITS[key]
+
+
+def _fit_light_curve(t_all, y, s, min_period_d, max_period_d, harmonics):
     n = t_all.size
     if n < 6:
         raise ComputationError(f"a Cepheid's period needs at least 6 magnitudes, got {n}")
