@@ -72,7 +72,7 @@ def network_map_figure(latitude_deg, longitude_deg, flagged):
                                          edgecolors="0.5", linewidths=0.35, zorder=1 + 0.1 * k))
     ax.plot(lon[~bad], lat[~bad], "o", ms=2.5, color="C0", zorder=3, label=f"sites ({int((~bad).sum())})")
     if bad.any():
-        ax.plot(lon[bad], lat[bad], "x", ms=4, color="C3", zorder=4, label=f"flagged, left out ({int(bad.sum())})")
+        ax.plot(lon[bad], lat[bad], "x", ms=4, color="C3", zorder=4, label=f"not used ({int(bad.sum())})")
     ax.set_xlim(extent[0], extent[1])
     ax.set_ylim(extent[2], extent[3])
     ax.set_aspect("equal")

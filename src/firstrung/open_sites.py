@@ -279,6 +279,33 @@ def _refuse(group: list[_Mark], first_where: str, other: _Mark, apart_km: float,
     problems.extend(RowProblem(m.file, m.row, "latitude_deg", message) for m in group)
 
 
+def site_cells(campaign: Campaign, wanted) -> dict[tuple[str, int], str]:
+    """The ``site`` cell of each (file, row) in ``wanted``, read again from the shadow logs (for rows a
+    reader refused, whose school is still to be named). Rows without a site cell are left out."""
+    wanted = set(wanted)
+    files = {f for f, _ in wanted}
+    out: dict[tuple[str, int], str] = {}
+    for path in campaign.logs.get("shadows", ()):
+        label = display_name(Path(path), campaign)
+        if label not in files:
+            continue
+        table = _read_table(Path(path), label, (Slot(("site",)),), columnar=True)
+        column = table.chosen.get("site")
+        if column is None:
+            continue
+        chunks = getattr(table, "chunks", None)
+        if chunks is not None:
+            rows = ((chunk.numbers[k], chunk.cells_of(k)) for chunk in chunks for k in range(len(chunk.numbers)))
+        elif table.columns is not None:
+            rows = ((table.numbers[k], table.cells_of(k)) for k in range(len(table.numbers)))
+        else:
+            rows = ((number, cells) for number, cells in table.rows if cells)
+        for number, cells in rows:
+            if (label, int(number)) in wanted and cells.get(column, "").strip():
+                out[(label, int(number))] = cells.get(column, "").strip()
+    return out
+
+
 def refused_rows(campaign: Campaign) -> set[tuple[str, int]]:
     """(file, row) of every row the position check refused."""
     return {(p.file, p.row) for p in campaign.row_problems if p.row is not None}

@@ -34,6 +34,10 @@ class ShadowRun:
     network: object = None  # network_model.NetworkFit
     pairs: object = None  # pairs.NetworkPairs
     subsolar: dict | None = None  # site id -> (Measured or None, reason or None)
+    #: The check's flags of the log (empty with --include-flagged) and the log as read, flagged rows included:
+    #: what a school whose reading was not used is told (:mod:`firstrung.methods.shadows.unused`).
+    flags: tuple = ()
+    log: object = None  # log.ShadowLog
 
 
 def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
@@ -69,12 +73,13 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     if not campaign.logs.get("shadows"):
         raise InputError("the campaign file lists no shadow logs ([logs] shadows = [...])", file=str(campaign_path))
     log = read_shadow_logs(campaign)
-    left_out = 0
+    whole_log, flags, left_out = log, (), 0
     if not include_flagged:
         from firstrung.flags import without_error_rows
         from firstrung.methods.shadows.check import log_flags
 
-        log, left_out = without_error_rows(campaign, log, log_flags)
+        flags = tuple(log_flags(campaign, log))
+        log, left_out = without_error_rows(campaign, log, lambda *_: flags)
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
     if len(readings) == 0:
@@ -91,6 +96,7 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     return ShadowRun(
         campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes),
         network=network, pairs=network_pairs(reduction.sites, network.flagged), subsolar=site_subsolar(reduction.sites),
+        flags=flags, log=whole_log,
     )
 
 

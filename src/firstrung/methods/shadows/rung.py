@@ -138,11 +138,18 @@ def report_section(run, progress=lambda step: None) -> dict:
     figs["latitude"] = figures.latitude_line_figure(pos, lat, sig, [s.id for s in red.sites], out, intercept, slope)
     if network and run.pairs is not None and len(red.sites) > 1 and data.get("method") == "network":
         from firstrung.figures_network import network_map_figure, pairs_histogram_figure
+        from firstrung.methods.shadows.unused import unused_schools
 
-        figs["map"] = network_map_figure([s.latitude_deg for s in red.sites], [s.longitude_deg for s in red.sites], out)
+        # the schools whose reading was not used are on the map too (crosses), and thanked with the others
+        unused = [u for u in unused_schools(run) if u.site_id not in {s.id for s in red.sites}]
+        placed = [u for u in unused if u.latitude_deg is not None]
+        figs["map"] = network_map_figure([s.latitude_deg for s in red.sites] + [u.latitude_deg for u in placed],
+                                         [s.longitude_deg for s in red.sites] + [u.longitude_deg for u in placed],
+                                         np.r_[out, np.ones(len(placed), bool)])
         figs["pairs"] = pairs_histogram_figure(run.pairs.radius_km, run.pairs.flagged, red.earth_radius_km.value,
                                                red.expected_radius_km)
-        data = data | {"participants": sorted({s["name"] for s in data["sites"]}, key=str.lower)}
+        names = {s["name"] for s in data["sites"]} | {u.name for u in unused}
+        data = data | {"participants": sorted(names, key=str.lower), "schools_not_used": len(unused)}
     r = red.earth_radius_km
     value, interval = rounded(r.value, r.low, r.high, space=" ")
     expected = rounded(red.expected_radius_km, red.expected_radius_km - r.sigma, red.expected_radius_km + r.sigma)[0]
