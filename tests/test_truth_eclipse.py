@@ -197,7 +197,7 @@ def test_crater_timings_say_when_the_umbra_departs_from_the_convention(tmp_path,
     # Danjon's rule (Danjon 1951: the Moon's parallax enlarged by 1/100, the NASA canon's) gives
     # this eclipse's umbra about 1.4 % over the geometric shadow; an umbra 0.6 points larger biases
     # the distance inverted with Danjon's rule beyond the allowance its budget carries (half the
-    # Danjon-Chauvenet spread, 0.17 points): the reduction says so and by how much
+    # Danjon-Chauvenet spread, 0.20 points here): the reduction says so and by how much
     from firstrung.methods.eclipse.prediction import eclipse_near
     from firstrung.methods.eclipse.present import eclipse_run_to_json
     from firstrung.methods.eclipse.run import run_eclipse
@@ -224,3 +224,51 @@ def test_crater_timings_say_when_the_umbra_departs_from_the_convention(tmp_path,
         assert off < -0.3
     else:
         assert abs(off) < 0.08 and abs(against["distance_shift_percent"]) < 0.08
+
+
+def test_the_distance_keeps_the_convention_and_its_allowance_whatever_the_craters(tmp_path, sky):
+    # The umbra's radius is (1 + k) pi_M + pi_S - s_S (Danjon's rule, k = 0.01: Espenak & Meeus 2009, "Enlargement
+    # of Earth's Shadows"): an umbra 0.6 points larger is a thicker atmosphere or a nearer Moon, and no timing
+    # tells which. The craters' enlargement is measured against the ephemeris's parallax, so the distance
+    # never uses it: the reduction says it used the convention, carries the allowance (half the Danjon-Chauvenet
+    # spread) in its budget, and stays where Danjon's rule puts it (about -0.4 % from skyfield's DE421 Moon).
+    from firstrung.methods.eclipse.prediction import eclipse_near
+    from firstrung.methods.eclipse.present import eclipse_run_to_json
+    from firstrung.methods.eclipse.run import run_eclipse
+    from firstrung.methods.eclipse.umbra import umbra_radius_deg
+
+    e = eclipse_near(ECLIPSE)
+    pm, ps, ss = (float(x[0]) for x in (e.moon_parallax_deg, e.sun_parallax_deg, e.sun_semidiameter_deg))
+    geo = float(umbra_radius_deg(pm, ps, ss, "geometric"))
+    danjon = 100 * (1.01 * pm + ps - ss - geo) / geo  # Danjon's rule written out
+    chauvenet = 100 * (1.02 * (0.99834 * pm + ps - ss) - geo) / geo  # Chauvenet's (Espenak & Meeus 2009)
+    site = SITES["norte"]
+    rows = perfect_contact_rows(e, site[0], sigma_s=10.0) + _crater_rows(e, site[0], danjon + 0.6)
+    run = run_eclipse(write_campaign(tmp_path, [site], eclipse=rows))
+    (item,) = eclipse_run_to_json(run)["eclipses"]
+    used = item["distance_enlargement"]
+    assert used["used"] == "convention" and used["fitted_from_craters"] is False
+    assert used["convention_percent"] == pytest.approx(danjon, abs=0.01)
+    assert used["allowance_percent"] == pytest.approx(abs(chauvenet - danjon) / 2, abs=0.01)
+    d = item["moon_distance_earth_radii"]["value"]
+    (term,) = [b for b in item["reduction"]["error_budget"] if b["source"].startswith("umbra's enlargement")]
+    assert used["allowance_distance_percent"] == pytest.approx(100 * term["sigma_earth_radii"] / d, abs=0.001)
+    assert 0.1 < used["allowance_distance_percent"] < 0.2
+    assert item["umbra_enlargement_percent"]["value"] == pytest.approx(danjon + 0.6, abs=0.1)
+    truth = geocentric_distance_earth_radii(sky, e.greatest_utc[0])
+    assert -0.5 < 100 * (d / truth - 1) < -0.3
+
+
+def test_reduce_eclipse_says_which_enlargement_the_distance_used(tmp_path, capsys, monkeypatch):
+    from helpers import run_cli
+
+    from firstrung.methods.eclipse.prediction import eclipse_near
+
+    e = eclipse_near(ECLIPSE)
+    site = SITES["norte"]
+    path = write_campaign(tmp_path, [site], eclipse=perfect_contact_rows(e, site[0]) + _crater_rows(e, site[0], 1.4))
+    code, out, err = run_cli(["reduce", "eclipse", path], capsys, monkeypatch, columns=200)
+    assert code == 0, err
+    # Danjon's 1.01 pi_M over the geometric shadow this night (0.01 pi_M / (pi_M + pi_S - s_S), DE421 through
+    # the tool's prediction), and half the Danjon-Chauvenet spread (Espenak & Meeus 2009)
+    assert "distance's umbra     the danjon convention's 1.36±0.20 %, not the craters'" in out

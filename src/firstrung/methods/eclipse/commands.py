@@ -284,6 +284,11 @@ def render_eclipse(data: dict, verbose: bool) -> None:
             )
             if en["flattening"] is not None:
                 out.print(f"  shadow flattening    {_pm(en['flattening'], 4)}")
+            used = e["distance_enlargement"]
+            if used is not None:
+                out.print(f"  distance's umbra     the {used['convention']} convention's {used['convention_percent']:.2f}"
+                          f"±{used['allowance_percent']:.2f} %, not the craters': they fix the enlargement and the "
+                          "distance only together")
             against = e["enlargement_against_convention"]
             if against["departs"]:
                 out.print(f"  the umbra departs from the {against['convention']} convention by "

@@ -7,7 +7,7 @@ import numpy as np
 from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import time_z as _time
-from firstrung.methods.eclipse.umbra import enlargement_against_convention
+from firstrung.methods.eclipse.umbra import distance_enlargement, enlargement_against_convention
 
 #: Contacts in the plan's ``contacts_utc`` (DESIGN section 4).
 _CONTACTS = ("P1", "U1", "U2", "U3", "U4", "P4")
@@ -137,6 +137,15 @@ def _enlargement_json(f) -> dict:
     }
 
 
+def _distance_enlargement(res, convention: str) -> dict:
+    """The enlargement the distance used (the convention) and its allowance, at the parallax found."""
+    r, e = res.reduction, res.eclipse
+    d = r.moon_distance_earth_radii.value
+    allowance = [b.sigma for b in r.budget if b.source.startswith("umbra's enlargement")]
+    return distance_enlargement(r.moon_parallax_arcmin.value / 60.0, e.sun_parallax_deg, e.sun_semidiameter_deg,
+                                convention, 100.0 * allowance[0] / d if allowance else None)
+
+
 def eclipse_run_to_json(run) -> dict:
     """The ``reduce eclipse`` result (DESIGN section 4 keys under ``eclipses[]``)."""
     items = []
@@ -158,6 +167,7 @@ def eclipse_run_to_json(run) -> dict:
                 "reduction_problem": res.reduction_problem,
                 "enlargement": None if en is None else _enlargement_json(en),
                 "enlargement_problem": res.enlargement_problem,
+                "distance_enlargement": None if red is None else _distance_enlargement(res, run.convention),
                 "enlargement_against_convention": None if en is None else enlargement_against_convention(
                     en.enlargement_percent.value, en.enlargement_percent.sigma, e.moon_parallax_deg,
                     e.sun_parallax_deg, e.sun_semidiameter_deg, run.convention),

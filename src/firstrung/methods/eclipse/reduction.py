@@ -162,7 +162,9 @@ def reduce_eclipse_timings(
     (the result goes roughly as rate^-1.45 and radius^+0.72, DESIGN 7); the
     convention term is half the spread between Danjon's and Chauvenet's
     parallax for the same umbra (the enlargement differs from eclipse to
-    eclipse).
+    eclipse). Crater timings do not replace it: they fix the umbra's radius,
+    ``(1 + k) pi_M + pi_S - s_S``, so the enlargement k and the parallax
+    only together (:func:`~firstrung.methods.eclipse.umbra.distance_enlargement`).
 
     Examples
     --------
@@ -223,7 +225,9 @@ def reduce_eclipse_timings(
     mag = (sol.umbra_radius_deg + sm - d_abs) / (2 * sm)
     var_mag = (sol.covariance[2, 2] + sol.covariance[1, 1] - 2 * np.sign(sol.least_distance_deg) * sol.covariance[1, 2]) / (2 * sm) ** 2
     notes = list(assumptions) + [
-        f"umbra radius inverted with the {convention} convention",
+        f"umbra radius inverted with the {convention} convention, crater timings or not; this eclipse's own "
+        "departure from it is an error of half the Danjon-Chauvenet spread: the timings fix the umbra's radius, "
+        "the enlargement and the Moon's parallax only together",
         "the Moon's track is straight and uniform across a circular umbra; central passage not assumed",
         "distance in Earth equatorial radii (the conventions' parallax is asin(a / d))",
     ]

@@ -117,6 +117,45 @@ def shadow_rate_from_sky_rate_deg_per_h(moon_sky_rate_deg_per_h):
     return np.asarray(moon_sky_rate_deg_per_h, dtype=float) - SUN_MEAN_RATE_DEG_PER_H
 
 
+#: Why crater timings never replace the convention in the distance (said in the output).
+NOT_SEPARABLE = ("the timings measure the umbra's radius, (1 + k) pi_M + pi_S - s_S: the atmosphere's enlargement k and "
+                 "the Moon's parallax pi_M only as their product, never apart; the craters' enlargement is measured "
+                 "against the ephemeris's parallax, and the distance inverted with it is the ephemeris's whatever the "
+                 "timings, so it is a check, never applied")
+
+
+def distance_enlargement(moon_parallax_deg, sun_parallax_deg, sun_semidiameter_deg, convention="danjon",
+                         allowance_distance_percent=None) -> dict:
+    """Which enlargement the distance used: always the convention, with its allowance, crater timings or not.
+
+    One eclipse's timings cannot fit the enlargement for the distance: the
+    umbra's radius is ``(1 + k) pi_M + pi_S - s_S`` (Danjon's k = 0.01), so a
+    larger umbra is a nearer Moon or a thicker shadow-casting atmosphere and
+    no chord or crater timing tells which (:data:`NOT_SEPARABLE`). The
+    convention is inverted and the eclipse's own departure from it is carried
+    as an error: half the Danjon-Chauvenet spread (``allowance_percent`` in
+    points of enlargement over the geometric shadow at ``moon_parallax_deg``;
+    ``allowance_distance_percent`` what it costs the distance, from its budget).
+
+    >>> d = distance_enlargement(0.9, 8.8 / 3600, 0.27)
+    >>> d["used"], d["convention_percent"], d["allowance_percent"]
+    ('convention', 1.423, 0.168)
+    """
+    _check_convention(convention)
+    pm, ps, ss = (float(np.asarray(x, dtype=float).ravel()[0]) for x in (moon_parallax_deg, sun_parallax_deg, sun_semidiameter_deg))
+    geo = float(umbra_radius_deg(pm, ps, ss, "geometric"))
+    ru = {c: float(umbra_radius_deg(pm, ps, ss, c)) for c in CONVENTIONS}
+    return {
+        "used": "convention",
+        "convention": convention,
+        "convention_percent": round(100.0 * (ru[convention] / geo - 1.0), 4),
+        "allowance_percent": round(100.0 * abs(ru["chauvenet"] - ru["danjon"]) / 2.0 / geo, 4),
+        "allowance_distance_percent": None if allowance_distance_percent is None else round(float(allowance_distance_percent), 4),
+        "fitted_from_craters": False,
+        "why": NOT_SEPARABLE,
+    }
+
+
 def enlargement_against_convention(measured_percent, measured_sigma_percent, moon_parallax_deg, sun_parallax_deg,
                                    sun_semidiameter_deg, convention="danjon") -> dict:
     """The umbra's enlargement measured from crater timings against the convention's, and what it means.
@@ -129,7 +168,8 @@ def enlargement_against_convention(measured_percent, measured_sigma_percent, moo
     bias the budget does not hold: ``distance_shift_percent`` is how far the
     distance inverted with the convention falls from the truth for an umbra
     as the craters measured it (with the ephemeris's parallaxes, so it is a
-    diagnosis, never applied to the result).
+    diagnosis, never applied to the result: applied, it would give the
+    ephemeris's distance whatever the timings, :data:`NOT_SEPARABLE`).
 
     >>> d = enlargement_against_convention(2.0, 0.05, 0.9, 8.8 / 3600, 0.27)   # Danjon's is 1.42 % here
     >>> d["difference_percent"], d["allowance_percent"], d["distance_shift_percent"], d["departs"]
