@@ -6,7 +6,10 @@ import numpy as np
 
 from firstrung.flags import Flag, KindCheck, problem_flags, timing_mismatch_flag, zone_offset_h
 
-#: A half moon judged by eye is often 30-60 min off; beyond this it is not a judgement error [s].
+#: Beyond this a half-moon timing is flagged as a warning (kept in the reduction) [s]: mostly a clock on
+#: another zone. By eye the half moon is good to hours, 2 h one sigma assumed (``PhaseSettings``: the
+#: terminator bows by only about 4" half an hour away), so an honest judgement passes it now and then;
+#: the warning asks to check the clock, it does not call the judgement wrong.
 HALF_MOON_TOLERANCE_S = 3.0 * 3600.0
 
 

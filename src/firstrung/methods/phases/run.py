@@ -305,11 +305,11 @@ class PhaseSettings:
         Error of judging "exactly half lit", for rows without ``time_sigma_s``
         [s]. By eye the half moon is good to hours: the terminator is
         straight at half moon and bows by only about 4" half an hour away
-        (the Moon's 933" radius times sin 0.25 deg), while the eye resolves
-        about 1', reached some 7 h away; 2 h is assumed (common practice).
-        The judgement is shared by everyone who looks at the same Moon: the
-        smallest judgement error among a quarter's observers is common to all
-        of them and does not average down.
+        (the Moon's 933" radius times sin 0.25 deg); the eye resolves about 1'
+        (7 h away) and judges a line's straightness a few times finer, about
+        15" (from memory), reached 2 h away: 2 h is assumed. The judgement is
+        shared by all who look at the same Moon: the smallest judgement error
+        among a quarter's observers is common to them and does not average down.
     fraction_sigma : float
         Error of an illuminated fraction measured on an image [1].
     fraction_zero_point_sigma : float
@@ -609,7 +609,7 @@ def run_phases(campaign_path, settings: PhaseSettings = PhaseSettings(), *, incl
         assumptions.append(
             f"{defaulted_time} row(s) without time_sigma_s: judging the half moon by eye to "
             f"{settings.time_sigma_s / 60:g} min assumed (option; the terminator bows by only 4\" half an hour "
-            "from half moon, the eye resolves about 1')"
+            "from half moon, and by the 15\" an eye judges a line's straightness to about 2 h from it)"
         )
     accepted = int(keep.sum())
     return PhaseRun(
