@@ -72,6 +72,9 @@ def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
     by_site: dict[str, list[dict]] = {}
     for f in flags:
         by_site.setdefault(f["site"] or "(no site)", []).append(f)
+    if not verbose and len(by_site) > FLAGGED_SITES_SHOWN:
+        _flag_digest(out, flags, len(by_site))
+        by_site = {}
     for site, items in by_site.items():
         table = Table(title=f"Site {escape(site)}: {len(items)} flag{'s' if len(items) != 1 else ''}",
                       box=box.SIMPLE_HEAD, title_justify="left")
@@ -115,6 +118,62 @@ def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:
 
 #: Rows of the per-site summary shown without --verbose.
 SUMMARY_ROWS_SHOWN = 40
+#: Sites whose flags are shown one section each without --verbose; more are summed up (:func:`_flag_digest`).
+FLAGGED_SITES_SHOWN = 12
+#: Rows shown as the worst ones when the flags are summed up.
+WORST_ROWS_SHOWN = 10
+
+
+def worst_rows(flags: list[dict], count: int = WORST_ROWS_SHOWN) -> list[list[dict]]:
+    """The ``count`` worst flagged rows, each as its list of flags: rows with an error first, then the
+    largest deviation in sigma (an outlier's ``sigma``), then rows with more flags, then file order.
+
+    >>> f = [{"file": "a", "row": 1, "severity": "warning"}, {"file": "a", "row": 2, "severity": "error"},
+    ...      {"file": "a", "row": 3, "severity": "error", "sigma": 9.0}]
+    >>> [r[0]["row"] for r in worst_rows(f, 2)]
+    [3, 2]
+    """
+    rows: dict[tuple, list[dict]] = {}
+    for f in flags:
+        rows.setdefault((f["file"], f["row"]), []).append(f)
+    order = sorted(enumerate(rows.values()), key=lambda item: (
+        not any(f["severity"] == "error" for f in item[1]),
+        -max((abs(f.get("sigma") or 0.0) for f in item[1]), default=0.0), -len(item[1]), item[0]))
+    return [items for _, items in order[:count]]
+
+
+def _flag_digest(out, flags: list[dict], sites: int) -> None:
+    """Many flagged sites: the count of each code (errors, warnings, sites) and the worst rows, not a
+    section per site (--verbose gives those; --json lists every flag)."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    codes: dict[str, dict] = {}
+    for f in flags:
+        c = codes.setdefault(f["code"], {"error": 0, "warning": 0, "sites": set()})
+        c[f["severity"]] = c.get(f["severity"], 0) + 1
+        c["sites"].add(f["site"])
+    table = Table(title=f"Flags by code: {plural(len(flags), 'flag')} at {plural(sites, 'site')}",
+                  box=box.SIMPLE_HEAD, title_justify="left")
+    for col in ("code", "errors", "warnings", "sites"):
+        table.add_column(col, justify="left" if col == "code" else "right", no_wrap=True)
+    for code, c in sorted(codes.items(), key=lambda kv: (-kv[1]["error"], -kv[1]["warning"], kv[0])):
+        table.add_row(code, f"{c['error']:,}", f"{c['warning']:,}", f"{len(c['sites']):,}")
+    out.print(table)
+    worst = worst_rows(flags)
+    table = Table(title=f"The {len(worst)} worst rows (errors first, the farthest off in sigma first)",
+                  box=box.SIMPLE_HEAD, title_justify="left")
+    table.add_column("file:row", no_wrap=True)
+    table.add_column("codes (errors first) and the first one's diagnosis")
+    for items in worst:
+        items = sorted(items, key=lambda f: f["severity"] != "error")  # stable: the check's order otherwise
+        where = items[0]["file"] + (f":{items[0]['row']}" if items[0]["row"] is not None else "")
+        table.add_row(escape(where), ", ".join(f"{f['code']} ({f['severity']})" for f in items) + "\n"
+                      + escape(items[0]["message"]))
+    out.print(table)
+    out.print(f"  {plural(sites, 'site')} with flags: --verbose shows each site's flags, --json lists every "
+              "flag, --accepted FILE writes every row with its status")
 
 
 def _summary_shown(rows: list[dict], verbose: bool) -> tuple[list[dict], int, int]:
