@@ -20,6 +20,7 @@ from firstrung.cli.common import (
     check_site_id,
     console,
     finish_reduction,
+    interval_text,
     print_assumptions,
     print_json,
     registers,
@@ -233,10 +234,6 @@ def _pm(q: dict | None, digits: int) -> str:
     return f"{q['value']:.{digits}f}±{q['sigma']:.{digits}f}"
 
 
-def _interval(q: dict, digits: int) -> str:
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    return f"{q['low']:.{digits}f} to {high}"
-
 
 def render_eclipse(data: dict, verbose: bool) -> None:
     """Rich tables for an eclipse reduction."""
@@ -257,12 +254,12 @@ def render_eclipse(data: dict, verbose: bool) -> None:
         if e["reduction"] is not None:
             r = e["reduction"]
             n, d = e["shadow_moon_ratio"], e["moon_distance_earth_radii"]
-            out.print(f"  shadow / Moon ratio  {_pm(n, 3)}   (68 % interval {_interval(n, 3)})")
+            out.print(f"  shadow / Moon ratio  {_pm(n, 3)}   (68 % interval {interval_text(n, 3)})")
             out.print(f"  umbra radius         {_pm(r['umbra_radius_arcmin'], 2)}′   Moon's parallax {_pm(r['moon_parallax_arcmin'], 2)}′")
-            out.print(f"  Moon's distance      {_pm(d, 2)} Earth radii   (68 % interval {_interval(d, 2)})")
+            out.print(f"  Moon's distance      {_pm(d, 2)} Earth radii   (68 % interval {interval_text(d, 2)})")
             if e["moon_distance_km"] is not None:
                 k = e["moon_distance_km"]
-                out.print(f"                       {_pm(k, 0)} km   (68 % interval {_interval(k, 0)}; Earth radius {data['earth_radius_source']})")
+                out.print(f"                       {_pm(k, 0)} km   (68 % interval {interval_text(k, 0)}; Earth radius {data['earth_radius_source']})")
             modern = e["modern"]["moon_distance_earth_radii"]
             z = (d["value"] - modern) / d["sigma"] if d["sigma"] else float("nan")
             out.print(f"  the ephemeris gives {modern:.3f} Earth radii at greatest eclipse ({z:+.1f} sigma)")

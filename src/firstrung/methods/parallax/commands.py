@@ -20,6 +20,7 @@ from firstrung.cli.common import (
     console,
     figure_path,
     finish_reduction,
+    interval_text,
     print_assumptions,
     print_json,
     registers,
@@ -104,11 +105,6 @@ def reduce_parallax(
                      draw=lambda: parallax_ellipse_figure([(s.star.name, s.fit) for s in run.stars]), render=render_reduction)
 
 
-def _interval(q: dict, digits: int) -> str:
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    low = "?" if q["low"] is None else f"{q['low']:.{digits}f}"
-    return f"{low} to {high}"
-
 
 def render_reduction(data: dict, verbose: bool) -> None:
     """Rich tables for a parallax reduction."""
@@ -121,9 +117,9 @@ def render_reduction(data: dict, verbose: bool) -> None:
         out.print(f"  [bold]{escape(s['name'])}[/bold]: {len(s['epochs'])} epochs over {s['span_days']:.0f} days")
         out.print(f"    parallax       {p['value']:.2f} ± {p['sigma']:.2f} mas")
         value = "undetermined" if d["value"] is None else f"{d['value']:.2f}"
-        out.print(f"    distance       {value} pc   (68 % interval {_interval(d, 2)})")
+        out.print(f"    distance       {value} pc   (68 % interval {interval_text(d, 2)})")
         if ly["value"] is not None:
-            out.print(f"                   {ly['value']:.2f} light years   (68 % interval {_interval(ly, 2)})")
+            out.print(f"                   {ly['value']:.2f} light years   (68 % interval {interval_text(ly, 2)})")
         out.print(f"    proper motion  {s['proper_motion_ra_mas_per_yr']['value']:+.1f} mas/yr in RA, "
                   f"{s['proper_motion_dec_mas_per_yr']['value']:+.1f} mas/yr in Dec")
         cat = s["catalogue"]

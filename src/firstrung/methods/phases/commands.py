@@ -20,6 +20,7 @@ from firstrung.cli.common import (
     check_site_id,
     console,
     finish_reduction,
+    interval_text,
     print_assumptions,
     print_json,
     registers,
@@ -154,12 +155,6 @@ def reduce_phases(
     finish_reduction(run, phase_run_to_json(run), render=render_reduction, json_output=json_output, verbose=verbose)
 
 
-def _interval_text(q: dict, digits: int = 0) -> str:
-    if q["low"] is None:
-        return "any value"
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    return f"{q['low']:.{digits}f} to {high}"
-
 
 def render_reduction(data: dict, verbose: bool) -> None:
     from rich import box
@@ -185,20 +180,20 @@ def render_reduction(data: dict, verbose: bool) -> None:
     for x in data["estimates"]:
         table.add_row(x["kind"], escape(x["site"]), x["quarter"], x["time_utc"][:16].replace("T", " "),
                       f"{x['minutes_from_site_dichotomy']:+.0f}", f"{x['elongation_deg']['value']:.3f}",
-                      f"{x['elongation_deg']['sigma'] * 60:.1f}", _interval_text(x["sun_moon_distance_ratio"]))
+                      f"{x['elongation_deg']['sigma'] * 60:.1f}", interval_text(x["sun_moon_distance_ratio"], 0, 'any value'))
     out.print(table)
     for kind, c in data["by_kind"].items():
         out.print(f"  {kind}: E = {c['elongation_deg']['value']:.4f} ± {c['elongation_deg']['sigma']:.4f} deg, "
-                  f"ratio {_interval_text(c['sun_moon_distance_ratio'])} ({plural(c['estimates'], 'estimate')})")
+                  f"ratio {interval_text(c['sun_moon_distance_ratio'], 0, 'any value')} ({plural(c['estimates'], 'estimate')})")
     i = data["interval_method"]
     if i is not None:
         u = i["uncorrected"]
         out.print(f"  interval method ({i['first_to_last']} first-to-last, {i['last_to_first']} last-to-first intervals):")
         perfect = "no finite value" if u["perfect_timings_ratio"] is None else f"{u['perfect_timings_ratio']:.0f}"
-        out.print(f"    uniform lunar motion: ratio {_interval_text(u['sun_moon_distance_ratio'])}; "
+        out.print(f"    uniform lunar motion: ratio {interval_text(u['sun_moon_distance_ratio'], 0, 'any value')}; "
                   f"perfect timings of these half moons would give {perfect}")
         if i["corrected"] is not None:
-            out.print(f"    corrected with the ephemeris's lunar motion: ratio {_interval_text(i['corrected']['sun_moon_distance_ratio'])}")
+            out.print(f"    corrected with the ephemeris's lunar motion: ratio {interval_text(i['corrected']['sun_moon_distance_ratio'], 0, 'any value')}")
     rows = data["rows"]
     out.print(f"  rows: {rows['read']} read, {rows['accepted']} accepted, {plural(rows['estimates'], 'estimate')}"
               + (f", {rows['refused']} refused" if rows["refused"] else ""))

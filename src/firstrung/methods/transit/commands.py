@@ -19,6 +19,7 @@ from firstrung.cli.common import (
     budget_table,
     console,
     finish_reduction,
+    interval_text,
     print_assumptions,
     print_json,
     registers,
@@ -122,10 +123,6 @@ def reduce_transit(
     finish_reduction(run, transit_run_to_json(run), render=render_reduction, json_output=json_output, verbose=verbose)
 
 
-def _interval(q: dict, digits: int) -> str:
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    return f"{q['low']:.{digits}f} to {high}"
-
 
 def render_reduction(data: dict, verbose: bool) -> None:
     """Rich tables for a transit reduction."""
@@ -139,7 +136,7 @@ def render_reduction(data: dict, verbose: bool) -> None:
     out.print(f"  solar parallax   {p['value']:.3f} ± {p['sigma']:.3f}\"   (modern 8.794\")")
     high = "no upper bound" if km["high"] is None else f"{km['high'] / 1e6:.2f}"
     out.print(f"  Sun's distance   {km['value'] / 1e6:.2f} million km   (68 % interval {km['low'] / 1e6:.2f} to {high})")
-    out.print(f"                   {au['value']:.4f} au   (68 % interval {_interval(au, 4)})")
+    out.print(f"                   {au['value']:.4f} au   (68 % interval {interval_text(au, 4)})")
     out.print(f"  chi2 {data['chi2']:.1f} for {data['dof']} degrees of freedom")
     out.print(budget_table("Error budget of the solar parallax", data["error_budget"], "sigma_arcsec", "arcsec", 4))
     rejected = [t for t in data["timings"] if not t["used"]]
