@@ -161,9 +161,7 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
     except ValueError:  # a NUL character in the path
         raise InputError("not a usable file name (it holds a NUL character)", file=label) from None
     if data.startswith((b"PK\x03\x04", b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1")):
-        raise InputError(
-            "a ZIP archive or office document, not a campaign file (TOML text)", file=label
-        )
+        raise InputError("a ZIP archive or office document, not a campaign file (TOML text)", file=label)
     if data.startswith((b"\xff\xfe", b"\xfe\xff", b"\x00\x00\xfe\xff")):
         kind = "UTF-32" if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")) else "UTF-16"
         raise InputError(f"{kind} text; save the campaign file as UTF-8", file=label)
@@ -190,7 +188,7 @@ def read_campaign(path: str | os.PathLike[str]) -> Campaign:
 _READ: dict[tuple[str, bytes], Campaign] = {}
 
 
-def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> Campaign:
+def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, allow_no_sites: bool = False) -> Campaign:
     """Check the text of a campaign file.
 
     Parameters
@@ -202,6 +200,8 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
         default campaign name (its stem) and the folder log paths are
         relative to. Without it, messages say ``<campaign>``, the default
         name is ``campaign`` and log paths stay as written.
+    allow_no_sites : bool, optional
+        Accept no site, star or shadow log yet (an open network that schools join on line).
 
     Returns
     -------
@@ -254,7 +254,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None) -> 
     baselines = reader.baselines(document.get("baseline"), sites)
     folder = Path(".") if file_path is None else file_path.parent
     logs = reader.logs(document.get("logs"), folder if file_path is not None else None)
-    if not sites and not stars and not logs["shadows"]:  # open networks: the shadow logs' rows may give the sites
+    if not sites and not stars and not logs["shadows"] and not allow_no_sites:  # open networks: the shadow logs' rows may give the sites
         raise reader.error(None, _NO_SITES)
     eclipse = reader.eclipse(document.get("eclipse"))
     date_order = reader.date_order(document.get("logs"))

@@ -29,6 +29,9 @@ def serve(
     public_url: Annotated[str | None, typer.Option("--public-url", help="The address observers use, e.g. "
                                                    "https://obs.example.org/readings behind a TLS proxy; the "
                                                    "links start with it.", show_default=False)] = None,
+    join: Annotated[bool | None, typer.Option("--join/--no-join", help="Serve an open network's join link, where "
+                                              "a school registers and gets its own link (default: on when the "
+                                              "campaign declares no [[site]]).", show_default=False)] = None,
 ) -> None:
     """Collect readings on line: a form per log for each site's link, the check's verdict at once."""
     from firstrung.collect.server import serve as run
@@ -38,4 +41,5 @@ def serve(
         console(stderr=True).print(f"firstrung serve: listening on {host} port {bound_port}; {where}; "
                                    "Ctrl+C stops", soft_wrap=True)
 
-    run(campaign, host=host, port=port, store=store, links_path=links, public_url=public_url, on_listening=listening)
+    run(campaign, host=host, port=port, store=store, links_path=links, public_url=public_url, on_listening=listening,
+        join=join)

@@ -10,6 +10,8 @@ Routes (the design's section 3, "Collecting readings on line"):
 ``GET  /c/<token>/readings.csv``    every reading ever stored, withdrawn ones marked
 ``GET  /c/<token>/check.json``      the check of the downloaded logs, as ``firstrung check --json`` gives flags
 ``POST /c/<token>/withdraw``        mark a reading withdrawn (kept, never deleted)
+``GET  /j/<token>``                 an open network's join page (:mod:`firstrung.collect.join`)
+``POST /j/<token>``                 a school joins: 201 with its own site link, 4xx refused naming the field
 
 An unknown token gets 404 and stores nothing; repeated unknown tokens from one
 client get 429. Answers are JSON when the request accepts ``application/json``.
@@ -22,8 +24,8 @@ import csv
 import datetime as dt
 import io
 import json
+import shutil
 import tempfile
-import time
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import replace
 from pathlib import Path
@@ -31,51 +33,29 @@ from urllib.parse import parse_qsl
 
 from starlette.applications import Starlette
 from starlette.requests import Request
-from starlette.responses import HTMLResponse, JSONResponse, PlainTextResponse, Response
+from starlette.responses import PlainTextResponse, Response
 from starlette.routing import Route
 
 from firstrung.collect import forms as form_fields
 from firstrung.collect.export import formula_safe, log_csv
 from firstrung.collect.kinds import LogKind, log_kind
+from firstrung.collect.schools import School, serving_campaign
 from firstrung.collect.store import Store
-from firstrung.collect.tokens import TokenBook, form_token, form_token_ok, new_form_id
+from firstrung.collect.tokens import Holder, TokenBook, form_token, form_token_ok, new_form_id
 from firstrung.collect.verdict import Judge, Submission
+from firstrung.collect.web import BODY_LIMIT_BYTES, SECURITY_HEADERS, Buckets, read_body, read_form, wants_json
+from firstrung.collect.web import answer as _answer
+from firstrung.collect.web import client_of as _client
 
-#: Largest request body accepted [bytes]; a reading is a few hundred.
-BODY_LIMIT_BYTES = 16 * 1024
 #: Posts per link: a burst of this many, then one every RATE_REFILL_S seconds (a site sends a reading a minute).
 RATE_BURST = 30
 RATE_REFILL_S = 2.0
 #: Unknown tokens per client: a burst, then one every BAD_TOKEN_REFILL_S (guessing a 256-bit token is hopeless anyway).
 BAD_TOKEN_BURST = 20
 BAD_TOKEN_REFILL_S = 5.0
-
-SECURITY_HEADERS = {
-    "Content-Security-Policy": "default-src 'none'; style-src 'unsafe-inline'; form-action 'self'; "
-                               "frame-ancestors 'none'; base-uri 'none'",
-    "X-Content-Type-Options": "nosniff",
-    "Referrer-Policy": "no-referrer",  # the token is in the address: never send it on
-    "Cache-Control": "no-store",
-    "X-Frame-Options": "DENY",
-}
-
-
-class Buckets:
-    """Token buckets by key (rate limits)."""
-
-    def __init__(self, burst: int, refill_s: float) -> None:
-        self.burst, self.refill_s = burst, refill_s
-        self._state: dict[str, tuple[float, float]] = {}
-
-    def take(self, key: str) -> bool:
-        now = time.monotonic()
-        level, last = self._state.get(key, (float(self.burst), now))
-        level = min(float(self.burst), level + (now - last) / self.refill_s)
-        if level < 1.0:
-            self._state[key] = (level, now)
-            return False
-        self._state[key] = (level - 1.0, now)
-        return True
+#: Joins per address: a burst (a class joining its schools from one network), then one every JOIN_REFILL_S seconds.
+JOIN_BURST = 10
+JOIN_REFILL_S = 30.0
 
 
 def _environment():
@@ -91,23 +71,54 @@ def _environment():
 class Collection:
     """The state of one running collection point: campaign, kinds, store, tokens, the writer and its queue."""
 
-    def __init__(self, campaign_path, store_path, kinds: tuple[str, ...]) -> None:
-        from firstrung.campaign import read_campaign
-
-        self.campaign = read_campaign(campaign_path)
+    def __init__(self, campaign_path, store_path, kinds: tuple[str, ...], join: bool = False,
+                 public_base: str | None = None) -> None:
+        self.campaign = serving_campaign(campaign_path)
         self.kinds: dict[str, LogKind] = {k: log_kind(k) for k in kinds}
+        #: The kinds whose rows may carry their own site (open networks): the only ones a school sends.
+        self.positional = {k: v for k, v in self.kinds.items() if v.slot_of("latitude_deg") is not None}
         self.store = Store(store_path)
         self.key = self.store.secret()
         self.coordinator_token, self.site_tokens = self.store.links(self.campaign.site_ids)
         self.book = TokenBook(self.coordinator_token, self.site_tokens)
+        self.public_base = public_base.rstrip("/") if public_base else None
+        self.join_token = self.store.join_token() if join and self.positional else None
+        if self.join_token is not None:
+            self.book.add(self.join_token, Holder("join", None))
         self.sites = {s.id: s for s in self.campaign.sites}
         self.judge = Judge(self.campaign)
+        self.schools: dict[str, School] = {}
+        self.school_tokens: dict[str, str] = {}
+        for school_id, name, cells, token, _, joined in self.store.schools():
+            self.know_school(School(school_id, name, cells, joined), token)
+        self.joins = Buckets(JOIN_BURST, JOIN_REFILL_S)
+        self.join_folder = Path(tempfile.mkdtemp(prefix="firstrung-join-"))
         self.writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="store-writer")
         self.queue: asyncio.Queue | None = None
         self.env = _environment()
         self.post_limits = Buckets(RATE_BURST, RATE_REFILL_S)
         self.bad_tokens = Buckets(BAD_TOKEN_BURST, BAD_TOKEN_REFILL_S)
         self._check_cache: tuple[tuple, dict] | None = None
+
+    # --- schools of an open network ----------------------------------------------------------------
+
+    def know_school(self, school: School, token: str) -> None:
+        """Serve a school that joined: its link, its page, its readings checked at its own position."""
+        site = school.site()
+        self.schools[school.id] = school
+        self.school_tokens[school.id] = token
+        self.sites[school.id] = site
+        self.book.add(token, Holder("site", school.id))
+        self.judge.zones[school.id] = site.timezone
+        self.judge.campaign = replace(self.judge.campaign, sites=self.judge.campaign.sites + (site,))
+
+    def kinds_of(self, site_id: str) -> dict[str, LogKind]:
+        """The kinds of log a site sends: every collected kind, or for a school those that carry a position."""
+        return self.positional if site_id in self.schools else self.kinds
+
+    def base_url(self, request: Request) -> str:
+        """Where the links start: ``--public-url`` (or the address bound), else as the request came."""
+        return self.public_base or str(request.base_url).rstrip("/")
 
     # --- the writer: batches of submissions, read, checked and stored in one thread ----------------
 
@@ -209,8 +220,11 @@ class Collection:
     # --- the full check of what is stored, as the coordinator downloads it -------------------------
 
     def export(self, kind: str):
+        """The stored readings of a kind and their log file (a school's rows carry its position)."""
         readings = self.store.readings(kind, include_withdrawn=False)
-        return readings, log_csv(self.kinds[kind].slots, [(r.site, r.cells) for r in readings], self.judge.zones)
+        rows = [(r.site, self.schools[r.site].row_cells(r.cells) if r.site in self.schools else r.cells)
+                for r in readings]
+        return readings, log_csv(self.kinds[kind].slots, rows, self.judge.zones)
 
     def full_check(self) -> dict:
         """Per kind: the exported readings and the flags ``check`` gives on the downloaded logs (cached)."""
@@ -229,8 +243,10 @@ class Collection:
                     path.write_text(text, encoding="utf-8")
                     logs[kind] = (path,)
                 exported[kind] = readings
-            campaign = replace(self.campaign, path=Path(folder) / "campaign.toml",
-                               logs={**{k: () for k in self.campaign.logs}, **logs})
+            from firstrung.open_sites import with_row_sites
+
+            campaign = with_row_sites(replace(self.campaign, path=Path(folder) / "campaign.toml", row_problems=(),
+                                              logs={**{k: () for k in self.campaign.logs}, **logs}))
             for kind, readings in exported.items():
                 flags = list(self.kinds[kind].check_campaign(campaign).flags) if readings else []
                 out[kind] = (readings, flags)
@@ -241,42 +257,15 @@ class Collection:
 # --- pages ---------------------------------------------------------------------------------------
 
 
-def _wants_json(request: Request) -> bool:
-    return "application/json" in request.headers.get("accept", "")
-
-
-def _client(request: Request) -> str:
-    return request.client.host if request.client else "?"
-
-
-async def _body(request: Request) -> bytes | None:
-    """The body, or None when it is over the limit."""
-    declared = request.headers.get("content-length")
-    if declared is not None and (not declared.isdigit() or int(declared) > BODY_LIMIT_BYTES):
-        return None
-    data = bytearray()
-    async for chunk in request.stream():
-        data.extend(chunk)
-        if len(data) > BODY_LIMIT_BYTES:
-            return None
-    return bytes(data)
-
-
-def _answer(request, status: int, data: dict, html: str | None = None) -> Response:
-    if html is None or _wants_json(request):
-        response: Response = JSONResponse(data, status_code=status)
-    else:
-        response = HTMLResponse(html, status_code=status)
-    response.headers.update(SECURITY_HEADERS)
-    return response
-
-
-def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> Starlette:
+def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join: bool = False,
+               public_base: str | None = None) -> Starlette:
     """The collection point's application for one campaign.
 
     ``now()`` gives the current time (aware), for the forms' default time; the clock by default.
+    ``join``: serve the join link of an open network (when a collected kind carries positions).
+    ``public_base``: the address the links start with (``--public-url``, or the one bound).
     """
-    state = Collection(campaign_path, store_path, kinds)
+    state = Collection(campaign_path, store_path, kinds, join=join, public_base=public_base)
     clock = now or (lambda: dt.datetime.now(dt.UTC))
 
     def not_found(request: Request) -> Response:
@@ -295,7 +284,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         now = clock()
         date = form_fields.local_now(site.timezone, now)[:10]
         kinds = []
-        for name, kind in state.kinds.items():
+        for name, kind in state.kinds_of(site_id).items():
             ways = []
             for k, (form, fields) in enumerate(form_fields.forms(kind, site.timezone)):
                 form_id = new_form_id()
@@ -341,17 +330,9 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
             result = {"stored": False, "field": field, "reason": reason}
             return site_page(request, site_id, status, result, refill, kind)
 
-        if not request.headers.get("content-type", "").startswith("application/x-www-form-urlencoded"):
-            return _answer(request, 415, {"stored": False, "field": None,
-                                          "reason": "send the form as application/x-www-form-urlencoded"})
-        body = await _body(request)
-        if body is None:
-            return _answer(request, 413, {"stored": False, "field": None,
-                                          "reason": f"the request is larger than {BODY_LIMIT_BYTES} bytes"})
-        try:
-            pairs = parse_qsl(body.decode("utf-8"), keep_blank_values=True, strict_parsing=False, max_num_fields=60)
-        except (UnicodeDecodeError, ValueError):
-            return _answer(request, 400, {"stored": False, "field": None, "reason": "not a form of UTF-8 text"})
+        pairs, refusal = await read_form(request)
+        if refusal is not None:
+            return refusal
         meta = {k: v for k, v in pairs if k in ("kind", "form_id", "csrf_token", "site")}
         rest = [(k, v) for k, v in pairs if k not in ("kind", "form_id", "csrf_token", "site")]
         form_id = meta.get("form_id", "")
@@ -364,9 +345,9 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
                                           "reason": "too many readings at once from this link; wait a minute"})
         kind_name = meta.get("kind", "")
         refill = dict(rest)
-        if kind_name not in state.kinds:
-            return await asyncio.to_thread(
-                refuse, 422, "kind", f"expected a kind of log this campaign collects ({', '.join(state.kinds)})", refill)
+        if kind_name not in state.kinds_of(site_id):
+            return await asyncio.to_thread(refuse, 422, "kind", "expected a kind of log this link sends "
+                                           f"({', '.join(state.kinds_of(site_id))})", refill)
         if meta.get("site", site_id) != site_id:
             return await asyncio.to_thread(refuse, 422, "site", f"this link is for site {site_id}", refill, kind_name)
         cells, problem = form_fields.cells_from_form(state.kinds[kind_name], rest)
@@ -394,12 +375,15 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         for r in everything:
             by_site.setdefault(r.site, []).append(r)
         form_id = new_form_id()
-        base = str(request.url).split("?")[0].rstrip("/")
+        root = state.base_url(request)
+        schools = [{"school": school, "link": f"{root}/s/{state.school_tokens[school.id]}",
+                    "readings": len(by_site.get(school.id, ()))} for school in state.schools.values()]
         html = state.env.get_template("coordinator.html.j2").render(
             campaign=state.campaign.name, by_site=by_site, flags_of=flags_of, kinds=list(state.kinds),
             sites=state.sites, csrf=form_token(state.key, token, form_id, clock().timestamp()), form_id=form_id,
-            base=base, note=note, total=len(everything), withdrawn=sum(r.withdrawn for r in everything),
-            flagged=len(flags_of),
+            base=f"{root}/c/{token}", note=note, total=len(everything), withdrawn=sum(r.withdrawn for r in everything),
+            flagged=len(flags_of), schools=schools,
+            join=None if state.join_token is None else f"{root}/j/{state.join_token}",
         )
         return _answer(request, 200, {"readings": len(everything)}, html)
 
@@ -450,7 +434,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         if holder(request, "coordinator") is None:
             return not_found(request)
         token = request.path_params["token"]
-        body = await _body(request)
+        body = await read_body(request)
         if body is None:
             return _answer(request, 413, {"error": f"the request is larger than {BODY_LIMIT_BYTES} bytes"})
         values = dict(parse_qsl(body.decode("utf-8", "replace"), keep_blank_values=True, max_num_fields=10))
@@ -466,7 +450,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         if reading is None:
             return _answer(request, 404, {"error": f"no reading {reading_id}", "field": "reading"})
         note = f"Reading {reading.id} ({reading.site}) is withdrawn: kept in the store, left out of the logs."
-        if _wants_json(request):
+        if wants_json(request):
             return _answer(request, 200, {"withdrawn": reading.id, "withdrawn_utc": reading.withdrawn_utc})
         return await asyncio.to_thread(coordinator_page, request, note)
 
@@ -478,10 +462,14 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None) -> S
         app.state.collection = state
         yield
         await state.stop()
+        shutil.rmtree(state.join_folder, ignore_errors=True)
 
     from contextlib import asynccontextmanager
 
+    from firstrung.collect.join import join_routes
+
     routes = [
+        *join_routes(state, clock, not_found),
         Route("/s/{token}", site_get, methods=["GET", "HEAD"]),
         Route("/s/{token}", site_post, methods=["POST"]),
         Route("/c/{token}", coordinator_get, methods=["GET", "HEAD"]),

@@ -2,7 +2,8 @@
 
 It holds every reading as posted (never deleted: a withdrawn reading is
 marked, with the time and the reason), the verdict given when it arrived,
-the links' tokens and the key that signs the forms. Writes come from one
+the links' tokens, the schools that joined an open network (each with its
+own token) and the key that signs the forms. Writes come from one
 thread only (the server's writer); each request's reads open their own
 connection, which the write-ahead log lets run beside the writer.
 """
@@ -36,6 +37,14 @@ CREATE TABLE IF NOT EXISTS link (
     site TEXT NOT NULL,
     token TEXT NOT NULL UNIQUE,
     PRIMARY KEY (role, site)
+);
+CREATE TABLE IF NOT EXISTS school (
+    id TEXT PRIMARY KEY,
+    name TEXT NOT NULL,
+    cells TEXT NOT NULL,
+    token TEXT NOT NULL UNIQUE,
+    form_id TEXT NOT NULL UNIQUE,
+    joined_utc TEXT NOT NULL
 );
 CREATE TABLE IF NOT EXISTS setting (
     key TEXT PRIMARY KEY,
@@ -149,6 +158,42 @@ class Store:
                 self._writer.execute("ROLLBACK")
                 raise
         return known[("coordinator", "")], {s: known[("site", s)] for s in site_ids}
+
+    def join_token(self) -> str:
+        """The join link's token (made on first use, the same after a restart)."""
+        with self._write_lock:
+            row = self._writer.execute("SELECT token FROM link WHERE role = 'join' AND site = ''").fetchone()
+            if row is not None:
+                return row[0]
+            token = secrets.token_urlsafe(TOKEN_BYTES)
+            self._writer.execute("INSERT INTO link (role, site, token) VALUES ('join', '', ?)", (token,))
+            return token
+
+    # --- schools that joined -------------------------------------------------------------------
+
+    def schools(self) -> list[tuple[str, str, tuple, str, str, str]]:
+        """Every school that joined, in order: (id, name, cells, token, form_id, joined_utc)."""
+        rows = self._reader().execute(
+            "SELECT id, name, cells, token, form_id, joined_utc FROM school ORDER BY rowid").fetchall()
+        return [(r[0], r[1], tuple(tuple(c) for c in json.loads(r[2])), r[3], r[4], r[5]) for r in rows]
+
+    def add_school(self, school_id: str, name: str, cells, form_id: str) -> tuple[tuple, bool]:
+        """Store a school with a new token; a form already stored gives its school again.
+
+        Returns the school's row (as :meth:`schools` gives it) and whether it is new.
+        """
+        with self._write_lock:
+            found = self._writer.execute("SELECT id FROM school WHERE form_id = ?", (form_id,)).fetchone()
+            if found is None:
+                self._writer.execute(
+                    "INSERT INTO school (id, name, cells, token, form_id, joined_utc) VALUES (?, ?, ?, ?, ?, ?)",
+                    (school_id, name, json.dumps([list(c) for c in cells], ensure_ascii=False),
+                     secrets.token_urlsafe(TOKEN_BYTES), form_id, now_utc()),
+                )
+            else:
+                school_id = found[0]
+        row = next(s for s in self.schools() if s[0] == school_id)
+        return row, found is None
 
     # --- readings --------------------------------------------------------------------------------
 

@@ -31,7 +31,7 @@ def _digest(token: str) -> bytes:
 
 @dataclass(frozen=True)
 class Holder:
-    """Who a token belongs to: the coordinator (site None) or one site."""
+    """Who a token belongs to: the coordinator or the join link (site None), or one site or school."""
 
     role: str
     site: str | None
@@ -49,6 +49,10 @@ class TokenBook:
         self._by_digest: dict[bytes, tuple[str, Holder]] = {_digest(coordinator): (coordinator, Holder("coordinator", None))}
         for site, token in sites.items():
             self._by_digest[_digest(token)] = (token, Holder("site", site))
+
+    def add(self, token: str, holder: Holder) -> None:
+        """Know one more token (a school that joined)."""
+        self._by_digest[_digest(token)] = (token, holder)
 
     def holder(self, presented: str) -> Holder | None:
         """The holder of a presented token, or None."""
