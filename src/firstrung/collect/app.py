@@ -53,9 +53,12 @@ RATE_REFILL_S = 2.0
 #: Unknown tokens per client: a burst, then one every BAD_TOKEN_REFILL_S (guessing a 256-bit token is hopeless anyway).
 BAD_TOKEN_BURST = 20
 BAD_TOKEN_REFILL_S = 5.0
-#: Joins per address: a burst (a class joining its schools from one network), then one every JOIN_REFILL_S seconds.
-JOIN_BURST = 10
+#: Schools joined per address: a burst (a workshop of teachers on one network), then one every JOIN_REFILL_S seconds.
+JOIN_BURST = 20
 JOIN_REFILL_S = 30.0
+#: Join posts per address, refused ones included: a burst, then one every JOIN_TRY_REFILL_S seconds.
+JOIN_TRY_BURST = 120
+JOIN_TRY_REFILL_S = 1.0
 
 
 def _environment():
@@ -92,6 +95,7 @@ class Collection:
         for school_id, name, cells, token, _, joined in self.store.schools():
             self.know_school(School(school_id, name, cells, joined), token)
         self.joins = Buckets(JOIN_BURST, JOIN_REFILL_S)
+        self.join_tries = Buckets(JOIN_TRY_BURST, JOIN_TRY_REFILL_S)
         self.join_folder = Path(tempfile.mkdtemp(prefix="firstrung-join-"))
         self.writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="store-writer")
         self.queue: asyncio.Queue | None = None
@@ -220,11 +224,13 @@ class Collection:
     # --- the full check of what is stored, as the coordinator downloads it -------------------------
 
     def export(self, kind: str):
-        """The stored readings of a kind and their log file (a school's rows carry its position)."""
+        """The stored readings of a kind and their log file (a school's rows: its name and its position)."""
         readings = self.store.readings(kind, include_withdrawn=False)
-        rows = [(r.site, self.schools[r.site].row_cells(r.cells) if r.site in self.schools else r.cells)
+        schools = self.schools
+        rows = [(schools[r.site].name, schools[r.site].row_cells(r.cells)) if r.site in schools else (r.site, r.cells)
                 for r in readings]
-        return readings, log_csv(self.kinds[kind].slots, rows, self.judge.zones)
+        zones = {**self.judge.zones, **{s.name: self.judge.zones[s.id] for s in schools.values()}}
+        return readings, log_csv(self.kinds[kind].slots, rows, zones)
 
     def full_check(self) -> dict:
         """Per kind: the exported readings and the flags ``check`` gives on the downloaded logs (cached)."""
@@ -385,7 +391,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
             flagged=len(flags_of), schools=schools,
             join=None if state.join_token is None else f"{root}/j/{state.join_token}",
         )
-        return _answer(request, 200, {"readings": len(everything)}, html)
+        return _answer(request, 200, {"readings": len(everything), "schools": list(state.schools)}, html)
 
     async def coordinator_get(request: Request) -> Response:
         if holder(request, "coordinator") is None:

@@ -9,8 +9,9 @@
                      ``joined``, ``site``, ``name``, ``link``, ``again``), or 4xx with
                      the field and why, nothing stored.
 
-Like every form it carries an anti-forgery token; joins are limited per address
-(:data:`firstrung.collect.app.JOIN_BURST`) and in number
+Like every form it carries an anti-forgery token; schools joined and join posts
+are limited per address (:data:`firstrung.collect.app.JOIN_BURST`,
+:data:`firstrung.collect.app.JOIN_TRY_BURST`), schools in number
 (:data:`firstrung.collect.schools.MAX_SCHOOLS`). A form sent twice gives the
 same school and link.
 """
@@ -100,11 +101,14 @@ def join_routes(state, clock, not_found) -> list[Route]:
             return answer(request, 403, {"joined": False, "field": "csrf_token",
                                          "reason": "the form's token is missing, wrong or stale: reload the page "
                                                    "and send it again"})
-        if not state.joins.take(client_of(request)):
+        client = client_of(request)
+        if not state.join_tries.take(client) or not state.joins.has(client):
             return answer(request, 429, {"joined": False, "field": None,
                                          "reason": "too many schools joined from this address at once; wait a minute"})
         loop = asyncio.get_running_loop()
         school, second, third = await loop.run_in_executor(state.writer, join_school, state, values, form_id)
+        if school is not None and third:
+            state.joins.take(client)  # a school stored
         if school is None:
             result = {"joined": False, "field": second, "reason": third}
             return await asyncio.to_thread(page, request, 422, result, values)

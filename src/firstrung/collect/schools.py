@@ -6,9 +6,10 @@ checked by the code that reads a shadow log's own positions
 (:func:`firstrung.open_sites.with_row_sites`), on a one-row log, so the join
 form refuses exactly what ``firstrung check`` would refuse in a log, and names
 the field. A joined school gets a site id made from its name (unique among the
-campaign's sites and the schools already joined) and its own link; its
-readings are exported with its position and gnomon in every row: an open
-network's log (the design's "Open networks" contract), which ``check`` and
+campaign's sites and the schools already joined: a name whose id is taken is
+refused, so the reader of the log gives the school the same id) and its own link; its
+readings are exported under its name, with its position and gnomon in every
+row: an open network's log (the design's "Open networks" contract), which ``check`` and
 ``reduce shadows`` read with no ``[[site]]`` table for it.
 """
 
@@ -132,13 +133,16 @@ def read_school(values: dict[str, str], campaign: Campaign, taken: set[str], fol
     gnomon_cell = values.get("value:gnomon_m", "")
     if not gnomon_cell:
         return None, gnomon_column, "the gnomon's height is needed (from the tip to the board the shadow falls on)"
-    site_id = site_id_for(name, taken)
+    site_id = site_id_for(name, set())
+    if site_id in taken:  # the log names the school; the same id from its name, whatever the rows' order
+        return None, "name", (f"{got(name)} reads as the site id {site_id!r}, which another site or school has: "
+                              "tell the two apart in the name (add the town, or Latin letters)")
     path = folder / f"join-{next(_counter)}.csv"
     columns = ["site", *POSITION_COLUMNS, gnomon_column]
     with open(path, "w", encoding="utf-8", newline="") as f:  # ';': a decimal comma reads as in a log
         writer = csv.writer(f, delimiter=";")
         writer.writerow(columns)
-        writer.writerow([site_id, *(values.get(c, "") for c in POSITION_COLUMNS), gnomon_cell])
+        writer.writerow([name, *(values.get(c, "") for c in POSITION_COLUMNS), gnomon_cell])
     try:
         probe = replace(campaign, path=folder / "campaign.toml", logs={**campaign.logs, "shadows": (path,)})
         read = with_row_sites(probe)

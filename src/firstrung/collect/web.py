@@ -41,10 +41,18 @@ class Buckets:
         self.burst, self.refill_s = burst, refill_s
         self._state: dict[str, tuple[float, float]] = {}
 
-    def take(self, key: str) -> bool:
-        now = time.monotonic()
+    def _level(self, key: str, now: float) -> float:
         level, last = self._state.get(key, (float(self.burst), now))
-        level = min(float(self.burst), level + (now - last) / self.refill_s)
+        return min(float(self.burst), level + (now - last) / self.refill_s)
+
+    def has(self, key: str) -> bool:
+        """Whether a token is left for ``key`` (none is taken)."""
+        return self._level(key, time.monotonic()) >= 1.0
+
+    def take(self, key: str) -> bool:
+        """Take a token for ``key``: False when none is left."""
+        now = time.monotonic()
+        level = self._level(key, now)
         if level < 1.0:
             self._state[key] = (level, now)
             return False
