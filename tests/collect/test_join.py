@@ -16,7 +16,6 @@ import re
 import subprocess
 import sys
 import urllib.parse
-from pathlib import Path
 
 import pytest
 from tests.collect.client import Server, form_tokens, post_reading, request

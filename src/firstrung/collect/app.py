@@ -43,7 +43,14 @@ from firstrung.collect.schools import School, serving_campaign
 from firstrung.collect.store import Store
 from firstrung.collect.tokens import Holder, TokenBook, form_token, form_token_ok, new_form_id
 from firstrung.collect.verdict import Judge, Submission
-from firstrung.collect.web import BODY_LIMIT_BYTES, SECURITY_HEADERS, Buckets, read_body, read_form, wants_json
+from firstrung.collect.web import (
+    BODY_LIMIT_BYTES,
+    SECURITY_HEADERS,
+    Buckets,
+    read_body,
+    read_form,
+    wants_json,
+)
 from firstrung.collect.web import answer as _answer
 from firstrung.collect.web import client_of as _client
 
