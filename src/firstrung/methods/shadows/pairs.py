@@ -15,7 +15,7 @@ and the output says which selection was made.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -45,6 +45,11 @@ class NetworkPairs:
     high_km: np.ndarray  # NaN when only a lower bound exists
     flagged: np.ndarray  # bool: a site of the pair was flagged as a blunder
     selection: str
+    #: The sites' ids once and each pair's sites as indices into them (``first`` is
+    #: ``site_names[first_site]``): what :func:`partners_of` counts with, without sorting texts.
+    site_names: np.ndarray | None = field(default=None, repr=False, compare=False)
+    first_site: np.ndarray | None = field(default=None, repr=False, compare=False)
+    second_site: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     def __len__(self) -> int:
         return int(self.radius_km.size)
@@ -77,21 +82,19 @@ def _candidates(day_of, longitude):
 def network_pairs(sites, flagged=()) -> NetworkPairs:
     """The pairs of a reduction's sites (``SiteResult``s with their series), one per pair and day."""
     flagged = set(flagged)
-    ids, day, lat, sig, pos, lon, bad = [], [], [], [], [], [], []
-    for s in sites:
-        for d in s.series:
-            ids.append(s.id)
-            day.append(d.date)
-            lat.append(d.latitude_deg.value)
-            sig.append(d.latitude_deg.sigma)
-            pos.append(s.north_south_km)
-            lon.append(s.longitude_deg)
-            bad.append(s.outlier or s.id in flagged)
-    ids_a = np.array(ids, dtype=object).astype(str) if ids else np.zeros(0, str)
-    days = np.array(day, dtype=object).astype(str) if day else np.zeros(0, str)
+    counts = [len(s.series) for s in sites]
+    names = np.array([s.id for s in sites], dtype=object).astype(str) if sites else np.zeros(0, str)
+    site_of = np.repeat(np.arange(len(counts)), counts)  # each series' site, in the sites' order
+    day_text = [d.date for s in sites for d in s.series]
+    days = np.array(day_text, dtype=object).astype(str) if day_text else np.zeros(0, str)
+    lat = np.fromiter((d.latitude_deg.value for s in sites for d in s.series), float, site_of.size)
+    sig = np.fromiter((d.latitude_deg.sigma for s in sites for d in s.series), float, site_of.size)
+    pos = np.array([s.north_south_km for s in sites], float)[site_of]
+    lon = np.array([s.longitude_deg for s in sites], float)[site_of]
+    bad_a = np.array([s.outlier or s.id in flagged for s in sites], bool)[site_of]
     _, day_of = np.unique(days, return_inverse=True)
-    i, j, every = _candidates(day_of, np.array(lon, float))
-    x, phi, sigma = np.array(pos, float), np.radians(np.array(lat, float)), np.radians(np.array(sig, float))
+    i, j, every = _candidates(day_of, lon)
+    x, phi, sigma = pos, np.radians(lat), np.radians(sig)
     dx = x[j] - x[i] if i.size else np.zeros(0)
     far = np.abs(dx) >= MIN_NORTH_SOUTH_KM
     i, j, dx = i[far], j[far], dx[far]
@@ -104,13 +107,17 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
         radius = 1.0 / slope
         high = np.where(slope - slope_sigma > 0, 1.0 / (slope - slope_sigma), np.nan)
         low = 1.0 / (slope + slope_sigma)
-    bad_a = np.array(bad, bool)
-    order = np.lexsort((ids_a[j], ids_a[i], days[i])) if i.size else np.zeros(0, int)
+    # sorted by day, then the ids as text: their ranks among the sorted ids sort the same way
+    _, rank = np.unique(names, return_inverse=True) if names.size else (None, np.zeros(0, int))
+    code = rank.reshape(-1)[site_of]
+    order = np.lexsort((code[j], code[i], day_of[i])) if i.size else np.zeros(0, int)
+    first, second = site_of[i][order], site_of[j][order]
     return NetworkPairs(
-        first=ids_a[i][order], second=ids_a[j][order], date=days[i][order], north_south_km=dx[order],
+        first=names[first], second=names[second], date=days[i][order], north_south_km=dx[order],
         radius_km=radius[order], sigma_km=(slope_sigma / slope**2)[order], low_km=low[order], high_km=high[order],
         flagged=(bad_a[i] | bad_a[j])[order],
         selection=EVERY_PAIR if every else NEIGHBOUR_PAIRS,
+        site_names=names, first_site=first, second_site=second,
     )
 
 
@@ -125,21 +132,29 @@ def pairs_summary(pairs: NetworkPairs) -> dict:
 
 def partners_of(pairs: NetworkPairs) -> dict:
     """Each site's partners: id -> (count, median radius of its unflagged pairs [km] or None)."""
-    ids = np.concatenate([pairs.first, pairs.second])
     radius = np.concatenate([pairs.radius_km, pairs.radius_km])
     good = ~np.concatenate([pairs.flagged, pairs.flagged]) & np.isfinite(radius)
     out: dict = {}
-    if ids.size == 0:
+    if radius.size == 0:
         return out
-    names, site_of = np.unique(ids, return_inverse=True)
+    if pairs.site_names is not None:
+        site_of = np.concatenate([pairs.first_site, pairs.second_site])
+        present = np.unique(site_of)  # the sites in pairs, in the order of their ids as text
+        present = present[np.argsort(pairs.site_names[present], kind="stable")]
+        names = pairs.site_names[present]
+        recode = np.zeros(pairs.site_names.size, np.int64)
+        recode[present] = np.arange(present.size)
+        site_of = recode[site_of]
+    else:
+        names, site_of = np.unique(np.concatenate([pairs.first, pairs.second]), return_inverse=True)
     count = np.bincount(site_of, minlength=names.size)
     order = np.lexsort((radius, ~good, site_of))
+    sorted_radius = radius[order]
     starts = np.searchsorted(site_of[order], np.arange(names.size))
     n_good = np.bincount(site_of, good, names.size).astype(int)
-    for k, name in enumerate(names):
+    for k, name in enumerate(names):  # one pass over sites, each its own block of the sorted radii
         if n_good[k] == 0:
             out[str(name)] = (int(count[k]), None)
             continue
-        block = radius[order][starts[k]:starts[k] + n_good[k]]
-        out[str(name)] = (int(count[k]), float(np.median(block)))
+        out[str(name)] = (int(count[k]), float(np.median(sorted_radius[starts[k]:starts[k] + n_good[k]])))
     return out

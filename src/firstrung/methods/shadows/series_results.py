@@ -48,36 +48,46 @@ def _series_results(prep, fit, per_series, total, scale, chi2_dof):
     transit = ephemeris.solar_transit(prep.group_date, site_lat, site_lon, site_elev)
     hour_angle_rate = _group_sum(prep.group, n_groups, prep.hour_angle_rate) / fit.count
     boards = series_boards(prep, fit.clock_correction_s, np.sqrt(fit.covariance[:, 1, 1]) * scale)
+    # every number a column at a time; the loop below only gathers each series' values
+    lat = np.degrees(fit.latitude_rad)
+    sig = np.degrees(total)
+    dec = np.asarray(transit.declination_deg, float)
+    zenith = np.abs(lat - dec)
+    offset = -np.asarray(fit.clock_correction_s, float)
+    offset_sigma = np.sqrt(fit.covariance[:, 1, 1]) * scale
+    rate_deg_s = np.degrees(hour_angle_rate)
+    lon_implied = site_lon - rate_deg_s * offset
+    lon_sigma = rate_deg_s * offset_sigma
+    noon_clock = transit.time_utc + np.round(offset * 1e6).astype(np.int64).astype("timedelta64[us]")
+    altitude = 90.0 - zenith
+    chi2 = [None if not np.isfinite(c) else c for c in np.asarray(chi2_dof, float).tolist()]
+    budget_names = list(per_series)
+    budgets = list(zip(*(np.asarray(per_series[k], float).tolist() for k in budget_names), strict=True)) \
+        if budget_names else [()] * n_groups
+    ids = [prep.sites[i].id for i in prep.group_site.tolist()]
+    dates = prep.group_date.astype(str).tolist()
+    counts = [int(c) for c in np.asarray(fit.count).tolist()]
+    transit_times, noon_times = list(transit.time_utc), list(noon_clock)
     out = []
-    for g in range(n_groups):
-        lat = float(np.degrees(fit.latitude_rad[g]))
-        sig = float(np.degrees(total[g]))
-        dec = float(transit.declination_deg[g])
-        zenith = abs(lat - dec)
-        offset = -float(fit.clock_correction_s[g])
-        offset_sigma = float(np.sqrt(fit.covariance[g, 1, 1]) * scale[g])
-        rate_deg_s = float(np.degrees(hour_angle_rate[g]))
-        lon_implied = prep.sites[prep.group_site[g]].longitude_deg - rate_deg_s * offset
-        noon_clock = transit.time_utc[g] + np.timedelta64(int(round(offset * 1e6)), "us")
+    for g, (la, sg, de, ze, al, of, ofs, lo, los) in enumerate(zip(
+            lat.tolist(), sig.tolist(), dec.tolist(), zenith.tolist(), altitude.tolist(), offset.tolist(),
+            offset_sigma.tolist(), lon_implied.tolist(), lon_sigma.tolist(), strict=True)):
         out.append(
             SeriesResult(
-                site_id=prep.sites[prep.group_site[g]].id,
-                date=str(prep.group_date[g]),
-                readings=int(fit.count[g]),
-                transit_utc=transit.time_utc[g],
-                declination_deg=dec,
-                latitude_deg=Measured(lat, sig, lat - sig, lat + sig, "deg"),
-                culmination_altitude_deg=Measured(90.0 - zenith, sig, 90.0 - zenith - sig, 90.0 - zenith + sig, "deg"),
-                zenith_distance_deg=Measured(zenith, sig, zenith - sig, zenith + sig, "deg"),
-                sun_side="south" if lat > dec else "north",
-                clock_offset_s=Measured(offset, offset_sigma, offset - offset_sigma, offset + offset_sigma, "s"),
-                apparent_noon_clock_utc=noon_clock,
-                implied_longitude_deg=Measured(
-                    lon_implied, rate_deg_s * offset_sigma, lon_implied - rate_deg_s * offset_sigma,
-                    lon_implied + rate_deg_s * offset_sigma, "deg",
-                ),
-                chi2_per_dof=None if not np.isfinite(chi2_dof[g]) else float(chi2_dof[g]),
-                budget_rad={k: float(v[g]) for k, v in per_series.items()},
+                site_id=ids[g],
+                date=dates[g],
+                readings=counts[g],
+                transit_utc=transit_times[g],
+                declination_deg=de,
+                latitude_deg=Measured(la, sg, la - sg, la + sg, "deg"),
+                culmination_altitude_deg=Measured(al, sg, al - sg, al + sg, "deg"),
+                zenith_distance_deg=Measured(ze, sg, ze - sg, ze + sg, "deg"),
+                sun_side="south" if la > de else "north",
+                clock_offset_s=Measured(of, ofs, of - ofs, of + ofs, "s"),
+                apparent_noon_clock_utc=noon_times[g],
+                implied_longitude_deg=Measured(lo, los, lo - los, lo + los, "deg"),
+                chi2_per_dof=chi2[g],
+                budget_rad=dict(zip(budget_names, budgets[g], strict=True)),
                 board=boards.get(g),
             )
         )
