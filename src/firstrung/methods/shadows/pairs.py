@@ -139,7 +139,8 @@ def partners_of(pairs: NetworkPairs) -> dict:
         return out
     if pairs.site_names is not None:
         site_of = np.concatenate([pairs.first_site, pairs.second_site])
-        present = np.unique(site_of)  # the sites in pairs, in the order of their ids as text
+        present = np.flatnonzero(np.bincount(site_of, minlength=pairs.site_names.size))  # the sites in pairs
+        # in the order of their ids as text
         present = present[np.argsort(pairs.site_names[present], kind="stable")]
         names = pairs.site_names[present]
         recode = np.zeros(pairs.site_names.size, np.int64)
@@ -148,13 +149,13 @@ def partners_of(pairs: NetworkPairs) -> dict:
     else:
         names, site_of = np.unique(np.concatenate([pairs.first, pairs.second]), return_inverse=True)
     count = np.bincount(site_of, minlength=names.size)
-    order = np.lexsort((radius, ~good, site_of))
-    sorted_radius = radius[order]
-    starts = np.searchsorted(site_of[order], np.arange(names.size))
-    n_good = np.bincount(site_of, good, names.size).astype(int)
-    for k, name in enumerate(names):  # one pass over sites, each its own block of the sorted radii
-        if n_good[k] == 0:
+    good_site = site_of[good]
+    order = np.argsort(good_site.astype(np.int16) if names.size < 2**15 else good_site, kind="stable")
+    grouped = radius[good][order]  # each site's unflagged radii together (a median needs no more order)
+    ends = np.cumsum(np.bincount(good_site, minlength=names.size))
+    for k, name in enumerate(names):  # one pass over sites, each its own block of the radii
+        if ends[k] == (start := ends[k - 1] if k else 0):
             out[str(name)] = (int(count[k]), None)
             continue
-        out[str(name)] = (int(count[k]), float(np.median(sorted_radius[starts[k]:starts[k] + n_good[k]])))
+        out[str(name)] = (int(count[k]), float(np.median(grouped[start:ends[k]])))
     return out
