@@ -152,52 +152,57 @@ def summarize(records, flags) -> tuple[SummaryRow, ...]:
 
 
 def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...]:
-    """:func:`summarize` of rows given column by column (arrays or sequences of equal length), in one pass
-    of array operations: the flags are looked up by their rows, the counts by site and observer."""
-    file = np.asarray(file, dtype=object).astype(str)
-    row = np.asarray(row, dtype=np.int64)
-    site = np.asarray(["" if s is None else s for s in site] if any(s is None for s in site) else site,
-                      dtype=object).astype(str)
-    observer = np.asarray(observer, dtype=object).astype(str)
-    n = row.size
+    """:func:`summarize` of rows given column by column (arrays or sequences of equal length): the rows
+    are counted by site and by site and observer at once, then only the flagged rows are looked at."""
+    from collections import Counter
+
+    n = len(row)
     if n == 0:
         return ()
-    error = np.zeros(n, bool)
-    flagged = np.zeros(n, bool)
+    file, site, observer = _texts(file), _texts("" if s is None else s for s in site), _texts(observer)
     refused = {f.file for f in flags if f.row is None and f.code == "unreadable-file" and f.severity == "error"}
-    marked: dict[str, tuple[list[int], list[int]]] = {}  # per file: rows with a flag, rows with an error flag
+    marked: dict[str, tuple[set, set]] = {}  # per file: rows with a flag, rows with an error flag
     for f in flags:
         if f.row is not None:
-            rows_of = marked.setdefault(f.file, ([], []))
-            rows_of[0].append(f.row)
+            rows_of = marked.setdefault(f.file, (set(), set()))
+            rows_of[0].add(f.row)
             if f.severity == "error":
-                rows_of[1].append(f.row)
-    for name in np.unique(file):
-        if name not in refused and name not in marked:
-            continue
-        k = np.flatnonzero(file == name)
-        if name in refused:
-            error[k] = flagged[k] = True
-            continue
-        any_flag, with_error = marked[name]
-        flagged[k] = np.isin(row[k], any_flag)
-        error[k] = np.isin(row[k], with_error)
-    warning = flagged & ~error
-    counts = np.stack([np.ones(n, np.int64), ~error, flagged, error, warning]).astype(np.int64)
-    site_names, site_k = np.unique(site, return_inverse=True)
-    observer_names, observer_k = np.unique(observer, return_inverse=True)
+                rows_of[1].add(f.row)
     table: dict[tuple[str, str], list[int]] = {}
-    named = observer != ""
-    for key, pick in ((site_k, slice(None)), (site_k * observer_names.size + observer_k, named)):
-        values, inverse = np.unique(key[pick], return_inverse=True)
-        sums = np.stack([np.bincount(inverse, weights=c[pick], minlength=values.size) for c in counts]).astype(np.int64)
-        for j, value in enumerate(values):
-            if pick is named:
-                name = (str(site_names[value // observer_names.size]), str(observer_names[value % observer_names.size]))
+    for (s, o), count in Counter(zip(site, observer)).items():
+        for key in ((s, ""), (s, o)) if o else ((s, ""),):
+            counts = table.setdefault(key, [0, 0, 0, 0, 0])  # read, accepted, flagged, errors, warnings
+            counts[0] += count
+            counts[1] += count
+    wanted = refused | marked.keys()
+    if wanted:
+        for k, name in enumerate(file):
+            if name not in wanted:
+                continue
+            if name in refused:
+                flagged = error = True
             else:
-                name = (str(site_names[value]), "")
-            table[name] = [int(v) for v in sums[:, j]]
+                number = int(row[k])
+                flagged, error = number in marked[name][0], number in marked[name][1]
+            if not flagged:
+                continue
+            for key in ((site[k], ""), (site[k], observer[k])) if observer[k] else ((site[k], ""),):
+                counts = table[key]
+                counts[2] += 1
+                if error:
+                    counts[1] -= 1
+                    counts[3] += 1
+                else:
+                    counts[4] += 1
     return tuple(SummaryRow(s, o, *v) for (s, o), v in sorted(table.items()))
+
+
+def _texts(values) -> list[str]:
+    """Each value as text, as a NumPy string array holds it (trailing NUL characters dropped)."""
+    out = [v if type(v) is str else str(v) for v in values]
+    if "\x00" in "".join(out):
+        out = [v.rstrip("\x00") for v in out]
+    return out
 
 
 #: A difference this close to a whole number of hours is taken as a clock or zone mistake [s].

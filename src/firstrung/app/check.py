@@ -12,7 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import itertools
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -26,21 +26,31 @@ from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summar
 
 @dataclass(frozen=True)
 class RawFile:
-    """One log file as read: its header and every data row (1-based numbers as the readers count them)."""
+    """One log file as read: its header and every data row (1-based numbers as the readers count them).
+
+    The rows are kept as two columns, their numbers and their cells, as the reader gives them
+    (``rows`` pairs them on demand).
+    """
 
     kind: str
     label: str
     path: Path
     header: tuple[str, ...]
-    rows: tuple[tuple[int, tuple[str, ...]], ...]
+    numbers: Sequence[int]
+    cells: Sequence[Sequence[str]]
+
+    @property
+    def rows(self) -> tuple[tuple[int, tuple[str, ...]], ...]:
+        """Every data row: (its number, its cells)."""
+        return tuple(zip(self.numbers, map(tuple, self.cells), strict=True))
 
     def column_cells(self, column: str) -> list[str]:
         """Every row's cell of a column (stripped, '' when absent), as :meth:`cell` gives them."""
         wanted = column.strip().lower()
         k = next((k for k, name in enumerate(self.header) if name == wanted), None)
         if k is None:
-            return [""] * len(self.rows)
-        return [cells[k].strip() if k < len(cells) else "" for _, cells in self.rows]
+            return [""] * len(self.numbers)
+        return [cells[k].strip() if k < len(cells) else "" for cells in self.cells]
 
     def cell(self, cells: tuple[str, ...], column: str) -> str:
         """The cell of a column (matched like the readers: case and spaces ignored), '' when absent."""
@@ -52,10 +62,14 @@ class RawFile:
 
 
 def _log_checks() -> dict[str, Callable[[Campaign], KindCheck]]:
-    """The check of each kind of log, by the campaign's ``[logs]`` key, from the registry of methods."""
+    """The check of each kind of log, by the campaign's ``[logs]`` key, from the registry of methods
+    (a method's check module is imported only when its kind of log is checked)."""
     from firstrung.methods import REGISTRY
 
-    return {m.log_kind: m.module("check").check_campaign for m in REGISTRY}
+    def check_of(method) -> Callable[[Campaign], KindCheck]:
+        return lambda campaign: method.module("check").check_campaign(campaign)
+
+    return {m.log_kind: check_of(m) for m in REGISTRY}
 
 
 @dataclass(frozen=True)
@@ -72,7 +86,7 @@ class CheckRun:
 
     @property
     def rows_read(self) -> int:
-        return sum(len(f.rows) for f in self.files)
+        return sum(len(f.numbers) for f in self.files)
 
     def inputs(self) -> list[Path]:
         """Every file the check read (an output must not replace one)."""
@@ -109,7 +123,7 @@ def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tu
         label = _logs.display_name(Path(path), campaign)
         if kept is not None and str(Path(path)) in kept:  # already read by the check: no second read
             header, numbers, cells = kept[str(Path(path))]
-            out.append(RawFile(kind, label, Path(path), header, tuple(zip(numbers, cells, strict=True))))
+            out.append(RawFile(kind, label, Path(path), header, numbers, cells))
             continue
         try:
             text = _text_of(Path(path).read_bytes(), label)
@@ -131,7 +145,7 @@ def read_raw_rows(campaign: Campaign, kind: str, kept: dict | None = None) -> tu
                     rows.append((number, tuple(cells)))
             except csv.Error:
                 pass
-        out.append(RawFile(kind, label, Path(path), header, tuple(rows)))
+        out.append(RawFile(kind, label, Path(path), header, [n for n, _ in rows], [c for _, c in rows]))
     return tuple(out)
 
 
@@ -162,7 +176,7 @@ def run_check(campaign_path) -> CheckRun:
         series.extend(result.series)
         noon_only = result.noon_only if result.noon_only is not None else noon_only
         files.extend(read_raw_rows(campaign, kind, kept))
-    columns = [(f.label, [n for n, _ in f.rows], f.column_cells("site"), f.column_cells("observer")) for f in files]
+    columns = [(f.label, f.numbers, f.column_cells("site"), f.column_cells("observer")) for f in files]
     needed = {(f.file, f.row) for f in flags if f.site is None and f.row is not None}
     site_of, observer_of = {}, {}
     for label, numbers, sites, observers in columns:  # only the rows whose flags lack a site
@@ -220,8 +234,8 @@ def status_csv(run: CheckRun) -> str:
     writer.writerow(columns + ["status", "flags", "source_file", "source_row"] + (["log"] if several else []))
     for f in run.files:
         by_column = [f.column_cells(c) for c in columns]
-        for (number, _), values in zip(f.rows, zip(*by_column, strict=True) if by_column else [()] * len(f.rows),
-                                       strict=True):
+        for number, values in zip(f.numbers, zip(*by_column, strict=True) if by_column else [()] * len(f.numbers),
+                                  strict=True):
             values = list(values)
             key = (f.label, number)
             extra = [f.kind] if several else []

@@ -33,21 +33,18 @@ def flag_to_json(flag) -> dict:
 def check_run_to_json(run) -> dict:
     """The ``check`` result (see DESIGN section 4)."""
     errors = sum(f.severity == "error" for f in run.flags)
-    from firstrung.flags import row_severities
-
-    severity = row_severities(run.flags)
-    states = [severity(f.label, n) for f in run.files for n, _ in f.rows]
-    flagged_rows = [s for s in states if s is not None]
-    error_rows = [s for s in states if s == "error"]
+    # the summary's rows per site count every row read once: its totals are the log's
+    flagged_rows = sum(s.flagged for s in run.summary if not s.observer)
+    error_rows = sum(s.errors for s in run.summary if not s.observer)
     return {
         "campaign": run.campaign.name,
         "checked": list(run.kinds),
         "flags": [flag_to_json(f) for f in run.flags],
         "rows": {
             "read": run.rows_read,
-            "accepted": run.rows_read - len(error_rows),
-            "flagged": len(flagged_rows),
-            "rejected": len(error_rows),
+            "accepted": run.rows_read - error_rows,
+            "flagged": flagged_rows,
+            "rejected": error_rows,
         },
         "counts": {
             "errors": errors,

@@ -72,7 +72,7 @@ def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c
 
 def altitude_error_terms_rad(
     gnomon_m, shadow_m, shadow_sigma_m, gnomon_sigma_m, edge, altitude_deg, semidiameter_deg,
-    refraction_deg, measured_weather,
+    refraction_deg, measured_weather, *, width_m=None,
 ) -> dict[str, np.ndarray]:
     """One-sigma error of the Sun's centre altitude from each input, per reading [rad].
 
@@ -81,7 +81,8 @@ def altitude_error_terms_rad(
     error, a fraction of the penumbra width (:data:`EDGE_LOCATION_FRACTION`),
     seen from the gnomon's tip; ``refraction``: a fraction of the refraction
     (:data:`REFRACTION_SIGMA_FRACTION_STANDARD` or ``_MEASURED``). The
-    reduction and the planner share these terms.
+    reduction and the planner share these terms. ``width_m``: the penumbra's width
+    (:func:`penumbra_width_m` at the altitude clipped to 1-89 deg) when already known.
 
     >>> t = altitude_error_terms_rad(1.0, 1.0, 0.002, 0.001, "umbra", 45.0, 0.2667, 0.0165, False)
     >>> round(float(t["shadow reading"]) * 206264.8, 1)
@@ -91,7 +92,7 @@ def altitude_error_terms_rad(
     length = np.asarray(shadow_m, float)
     denom = h**2 + length**2
     fraction = _per_edge(edge, EDGE_LOCATION_FRACTION)
-    width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg)
+    width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg) if width_m is None else width_m
     refraction_fraction = np.where(
         measured_weather, REFRACTION_SIGMA_FRACTION_MEASURED, REFRACTION_SIGMA_FRACTION_STANDARD
     )

@@ -61,7 +61,7 @@ from firstrung.flags import (
     SeriesDiagnosis,
     problem_flags,
 )
-from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN
+from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, penumbra_width_m
 from firstrung.methods.shadows.check_messages import (
     MIN_ROWS_FOR_SHAPE,
     NOON_ONLY_MEDIAN_H,
@@ -85,6 +85,8 @@ from firstrung.methods.shadows.check_statistics import (
     SeriesStatistic,
     _edge_sign,
     _error_terms,
+    distinct_sun,
+    edge_groups,
     _observed,
     _zone_offsets_h,
     check_footing,
@@ -223,10 +225,12 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     measured_weather = np.isfinite(rows.pressure_hpa)
     pressure = np.where(measured_weather, rows.pressure_hpa, standard_pressure_hpa(elev))
     sign = _edge_sign(rows.edge)
-    pred0, rate0, ha0, sd = sun_altitude_rad(t, lat, lon)
+    distinct0 = distinct_sun(t)
+    pred0, rate0, ha0, sd = sun_altitude_rad(t, lat, lon, distinct=distinct0)
     pred0_deg = np.degrees(pred0)
     obs0, refr0 = _observed(rows, rows.shadow_m, sign, sd, temperature, pressure)
-    rand0, sys0 = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather)
+    edges0 = edge_groups(rows.edge)
+    rand0, sys0 = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather, edge=edges0)
     rand0 = rand0 + (rate0 * READING_TIME_SIGMA_S) ** 2
     base = series_statistic(group, n_groups, obs0 - pred0, rate0, np.sqrt(rand0), sys0)
 
@@ -248,7 +252,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
                   pick(t), pick(lat), pick(lon), pick(sign), pick(sd), pick(temperature), pick(pressure),
                   pick(measured_weather), pick(zone_offset_h))
     tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),
-                               pick(rand0), pick(sys0))
+                               pick(rand0), pick(sys0), distinct0 if sel.size == n else None,
+                               edges0 if sel.size == n else None)
     del sub
     stats, fits, separations = _widen(tried, needy, sel, n_groups, n)
 
@@ -335,43 +340,67 @@ class _Inputs:
     zone_offset_h: np.ndarray
 
 
-def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0):
-    """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``."""
+def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0, distinct0=None, edges0=None):
+    """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``.
+
+    ``distinct0``, ``edges0``: the geocentric Sun of ``x.t`` and the rows' edge groups, when known. The
+    geocentric Sun is computed once per time shift (a coordinate's sign keeps the times), the penumbra's
+    width once, and a hypothesis that separates from the logged reading in no series is not fitted
+    (:func:`_decide` never takes it).
+    """
     rows, n = x.rows, len(x.rows)
     pred0_deg = np.degrees(pred0)
+    distinct0 = distinct_sun(x.t) if distinct0 is None else distinct0
+    edges0 = edge_groups(rows.edge) if edges0 is None else edges0
+    width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), x.sd)
+    time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
+    sqrt_rand0 = np.sqrt(rand0)
     stats, fits, separations = [], [], []
     for h in HYPOTHESES:  # a few dozen hypotheses, each vectorised over every row
         pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
         if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
             shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
-            t_h = x.t + np.round(shift_h * 3600e3).astype(np.int64).astype("timedelta64[ms]")
+            shift_ms = np.round(shift_h * 3600e3).astype(np.int64)
+            uniform = bool(np.all(shift_ms == shift_ms[0]))
+            t_h = distinct0[3] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
+                x.t + shift_ms.astype("timedelta64[ms]"))
             if not _in_span(t_h):
                 stats.append(None)
                 fits.append(None)
                 separations.append(np.zeros(x.n_groups))
                 continue
-            pred, rate, _, _ = sun_altitude_rad(t_h, x.lat * h.latitude_sign, x.lon * h.longitude_sign)
-            rand = rand0 - (rate0 * READING_TIME_SIGMA_S) ** 2 + (rate * READING_TIME_SIGMA_S) ** 2
+            distinct = distinct_sun(None, int(shift_ms[0]), like=distinct0) if uniform else distinct_sun(t_h)
+            pred, rate, _, _ = sun_altitude_rad(None, x.lat * h.latitude_sign, x.lon * h.longitude_sign,
+                                                distinct=distinct)
+            rand = rand0 - time_sigma0 + (rate * READING_TIME_SIGMA_S) ** 2
         if h.factor != 1.0:
             length = rows.shadow_m / h.factor
             obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather)
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
+                                      width_m=width0)
+            rand = rand + time_sigma0
         if h.angle is not None:
             angle = np.isfinite(rows.altitude_read_deg)
             retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
             length = np.where(angle, equivalent_length_m(retyped), rows.shadow_m)
             obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather)
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
+            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
+                                      width_m=width0)
+            rand = rand + time_sigma0
         if h.edge is not None:
             obs = obs0 - np.radians((EDGE_LIMB_SIGN[h.edge] - x.sign) * x.sd)
             rand, sysv = _error_terms(rows, rows.shadow_m, pred0_deg, x.sd, refr0, x.measured_weather,
-                                      edge=np.full(n, h.edge, dtype=object))
-            rand = rand + (rate0 * READING_TIME_SIGMA_S) ** 2
-        fit = series_statistic(x.group, x.n_groups, obs - pred, rate, np.sqrt(rand), sysv)
-        sep = series_statistic(x.group, x.n_groups, residual0 - (obs - pred), rate0, np.sqrt(rand0), sys0,
+                                      edge=h.edge, width_m=width0)
+            rand = rand + time_sigma0
+        residual = obs - pred
+        sep = series_statistic(x.group, x.n_groups, residual0 - residual, rate0, sqrt_rand0, sys0,
                                robust=False).statistic
+        if not (sep >= MIN_SEPARATION).any():  # the same as the logged reading everywhere: never decisive
+            stats.append(None)
+            fits.append(None)
+            separations.append(sep)
+            continue
+        fit = series_statistic(x.group, x.n_groups, residual, rate, np.sqrt(rand), sysv)
         stats.append(fit.statistic)
         fits.append(fit)
         separations.append(sep)

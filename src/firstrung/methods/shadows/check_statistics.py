@@ -143,7 +143,32 @@ def check_footing(rows: ShadowReadings) -> ShadowReadings:
     return replace(rows, **picked)
 
 
-def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
+def distinct_sun(time_utc, shift_ms: int = 0, like=None):
+    """The geocentric Sun once per distinct time: ``(xyz_km, gast_rad, inverse)`` for :func:`sun_altitude_rad`.
+
+    ``like``: the distinct Sun of the same times unshifted; a whole shift of
+    every time keeps which rows share a time, so its sorting is not repeated.
+    """
+    from firstrung import ephemeris
+
+    if like is not None and shift_ms == 0:
+        return like
+    if like is None:
+        t = np.asarray(time_utc, dtype="datetime64[us]")
+        if shift_ms:
+            t = t + np.timedelta64(shift_ms * 1000, "us")
+        ephemeris.check_in_span(t)
+        unique_t, inverse = np.unique(t, return_inverse=True)
+        del t
+    else:
+        unique_t = like[3] + np.timedelta64(shift_ms * 1000, "us")
+        inverse = like[2]
+        ephemeris.check_in_span(unique_t)
+    xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
+    return xyz_km, gast_rad, inverse, unique_t
+
+
+def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None):
     """True (airless) topocentric altitude of the Sun's centre, its rate, hour angle and semi-diameter.
 
     The geocentric apparent Sun comes from the ephemeris once per distinct
@@ -159,6 +184,9 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
     latitude_deg, longitude_deg : arrays (n,)
         Sites [deg].
 
+    distinct : optional
+        The geocentric Sun of these times from :func:`distinct_sun` (computed when not given).
+
     Returns
     -------
     altitude_rad, altitude_rate_rad_s, hour_angle_rad, semidiameter_deg : arrays (n,)
@@ -168,13 +196,7 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg):
     >>> round(float(np.degrees(a[0])), 1), round(float(sd[0]) * 60, 2)
     (67.2, 15.74)
     """
-    from firstrung import ephemeris
-
-    t = np.asarray(time_utc, dtype="datetime64[us]")
-    ephemeris.check_in_span(t)
-    unique_t, inverse = np.unique(t, return_inverse=True)
-    del t
-    xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
+    xyz_km, gast_rad, inverse, _ = distinct_sun(time_utc) if distinct is None else distinct
     distance_km = np.sqrt(np.sum(xyz_km**2, axis=0))
     dec = np.arcsin(xyz_km[2] / distance_km)
     # per distinct time what the rows share, then per row in place (a long log's memory is in its temporaries)
@@ -264,6 +286,7 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
     r = np.asarray(residual_rad, float)
     d = np.asarray(rate_rad_s, float)
     w = 1.0 / np.asarray(sigma_random_rad, float) ** 2
+    sqrt_w = np.sqrt(w)
     count = np.bincount(group, minlength=n_groups)
     prior = 1.0 / CHECK_CLOCK_SIGMA_S**2
     if robust:
@@ -276,18 +299,19 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
     iterations = _FIT_ITERATIONS if robust else 1
     for _ in range(iterations):
         if robust:
-            z = (r - m[group] - d * u[group]) * np.sqrt(w)
+            z = (r - m[group] - d * u[group]) * sqrt_w
             weight = w * np.minimum(1.0, HUBER_SIGMA / np.maximum(np.abs(z), 1e-12))
+        weight_d = weight * d
         a = _sums(group, n_groups, weight)
-        b = _sums(group, n_groups, weight * d)
-        c = _sums(group, n_groups, weight * d * d) + prior
+        b = _sums(group, n_groups, weight_d)
+        c = _sums(group, n_groups, weight_d * d) + prior
         b1 = _sums(group, n_groups, weight * r)
-        b2 = _sums(group, n_groups, weight * d * r)
+        b2 = _sums(group, n_groups, weight_d * r)
         det = a * c - b * b
         m = (c * b1 - b * b2) / det
         u = (a * b2 - b * b1) / det
     var_m = c / det
-    z = (r - m[group] - d * u[group]) * np.sqrt(w)
+    z = (r - m[group] - d * u[group]) * sqrt_w
     z2 = np.minimum(z * z, RESIDUAL_CAP_SIGMA**2) if robust else z * z
     scatter = _sums(group, n_groups, z2)
     v_sys = _sums(group, n_groups, variance_systematic_rad2) / np.maximum(count, 1)
@@ -317,28 +341,53 @@ def _observed(rows: ShadowReadings, length_m, sign, semidiameter_deg, temperatur
     return np.radians(centre_deg), refraction_deg
 
 
+def edge_groups(edge) -> tuple[tuple[str, np.ndarray | None], ...]:
+    """Each edge name of the rows and the rows that mark it (None: every row), for :func:`_error_terms`."""
+    if isinstance(edge, str):
+        return ((edge, None),)
+    names, code = np.unique(np.asarray(edge, dtype=object).astype(str), return_inverse=True)
+    if names.size == 1:
+        return ((str(names[0]), None),)
+    return tuple((str(name), code == k) for k, name in enumerate(names))
+
+
 def _error_terms(rows: ShadowReadings, length_m, altitude_deg, semidiameter_deg, refraction_deg, measured_weather,
-                 edge=None):
-    """(random reading variance, systematic variance) per row [rad^2], from altitude_error_terms_rad."""
+                 edge=None, width_m=None):
+    """(random reading variance, systematic variance) per row [rad^2], from altitude_error_terms_rad.
+
+    ``edge``: the rows' edges (default: as logged), one edge name for every row, or their
+    :func:`edge_groups`; ``width_m``: the penumbra's width at ``altitude_deg`` when known.
+    """
+    groups = edge if isinstance(edge, tuple) else edge_groups(rows.edge if edge is None else edge)
+    if len(groups) == 1 and groups[0][1] is None:  # one edge for every row: no copies
+        return _edge_error_terms(groups[0][0], rows.gnomon_m, length_m, rows.shadow_sigma_m, rows.gnomon_sigma_m,
+                                 altitude_deg, semidiameter_deg, refraction_deg, measured_weather,
+                                 rows.altitude_read_deg, width_m)
     random_var = np.zeros(len(rows))
     systematic_var = np.zeros(len(rows))
-    edges = np.asarray(rows.edge if edge is None else edge, dtype=object).astype(str)
-    for name in np.unique(edges):  # at most three edge names
-        pick = edges == name
-        terms = altitude_error_terms_rad(
-            rows.gnomon_m[pick], length_m[pick], rows.shadow_sigma_m[pick], rows.gnomon_sigma_m[pick],
-            name, altitude_deg[pick], semidiameter_deg[pick], refraction_deg[pick], measured_weather[pick],
-        )
-        random_var[pick] = terms["shadow reading"] ** 2
-        systematic_var[pick] = (terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
-                                + terms["board level"] ** 2 + terms["gnomon plumb"] ** 2)
-        angle = pick & np.isfinite(rows.altitude_read_deg)
-        if angle.any():  # an instrument set on a limb: its judgement, not a shadow's edge
-            from firstrung.methods.shadows.forms import LIMB_JUDGEMENT_FRACTION
+    for name, pick in groups:  # at most three edge names
+        random_var[pick], systematic_var[pick] = _edge_error_terms(
+            name, rows.gnomon_m[pick], length_m[pick], rows.shadow_sigma_m[pick], rows.gnomon_sigma_m[pick],
+            altitude_deg[pick], semidiameter_deg[pick], refraction_deg[pick], measured_weather[pick],
+            rows.altitude_read_deg[pick], None if width_m is None else width_m[pick])
+    return random_var, systematic_var
 
-            limb = {"umbra": "upper", "middle": "centre", "outer": "lower"}.get(name, "centre")
-            judgement = np.radians(LIMB_JUDGEMENT_FRACTION[limb] * semidiameter_deg[angle])
-            systematic_var[angle] = judgement**2 + terms["refraction"][angle[pick]] ** 2
+
+def _edge_error_terms(name, gnomon_m, length_m, shadow_sigma_m, gnomon_sigma_m, altitude_deg, semidiameter_deg,
+                      refraction_deg, measured_weather, altitude_read_deg, width_m):
+    """The variances of :func:`_error_terms` for rows that all mark the edge ``name``."""
+    terms = altitude_error_terms_rad(gnomon_m, length_m, shadow_sigma_m, gnomon_sigma_m, name, altitude_deg,
+                                     semidiameter_deg, refraction_deg, measured_weather, width_m=width_m)
+    random_var = terms["shadow reading"] ** 2
+    systematic_var = (terms["gnomon height"] ** 2 + terms["edge location"] ** 2 + terms["refraction"] ** 2
+                      + terms["board level"] ** 2 + terms["gnomon plumb"] ** 2)
+    angle = np.isfinite(altitude_read_deg)
+    if angle.any():  # an instrument set on a limb: its judgement, not a shadow's edge
+        from firstrung.methods.shadows.forms import LIMB_JUDGEMENT_FRACTION
+
+        limb = {"umbra": "upper", "middle": "centre", "outer": "lower"}.get(name, "centre")
+        judgement = np.radians(LIMB_JUDGEMENT_FRACTION[limb] * semidiameter_deg[angle])
+        systematic_var[angle] = judgement**2 + terms["refraction"][angle] ** 2
     return random_var, systematic_var
 
 
