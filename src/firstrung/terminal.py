@@ -42,16 +42,35 @@ def _measures(console: Console, table: Table) -> list[tuple[int, int]]:
     may not wrap (``no_wrap``), the widest cell whole (its header may still wrap).
     """
     options = console.options.update_width(10**6)
+    known = _measured(console)
+
+    def measure(renderable) -> Measurement:
+        if type(renderable) is not str:
+            return Measurement.get(console, options, renderable)
+        found = known.get(renderable)
+        if found is None:
+            found = known[renderable] = Measurement.get(console, options, renderable)
+        return found
+
     out = []
     for column in table.columns:
         pad = table._get_padding_width(column._index)
-        head = Measurement.get(console, options, column.header) if table.show_header else Measurement(0, 0)
-        cells = [Measurement.get(console, options, c) for c in column._cells] or [Measurement(1, 1)]
+        head = measure(column.header) if table.show_header else Measurement(0, 0)
+        cells = [measure(c) for c in column._cells] or [Measurement(1, 1)]
         body_min = max((c.maximum if column.no_wrap else c.minimum) for c in cells)
         lo = max(head.minimum, body_min, column.min_width or 0)
         hi = max(head.maximum, max(c.maximum for c in cells), lo)
         out.append((lo + pad, hi + pad))
     return out
+
+
+def _measured(console: Console) -> dict[str, Measurement]:
+    """The widths of the texts this console has measured (a table split in parts measures its cells again)."""
+    known = getattr(console, "_firstrung_measured", None)
+    if known is None:
+        known = {}
+        console._firstrung_measured = known
+    return known
 
 
 def _fits(console: Console, table: Table, width: int) -> bool:

@@ -29,16 +29,29 @@ def _loaded():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         import skyfield_data
-        from skyfield.api import Loader
+        from skyfield.jpllib import SpiceKernel
 
         folder = os.path.join(os.path.dirname(skyfield_data.__file__), "data")
-        loader = Loader(folder, verbose=False)
         if not os.path.exists(os.path.join(folder, EPHEMERIS_FILE)):  # pragma: no cover
             raise InputError(f"the ephemeris file {EPHEMERIS_FILE} is missing from skyfield-data")
-        ephemeris = loader(EPHEMERIS_FILE)
-        timescale = loader.timescale(builtin=True)
+        # what skyfield's Loader does for a local kernel and its builtin timescale, without its
+        # module for downloads (never used here: its network libraries cost every command's start)
+        ephemeris = SpiceKernel(os.path.join(folder, EPHEMERIS_FILE))
+        timescale = _builtin_timescale()
     atexit.register(ephemeris.close)
     return timescale, ephemeris, ephemeris["earth"], ephemeris["sun"]
+
+
+def _builtin_timescale():
+    """skyfield's ``Loader.timescale(builtin=True)``: its bundled Delta T and leap-second tables."""
+    from skyfield.functions import load_bundled_npy
+    from skyfield.timelib import Timescale
+
+    arrays = load_bundled_npy("iers.npz")
+    daily_tt = arrays["tt_jd_minus_arange"]
+    daily_tt += np.arange(len(daily_tt))
+    daily_delta_t = (arrays["delta_t_1e7"] / 1e7).round(7)
+    return Timescale((daily_tt, daily_delta_t), arrays["leap_dates"], arrays["leap_offsets"])
 
 
 def timescale():
