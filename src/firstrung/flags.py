@@ -9,6 +9,7 @@ observer for. Each method's ``check`` module makes the flags of its own log.
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
 import re
 from dataclasses import dataclass, field
@@ -289,6 +290,39 @@ class KindCheck:
     flags: tuple[Flag, ...]
     series: tuple[SeriesDiagnosis, ...] = ()
     noon_only: bool | None = None
+
+
+#: While :func:`checks_shared` runs: the checks made, by kind, campaign and log (see :func:`shared_check`).
+_SHARED: dict | None = None
+
+
+@contextlib.contextmanager
+def checks_shared():
+    """Within: a log checked twice (a report reduces its logs, leaving out the rows the check refuses,
+    then shows the check itself) is checked once, when the campaign and the log read are the same."""
+    global _SHARED
+    previous, _SHARED = _SHARED, {}
+    try:
+        yield
+    finally:
+        _SHARED = previous
+
+
+def shared_check(kind: str, campaign, log, compute):
+    """``compute()``, or within :func:`checks_shared` the result it gave for the same campaign (the same
+    object) and a log of the same content (every array and problem, compared by their serialised bytes)."""
+    if _SHARED is None:
+        return compute()
+    import hashlib
+    import pickle
+
+    key = (kind, id(campaign), hashlib.blake2b(pickle.dumps(log, protocol=5)).digest())
+    found = _SHARED.get(key)
+    if found is not None and found[0] is campaign:
+        return found[1]
+    result = compute()
+    _SHARED[key] = (campaign, result)
+    return result
 
 
 def error_rows(campaign, log, check) -> frozenset[tuple[str, int]]:

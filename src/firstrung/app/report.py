@@ -101,7 +101,15 @@ def _same_numbers_as_the_table(section: dict, rows: list[dict]) -> None:
 
 
 def build_report(campaign_path, *, samples: int, seed: int, progress=lambda step: None) -> Report:
-    """Reduce every rung with logs, chain the ladder, and ask each method for its section."""
+    """Reduce every rung with logs, chain the ladder, and ask each method for its section (a log the
+    reductions checked is not checked again for the report's own check)."""
+    from firstrung.flags import checks_shared
+
+    with checks_shared():
+        return _build_report(campaign_path, samples=samples, seed=seed, progress=progress)
+
+
+def _build_report(campaign_path, *, samples: int, seed: int, progress) -> Report:
     from firstrung import figures
     from firstrung.app.ladder_json import ladder_to_json
     from firstrung.app.ladder_run import run_ladder

@@ -513,9 +513,14 @@ def check_shadow_log(campaign: Campaign, log) -> tuple[ShadowCheck, list[Flag]]:
     Returns the check of the good rows and the flags for the rows the reader
     (or the gnomon lookup) refused.
     """
-    rows, extra = shadow_readings(campaign, log)
-    result = check_shadow_rows(check_sites(campaign), rows)
-    return result, problem_flags(tuple(log.problems) + tuple(extra))
+    from firstrung.flags import shared_check
+
+    def compute():
+        rows, extra = shadow_readings(campaign, log)
+        result = check_shadow_rows(check_sites(campaign), rows)
+        return result, problem_flags(tuple(log.problems) + tuple(extra))
+
+    return shared_check("shadows", campaign, log, compute)
 
 
 def log_flags(campaign: Campaign, log) -> list[Flag]:
