@@ -592,7 +592,9 @@ def bench_network(root: Path, schools: int, repeats: int, quick: bool) -> list[R
                    env=ENV, capture_output=True, check=True)
     work = f"{schools:,} schools, one reading each, pairs included"
     out = folder / "report.html"
-    return [bench_command("reduce shadows", work, ["reduce", "shadows", str(camp)], repeats,
+    return [bench_command("check", f"{schools:,} schools, one reading each", ["check", str(camp)], repeats,
+                          ok=(0, 1, 2)),
+            bench_command("reduce shadows", work, ["reduce", "shadows", str(camp)], repeats,
                           "" if quick else "< 2 s", ok=(0, 1, 2)),
             bench_command("report", work, ["report", str(camp), "-o", str(out)], max(1, repeats // 2),
                           "" if quick else "< 10 s", ok=(0, 1, 2))]
@@ -687,9 +689,24 @@ def main() -> None:
     parser.add_argument("--targets", action="store_true",
                         help="only the paths with targets (issue 18) and the scaling table, 3 cold runs each "
                              "(1 for the largest): for a shared machine where the full run takes hours")
+    parser.add_argument("--network", action="store_true",
+                        help="only the open network of 1,000 schools (check, reduce, report), 3 cold runs each, "
+                             "with the load average before and after")
     args = parser.parse_args()
     quick = args.quick
     r = 1 if quick else 5  # cold runs per measurement (median)
+    if args.network:
+        load_before = os.getloadavg()
+        with tempfile.TemporaryDirectory() as scratch:
+            rows = bench_network(Path(scratch), 40 if quick else 1_000, 1 if quick else 3, quick)
+        load_after = os.getloadavg()
+        header = (machine_line(quick).replace("(full)", "(network)") + f"; load average (1 min) {load_before[0]:.1f} "
+                  f"at the start, {load_after[0]:.1f} at the end, on {os.cpu_count()} cores")
+        print(header)
+        print_table(rows)
+        if args.markdown:
+            args.markdown.write_text(markdown(rows, [], header))
+        return
     if args.targets:
         targets_run(args.markdown)
         return
