@@ -669,6 +669,8 @@ def markdown(rows: list[Row], points: list[Point], header: str) -> str:
                    f"{_fmt_s(r.cold.cpu_s) if r.cold else '-'} | "
                    f"{f'{r.cold.peak_mb:.0f}' if r.cold else '-'} | {_fmt_s(r.warm_s)} | {_fmt_s(r.inner_s)} | "
                    f"{base or '-'} | {r.agreement or '-'} | {r.target or '-'} |")
+    if not points:  # a run without the scaling table (--forms, --network)
+        return "\n".join(out) + "\n"
     out += ["", "Scaling (whole command, cold, median of the runs; peak RSS the largest):", "",
             "| command | sites | rows | time (s) | CPU (s) | peak RSS (MB) |", "|---|---:|---:|---:|---:|---:|"]
     for p in points:
