@@ -112,3 +112,30 @@ def test_the_network_map_draws_the_coastlines_that_reach_into_it_at_a_resolution
     near = coastlines_in(map_extent([40.0, 60.0], [-5.0, 25.0]), "l")
     drawn = sum(len(c.get_paths()) for c in europe.axes[0].collections if isinstance(c, PolyCollection))
     assert drawn == sum(len(v) for v in near.values()) and drawn < len(coastline_polygons("l")) / 4
+
+
+def test_simulate_network_puts_schools_on_land_and_the_same_seed_writes_the_same_bytes(tmp_path, capsys, monkeypatch):
+    import csv
+
+    from tests.helpers import run_cli
+
+    camp = tmp_path / "network.toml"
+    camp.write_text('[campaign]\nname = "Equinox network"\n[logs]\nshadows = ["logs/shadows.csv"]\n')
+    logs = []
+    for k in range(2):
+        out = tmp_path / f"logs{k}"
+        code, _, err = run_cli(["simulate", "shadows", camp, "--from", "2027-03-20", "--to", "2027-03-20", "-o", out,
+                                "--network", "80", "--seed", "9"], capsys, monkeypatch)
+        assert code == 0, err
+        logs.append((out / "shadows.csv").read_bytes())
+    assert logs[0] == logs[1]
+    rows = list(csv.DictReader(logs[0].decode().splitlines()))
+    lat = np.array([float(r["latitude_deg"]) for r in rows])
+    lon = np.array([float(r["longitude_deg"]) for r in rows])
+    # every school on land; a blunder that flips a longitude's sign is logged as sent
+    from firstrung.methods.shadows.rehearsal_network import simulate_network
+
+    net = simulate_network(80, "2027-03-20", 9)
+    flipped = net.blunder == "longitude-sign"
+    assert np.allclose(lat, net.latitude_deg, rtol=0, atol=1e-9) and np.allclose(lon, net.longitude_deg, rtol=0, atol=1e-9)
+    assert flipped.any() and on_land(lat, np.where(flipped, -lon, lon)).all()
