@@ -349,6 +349,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     (:func:`_decide` never takes it).
     """
     rows, n = x.rows, len(x.rows)
+    if n == 0:  # no series needs a hypothesis (a log of one reading that fits): none is tried
+        return [None] * len(HYPOTHESES), [None] * len(HYPOTHESES), [np.zeros(x.n_groups)] * len(HYPOTHESES)
     pred0_deg = np.degrees(pred0)
     distinct0 = distinct_sun(x.t) if distinct0 is None else distinct0
     edges0 = edge_groups(rows.edge) if edges0 is None else edges0
