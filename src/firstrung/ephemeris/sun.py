@@ -245,6 +245,9 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
         sun_xyz_km, gast_rad = _geocentric_sun(unique_t, uses)
         inverse = inverse.ravel()
     lat_f, lon_f, elev_f = lat_b.ravel(), lon_b.ravel(), elev_b.ravel()
+    # each site's place on the ellipsoid once, when the sites are broadcast over times
+    site_xyz = None if lat_b.size <= max(lat.size, lon.size, elev.size) else [
+        np.broadcast_to(c, shape).ravel() for c in geodetic_to_itrs_km(*np.broadcast_arrays(lat, lon, elev))]
     n = lat_f.size
     fields = ("hour_angle_deg",) if hour_angle_only else tuple(SunPosition.__dataclass_fields__)
     out = {f: np.empty(n) for f in fields}
@@ -252,7 +255,8 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
     for a in range(0, max(n, 1), _TOPOCENTRIC_CHUNK):
         part = slice(a, a + _TOPOCENTRIC_CHUNK)
         k = part if inverse is None else inverse[part]
-        p = _topocentric(sun_xyz_km[:, k], gast_rad[k], lat_f[part], lon_f[part], elev_f[part], hour_angle_only)
+        p = _topocentric(sun_xyz_km[:, k], gast_rad[k], lat_f[part], lon_f[part], elev_f[part], hour_angle_only,
+                         None if site_xyz is None else [c[part] for c in site_xyz])
         for f in fields:
             out[f][part] = p[f]
     if hour_angle_only:
@@ -260,9 +264,13 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
     return SunPosition(**{f: v.reshape(shape) for f, v in out.items()})
 
 
-def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only: bool = False) -> dict:
-    """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle (flat arrays)."""
-    x, y, z = geodetic_to_itrs_km(lat_deg, lon_deg, elev_m)
+def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only: bool = False,
+                 site_xyz=None) -> dict:
+    """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle (flat arrays).
+
+    ``site_xyz``: the sites' ITRS coordinates [km] when already known.
+    """
+    x, y, z = geodetic_to_itrs_km(lat_deg, lon_deg, elev_m) if site_xyz is None else site_xyz
     cos_g, sin_g = np.cos(gast_rad), np.sin(gast_rad)
     site = np.stack([x * cos_g - y * sin_g, x * sin_g + y * cos_g, z])
     velocity_km_s = EARTH_ROTATION_RATE_RAD_PER_S * np.stack([-site[1], site[0], np.zeros_like(site[0])])

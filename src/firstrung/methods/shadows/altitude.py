@@ -7,6 +7,11 @@ import numpy as np
 from firstrung.errors import InputError
 from firstrung.refraction import refraction_from_apparent_deg
 
+#: Readings are used when the Sun is at least this high [deg]; lower ones are left out of the
+#: reduction and counted (the check says so of each).
+MIN_ALTITUDE_DEG = 5.0
+
+
 #: Signed multiple of the Sun's semi-diameter from the Sun's centre to the ray
 #: that casts each marked edge: the umbra tip comes from the upper limb.
 EDGE_LIMB_SIGN = {"umbra": 1.0, "middle": 0.0, "outer": -1.0}

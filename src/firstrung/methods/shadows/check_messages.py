@@ -9,6 +9,7 @@ import numpy as np
 from firstrung.flags import (
     Flag,
 )
+from firstrung.methods.shadows.altitude import MIN_ALTITUDE_DEG
 from firstrung.methods.shadows.check_statistics import (
     _ARCMIN_PER_RAD,
     LENGTH_FACTORS,
@@ -18,7 +19,6 @@ from firstrung.methods.shadows.check_statistics import (
     _Hypothesis,
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
-from firstrung.methods.shadows.reduction import MIN_ALTITUDE_DEG
 
 #: Fewest rows for a time, longitude, latitude or edge hypothesis (the shape
 #: of the series is needed); a length unit is judged from a single row.

@@ -43,6 +43,7 @@ from firstrung.geodesy import (
     meridional_radius_of_curvature_km,
 )
 from firstrung.methods.shadows.altitude import (
+    MIN_ALTITUDE_DEG,
     altitude_error_terms_rad,
     centre_altitude_deg,
     edge_altitude_deg,
@@ -74,9 +75,8 @@ from firstrung.uncertainty import (
     reciprocal_of_gaussian,
 )
 
-#: Readings are used when the Sun is at least this high [deg] and this near
+#: Readings are used when the Sun is at least MIN_ALTITUDE_DEG high (altitude.py) and this near
 #: noon [h]; others are left out and counted.
-MIN_ALTITUDE_DEG = 5.0
 MAX_HOUR_ANGLE_H = 3.0
 #: A site whose leave-one-out residual exceeds this many sigma is named an
 #: outlier and left out (only with four or more sites).
