@@ -115,4 +115,19 @@ def plural(n: int, word: str, many: str | None = None) -> str:
     return f"{n:,} {word if n == 1 else (many or word + 's')}"
 
 
-__all__ = ["plural", "latitude_text", "longitude_text", "rounded", "row_ranges"]
+def median(values) -> float:
+    """The median, the same number as ``numpy.median`` gives, without loading numpy's masked arrays for it.
+
+    >>> median([3.0, 1.0, 2.0, 10.0])
+    2.5
+    """
+    import numpy as np
+
+    ordered = np.sort(np.asarray(values, dtype=float).ravel())
+    n = ordered.size
+    if n == 0 or np.isnan(ordered[-1]):  # numpy's own answer (NaN) and its warning
+        return float(np.median(ordered))
+    return float(ordered[(n - 1) // 2]) if n % 2 else float((ordered[n // 2 - 1] + ordered[n // 2]) / 2.0)
+
+
+__all__ = ["median", "plural", "latitude_text", "longitude_text", "rounded", "row_ranges"]

@@ -98,6 +98,7 @@ from firstrung.methods.shadows.check_statistics import (
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log import shadow_readings
+from firstrung.numbers import median
 from firstrung.refraction import standard_pressure_hpa
 
 __all__ = [
@@ -265,7 +266,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
                           min_rows=MIN_ROWS_FOR_SHAPE)
     for g, p in pairs.items():
         verdicts[g] = (p.verdict, None, p.candidates)
-    noon_only = bool(np.median(np.abs(ha0)) <= np.radians(NOON_ONLY_MEDIAN_H * 15.0))
+    noon_only = bool(median(np.abs(ha0)) <= np.radians(NOON_ONLY_MEDIAN_H * 15.0))
     flags: list[Flag] = []
     diagnoses: list[SeriesDiagnosis] = []
     chosen_z = base.z.copy()

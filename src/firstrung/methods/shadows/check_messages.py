@@ -19,6 +19,7 @@ from firstrung.methods.shadows.check_statistics import (
     _Hypothesis,
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.numbers import median
 
 #: Fewest rows for a time, longitude, latitude or edge hypothesis (the shape
 #: of the series is needed); a length unit is judged from a single row.
@@ -240,7 +241,7 @@ def _outlier_flags(sites, rows, group, n_groups, count, z, residual0, rand0, sys
         # a network of single readings: their spread about the Sun, when larger than stated, scales
         # the test as a series' own spread does (schools state no errors; their readings scatter)
         d = (residual0 / np.sqrt(rand0 + sys0))[small]
-        direct = direct / max(1.0, 1.4826 * float(np.median(np.abs(d - np.median(d)))))
+        direct = direct / max(1.0, 1.4826 * median(np.abs(d - median(d))))
     score = np.where(small, direct, score)
     explained = np.array([v[0] == "explained" for v in verdicts])
     # in an unexplained series the whole series is flagged; rows are not tested one by one

@@ -3,8 +3,12 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from firstrung.campaign_model import Campaign
 
 #: Prior one-sigma of a clock's offset [s]: weak, it only matters when the
 #: readings cannot show where noon fell (one reading, or all on one side).
@@ -93,3 +97,19 @@ class BaselineInput:
     distance_km: float
     sigma_km: float
     bearing_deg: float | None
+
+
+def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
+    """The campaign's sites as the methods take them."""
+    return tuple(
+        SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in campaign.sites
+    )
+
+
+def baseline_inputs(campaign: Campaign) -> tuple[BaselineInput, ...]:
+    """The campaign's surveyed baselines, by site index."""
+    index = {s.id: i for i, s in enumerate(campaign.sites)}
+    return tuple(
+        BaselineInput(index[b.sites[0]], index[b.sites[1]], b.distance_km, b.sigma_km, b.bearing_deg)
+        for b in campaign.baselines
+    )

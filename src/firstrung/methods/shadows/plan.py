@@ -18,7 +18,7 @@ from firstrung.methods.shadows.prediction import (
     ShadowPlan,
     plan_shadows,
 )
-from firstrung.methods.shadows.run import baseline_inputs
+from firstrung.methods.shadows.inputs import baseline_inputs
 from firstrung.safety import SOLAR_CAUTION
 
 #: Length of a calendar session around local apparent noon [min], as on the field sheet.

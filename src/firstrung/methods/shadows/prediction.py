@@ -24,6 +24,7 @@ from firstrung.methods.shadows.altitude import (
 )
 from firstrung.methods.shadows.fits import north_south_positions
 from firstrung.methods.shadows.inputs import SiteInput
+from firstrung.numbers import median
 from firstrung.refraction import apparent_from_true_altitude_deg, refraction_from_apparent_deg
 
 #: Readings a site takes around noon in the plan's error model: every 2 min
@@ -212,7 +213,7 @@ def plan_shadows(
         sigma_latitude_deg=np.degrees(sigma_lat),
         sigma_terms_deg={k: np.degrees(v) for k, v in terms.items()},
         sigma_radius_km=sigma_radius,
-        expected_radius_km=float(np.median(radius)),
+        expected_radius_km=median(radius),
         rank=rank,
         excluded=tuple(tuple(e) for e in excluded),
         special=tuple(tuple(s) for s in special),

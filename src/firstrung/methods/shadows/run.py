@@ -13,7 +13,7 @@ import numpy as np
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import ComputationError, InputError, RowProblem
-from firstrung.methods.shadows.inputs import BaselineInput, ShadowReadings, SiteInput
+from firstrung.methods.shadows.inputs import ShadowReadings, baseline_inputs, site_inputs
 from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
 from firstrung.methods.shadows.reduction import ShadowReduction, reduce_shadows
 
@@ -38,22 +38,6 @@ class ShadowRun:
     #: what a school whose reading was not used is told (:mod:`firstrung.methods.shadows.unused`).
     flags: tuple = ()
     log: object = None  # log.ShadowLog
-
-
-def site_inputs(campaign: Campaign) -> tuple[SiteInput, ...]:
-    """The campaign's sites as the methods take them."""
-    return tuple(
-        SiteInput(s.id, s.name, s.latitude_deg, s.longitude_deg, s.elevation_m) for s in campaign.sites
-    )
-
-
-def baseline_inputs(campaign: Campaign) -> tuple[BaselineInput, ...]:
-    """The campaign's surveyed baselines, by site index."""
-    index = {s.id: i for i, s in enumerate(campaign.sites)}
-    return tuple(
-        BaselineInput(index[b.sites[0]], index[b.sites[1]], b.distance_km, b.sigma_km, b.bearing_deg)
-        for b in campaign.baselines
-    )
 
 
 def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
