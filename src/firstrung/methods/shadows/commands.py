@@ -150,19 +150,9 @@ def _render(run, days, caution: str, ics, site=None, sites_csv=None) -> None:
         row.append(", ".join(plan.special[k]) if not many else summary_note(plan.special[k]))
         table.add_row(*row)
     out.print(table)
-    reasons: dict[str, int] = {}
-    for e in plan.excluded:
-        keys = set()
-        for r in e:
-            key = r.split(" at ")[0] if r.startswith(("Sun only", "shadow")) else r
-            key = "Sun too low at noon" if key.startswith("Sun only") else key
-            key = "shadow longer than the board" if key.startswith("shadow") else key
-            key = "not a chosen weekday" if key.startswith("not a chosen weekday") else key
-            keys.add(key)
-        for key in keys:  # days, not site-days: a day too low at three sites is one day
-            reasons[key] = reasons.get(key, 0) + 1
+    reasons = plan.excluded.kinds()  # days, not site-days: a day too low at three sites is one day
     if reasons:
-        n_out = sum(1 for e in plan.excluded if e)
+        n_out = int(plan.excluded.any.sum())
         out.print(f"  days ruled out: {n_out} of {len(plan.dates)} (a day may have several reasons)")
         for k, v in sorted(reasons.items()):
             out.print(f"    {k}: {v} {'day' if v == 1 else 'days'}")

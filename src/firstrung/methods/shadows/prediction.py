@@ -11,6 +11,7 @@ that break a constraint are kept with the reasons, and the rest are ranked.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -79,7 +80,7 @@ class ShadowPlan:
     sigma_radius_km: np.ndarray  # (n_days,)
     expected_radius_km: float
     rank: np.ndarray  # (n_days,), 0 where excluded
-    excluded: tuple[tuple[str, ...], ...]
+    excluded: DayReasons  # a tuple of reasons per day
     special: tuple[tuple[str, ...], ...]
     constraints: ShadowConstraints
     assumptions: tuple[str, ...] = field(default=())
@@ -196,7 +197,7 @@ def plan_shadows(
     excluded, special = _constraints_and_special_days(
         dates, sites, apparent, length, declination, constraints
     )
-    allowed = np.array([not e for e in excluded])
+    allowed = ~excluded.any
     rank = np.zeros(dates.size, dtype=int)
     order = np.argsort(np.where(allowed, sigma_radius, np.inf), kind="stable")
     rank[order[: int(allowed.sum())]] = np.arange(1, int(allowed.sum()) + 1)
@@ -215,7 +216,7 @@ def plan_shadows(
         sigma_radius_km=sigma_radius,
         expected_radius_km=median(radius),
         rank=rank,
-        excluded=tuple(tuple(e) for e in excluded),
+        excluded=excluded,
         special=tuple(tuple(s) for s in special),
         constraints=constraints,
         assumptions=(
@@ -232,28 +233,57 @@ def _sun_longitude_proxy(dates):
     return np.mod(280.46646 + 0.98564736 * days, 360.0)
 
 
+class DayReasons(Sequence):
+    """Why each day is ruled out: one tuple of reasons per day, its text written when a day's is read
+    (a plan of many sites has a reason per low site and day; the terminal table only counts them)."""
+
+    def __init__(self, dates, sites, apparent, length, c: ShadowConstraints) -> None:
+        self._sites, self._apparent, self._length, self._c = sites, apparent, length, c
+        self._weekday = (dates.astype(np.int64) + 3) % 7  # 1970-01-01 was a Thursday
+        self._low = apparent < c.min_altitude_deg
+        self._long = length > c.max_shadow_m if c.max_shadow_m is not None else np.zeros_like(self._low)
+        excluded_set = {np.datetime64(d, "D") for d in c.excluded_dates}
+        self._wrong_day = (np.zeros(dates.size, bool) if c.weekdays is None
+                           else ~np.isin(self._weekday, c.weekdays))
+        self._ruled_out = np.isin(dates, np.array(sorted(excluded_set), dtype="datetime64[D]"))
+        #: Whether each day is ruled out at all.
+        self.any = self._low.any(axis=1) | self._long.any(axis=1) | self._wrong_day | self._ruled_out
+
+    def __len__(self) -> int:
+        return self.any.size
+
+    def __getitem__(self, k):
+        if isinstance(k, slice):
+            return tuple(self[i] for i in range(*k.indices(len(self))))
+        k = range(len(self))[k]
+        if not self.any[k]:
+            return ()
+        c, out = self._c, []
+        for j in np.flatnonzero(self._low[k] | self._long[k]):
+            s = self._sites[j]
+            if self._low[k, j]:
+                out.append(f"Sun only {self._apparent[k, j]:.1f} deg high at noon at {s.id} "
+                           f"(minimum {c.min_altitude_deg:g} deg)")
+            if self._long[k, j]:
+                out.append(f"shadow {self._length[k, j]:.2f} m at {s.id} is longer than the board ({c.max_shadow_m:g} m)")
+        if self._wrong_day[k]:
+            out.append(f"not a chosen weekday ({WEEKDAY_NAMES[int(self._weekday[k])]})")
+        if self._ruled_out[k]:
+            out.append("date excluded by the coordinator")
+        return tuple(out)
+
+    def kinds(self) -> dict[str, int]:
+        """How many days each kind of reason rules out (a day low at three sites is one day)."""
+        counts = {"Sun too low at noon": self._low.any(axis=1), "shadow longer than the board": self._long.any(axis=1),
+                  "not a chosen weekday": self._wrong_day, "date excluded by the coordinator": self._ruled_out}
+        return {key: int(days.sum()) for key, days in counts.items() if days.any()}
+
+
 def _constraints_and_special_days(dates, sites, apparent, length, declination, c: ShadowConstraints):
     from firstrung import ephemeris
 
-    excluded = [[] for _ in dates]
+    excluded = DayReasons(dates, sites, apparent, length, c)
     special = [[] for _ in dates]
-    excluded_set = {np.datetime64(d, "D") for d in c.excluded_dates}
-    weekday = (dates.astype(np.int64) + 3) % 7  # 1970-01-01 was a Thursday
-    low = apparent < c.min_altitude_deg
-    long = length > c.max_shadow_m if c.max_shadow_m is not None else np.zeros_like(low)
-    wrong_day = np.zeros(dates.size, bool) if c.weekdays is None else ~np.isin(weekday, c.weekdays)
-    ruled_out = np.isin(dates, np.array(sorted(excluded_set), dtype="datetime64[D]"))
-    for k in np.flatnonzero(low.any(axis=1) | long.any(axis=1) | wrong_day | ruled_out):  # text only where needed
-        for j in np.flatnonzero(low[k] | long[k]):
-            s = sites[j]
-            if low[k, j]:
-                excluded[k].append(f"Sun only {apparent[k, j]:.1f} deg high at noon at {s.id} (minimum {c.min_altitude_deg:g} deg)")
-            if long[k, j]:
-                excluded[k].append(f"shadow {length[k, j]:.2f} m at {s.id} is longer than the board ({c.max_shadow_m:g} m)")
-        if wrong_day[k]:
-            excluded[k].append(f"not a chosen weekday ({WEEKDAY_NAMES[int(weekday[k])]})")
-        if ruled_out[k]:
-            excluded[k].append("date excluded by the coordinator")
     # equinoxes and solstices
     t, names = ephemeris.equinoxes_and_solstices(dates[0].astype("datetime64[us]"),
                                                  (dates[-1] + np.timedelta64(1, "D")).astype("datetime64[us]"))
