@@ -245,7 +245,13 @@ def hints(kind: str, site, date: str, form: str | None = None) -> tuple[str, ...
 
 
 def caution(kind: str) -> str:
-    """The safety caution printed with a kind's form."""
-    from firstrung.safety import ECLIPSE_NOTE, PHASES_CAUTION, SOLAR_CAUTION_FULL
+    """The safety caution printed with a kind's form (the solar one for any kind not named here).
 
-    return {"eclipse": ECLIPSE_NOTE, "phases": PHASES_CAUTION}.get(kind, SOLAR_CAUTION_FULL)
+    >>> "safety officer" in caution("shadows") and "safety officer" in caution("transits")
+    True
+    """
+    from firstrung import safety
+
+    return {"eclipse": safety.ECLIPSE_NOTE, "phases": safety.PHASES_CAUTION,
+            "transits": f"{safety.TRANSIT_CAUTION} {safety.TRANSIT_CAUTION_MORE}",
+            "astrometry": safety.STARS_NOTE, "light_curves": safety.STARS_NOTE}.get(kind, safety.SOLAR_CAUTION_FULL)
