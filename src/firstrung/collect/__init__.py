@@ -9,6 +9,9 @@ registry entry and its ``log`` and ``check`` modules alone.
 ``verdict``    a submitted reading parsed and checked with the method's own code
 ``store``      the SQLite store (one writer, WAL), tokens included
 ``tokens``     link tokens and the forms' anti-forgery tokens
+``schools``    schools that join an open network: their positions checked, their log cells
+``join``       the join page of an open network
+``web``        what every page shares: security headers, limits, the form reader
 ``forms``      what a phone form shows: fields, choices, the site's predictions
 ``app``        the ASGI application (Starlette)
 ``server``     binding, the links file, running under uvicorn

@@ -377,7 +377,12 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
 
     def coordinator_page(request: Request, note: str | None = None) -> Response:
         token = request.path_params["token"]
-        checked = state.full_check()
+        try:
+            checked = state.full_check()
+        except Exception as error:  # the page and its downloads stay usable; the check says why it could not run
+            checked = {}
+            note = (note + " " if note else "") + (f"The check of the stored logs could not run "
+                                                   f"({type(error).__name__}); run firstrung check on the downloads.")
         flags_of: dict[int, list] = {}
         for readings, flags in checked.values():
             for f in flags:
