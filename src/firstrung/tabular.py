@@ -51,6 +51,7 @@ import numpy as np
 
 from firstrung.campaign_model import Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.csv_bytes import plain_chunks
 from firstrung.csv_cells import (
     _DECIMAL_COMMA_RE,
     TIME_COLUMNS,
@@ -186,6 +187,9 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = sniff_delimiter(text, known)
     if columnar:
+        table.chunks = plain_chunks(table, text, slots, known)
+        if table.chunks is not None:
+            return table
         table.chunks = column_chunks(table, text, slots, known)
         if table.chunks is not None:
             return table

@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import csv
-import io
 import itertools
+import re
 from collections.abc import Sequence
 
 from firstrung.errors import RowProblem
@@ -139,11 +139,21 @@ def normal_name(cell: str) -> str:
     return header_name(cell)
 
 
+#: A line as ``io.StringIO(text, newline="")`` gives it: up to and with ``\r\n``, ``\r`` or ``\n``.
+_LINE_RE = re.compile(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+$")
+
+
+def _text_lines(text: str):
+    """The lines of ``text`` one at a time, as a text stream without newline translation gives them
+    (without copying the whole text, as a stream over it would)."""
+    return (match.group() for match in _LINE_RE.finditer(text))
+
+
 def sniff_delimiter(text: str, known: set[str]) -> str:
     """The separator that splits the header line into the most known column names."""
     best, best_count = ",", 0
     for delimiter in _DELIMITER_NAMES:
-        reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+        reader = csv.reader(_text_lines(text), delimiter=delimiter)
         try:
             header = next(
                 (cells for cells in itertools.islice(reader, _SNIFF_LINES) if not is_skipped(cells)),

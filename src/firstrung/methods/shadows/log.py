@@ -10,19 +10,26 @@ from __future__ import annotations
 
 import math
 import os
-import re
-import sys
 from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
-from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.csv_cells import cell_text
 from firstrung.errors import RowProblem
 from firstrung.log_record import TimedRows
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.log_columns import (
+    _UNIT_FACTORS_M,
+    GNOMON_LIMIT_M,
+    PRESSURE_RANGE_HPA,
+    SHADOW_LIMIT_M,
+    TEMPERATURE_RANGE_C,
+    _fast_shadow_columns,
+    _unit_of,
+    shared_objects,
+)
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
     FORM_VARIANTS,
@@ -31,35 +38,14 @@ from firstrung.methods.shadows.log_forms import (
     LENGTH_FORM,
     angle_cells,
     angle_instruments,
-    fast_form_columns,
-    mean_noons_utc,
     row_form,
     short_traces,
     trace_cells,
     uses_forms,
 )
 from firstrung.open_sites import POSITION_SLOTS, without_refused_rows
-from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, Row, Slot, Table, read_columns
+from firstrung.tabular import COMMON_DTYPES, TIME_COLUMNS, Row, Slot, read_columns
 from firstrung.times import quoted
-
-#: Largest accepted shadow length [m]; longer readings are typing errors.
-SHADOW_LIMIT_M = 1000.0
-
-
-#: Gnomon heights in a log must be below this [m].
-GNOMON_LIMIT_M = 100.0
-
-
-#: Accepted air temperatures for refraction [deg C].
-TEMPERATURE_RANGE_C = (-80.0, 60.0)
-
-
-#: Accepted air pressures for refraction [hPa].
-PRESSURE_RANGE_HPA = (300.0, 1100.0)
-
-
-_UNIT_FACTORS_M = {"m": 1.0, "cm": 0.01, "mm": 0.001}
-
 
 _UNIT_WORDS = {"m": "metres", "cm": "centimetres", "mm": "millimetres"}
 
@@ -141,9 +127,6 @@ LOG_SLOTS = (
 #: The ways a reading of this log is recorded, each its own form at the collection point.
 LOG_FORMS = FORM_VARIANTS
 
-
-def _unit_of(column: str) -> str:
-    return column.rsplit("_", 1)[1]
 
 
 def _parse_shadow_row(row: Row, campaign: Campaign) -> dict:
@@ -292,207 +275,6 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
         problems=problems,
         angle=angle_instruments(campaign, log, site_index),
     )
-
-
-#: Whether plain rows take the fast path (a test compares both paths on every corpus file).
-
-
-
-_PLAIN_UTC_RE = re.compile(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")
-
-
-_PLAIN_NUMBER_RE = re.compile(r"^\d+(?:\.\d+)?$")
-
-
-_SPAN_MS = (np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LAST_UTC, "ms"))
-
-
-def _plain(cell: str, low: float, high: float, factor: float = 1.0) -> float | None:
-    """A plain positive decimal within [low, high] after ``factor``, else None (the slow path decides)."""
-    if not _PLAIN_NUMBER_RE.match(cell):
-        return None
-    value = float(cell) * factor
-    return value if low <= value <= high else None
-
-
-#: Longest cell the column checks look at as a plain number (longer ones go the long way).
-_PLAIN_WIDTH = 32
-
-
-def _codes(cells, width: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The cells no longer than ``width`` as a (cells, width) array of code points, their indices and lengths."""
-    lengths = np.fromiter(map(len, cells), np.int64, len(cells))
-    index = np.flatnonzero((lengths > 0) & (lengths <= width))
-    width = int(lengths[index].max()) if index.size else 1  # as wide as the longest taken, no wider
-    text = np.array(cells, dtype=object)[index].astype(f"<U{width}")
-    return text.view(np.uint32).reshape(index.size, width), index, lengths[index]
-
-
-def _plain_cells(cells: list[str], low: float, high: float, factor: float) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`_plain` on a column, vectorised: the values (NaN where not plain) and where they are plain.
-
-    Plain: digits, at most one point with digits on both sides (``^\\d+(?:\\.\\d+)?$``).
-    """
-    n = len(cells)
-    values = np.full(n, np.nan)
-    plain = np.zeros(n, bool)
-    codes, index, lengths = _codes(cells, _PLAIN_WIDTH)
-    if index.size:
-        digit = codes - 48 < 10
-        dot = codes == 46
-        inside = np.arange(codes.shape[1])[None, :] < lengths[:, None]
-        last = codes[np.arange(index.size), lengths - 1]
-        good = (np.all(digit | dot | ~inside, axis=1) & (dot.sum(axis=1) <= 1)
-                & (codes[:, 0] - 48 < 10) & (last - 48 < 10))
-        pick = index[good]
-        value = np.array(cells, dtype=object)[pick].astype(float) * factor
-        ok = (value >= low) & (value <= high)
-        values[pick[ok]] = value[ok]
-        plain[pick[ok]] = True
-    return values, plain
-
-
-def _utc_times(cells: list[str]) -> np.ndarray:
-    """Plain UTC times (as :data:`_PLAIN_UTC_RE` takes them) to datetime64[ms]; NaT for anything else.
-
-    The usual ``YYYY-MM-DDTHH:MM:SSZ`` is checked a column at a time; other forms one by one.
-    """
-    n = len(cells)
-    iso = np.full(n, "NaT", dtype="<U23")
-    codes, index, _ = _codes(cells, 20)
-    if index.size and codes.shape[1] == 20:  # narrower: none has the usual form
-        digit = codes - 48 < 10
-        at = np.array([0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18])
-        usual = (np.all(digit[:, at], axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45) & (codes[:, 10] == 84)
-                 & (codes[:, 13] == 58) & (codes[:, 16] == 58) & (codes[:, 19] == 90))
-        done = index[usual]
-        iso[done] = np.array(cells, dtype=object)[done].astype("<U19")
-    else:
-        done = np.zeros(0, np.int64)
-    rest = np.ones(n, bool)
-    rest[done] = False
-    for k in np.flatnonzero(rest):
-        m = _PLAIN_UTC_RE.match(cells[k])
-        if m is not None:
-            iso[k] = f"{m.group(1)}T{m.group(2)}"
-    try:
-        return iso.astype("datetime64[ms]")
-    except ValueError:  # a date that does not exist: that row alone goes the long way
-        return np.array([_datetime_or_nat(str(text)) for text in iso], dtype="datetime64[ms]")
-
-
-def _site_ids(campaign: Campaign, cells) -> tuple[np.ndarray, np.ndarray]:
-    """Each site cell's site id (a cell may give the id or the name, as the row checks take it) and
-    whether it names a site at all."""
-    by_id = campaign._site_by_id
-    ids = [c if c in by_id else (site.id if (site := campaign.site_matching(c)) is not None else "") for c in cells]
-    sites = np.array(ids, dtype=object)
-    return sites, sites != ""
-
-
-def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None, np.ndarray]:
-    """Plain shadow rows (known site, ISO UTC time, plain numbers) of a columnar table, all at once.
-
-    Returns their values and a mask of the rows read; the others go through
-    the full row checks (:func:`_parse_shadow_row`) for their exact messages."""
-    chosen, columns = table.chosen, table.columns
-    n = len(table.numbers)
-    handled = np.zeros(n, bool)
-    if chosen["time_utc"] is None and chosen.get("date") is not None and chosen.get("altitude_deg") is None:
-        # traces without times: each row at its date's mean noon, as the row checks place it
-        sites, ok = _site_ids(campaign, columns[chosen["site"]])
-        t, plain = mean_noons_utc(campaign, columns[chosen["date"]], sites)
-        ok &= plain & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
-        return fast_form_columns(chosen, columns, ok, sites, t, SHADOW_LIMIT_M, untimed=True)
-    if chosen["time_utc"] != "time_utc":
-        return None, handled
-    if chosen["shadow_m"] is None or uses_forms(chosen):  # angles and traces: their own plain rows
-        sites, ok = _site_ids(campaign, columns[chosen["site"]])
-        t = _utc_times(columns["time_utc"])
-        ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
-        return fast_form_columns(chosen, columns, ok, sites, t, SHADOW_LIMIT_M)
-    sites, ok = _site_ids(campaign, columns[chosen["site"]])
-    t = _utc_times(columns["time_utc"])
-    ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
-    shadow_column = chosen["shadow_m"]
-    shadow_m, plain = _plain_cells(columns[shadow_column], 1e-300, SHADOW_LIMIT_M,
-                                   _UNIT_FACTORS_M[_unit_of(shadow_column)])
-    ok &= plain & (shadow_m > 0.0)
-    gnomon_m = np.full(n, np.nan)
-    gnomon_column = chosen.get("gnomon_m")
-    if gnomon_column is not None:
-        cells = columns[gnomon_column]
-        given = np.fromiter((c != "" for c in cells), bool, n)
-        value, plain = _plain_cells(cells, 1e-300, GNOMON_LIMIT_M * (1 - 1e-12), _UNIT_FACTORS_M[_unit_of(gnomon_column)])
-        ok &= ~given | (plain & (value > 0.0))
-        gnomon_m = np.where(given, value, np.nan)
-    edge = np.full(n, None, dtype=object)
-    edge_column = chosen.get("edge")
-    if edge_column is not None:
-        for k, cell in enumerate(columns[edge_column]):
-            if cell:
-                edge[k] = cell.lower()
-                ok[k] &= edge[k] in EDGES
-    weather = {}
-    for slot, (low, high) in (("temperature_c", TEMPERATURE_RANGE_C), ("pressure_hpa", PRESSURE_RANGE_HPA)):
-        values = np.full(n, np.nan)
-        column = chosen.get(slot)
-        if column is not None:
-            for k, cell in enumerate(columns[column]):
-                if cell == "":
-                    continue
-                value = _plain(cell.lstrip("-") if slot == "temperature_c" else cell, 0.0, max(abs(low), high))
-                if value is None:
-                    ok[k] = False
-                    continue
-                value = -value if cell.startswith("-") else value
-                ok[k] &= low <= value <= high
-                values[k] = value
-        weather[slot] = values
-    observer_column, note_column = chosen.get("observer"), chosen.get("note")
-    blank = np.full(n, "", dtype=object)
-    # names and notes repeat from row to row: one string object for each distinct text
-    observer = np.array(list(map(sys.intern, columns[observer_column])), dtype=object) if observer_column is not None else blank
-    note = np.array(list(map(sys.intern, columns[note_column])), dtype=object) if note_column is not None else blank
-    m = int(ok.sum())
-    return {
-        "site": sites[ok].astype(str),
-        "time_utc": t[ok],
-        "time_column": np.full(m, "time_utc"),
-        "shadow_m": shadow_m[ok],
-        "shadow_column": np.full(m, shadow_column),
-        "gnomon_m": gnomon_m[ok],
-        "edge": edge[ok],
-        "temperature_c": weather["temperature_c"][ok],
-        "pressure_hpa": weather["pressure_hpa"][ok],
-        "observer": observer[ok],
-        "note": note[ok],
-    } | {name: np.full(m, value, dtype=_narrow(_FORM_DTYPES[name], value)) for name, value in LENGTH_FORM.items()}, ok
-
-
-def _narrow(dtype, value):
-    """A text column's dtype no wider than its one value (an empty angle column: 4 bytes a row, not 76)."""
-    return f"<U{max(1, len(value))}" if isinstance(value, str) and np.dtype(dtype).kind == "U" else dtype
-
-
-def shared_objects(values) -> np.ndarray:
-    """A column of few distinct texts as an object array holding one string object per distinct text."""
-    values = np.asarray(values)
-    if values.dtype == object or values.size == 0:
-        return values.astype(object)
-    names, inverse = np.unique(values, return_inverse=True)
-    return names.astype(object)[inverse.reshape(values.shape)]
-
-
-def _datetime_or_nat(text: str) -> np.datetime64:
-    try:
-        return np.datetime64(text, "ms")
-    except ValueError:
-        return np.datetime64("NaT", "ms")
-
-
-_FORM_DTYPES = {"form": "<U6", "timed": bool, "altitude_deg": float, "angle_column": "<U19", "limb": object,
-                "angle_sigma_deg": float, "tip_x_m": float, "tip_y_m": float}
 
 
 def read_shadow_logs(
