@@ -35,10 +35,13 @@ def simulate_network_log(campaign: Path, date: str, seed: int, schools: int, out
     make_folder(output)
     path = write_atomic(output / "shadows.csv", rows_to_csv(network_log_rows(net), NETWORK_LOG_COLUMNS),
                         inputs=campaign_inputs(c))
-    console().print(f"{schools} schools, one synthetic reading each on {date}, written to {escape(str(path))}")
+    console().print(f"{schools:,} schools, one synthetic reading each on {date}, written to:")
+    console().print(f"  {escape(str(path))}", soft_wrap=True)
     kinds = Counter(k for k in net.blunder.tolist() if k)
+    if kinds:
+        console().print("blunders injected (one per school):")
     for kind, count in sorted(kinds.items()):
-        console().print(f"  blunder injected at {count} school{'s' if count != 1 else ''}: {NETWORK_BLUNDERS[kind]}")
+        console().print(f"  {count:,} school{'s' if count != 1 else ''}: {NETWORK_BLUNDERS[kind]}")
 
 
 def network_lines(data: dict) -> list[str]:
