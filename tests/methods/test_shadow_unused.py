@@ -95,5 +95,10 @@ def test_the_report_thanks_every_school_and_counts_those_whose_reading_was_not_u
     thanks = re.search(r"Thank you to every school that took part:</b> (.*?)\.</p>", text).group(1)
     assert sorted(thanks.split(", "), key=str.lower) == sorted((str(n) for n in net.name), key=str.lower)
     code, out, _ = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
-    missing = 30 - len(json.loads(out)["sites"])
+    reduced = {s["name"] for s in json.loads(out)["sites"]}
+    missing = 30 - len(reduced)
     assert missing >= 1 and f"{missing} more school{'s' if missing != 1 else ''} sent a reading that was not used" in text
+    # in the table of every school: each of them with its flags' codes
+    listed = re.findall(r"<tr><td>([^<]*)</td>(?:(?!</tr>).)*?<td>not used: ([a-z, -]+)</td></tr>", text, flags=re.S)
+    assert {name for name, _ in listed} == {str(n) for n in net.name} - reduced
+    assert all(codes for _, codes in listed)

@@ -149,7 +149,9 @@ def report_section(run, progress=lambda step: None) -> dict:
         figs["pairs"] = pairs_histogram_figure(run.pairs.radius_km, run.pairs.flagged, red.earth_radius_km.value,
                                                red.expected_radius_km)
         names = {s["name"] for s in data["sites"]} | {u.name for u in unused}
-        data = data | {"participants": sorted(names, key=str.lower), "schools_not_used": len(unused)}
+        data = data | {"participants": sorted(names, key=str.lower), "schools_not_used": len(unused),
+                       "not_used": [{"name": u.name, "latitude_deg": u.latitude_deg, "longitude_deg": u.longitude_deg,
+                                     "codes": ", ".join(dict.fromkeys(r.code for r in u.reasons))} for u in unused]}
     r = red.earth_radius_km
     value, interval = rounded(r.value, r.low, r.high, space=" ")
     expected = rounded(red.expected_radius_km, red.expected_radius_km - r.sigma, red.expected_radius_km + r.sigma)[0]
