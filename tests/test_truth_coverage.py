@@ -38,3 +38,12 @@ def test_eclipse_with_an_umbra_off_danjons_rule_covers():
     # the real enlargement varies from eclipse to eclipse; drawn at the spread the reduction states
     out = tc.eclipse_enlargement(18, seed=13)
     assert out["campaigns"] >= 15 and _band(out), out
+
+
+def test_eclipse_with_craters_and_an_umbra_off_danjons_rule_covers():
+    # crater timings as well (12 craters, 20 s): the distance still carries the enlargement's allowance
+    # (crater timings cannot set it apart from the distance), and with it covers umbras drawn at that
+    # spread; the crater fit's own enlargement covers the simulated one
+    out = tc.eclipse_enlargement(15, seed=17, craters=True)
+    assert out["campaigns"] >= 13 and _band(out), out
+    assert abs(out["enlargement_fit_coverage"] - 0.68) <= 3 * (0.68 * 0.32 / out["campaigns"]) ** 0.5, out

@@ -121,7 +121,7 @@ def shadow_rate_from_sky_rate_deg_per_h(moon_sky_rate_deg_per_h):
 NOT_SEPARABLE = ("the timings measure the umbra's radius, (1 + k) pi_M + pi_S - s_S: the atmosphere's enlargement k and "
                  "the Moon's parallax pi_M only as their product, never apart; the craters' enlargement is measured "
                  "against the ephemeris's parallax, and the distance inverted with it is the ephemeris's whatever the "
-                 "timings, so it is a check, never applied")
+                 "umbra's size, so it is a check, never applied")
 
 
 def distance_enlargement(moon_parallax_deg, sun_parallax_deg, sun_semidiameter_deg, convention="danjon",
@@ -169,7 +169,7 @@ def enlargement_against_convention(measured_percent, measured_sigma_percent, moo
     distance inverted with the convention falls from the truth for an umbra
     as the craters measured it (with the ephemeris's parallaxes, so it is a
     diagnosis, never applied to the result: applied, it would give the
-    ephemeris's distance whatever the timings, :data:`NOT_SEPARABLE`).
+    ephemeris's distance whatever the umbra's size, :data:`NOT_SEPARABLE`).
 
     >>> d = enlargement_against_convention(2.0, 0.05, 0.9, 8.8 / 3600, 0.27)   # Danjon's is 1.42 % here
     >>> d["difference_percent"], d["allowance_percent"], d["distance_shift_percent"], d["departs"]
