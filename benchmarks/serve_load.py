@@ -7,7 +7,12 @@ and its readings come from ``firstrung simulate shadows`` (stated errors).
 Prints the median and 95th percentile of the answer time to a reading, and
 checks that every reading is stored exactly once.
 
-Run: python benchmarks/serve_load.py [--sites 200] [--readings 10] [--clients 50]
+By default each client sends its next reading as soon as it has the answer (a
+closed loop: the server is never idle, and the answer time is mostly the time
+waiting behind the other 49 clients). ``--think-s S`` makes each client wait S
+seconds after an answer, as an observer does before the next reading.
+
+Run: python benchmarks/serve_load.py [--sites 200] [--readings 10] [--clients 50] [--think-s 0]
 """
 
 from __future__ import annotations
@@ -15,6 +20,7 @@ from __future__ import annotations
 import argparse
 import csv
 import io
+import os
 import statistics
 import subprocess
 import sys
@@ -48,6 +54,7 @@ def main() -> int:
     parser.add_argument("--sites", type=int, default=200)
     parser.add_argument("--readings", type=int, default=10)
     parser.add_argument("--clients", type=int, default=50)
+    parser.add_argument("--think-s", type=float, default=0.0, help="each client's pause after an answer [s]")
     args = parser.parse_args()
     folder = Path(tempfile.mkdtemp(prefix="firstrung-load-"))
     campaign = folder / "campaign.toml"
@@ -61,6 +68,7 @@ def main() -> int:
     plan = {site: rows[:: max(1, len(rows) // args.readings)][: args.readings] for site, rows in by_site.items()}
     expected = sum(len(r) for r in plan.values())
 
+    load_start = os.getloadavg()[0]
     started = time.monotonic()
     with Server(campaign, folder / "store.sqlite", folder / "links.json") as server:
         links = server.links["sites"]
@@ -82,6 +90,8 @@ def main() -> int:
                     answers.append(time.perf_counter() - t0)
                     statuses.append(answer.status)
                     page = answer.text
+                    if args.think_s:
+                        time.sleep(args.think_s)
 
         sites = sorted(plan)
         groups = [sites[k :: args.clients] for k in range(args.clients)]
@@ -97,6 +107,8 @@ def main() -> int:
     stored_once = len(keys) == len(set(keys)) == expected and set(keys) == sent
     ids = [r["id"] for r in csv.DictReader(io.StringIO(every))]
     ordered = sorted(answers)
+    print(f"load average (1 min) at the start {load_start:.2f}, at the end {os.getloadavg()[0]:.2f}, "
+          f"on {os.cpu_count()} cores; think time {args.think_s:g} s")
     print(f"sites {args.sites}, readings {expected}, clients {args.clients}, wall {wall:.1f} s, "
           f"{expected / wall:.1f} readings/s")
     print(f"answers: {len(answers)}, status 201: {statuses.count(201)}, median {statistics.median(answers) * 1e3:.0f} ms, "

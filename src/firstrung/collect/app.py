@@ -319,10 +319,9 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
                 "caution": form_fields.caution(name),
                 "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
             })
-        readings = [r for r in state.store.readings(sites=[site_id])]
         html = state.env.get_template("site.html.j2").render(
             campaign=state.campaign.name, site=site, kinds=kinds, now_local=form_fields.local_now(site.timezone, now),
-            result=result, refill=refill or {}, readings=readings[-30:][::-1], kind_shown=kind_shown,
+            result=result, refill=refill or {}, readings=state.store.recent(site_id, 30), kind_shown=kind_shown,
         )
         return _answer(request, status, result or {}, html)
 

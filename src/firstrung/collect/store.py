@@ -32,6 +32,7 @@ CREATE TABLE IF NOT EXISTS reading (
     UNIQUE (site, form_id)
 );
 CREATE INDEX IF NOT EXISTS reading_kind_site ON reading (kind, site, id);
+CREATE INDEX IF NOT EXISTS reading_site ON reading (site, id);
 CREATE TABLE IF NOT EXISTS link (
     role TEXT NOT NULL,
     site TEXT NOT NULL,
@@ -246,6 +247,12 @@ class Store:
             )
             row = self._writer.execute(f"SELECT {_COLUMNS} FROM reading WHERE id = ?", (int(reading_id),)).fetchone()
         return None if row is None else _reading(row)
+
+    def recent(self, site: str, count: int) -> list[Reading]:
+        """A site's last ``count`` readings, the newest first (its page's list)."""
+        rows = self._reader().execute(f"SELECT {_COLUMNS} FROM reading WHERE site = ? ORDER BY id DESC LIMIT ?",
+                                      (site, int(count))).fetchall()
+        return [_reading(r) for r in rows]
 
     def readings(self, kind: str | None = None, sites=None, include_withdrawn: bool = True) -> list[Reading]:
         """Stored readings in the order they arrived, optionally of one kind and some sites."""
