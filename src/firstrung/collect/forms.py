@@ -13,6 +13,8 @@ from __future__ import annotations
 import datetime as dt
 import functools
 import re
+
+import numpy as np
 from dataclasses import dataclass
 from zoneinfo import ZoneInfo
 
@@ -149,13 +151,51 @@ def local_now(zone: str | None, now: dt.datetime) -> str:
 # --- what the site may expect ------------------------------------------------------------------
 
 
-def _noon(site, date: str):
-    """The Sun's transit on a date at a site, and its time on the site's clock (UTC without a zone)."""
+@dataclass(frozen=True)
+class Noon:
+    """The Sun's transit on one date at one site: its time and airless altitude, semi-diameter, declination."""
+
+    time: dt.datetime
+    altitude_deg: float
+    semidiameter_deg: float
+    declination_deg: float
+
+
+#: Transits already computed, by (site, date); cleared when it holds more than _NOONS_KEPT.
+_NOONS: dict = {}
+_NOONS_KEPT = 50_000
+
+
+def prepare_noons(sites, dates) -> None:
+    """Compute the transit of each (site, date) not yet known, in one vectorised call (sites at once)."""
     from firstrung import ephemeris
 
-    transit = ephemeris.solar_transit(date, site.latitude_deg, site.longitude_deg, site.elevation_m)
-    noon = dt.datetime.fromisoformat(str(transit.time_utc.astype("datetime64[s]"))).replace(tzinfo=dt.UTC)
-    return transit, noon
+    wanted = [(s, d) for s, d in zip(sites, dates, strict=True) if (s, d) not in _NOONS]
+    if not wanted:
+        return
+    if len(_NOONS) + len(wanted) > _NOONS_KEPT:
+        _NOONS.clear()
+    t = ephemeris.solar_transit(np.array([d for _, d in wanted], dtype="datetime64[D]"),
+                                np.array([s.latitude_deg for s, _ in wanted]),
+                                np.array([s.longitude_deg for s, _ in wanted]),
+                                np.array([s.elevation_m for s, _ in wanted]))
+    times = t.time_utc.astype("datetime64[s]").astype(str)
+    for k, key in enumerate(wanted):
+        _NOONS[key] = Noon(dt.datetime.fromisoformat(times[k]).replace(tzinfo=dt.UTC), float(t.altitude_deg[k]),
+                           float(t.semidiameter_deg[k]), float(t.declination_deg[k]))
+
+
+def prepare_today(sites, now: dt.datetime) -> None:
+    """The transits of every site on its own clock's date of ``now`` (the forms' predictions, ready at once)."""
+    sites = list(sites)
+    prepare_noons(sites, [local_now(s.timezone, now)[:10] for s in sites])
+
+
+def _noon(site, date: str) -> Noon:
+    """The Sun's transit on a date at a site (its time aware, in UTC)."""
+    if (site, date) not in _NOONS:
+        prepare_noons([site], [date])
+    return _NOONS[(site, date)]
 
 
 def _clock(noon: dt.datetime, zone: str | None, minutes: float = 0.0) -> str:
@@ -168,35 +208,43 @@ def _noon_line(site, date: str, noon: dt.datetime) -> str:
         f" ({site.timezone})" if site.timezone else "")
 
 
-@functools.lru_cache(maxsize=1024)
-def _shadow_hints(site, date: str) -> tuple[str, ...]:
-    from firstrung.methods.shadows.prediction import PlanSite
-    from firstrung.methods.shadows.sheet import shadow_sheet_predictions
+def _noon_shadow(site, noon: Noon) -> tuple[float, str, float]:
+    """The shortest shadow [m] of the site's gnomon, its direction and the Sun's refracted altitude [deg],
+    as the day's field sheet gives them (:func:`firstrung.methods.shadows.sheet.shadow_sheet_predictions`)."""
+    from firstrung.methods.shadows.prediction import shadow_length_m
+    from firstrung.refraction import apparent_from_true_altitude_deg
 
+    g = site.gnomon
+    length = float(shadow_length_m(g.height_m, noon.altitude_deg, noon.semidiameter_deg,
+                                   np.array([g.edge], dtype=object))[0])
+    direction = "north" if site.latitude_deg > noon.declination_deg else "south"
+    return length, direction, float(apparent_from_true_altitude_deg(noon.altitude_deg))
+
+
+@functools.lru_cache(maxsize=4096)
+def _shadow_hints(site, date: str) -> tuple[str, ...]:
     g = site.gnomon
     if g is None:
         return (f"No gnomon for {site.id} in the campaign file: give its height with each reading.",)
-    p = shadow_sheet_predictions(PlanSite(site.id, site.name, site.latitude_deg, site.longitude_deg, site.elevation_m,
-                                          site.timezone, g.height_m, g.height_sigma_m, g.shadow_sigma_m, g.edge), date)
-    _, noon = _noon(site, date)
+    noon = _noon(site, date)
+    length, direction, altitude = _noon_shadow(site, noon)
     return (
-        _noon_line(site, date, noon),
-        f"Shortest shadow then: {p['noon_shadow_m'] * 100:.1f} cm of a {g.height_m * 100:.1f} cm gnomon "
-        f"({g.edge} edge), pointing {p['direction']}; the Sun {p['noon_altitude_deg']:.1f}° high",
+        _noon_line(site, date, noon.time),
+        f"Shortest shadow then: {length * 100:.1f} cm of a {g.height_m * 100:.1f} cm gnomon "
+        f"({g.edge} edge), pointing {direction}; the Sun {altitude:.1f}° high",
     )
 
 
-@functools.lru_cache(maxsize=1024)
+@functools.lru_cache(maxsize=4096)
 def _angle_hints(site, date: str) -> tuple[str, ...]:
     """What an instrument set on the Sun reads at noon: altitudes of the centre and both limbs, refracted."""
     from firstrung.refraction import apparent_from_true_altitude_deg
 
-    transit, noon = _noon(site, date)
-    true = float(transit.altitude_deg)
-    sd = float(transit.semidiameter_deg)
+    noon = _noon(site, date)
+    true, sd = noon.altitude_deg, noon.semidiameter_deg
     lower, centre, upper = (float(apparent_from_true_altitude_deg(true + k * sd)) for k in (-1, 0, 1))
     return (
-        _noon_line(site, date, noon),
+        _noon_line(site, date, noon.time),
         f"The Sun's altitude then, as an instrument reads it (refraction included): {centre:.2f}° at its centre, "
         f"{lower:.2f}° on its lower limb, {upper:.2f}° on its upper limb (zenith distance of the centre "
         f"{90.0 - centre:.2f}°)",
@@ -208,23 +256,18 @@ def _angle_hints(site, date: str) -> tuple[str, ...]:
 TRACE_STEP_MIN, TRACE_HALF_SPAN_MIN = 10, 120
 
 
-@functools.lru_cache(maxsize=1024)
+@functools.lru_cache(maxsize=4096)
 def _trace_hints(site, date: str) -> tuple[str, ...]:
     """When to mark the tip, and where the noon mark falls from the plumb point."""
-    _, noon = _noon(site, date)
-    lines = [_noon_line(site, date, noon)]
+    noon = _noon(site, date)
+    lines = [_noon_line(site, date, noon.time)]
     lines.append(f"Mark the shadow's tip every {TRACE_STEP_MIN} minutes from "
-                 f"{_clock(noon, site.timezone, -TRACE_HALF_SPAN_MIN)[:5]} to "
-                 f"{_clock(noon, site.timezone, TRACE_HALF_SPAN_MIN)[:5]}, at least 5 marks on both sides of noon")
+                 f"{_clock(noon.time, site.timezone, -TRACE_HALF_SPAN_MIN)[:5]} to "
+                 f"{_clock(noon.time, site.timezone, TRACE_HALF_SPAN_MIN)[:5]}, at least 5 marks on both sides of noon")
     g = site.gnomon
     if g is not None:
-        from firstrung.methods.shadows.prediction import PlanSite
-        from firstrung.methods.shadows.sheet import shadow_sheet_predictions
-
-        p = shadow_sheet_predictions(PlanSite(site.id, site.name, site.latitude_deg, site.longitude_deg,
-                                              site.elevation_m, site.timezone, g.height_m, g.height_sigma_m,
-                                              g.shadow_sigma_m, g.edge), date)
-        lines.append(f"At noon the tip falls about {p['noon_shadow_m'] * 100:.1f} cm {p['direction']} of the plumb "
+        length, direction, _ = _noon_shadow(site, noon)
+        lines.append(f"At noon the tip falls about {length * 100:.1f} cm {direction} of the plumb "
                      f"point (the gnomon's tip {g.height_m * 100:.1f} cm above the board)")
     return tuple(lines)
 
