@@ -13,10 +13,10 @@ from __future__ import annotations
 import datetime as dt
 import functools
 import re
-
-import numpy as np
 from dataclasses import dataclass
 from zoneinfo import ZoneInfo
+
+import numpy as np
 
 from firstrung.collect.kinds import LogKind
 from firstrung.tabular import TIME_COLUMNS
