@@ -88,16 +88,20 @@ def school_pages(run) -> str:
     network = {"sites": len(red.sites), "radius": f"{r.value:,.0f} ± {r.sigma:,.0f} km",
                "interval": f"{r.low:,.0f} to {r.high:,.0f} km" if r.high is not None else f"above {r.low:,.0f} km",
                "expected": f"{red.expected_radius_km:,.0f} km"}
-    from firstrung.methods.shadows.unused import unused_schools
+    from firstrung.methods.shadows.unused import rows_by_key, unused_schools
 
     unused = unused_schools(run)
     left_out_of_fit = {u.site_id: u for u in unused if u.site_id in {s.id for s in red.sites}}
+    # each site's readings and pairs, grouped once (never a scan of every row or pair per site)
+    rows_of = rows_by_key(ids)
+    pairs_of = rows_by_key(np.r_[pairs.first, pairs.second]) if pairs is not None else {}
+    n_pairs = len(pairs.first) if pairs is not None else 0
     schools = []
     for s in red.sites:
-        rows = np.flatnonzero(ids == s.id)
+        rows = rows_of.get(s.id, np.zeros(0, int))
         day = s.series[0] if s.series else None
         subsolar, note = (run.subsolar or {}).get(s.id, (None, None))
-        mine = np.flatnonzero((pairs.first == s.id) | (pairs.second == s.id)) if pairs is not None else np.zeros(0, int)
+        mine = np.sort(pairs_of.get(s.id, np.zeros(0, int)) % max(n_pairs, 1))
         others = [pairs.second[k] if pairs.first[k] == s.id else pairs.first[k] for k in mine]
         order = np.argsort([abs(lon.get(o, 0.0) - s.longitude_deg) for o in others], kind="stable")
         partners = [{"name": names.get(others[k], others[k]), "apart": f"{pairs.north_south_km[mine[k]]:,.0f} km",

@@ -98,6 +98,21 @@ class UnusedSchool:
         return tuple(own) + EVERY_TIME
 
 
+def rows_by_key(keys) -> dict:
+    """The indices of each distinct key of ``keys``, in order: one sort, whatever the number of keys.
+
+    >>> {k: v.tolist() for k, v in rows_by_key(["b", "a", "b"]).items()}
+    {'a': [1], 'b': [0, 2]}
+    """
+    keys = np.asarray(keys, dtype=object)
+    if keys.size == 0:
+        return {}
+    order = np.argsort(keys.astype(str), kind="stable")
+    ordered = keys[order]
+    starts = np.r_[0, np.flatnonzero(ordered[1:] != ordered[:-1]) + 1, ordered.size]
+    return {ordered[a]: order[a:b] for a, b in zip(starts[:-1], starts[1:], strict=True)}
+
+
 def _reason(code: str, detail: str) -> Reason:
     return Reason(code, PLAIN_WORDS.get(code, PLAIN_WORDS["refused"]), detail)
 
@@ -158,10 +173,11 @@ def unused_schools(run) -> tuple[UnusedSchool, ...]:
                         tuple(_logged_rows(log, e["rows"])) + tuple({"where": w} for w in e["where"]),
                         tuple(e["reasons"])) for e in schools.values()]
     flagged = set(run.network.flagged) if run.network is not None else set()
+    rows_of = rows_by_key(log.site) if log is not None else {}
     for s in red.sites:
         if (s.outlier or s.id in flagged) and s.id in from_rows:
             detail = f"{abs(s.residual_arcmin):,.1f}′ from the network's line"
-            rows = np.flatnonzero(np.asarray(log.site, dtype=object) == s.id) if log is not None else []
+            rows = rows_of.get(s.id, [])
             out.append(UnusedSchool(s.id, s.name, s.latitude_deg, s.longitude_deg, tuple(_logged_rows(log, rows)),
                                     (_reason("network-outlier", detail),)))
     return tuple(out)
