@@ -206,6 +206,7 @@ def _add_refused(run, schools, used, school) -> None:
                 continue  # another of its rows counted
             entry = school(site.id if site is not None else name.lower(), site.name if site else name,
                            site.id if site else None)
-            entry["where"].append(f"{p.file}:{r}")
-            if all(x.detail != str(p) for x in entry["reasons"]):
-                entry["reasons"].append(_reason("refused", str(p)))
+            entry["where"].append(f"{p.file}, row {r}, as sent")
+            detail = f"{p.column}: {p.message}" if p.column else p.message  # its rows are listed above
+            if all(x.detail != detail for x in entry["reasons"]):
+                entry["reasons"].append(_reason("refused", detail))
