@@ -281,12 +281,12 @@ def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only
     u = u + beta - np.sum(u * beta, axis=0) * u
     u = u / np.sqrt(np.sum(u**2, axis=0))
     ra_rad = np.arctan2(u[1], u[0])
-    dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
-    lat_rad = np.radians(lat_deg)
     ha_rad = gast_rad + np.radians(lon_deg) - ra_rad
     ha_rad = np.arctan2(np.sin(ha_rad), np.cos(ha_rad))  # the same numbers as np.angle(np.exp(1j * ha)), sooner
     if hour_angle_only:
         return {"hour_angle_deg": np.degrees(ha_rad)}
+    dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
+    lat_rad = np.radians(lat_deg)
     sin_alt = np.sin(lat_rad) * np.sin(dec_rad) + np.cos(lat_rad) * np.cos(dec_rad) * np.cos(ha_rad)
     alt_rad = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
     az_rad = np.arctan2(
