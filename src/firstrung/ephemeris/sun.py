@@ -53,8 +53,11 @@ _TRANSIT_ITERATIONS = 3
 #: With 4-point Lagrange interpolation the error is below 1e-6" in direction
 #: and 1e-10 rad in sidereal time (a test holds this).
 _GRID_STEP_H = 1.0
-#: (time, site) pairs the topocentric step takes at a time (bounds its temporary arrays).
-_TOPOCENTRIC_CHUNK = 1 << 17
+#: (time, site) pairs the topocentric step takes at a time: its temporary arrays stay within the
+#: processor's cache (smaller slices were faster on a year of noons at thousands of sites, the same numbers).
+_TOPOCENTRIC_CHUNK = 1 << 14
+#: Above this many (time, site) pairs the grid serves the times where they are, without sorting out repeats.
+_MANY_TIMES = 1 << 17
 #: Use the grid when the Sun positions a call (or a search's repeated calls on
 #: nearby times) would compute outnumber the grid nodes this many times.
 _GRID_MIN_GAIN = 3.0
@@ -169,8 +172,9 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     return both[:3], np.mod(both[3], 2.0 * np.pi)
 
 
-#: Times interpolated at once from the grid (each costs some 200 bytes of temporaries).
-_BLOCK = 65_536
+#: Times interpolated at once from the grid (each costs some 200 bytes of temporaries; a block this
+#: small stays within the processor's cache).
+_BLOCK = 4_096
 
 
 @dataclass(frozen=True)
@@ -236,7 +240,7 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
         raise InputError(f"latitude_deg: expected -90 to 90 deg, got {lat_b[~(np.abs(lat_b) <= 90)].ravel()[0]}")
     check_in_span(t_b)
     flat_t = t_b.ravel()
-    if flat_t.size > _TOPOCENTRIC_CHUNK and _grid_pays(flat_t, flat_t.size * uses):
+    if flat_t.size > _MANY_TIMES and _grid_pays(flat_t, flat_t.size * uses):
         # many times served by the grid: interpolated where they are, without sorting out repeats
         sun_xyz_km, gast_rad = _geocentric_sun(flat_t, uses, grid=True)
         inverse = None
@@ -383,11 +387,11 @@ def solar_transit(date, latitude_deg, longitude_deg, elevation_m=0.0) -> SolarTr
     offset_us = np.round((12.0 - lon_b / 15.0) * 3600e6).astype(np.int64)
     t = day_b.astype("datetime64[us]") + offset_us.astype("timedelta64[us]")
     uses = _TRANSIT_ITERATIONS + 1  # every step of the search shares one grid when it pays
-    for _ in range(_TRANSIT_ITERATIONS):
-        hour_angle_deg = _sun_position(t, lat_b, lon_b, elev_b, uses, hour_angle_only=True)
+    for _ in range(_TRANSIT_ITERATIONS):  # the sites as given: broadcast over the dates inside, placed once
+        hour_angle_deg = _sun_position(t, lat, lon, elev, uses, hour_angle_only=True)
         step_us = np.round(hour_angle_deg / _MEAN_SOLAR_RATE_DEG_PER_S * 1e6).astype(np.int64)
         t = t - step_us.astype("timedelta64[us]")
-    p = _sun_position(t, lat_b, lon_b, elev_b, uses)
+    p = _sun_position(t, lat, lon, elev, uses)
     return SolarTransit(
         time_utc=t,
         altitude_deg=p.altitude_deg,
