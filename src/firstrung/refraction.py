@@ -307,16 +307,51 @@ def apparent_from_true_altitude_deg(
     lowest_true = lowest - factor * _bennett_standard_arcmin(np.float64(lowest)) / _ARCMIN_PER_DEG
     refracted = true >= lowest_true
 
-    apparent = np.clip(true, lowest, 90.0)
-    for _ in range(_INVERSE_MAX_ITERATIONS):
-        residual = apparent - factor * _bennett_standard_arcmin(apparent) / _ARCMIN_PER_DEG - true
-        slope = 1.0 - factor * _bennett_standard_slope_arcmin_per_deg(apparent) / _ARCMIN_PER_DEG
-        step = np.where(refracted, residual / slope, 0.0)
-        apparent = np.clip(apparent - step, lowest, 90.0)
-        if np.all(np.abs(step) <= _INVERSE_STEP_TOLERANCE_DEG):
-            break
+    apparent = _newton(true.ravel(), factor.ravel(), refracted.ravel(), lowest).reshape(true.shape)
     apparent = np.where(refracted, apparent, true)
     return _output(apparent, true_deg, temperature_c, pressure_hpa)
+
+
+#: Elements Newton's steps take at a time (their temporaries stay within the processor's cache).
+_NEWTON_CHUNK = 1 << 14
+
+
+def _newton(true, factor, refracted, lowest):
+    """Newton's steps of :func:`apparent_from_true_altitude_deg` on flat arrays, a slice at a time.
+
+    Every element takes as many steps as in one pass over all of them: steps continue until a step
+    leaves every element within the tolerance (or the limit), and a slice that got there sooner
+    takes the others' extra steps too.
+    """
+    apparent = np.clip(true, lowest, 90.0)
+    slices = [slice(a, a + _NEWTON_CHUNK) for a in range(0, true.size, _NEWTON_CHUNK)] or [slice(0, 0)]
+    taken = [0] * len(slices)
+
+    def step(k: int) -> bool:
+        """One step on slice ``k``; whether each of its elements moved within the tolerance."""
+        part = slices[k]
+        a, f = apparent[part], factor[part]
+        residual = a - f * _bennett_standard_arcmin(a) / _ARCMIN_PER_DEG - true[part]
+        slope = 1.0 - f * _bennett_standard_slope_arcmin_per_deg(a) / _ARCMIN_PER_DEG
+        change = np.where(refracted[part], residual / slope, 0.0)
+        apparent[part] = np.clip(a - change, lowest, 90.0)
+        taken[k] += 1
+        return bool(np.all(np.abs(change) <= _INVERSE_STEP_TOLERANCE_DEG))
+
+    for k in range(len(slices)):  # each slice to its own first step within the tolerance (or the limit)
+        while taken[k] < _INVERSE_MAX_ITERATIONS and not step(k):
+            pass
+    # then every slice to the same number of steps: one pass over all elements stops at the first
+    # step within the tolerance everywhere, which no slice reached before the slowest one did
+    steps = max(taken)
+    within = [True] * len(slices)
+    for k in range(len(slices)):
+        while taken[k] < steps:
+            within[k] = step(k)
+    while steps < _INVERSE_MAX_ITERATIONS and not all(within):
+        steps += 1
+        within = [step(k) for k in range(len(slices))]
+    return apparent
 
 
 # --- Saemundsson (1986), Meeus eq. 16.4 ---------------------------------------------

@@ -111,9 +111,25 @@ def altitude_error_terms_rad(
     }
 
 
+def stored_part(values: np.ndarray) -> np.ndarray:
+    """The values a broadcast array holds, once: one entry along each axis it repeats (stride 0).
+
+    >>> stored_part(np.broadcast_to(np.array(["umbra", "outer"], dtype=object), (365, 2))).shape
+    (1, 2)
+    """
+    if values.ndim == 0:
+        return values
+    return values[tuple(slice(0, 1) if stride == 0 and n > 1 else slice(None)
+                        for stride, n in zip(values.strides, values.shape, strict=True))]
+
+
 def _per_edge(edge, table: dict) -> np.ndarray:
-    """Look up a number per reading from its edge name, without a loop over readings."""
+    """Look up a number per reading from its edge name, without a loop over readings (a broadcast
+    array of names, such as a plan's sites over its days, is looked up once per name it stores)."""
     edge = np.asarray(edge, dtype=object)
+    stored = stored_part(edge)
+    if stored.size < edge.size:
+        return np.broadcast_to(_per_edge(stored, table), edge.shape)
     names, inverse = np.unique(edge.astype(str), return_inverse=True)
     unknown = [n for n in names if n not in table]
     if unknown:

@@ -22,6 +22,7 @@ from firstrung.methods.shadows.altitude import (
     EDGE_LIMB_SIGN,
     altitude_error_terms_rad,
     penumbra_width_m,
+    stored_part,
 )
 from firstrung.methods.shadows.fits import north_south_positions
 from firstrung.methods.shadows.inputs import SiteInput
@@ -97,7 +98,8 @@ def shadow_length_m(gnomon_m, true_centre_altitude_deg, semidiameter_deg, edge,
     >>> round(float(shadow_length_m(1.0, 45.0, 0.0, "middle")), 4)
     0.9994
     """
-    sign = np.vectorize(EDGE_LIMB_SIGN.__getitem__, otypes=[float])(np.asarray(edge, dtype=object))
+    edge = np.asarray(edge, dtype=object)
+    sign = np.broadcast_to(np.vectorize(EDGE_LIMB_SIGN.__getitem__, otypes=[float])(stored_part(edge)), edge.shape)
     limb = np.asarray(true_centre_altitude_deg, float) + sign * np.asarray(semidiameter_deg, float)
     apparent = apparent_from_true_altitude_deg(np.clip(limb, -0.9, 90.0), temperature_c, pressure_hpa)
     return np.asarray(gnomon_m, float) / np.tan(np.radians(apparent))
