@@ -236,7 +236,7 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
     t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
     shape = t_b.shape
-    if np.any(~np.isfinite(lat_b) | (np.abs(lat_b) > 90.0)):
+    if np.any(~np.isfinite(lat) | (np.abs(lat) > 90.0)):  # the sites as given, not once per time
         raise InputError(f"latitude_deg: expected -90 to 90 deg, got {lat_b[~(np.abs(lat_b) <= 90)].ravel()[0]}")
     check_in_span(t_b)
     flat_t = t_b.ravel()
