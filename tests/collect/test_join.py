@@ -252,3 +252,16 @@ def test_a_declared_campaign_joins_only_when_asked_and_schools_survive_a_restart
     with Server(campaign, store, links, extra=["--no-join"]) as server:
         assert "join" not in server.links
         assert request(join_url.replace(join_url.split("/")[2], server.links["coordinator"].split("/")[2])).status == 404
+
+
+def test_a_campaign_with_no_site_and_no_shadow_log_is_refused_in_one_line(tmp_path):
+    campaign = tmp_path / "campaign.toml"
+    campaign.write_text('[campaign]\nname = "n"\n\n[logs]\neclipse = []\n', encoding="utf-8")
+    out = subprocess.run([sys.executable, "-m", "firstrung", "serve", str(campaign), "--port", "0"],
+                         capture_output=True, text=True, timeout=120, env={**os.environ, "COLUMNS": "80"})
+    assert out.returncode == 2 and "Traceback" not in out.stderr
+    assert "no [[site]] table" in out.stderr and len(out.stderr.strip().splitlines()) == 1
+    sites = collecting_campaign(tmp_path, "eclipse = []\n")
+    out = subprocess.run([sys.executable, "-m", "firstrung", "serve", str(sites), "--port", "0", "--join"],
+                         capture_output=True, text=True, timeout=120, env={**os.environ, "COLUMNS": "80"})
+    assert out.returncode == 2 and "--join: the campaign collects no log whose rows carry their own site" in out.stderr

@@ -76,7 +76,8 @@ def serving_campaign(path) -> Campaign:
 
     As :func:`firstrung.campaign.read_campaign` reads it, except that an open
     network with no site yet (no ``[[site]]``, no star, ``shadows = []``) is
-    accepted: its schools join on line.
+    accepted: its schools join on line. Without a shadow log to collect, such
+    a file is refused as ``read_campaign`` refuses it.
     """
     from firstrung.campaign import parse_campaign, read_campaign
     from firstrung.open_sites import with_row_sites
@@ -89,8 +90,14 @@ def serving_campaign(path) -> Campaign:
             campaign = parse_campaign(text, path=path, allow_no_sites=True)
         except (OSError, UnicodeDecodeError, InputError):
             raise error from None
-        if campaign.sites or campaign.stars:
-            raise
+        from firstrung.collect.kinds import log_kind, named_kinds
+
+        try:
+            kinds = named_kinds(path)
+        except InputError:
+            raise error from None
+        if campaign.sites or campaign.stars or not any(log_kind(k).slot_of("latitude_deg") for k in kinds):
+            raise error from None  # a school can join only to send a log whose rows carry its position
         return with_row_sites(campaign)
 
 
