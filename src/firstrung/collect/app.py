@@ -393,21 +393,22 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
                 if f.row is not None and 1 <= f.row <= len(readings):
                     flags_of.setdefault(readings[f.row - 1].id, []).append(f)
         everything = state.store.readings()
-        by_site: dict[str, list] = {s: [] for s in state.sites}
+        sites, joined = dict(state.sites), list(state.schools.values())  # a school may join meanwhile
+        by_site: dict[str, list] = {s: [] for s in sites}
         for r in everything:
             by_site.setdefault(r.site, []).append(r)
         form_id = new_form_id()
         root = state.base_url(request)
         schools = [{"school": school, "link": f"{root}/s/{state.school_tokens[school.id]}",
-                    "readings": len(by_site.get(school.id, ()))} for school in state.schools.values()]
+                    "readings": len(by_site.get(school.id, ()))} for school in joined]
         html = state.env.get_template("coordinator.html.j2").render(
             campaign=state.campaign.name, by_site=by_site, flags_of=flags_of, kinds=list(state.kinds),
-            sites=state.sites, csrf=form_token(state.key, token, form_id, clock().timestamp()), form_id=form_id,
+            sites=sites, csrf=form_token(state.key, token, form_id, clock().timestamp()), form_id=form_id,
             base=f"{root}/c/{token}", note=note, total=len(everything), withdrawn=sum(r.withdrawn for r in everything),
             flagged=len(flags_of), schools=schools,
             join=None if state.join_token is None else f"{root}/j/{state.join_token}",
         )
-        return _answer(request, 200, {"readings": len(everything), "schools": list(state.schools)}, html)
+        return _answer(request, 200, {"readings": len(everything), "schools": [s.id for s in joined]}, html)
 
     async def coordinator_get(request: Request) -> Response:
         if holder(request, "coordinator") is None:
