@@ -461,7 +461,7 @@ def read_columns(
             if n and chunk.delimiter == "," and not chunk.decimal_comma:
                 fast, handled = fast_columns(chunk, campaign)
                 if fast is not None:
-                    fast["file"] = np.full(int(handled.sum()), label)
+                    fast["file"] = np.full(int(handled.sum()), label, dtype=object if dtypes["file"] is object else None)
                     fast["row"] = np.asarray(chunk.numbers, dtype=np.int64)[handled]
                     parts.append((file_index, {name: fast[name] for name in dtypes}))
             good = []

@@ -60,7 +60,7 @@ class ShadowLog(TimedRows):
         As in :class:`~firstrung.log_record.TimedRows` (``site``: the site id).
     shadow_m : numpy.ndarray of float
         Shadow length [m], converted from the column's unit.
-    shadow_column : numpy.ndarray of str
+    shadow_column : numpy.ndarray of str (object: one shared text)
         The length column it came from (``shadow_m``, ``shadow_cm`` or ``shadow_mm``).
     gnomon_m : numpy.ndarray of float
         Gnomon height from the log [m]; NaN when absent (use the campaign's).
@@ -301,10 +301,10 @@ def read_shadow_logs(
     ``gnomon_m``/``gnomon_cm``/``gnomon_mm``, ``edge``, ``temperature_c``,
     ``pressure_hpa``, ``observer``, ``note``.
     """
-    dtypes = dict(COMMON_DTYPES)
+    dtypes = dict(COMMON_DTYPES, file=object)  # a file's name and a column's: one shared text, not a copy a row
     dtypes.update(
         shadow_m=float,
-        shadow_column=str,
+        shadow_column=object,
         gnomon_m=float,
         edge=object,
         temperature_c=float,

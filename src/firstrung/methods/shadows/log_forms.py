@@ -192,7 +192,7 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float,
     note = np.array(columns[chosen["note"]], dtype=object) if chosen.get("note") else blank_text
     return {
         "site": sites[ok].astype(str), "time_utc": t[ok], "time_column": np.full(m, None if untimed else "time_utc"),
-        "shadow_m": np.full(m, np.nan), "shadow_column": np.full(m, ""), "gnomon_m": np.full(m, np.nan),
+        "shadow_m": np.full(m, np.nan), "shadow_column": np.full(m, "", dtype=object), "gnomon_m": np.full(m, np.nan),
         "edge": np.full(m, None, dtype=object), "temperature_c": np.full(m, np.nan),
         "pressure_hpa": np.full(m, np.nan), "observer": observer[ok], "note": note[ok],
         "form": np.where(angle, "angle", "trace")[ok].astype("<U6"), "timed": np.full(m, not untimed),

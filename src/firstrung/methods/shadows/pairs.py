@@ -15,7 +15,7 @@ and the output says which selection was made.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -33,11 +33,18 @@ NEIGHBOUR_PAIRS = (f"each site with its {NEIGHBOURS} neighbours in longitude obs
 
 @dataclass(frozen=True)
 class NetworkPairs:
-    """Every pair, as equal-length arrays; ``first`` is the southern site of each pair."""
+    """Every pair, as equal-length arrays; ``first`` is the southern site of each pair.
 
-    first: np.ndarray  # site ids
-    second: np.ndarray
-    date: np.ndarray  # ISO dates
+    The sites and dates are held as indices into ``site_names`` and ``date_names`` (a
+    network's millions of pairs share a few hundred ids and dates); ``first``, ``second``
+    and ``date`` give them as text.
+    """
+
+    site_names: np.ndarray  # the sites' ids
+    first_site: np.ndarray  # index into site_names
+    second_site: np.ndarray
+    date_names: np.ndarray  # ISO dates
+    date_index: np.ndarray  # index into date_names
     north_south_km: np.ndarray
     radius_km: np.ndarray
     sigma_km: np.ndarray
@@ -45,14 +52,23 @@ class NetworkPairs:
     high_km: np.ndarray  # NaN when only a lower bound exists
     flagged: np.ndarray  # bool: a site of the pair was flagged as a blunder
     selection: str
-    #: The sites' ids once and each pair's sites as indices into them (``first`` is
-    #: ``site_names[first_site]``): what :func:`partners_of` counts with, without sorting texts.
-    site_names: np.ndarray | None = field(default=None, repr=False, compare=False)
-    first_site: np.ndarray | None = field(default=None, repr=False, compare=False)
-    second_site: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     def __len__(self) -> int:
         return int(self.radius_km.size)
+
+    @property
+    def first(self) -> np.ndarray:
+        """The southern site's id of each pair."""
+        return self.site_names[self.first_site]
+
+    @property
+    def second(self) -> np.ndarray:
+        return self.site_names[self.second_site]
+
+    @property
+    def date(self) -> np.ndarray:
+        """Each pair's ISO date."""
+        return self.date_names[self.date_index]
 
 
 def _candidates(day_of, longitude):
@@ -92,7 +108,8 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
     pos = np.array([s.north_south_km for s in sites], float)[site_of]
     lon = np.array([s.longitude_deg for s in sites], float)[site_of]
     bad_a = np.array([s.outlier or s.id in flagged for s in sites], bool)[site_of]
-    _, day_of = np.unique(days, return_inverse=True)
+    date_names, day_of = np.unique(days, return_inverse=True)
+    day_of = day_of.reshape(-1)
     i, j, every = _candidates(day_of, lon)
     x, phi, sigma = pos, np.radians(lat), np.radians(sig)
     dx = x[j] - x[i] if i.size else np.zeros(0)
@@ -113,11 +130,11 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
     order = np.lexsort((code[j], code[i], day_of[i])) if i.size else np.zeros(0, int)
     first, second = site_of[i][order], site_of[j][order]
     return NetworkPairs(
-        first=names[first], second=names[second], date=days[i][order], north_south_km=dx[order],
+        site_names=names, first_site=first, second_site=second, date_names=date_names,
+        date_index=day_of[i][order], north_south_km=dx[order],
         radius_km=radius[order], sigma_km=(slope_sigma / slope**2)[order], low_km=low[order], high_km=high[order],
         flagged=(bad_a[i] | bad_a[j])[order],
         selection=EVERY_PAIR if every else NEIGHBOUR_PAIRS,
-        site_names=names, first_site=first, second_site=second,
     )
 
 
@@ -137,17 +154,13 @@ def partners_of(pairs: NetworkPairs) -> dict:
     out: dict = {}
     if radius.size == 0:
         return out
-    if pairs.site_names is not None:
-        site_of = np.concatenate([pairs.first_site, pairs.second_site])
-        present = np.flatnonzero(np.bincount(site_of, minlength=pairs.site_names.size))  # the sites in pairs
-        # in the order of their ids as text
-        present = present[np.argsort(pairs.site_names[present], kind="stable")]
-        names = pairs.site_names[present]
-        recode = np.zeros(pairs.site_names.size, np.int64)
-        recode[present] = np.arange(present.size)
-        site_of = recode[site_of]
-    else:
-        names, site_of = np.unique(np.concatenate([pairs.first, pairs.second]), return_inverse=True)
+    site_of = np.concatenate([pairs.first_site, pairs.second_site])
+    present = np.flatnonzero(np.bincount(site_of, minlength=pairs.site_names.size))  # the sites in pairs, in
+    present = present[np.argsort(pairs.site_names[present], kind="stable")]  # the order of their ids as text
+    names = pairs.site_names[present]
+    recode = np.zeros(pairs.site_names.size, np.int64)
+    recode[present] = np.arange(present.size)
+    site_of = recode[site_of]
     count = np.bincount(site_of, minlength=names.size)
     good_site = site_of[good]
     order = np.argsort(good_site.astype(np.int16) if names.size < 2**15 else good_site, kind="stable")

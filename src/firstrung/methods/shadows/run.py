@@ -66,6 +66,8 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
         log, left_out = without_error_rows(campaign, log, lambda *_: flags)
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
+    rows_read, notes = log.rows_read, tuple(log.notes)
+    del log  # the readings hold what the reduction needs (a long log's columns are not kept beside them)
     if len(readings) == 0:
         first = f" (first: {problems[0]})" if problems else ""
         raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path),
@@ -78,7 +80,7 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     from firstrung.methods.shadows.subsolar import site_subsolar
 
     return ShadowRun(
-        campaign, reduction, problems, log.rows_read, len(readings), readings, left_out, tuple(log.notes),
+        campaign, reduction, problems, rows_read, len(readings), readings, left_out, notes,
         network=network, pairs=network_pairs(reduction.sites, network.flagged), subsolar=site_subsolar(reduction.sites),
         flags=flags, log=whole_log,
     )

@@ -82,7 +82,7 @@ def school_pages(run) -> str:
     names = {s.id: s.name for s in run.campaign.sites}
     lon = {s.id: s.longitude_deg for s in run.campaign.sites}
     readings = run.readings
-    ids = np.array([run.campaign.sites[i].id for i in np.asarray(readings.site_index, int)], dtype=object)
+    ids = np.array([site.id for site in run.campaign.sites], dtype=object)[np.asarray(readings.site_index, int)]
     pairs = run.pairs
     r = red.earth_radius_km
     network = {"sites": len(red.sites), "radius": f"{r.value:,.0f} ± {r.sigma:,.0f} km",
@@ -93,16 +93,17 @@ def school_pages(run) -> str:
     unused = unused_schools(run)
     left_out_of_fit = {u.site_id: u for u in unused if u.site_id in {s.id for s in red.sites}}
     # each site's readings and pairs, grouped once (never a scan of every row or pair per site)
+    first, second = (pairs.first, pairs.second) if pairs is not None else (None, None)  # ids as text, once
     rows_of = rows_by_key(ids)
-    pairs_of = rows_by_key(np.r_[pairs.first, pairs.second]) if pairs is not None else {}
-    n_pairs = len(pairs.first) if pairs is not None else 0
+    pairs_of = rows_by_key(np.r_[first, second]) if pairs is not None else {}
+    n_pairs = len(first) if pairs is not None else 0
     schools = []
     for s in red.sites:
         rows = rows_of.get(s.id, np.zeros(0, int))
         day = s.series[0] if s.series else None
         subsolar, note = (run.subsolar or {}).get(s.id, (None, None))
         mine = np.sort(pairs_of.get(s.id, np.zeros(0, int)) % max(n_pairs, 1))
-        others = [pairs.second[k] if pairs.first[k] == s.id else pairs.first[k] for k in mine]
+        others = [second[k] if first[k] == s.id else first[k] for k in mine]
         order = np.argsort([abs(lon.get(o, 0.0) - s.longitude_deg) for o in others], kind="stable")
         partners = [{"name": names.get(others[k], others[k]), "apart": f"{pairs.north_south_km[mine[k]]:,.0f} km",
                      "radius": f"{pairs.radius_km[mine[k]]:,.0f} km" + (" (flagged)" if pairs.flagged[mine[k]] else "")}
