@@ -202,7 +202,8 @@ def reduce_shadows(
     from firstrung.methods.shadows.run import run_shadows
 
     run = run_shadows(campaign, include_flagged=include_flagged)
-    data = shadow_run_to_json(run, pairs=json_output)  # the terminal shows the pairs' summary only
+    # the terminal shows the pairs' summary only, and the days of the sites it shows
+    data = shadow_run_to_json(run, pairs=json_output, lazy_days=not json_output)
     if school_sheets is not None:
         from firstrung.methods.shadows.commands_network import write_school_sheets
 

@@ -149,26 +149,22 @@ def pairs_summary(pairs: NetworkPairs) -> dict:
 
 def partners_of(pairs: NetworkPairs) -> dict:
     """Each site's partners: id -> (count, median radius of its unflagged pairs [km] or None)."""
-    radius = np.concatenate([pairs.radius_km, pairs.radius_km])
-    good = ~np.concatenate([pairs.flagged, pairs.flagged]) & np.isfinite(radius)
     out: dict = {}
-    if radius.size == 0:
+    if len(pairs) == 0:
         return out
-    site_of = np.concatenate([pairs.first_site, pairs.second_site])
-    present = np.flatnonzero(np.bincount(site_of, minlength=pairs.site_names.size))  # the sites in pairs, in
-    present = present[np.argsort(pairs.site_names[present], kind="stable")]  # the order of their ids as text
-    names = pairs.site_names[present]
-    recode = np.zeros(pairs.site_names.size, np.int64)
-    recode[present] = np.arange(present.size)
-    site_of = recode[site_of]
-    count = np.bincount(site_of, minlength=names.size)
-    good_site = site_of[good]
-    order = np.argsort(good_site.astype(np.int16) if names.size < 2**15 else good_site, kind="stable")
-    grouped = radius[good][order]  # each site's unflagged radii together (a median needs no more order)
-    ends = np.cumsum(np.bincount(good_site, minlength=names.size))
-    for k, name in enumerate(names):  # one pass over sites, each its own block of the radii
-        if ends[k] == (start := ends[k - 1] if k else 0):
-            out[str(name)] = (int(count[k]), None)
-            continue
-        out[str(name)] = (int(count[k]), float(np.median(grouped[start:ends[k]])))
+    n_sites = pairs.site_names.size
+    count = np.bincount(pairs.first_site, minlength=n_sites) + np.bincount(pairs.second_site, minlength=n_sites)
+    present = np.flatnonzero(count)  # the sites in pairs, in the order of their ids as text
+    present = present[np.argsort(pairs.site_names[present], kind="stable")]
+    good = ~pairs.flagged & np.isfinite(pairs.radius_km)
+    good_site = np.concatenate([pairs.first_site[good], pairs.second_site[good]])
+    radius = pairs.radius_km[good]
+    order = np.argsort(good_site.astype(np.int16) if n_sites < 2**15 else good_site, kind="stable")
+    grouped = np.concatenate([radius, radius])[order]  # each site's unflagged radii together (a median needs no
+    del order  # more order)
+    ends = np.cumsum(np.bincount(good_site, minlength=n_sites))
+    for k in present.tolist():  # one pass over sites, each its own block of the radii
+        start = ends[k - 1] if k else 0
+        median = float(np.median(grouped[start:ends[k]])) if ends[k] > start else None
+        out[str(pairs.site_names[k])] = (int(count[k]), median)
     return out

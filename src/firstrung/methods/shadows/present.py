@@ -2,15 +2,19 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 from firstrung.errors import refused_rows
 from firstrung.jsonout import number as _num
 from firstrung.jsonout import quantity as _q
 from firstrung.jsonout import time_z as _time
 
 
-def shadow_run_to_json(run, *, pairs: bool = True) -> dict:
+def shadow_run_to_json(run, *, pairs: bool = True, lazy_days: bool = False) -> dict:
     """The ``reduce shadows`` result (see DESIGN section 4); ``pairs=False`` leaves out the list of pairs
-    (their summary stays), for the terminal and the report."""
+    (their summary stays), for the terminal and the report. ``lazy_days``: each site's ``days`` a
+    sequence that builds a day's dictionary when it is read (the terminal reads the days of the sites
+    it shows; not for JSON text)."""
     from firstrung.methods.shadows.pairs import partners_of
     from firstrung.methods.shadows.present_network import network_json, site_network_json
 
@@ -29,23 +33,7 @@ def shadow_run_to_json(run, *, pairs: bool = True) -> dict:
                 "residual_arcmin": _num(s.residual_arcmin, 3),
                 "normalized_residual": _num(s.normalized_residual, 3),
                 "outlier": s.outlier,
-                "days": [
-                    {
-                        "date": d.date,
-                        "readings": d.readings,
-                        "transit_utc": _time(d.transit_utc),
-                        "declination_deg": _num(d.declination_deg, 6),
-                        "culmination_altitude_deg": _q(d.culmination_altitude_deg),
-                        "zenith_distance_deg": _q(d.zenith_distance_deg),
-                        "sun_side": d.sun_side,
-                        "astronomical_latitude_deg": _q(d.latitude_deg),
-                        "clock_offset_s": _q(d.clock_offset_s),
-                        "apparent_noon_clock_utc": _time(d.apparent_noon_clock_utc),
-                        "implied_longitude_deg": _q(d.implied_longitude_deg),
-                        "chi2_per_dof": _num(d.chi2_per_dof, 3),
-                    } | _board(d)
-                    for d in s.series
-                ],
+                "days": _Days(s.series) if lazy_days else [_day(d) for d in s.series],
             } | site_network_json(run, s.id, partners)
         )
     total = sum(t.sigma**2 for t in r.budget)
@@ -80,6 +68,39 @@ def shadow_run_to_json(run, *, pairs: bool = True) -> dict:
         "assumptions": list(r.assumptions),
         "propagation": r.propagation,
     }
+
+
+def _day(d) -> dict:
+    """One series (a site on one day) as the contract lists it."""
+    return {
+        "date": d.date,
+        "readings": d.readings,
+        "transit_utc": _time(d.transit_utc),
+        "declination_deg": _num(d.declination_deg, 6),
+        "culmination_altitude_deg": _q(d.culmination_altitude_deg),
+        "zenith_distance_deg": _q(d.zenith_distance_deg),
+        "sun_side": d.sun_side,
+        "astronomical_latitude_deg": _q(d.latitude_deg),
+        "clock_offset_s": _q(d.clock_offset_s),
+        "apparent_noon_clock_utc": _time(d.apparent_noon_clock_utc),
+        "implied_longitude_deg": _q(d.implied_longitude_deg),
+        "chi2_per_dof": _num(d.chi2_per_dof, 3),
+    } | _board(d)
+
+
+class _Days(Sequence):
+    """A site's days as :func:`_day` gives them, each built when it is read."""
+
+    def __init__(self, series) -> None:
+        self._series = series
+
+    def __len__(self) -> int:
+        return len(self._series)
+
+    def __getitem__(self, k):
+        if isinstance(k, slice):
+            return [_day(d) for d in self._series[k]]
+        return _day(self._series[k])
 
 
 def _board(series) -> dict:

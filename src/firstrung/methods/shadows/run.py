@@ -64,10 +64,16 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
 
         flags = tuple(log_flags(campaign, log))
         log, left_out = without_error_rows(campaign, log, lambda *_: flags)
+        if log.rows_read >= 100_000:  # the check's many small objects are gone: give their memory back
+            from firstrung.memory import release_free_memory
+
+            release_free_memory()
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
     rows_read, notes = log.rows_read, tuple(log.notes)
     del log  # the readings hold what the reduction needs (a long log's columns are not kept beside them)
+    if not campaign.row_site_ids:
+        whole_log = None
     if len(readings) == 0:
         first = f" (first: {problems[0]})" if problems else ""
         raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path),
@@ -82,7 +88,7 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     return ShadowRun(
         campaign, reduction, problems, rows_read, len(readings), readings, left_out, notes,
         network=network, pairs=network_pairs(reduction.sites, network.flagged), subsolar=site_subsolar(reduction.sites),
-        flags=flags, log=whole_log,
+        flags=flags, log=whole_log,  # only an open network's schools read the whole log
     )
 
 
