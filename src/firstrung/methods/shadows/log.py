@@ -264,7 +264,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
         for k in np.flatnonzero(~ok)
     )
     row_edge = np.asarray(log.edge, dtype=object)
-    given = np.array([e is not None and e != "" for e in row_edge], bool) if len(log) else np.zeros(0, bool)
+    given = (np.not_equal(row_edge, None) & np.not_equal(row_edge, "")) if len(log) else np.zeros(0, bool)
     return ShadowInstruments(
         ok=ok,
         site_index=site_index,

@@ -310,11 +310,13 @@ def angle_instruments(campaign, log, site_index) -> dict:
     sigma = np.array([i.sigma_deg for i in instruments], float)[site_index]
     limb = np.array([i.limb for i in instruments], dtype="<U6")[site_index]
     row_limb = np.asarray(log.limb, dtype=object)
-    given = np.array([v is not None for v in row_limb], bool) if len(log) else np.zeros(0, bool)
+    given = np.not_equal(row_limb, None) if len(log) else np.zeros(0, bool)  # a column at a time, in C
     row_sigma = np.asarray(log.angle_sigma_deg, float)
+    limb = limb.copy()
+    limb[given] = row_limb[given].astype(str)
     return {
         "angle_sigma_deg": np.where(np.isfinite(row_sigma), row_sigma, sigma),
-        "limb": np.where(given, row_limb.astype(str), limb).astype("<U6"),
+        "limb": limb,
         "index_correction_deg": np.array([i.index_correction_deg for i in instruments], float)[site_index],
         "index_sigma_deg": np.array([i.index_correction_sigma_deg for i in instruments], float)[site_index],
     }
