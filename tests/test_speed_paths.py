@@ -117,7 +117,7 @@ def test_reading_in_chunks_gives_what_the_row_checks_give(tmp_path, monkeypatch)
     edges) gives the rows, numbers, problems and notes of the row-by-row read, and check keeps every row."""
     import shutil
 
-    from firstrung import csv_table, tabular
+    from firstrung import csv_bytes, csv_table, tabular
     from firstrung.app.check import run_check
     from firstrung.methods.shadows.log import read_shadow_logs
 
@@ -135,6 +135,7 @@ def test_reading_in_chunks_gives_what_the_row_checks_give(tmp_path, monkeypatch)
     log.write_text("\n".join(["", "# kept for the chunks' sake", lines[0]] + mixed + ["", ""]) + "\n")
     campaign = read_campaign(tmp_path / "camp" / "campaign.toml")
     monkeypatch.setattr(csv_table, "CHUNK_CHARS", 100)  # about two rows a chunk
+    monkeypatch.setattr(csv_bytes, "ROWS_PER_CHUNK", 2)  # the same for a plain file read from its bytes
     chunked = read_shadow_logs(campaign)
     monkeypatch.setattr(tabular, "FAST_PATH", False)
     slow = read_shadow_logs(campaign)
