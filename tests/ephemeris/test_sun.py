@@ -168,3 +168,28 @@ def _compare_with_direct(sun_module, t):
     angle = np.degrees(np.arccos(np.clip(np.sum(u * v, axis=0), -1.0, 1.0)))
     assert angle.max() < 0.02 * ARCSEC
     assert np.max(np.abs(np.angle(np.exp(1j * (gast - gast_ref))))) < np.radians(0.01 * ARCSEC)
+
+
+def test_a_few_times_asked_again_are_computed_once_with_the_same_numbers(monkeypatch):
+    """A check's hypotheses and the collection point's batches ask for the Sun at the same few times
+    again: skyfield is called once for them, and the answer is the same to the bit (and a copy, so a
+    caller that changes it changes nothing for the next)."""
+    from firstrung.ephemeris import sun as sun_module
+
+    monkeypatch.setattr(sun_module, "_RECENT_DIRECT", {})
+    calls = []
+    direct = sun_module._direct_geocentric_sun
+
+    def counted(t):
+        calls.append(1)
+        return direct(t)
+
+    monkeypatch.setattr(sun_module, "_direct_geocentric_sun", counted)
+    t = np.array(["2027-03-20T11:38", "2027-03-20T12:05", "2027-06-21T10:00"], dtype="datetime64[us]")
+    xyz1, gast1 = sun_module._geocentric_sun(t)
+    xyz1[:] = 0.0  # the caller's copy
+    xyz2, gast2 = sun_module._geocentric_sun(t.copy())
+    xyz3, gast3 = sun_module._geocentric_sun(t + np.timedelta64(1, "s"))
+    assert len(calls) == 2
+    ref_xyz, ref_gast = direct(ephemeris._core._prepared_time(t))
+    assert np.array_equal(xyz2, ref_xyz) and np.array_equal(gast2, gast1) and not np.array_equal(xyz3, xyz2)

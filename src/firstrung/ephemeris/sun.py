@@ -162,15 +162,31 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     start = np.floor(tt.min() - 0.5)
     nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
     if not grid and (grid is False or time_utc.size * uses < _GRID_MIN_GAIN * nodes):
+        key = time_utc.tobytes() if time_utc.size <= _RECENT_MAX_TIMES else None
+        if key in _RECENT_DIRECT:  # the same few times again (a check's hypotheses, a server's batches)
+            xyz, gast = _RECENT_DIRECT[key]
+            return xyz.copy(), gast.copy()
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
-        return _direct_geocentric_sun(t)
+        xyz, gast = _direct_geocentric_sun(t)
+        if key is not None:
+            if len(_RECENT_DIRECT) >= _RECENT_KEPT:
+                del _RECENT_DIRECT[next(iter(_RECENT_DIRECT))]
+            _RECENT_DIRECT[key] = (xyz.copy(), gast.copy())
+        return xyz, gast
     grid_values = _sun_grid_stacked(float(start), nodes, step)
     both = np.empty((4, tt.size))
     for first in range(0, tt.size, _BLOCK):  # a block at a time: the interpolation's temporaries stay small
         both[:, first:first + _BLOCK] = _lagrange4(tt[first:first + _BLOCK], start, step, grid_values)
     return both[:3], np.mod(both[3], 2.0 * np.pi)
 
+
+#: The last direct computations of a few times, by the times (each skyfield call costs some
+#: milliseconds however few the times: a check tries several hypotheses on the same times, and the
+#: collection point checks each site's stored readings again with every new one). Same numbers.
+_RECENT_DIRECT: dict[bytes, tuple[np.ndarray, np.ndarray]] = {}
+_RECENT_KEPT = 64
+_RECENT_MAX_TIMES = 2_048
 
 #: Times interpolated at once from the grid (each costs some 200 bytes of temporaries; a block this
 #: small stays within the processor's cache).
