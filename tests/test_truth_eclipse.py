@@ -260,9 +260,8 @@ def test_the_distance_keeps_the_convention_and_its_allowance_whatever_the_crater
 
 
 def test_reduce_eclipse_says_which_enlargement_the_distance_used(tmp_path, capsys, monkeypatch):
-    from helpers import run_cli
-
     from firstrung.methods.eclipse.prediction import eclipse_near
+    from helpers import run_cli
 
     e = eclipse_near(ECLIPSE)
     site = SITES["norte"]

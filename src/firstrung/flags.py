@@ -170,7 +170,7 @@ def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...
             if f.severity == "error":
                 rows_of[1].add(f.row)
     table: dict[tuple[str, str], list[int]] = {}
-    for (s, o), count in Counter(zip(site, observer)).items():
+    for (s, o), count in Counter(zip(site, observer, strict=True)).items():
         for key in ((s, ""), (s, o)) if o else ((s, ""),):
             counts = table.setdefault(key, [0, 0, 0, 0, 0])  # read, accepted, flagged, errors, warnings
             counts[0] += count

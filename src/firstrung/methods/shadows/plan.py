@@ -12,13 +12,13 @@ from firstrung.calendar_export import CalendarEvent, events_to_ics
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
+from firstrung.methods.shadows.inputs import baseline_inputs
 from firstrung.methods.shadows.prediction import (
     PlanSite,
     ShadowConstraints,
     ShadowPlan,
     plan_shadows,
 )
-from firstrung.methods.shadows.inputs import baseline_inputs
 from firstrung.safety import SOLAR_CAUTION
 
 #: Length of a calendar session around local apparent noon [min], as on the field sheet.
