@@ -95,7 +95,7 @@ def _render(data: dict) -> None:
     t = Table(box=box.SIMPLE_HEAD)
     for col, just in (("quantity", "left"), ("measured", "right"), ("68 % interval", "right"),
                       ("compared with", "right"), ("ratio", "right"), ("sigma apart", "right")):
-        t.add_column(col, justify=just)
+        t.add_column(col, justify=just, no_wrap=col in ("measured", "68 % interval"))  # a quantity's name wraps, never a number
     for row in data["comparison"]:
         value, interval = format_value(row["measured"], row["unit"])
         t.add_row(
