@@ -207,22 +207,26 @@ def rows_line(rows: dict, accepted_as: str) -> str:
 
 
 def interval_text(q: dict, digits: int, no_low: str = "?") -> str:
-    """A measured quantity's 68 % interval as "low to high" (``no_low`` when it has no lower end).
+    """A measured quantity's 68 % interval as "low to high" (``no_low`` when it has no lower end),
+    thousands separated by commas as every number firstrung prints.
 
     >>> interval_text({"low": 1.234, "high": None}, 2), interval_text({"low": None, "high": 3.0}, 1, "any value")
     ('1.23 to no upper bound', 'any value')
+    >>> interval_text({"low": 396837.4, "high": 401852.0}, 0)
+    '396,837 to 401,852'
     """
     if q["low"] is None and no_low != "?":
         return no_low
-    high = "no upper bound" if q["high"] is None else f"{q['high']:.{digits}f}"
-    low = no_low if q["low"] is None else f"{q['low']:.{digits}f}"
+    high = "no upper bound" if q["high"] is None else f"{q['high']:,.{digits}f}"
+    low = no_low if q["low"] is None else f"{q['low']:,.{digits}f}"
     return f"{low} to {high}"
 
 
 def report_left_out(count: int) -> None:
     """One line on stderr saying how many rows the check's errors left out of a reduction."""
     if count:
-        print(f"firstrung: {count} rows flagged as errors by check left out (--include-flagged keeps them)",
+        print(f"firstrung: {count:,} {'row' if count == 1 else 'rows'} flagged as errors by check left out "
+              "(--include-flagged keeps them)",
               file=sys.stderr)
 
 

@@ -230,8 +230,8 @@ def _pm(q: dict | None, digits: int) -> str:
     if q is None:
         return "-"
     if q["sigma"] is None:
-        return f"{q['value']:.{digits}f}"
-    return f"{q['value']:.{digits}f}±{q['sigma']:.{digits}f}"
+        return f"{q['value']:,.{digits}f}"
+    return f"{q['value']:,.{digits}f}±{q['sigma']:,.{digits}f}"
 
 
 

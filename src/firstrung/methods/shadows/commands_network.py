@@ -61,8 +61,8 @@ def network_lines(data: dict) -> list[str]:
     summary = data.get("pairs_summary") or {}
     if summary.get("count"):
         lines.append(f"  pairs: {summary['count']:,} same-day pairs at least 100 km apart north-south: median "
-                     f"{summary['median_km']:.0f} km, the middle 68 % from {summary['low_km']:.0f} to "
-                     f"{summary['high_km']:.0f} km")
+                     f"{summary['median_km']:,.0f} km, the middle 68 % from {summary['low_km']:,.0f} to "
+                     f"{summary['high_km']:,.0f} km")
         if "neighbours" in data.get("pairs_selection", ""):
             from firstrung.methods.shadows.pairs import ALL_PAIRS_MAX_SITES, NEIGHBOURS
 
