@@ -254,7 +254,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
                   pick(measured_weather), pick(zone_offset_h))
     tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),
                                pick(rand0), pick(sys0), distinct0 if sel.size == n else None,
-                               edges0 if sel.size == n else None)
+                               edges0 if sel.size == n else None, base_statistic=base.statistic[needy], sel=sel)
     del sub
     stats, fits, separations = _widen(tried, needy, sel, n_groups, n)
 
@@ -341,13 +341,19 @@ class _Inputs:
     zone_offset_h: np.ndarray
 
 
-def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0, distinct0=None, edges0=None):
+def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0, distinct0=None, edges0=None,
+                       *, base_statistic=None, sel=None):
     """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``.
 
     ``distinct0``, ``edges0``: the geocentric Sun of ``x.t`` and the rows' edge groups, when known. The
     geocentric Sun is computed once per time shift (a coordinate's sign keeps the times), the penumbra's
     width once, and a hypothesis that separates from the logged reading in no series is not fitted
     (:func:`_decide` never takes it).
+
+    ``base_statistic`` (per series of ``x``, as logged) and ``sel`` (the log's row of each row of ``x``):
+    each fit keeps its normalised residuals only for the series where :func:`_decide` could choose it
+    (separated and within reach of a decisive improvement, see :func:`_kept_z`), as :class:`_RowsOf`
+    indexed by the log's rows; a long log then holds a few of its rows per hypothesis, not all of them.
     """
     rows, n = x.rows, len(x.rows)
     if n == 0:  # no series needs a hypothesis (a log of one reading that fits): none is tried
@@ -404,31 +410,47 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             separations.append(sep)
             continue
         fit = series_statistic(x.group, x.n_groups, residual, rate, np.sqrt(rand), sysv)
+        if base_statistic is not None:
+            fit = _kept_z(fit, x.group, sep, base_statistic, sel)
         stats.append(fit.statistic)
         fits.append(fit)
         separations.append(sep)
     return stats, fits, separations
 
 
-class _RowsOf:
-    """Per-row values known for some rows (``values`` at ``position``, -1 elsewhere), indexed by every row:
-    a hypothesis' residuals over the rows it was tried on, without a copy as long as the log."""
+#: A single hypothesis :func:`_decide` chooses is within DISTINCT_MARGIN of the best, whose improvement is
+#: at least DECISIVE_IMPROVEMENT: its own improvement is at least their difference (kept with a margin of 1).
+_REACHABLE_IMPROVEMENT = DECISIVE_IMPROVEMENT - DISTINCT_MARGIN - 1.0
 
-    def __init__(self, values: np.ndarray, position: np.ndarray) -> None:
-        self.values, self.position = values, position
+
+class _RowsOf:
+    """Per-row values known for some rows of the log (``values`` at the sorted log rows ``rows``, NaN
+    elsewhere), indexed by the log's rows: a hypothesis' residuals where they can be read, without an
+    array as long as the log per hypothesis."""
+
+    def __init__(self, values: np.ndarray, rows: np.ndarray) -> None:
+        self.values, self.rows = values, rows
 
     def __getitem__(self, rows) -> np.ndarray:
-        at = self.position[rows]
-        out = np.full(at.shape, np.nan)
-        out[at >= 0] = self.values[at[at >= 0]]
+        rows = np.asarray(rows)
+        at = np.minimum(np.searchsorted(self.rows, rows), max(self.rows.size - 1, 0))
+        known = (self.rows[at] == rows) if self.rows.size else np.zeros(rows.shape, bool)
+        out = np.full(rows.shape, np.nan)
+        out[known] = self.values[at[known]]
         return out
+
+
+def _kept_z(fit: SeriesStatistic, group, sep, base_statistic, sel) -> SeriesStatistic:
+    """``fit`` with its residuals kept only for the series where it could be chosen (see _RowsOf)."""
+    reachable = (sep >= MIN_SEPARATION) & (base_statistic - fit.statistic >= _REACHABLE_IMPROVEMENT)
+    kept = np.flatnonzero(reachable[group])
+    return SeriesStatistic(fit.statistic, fit.level_rad, fit.level_sigma_rad, fit.clock_s, fit.mean_square,
+                           _RowsOf(fit.z[kept], sel[kept]))
 
 
 def _widen(tried, needy, sel, n_groups: int, n: int):
     """The hypotheses' results for every series: those of ``needy`` (rows ``sel``), the others never decisive."""
     stats, fits, separations = [], [], []
-    position = np.full(n, -1, np.int64)
-    position[sel] = np.arange(sel.size)
 
     def wide(values, fill):
         out = np.full(n_groups, fill)
@@ -439,7 +461,7 @@ def _widen(tried, needy, sel, n_groups: int, n: int):
         stats.append(None if s is None else wide(s, np.inf))
         fits.append(None if f is None else SeriesStatistic(
             wide(f.statistic, np.inf), wide(f.level_rad, np.nan), wide(f.level_sigma_rad, np.nan),
-            wide(f.clock_s, np.nan), wide(f.mean_square, np.nan), _RowsOf(f.z, position)))
+            wide(f.clock_s, np.nan), wide(f.mean_square, np.nan), f.z))
         separations.append(wide(sep, 0.0))
     return stats, fits, separations
 
