@@ -93,16 +93,23 @@ def _render(data: dict) -> None:
     out = console()
     out.print(f"[bold]{escape(data['campaign'])}[/bold]: the distance ladder ({data['samples']:,} Monte Carlo draws, seed {data['seed']})")
     t = Table(box=box.SIMPLE_HEAD)
-    for col, just in (("quantity", "left"), ("measured", "right"), ("68 % interval", "right"),
-                      ("compared with", "right"), ("ratio", "right"), ("sigma apart", "right")):
-        t.add_column(col, justify=just, no_wrap=col in ("measured", "68 % interval"))  # a quantity's name wraps, never a number
+    rows = []
     for row in data["comparison"]:
         value, interval = format_value(row["measured"], row["unit"])
-        t.add_row(
+        rows.append((
             f"{LABELS[row['quantity']]} ({row['unit']})", value, interval, format_modern(row),
             "" if row["ratio_to_modern"] is None else f"{row['ratio_to_modern']:.3f}",
             "" if row["z_score"] is None else f"{row['z_score']:+.1f}",
-        )
+        ))
+    # a quantity's unit wraps below its name; a measured value and a closed interval never wrap
+    # (an open one, "x to no upper bound", at its words)
+    closed = max((len(r[2]) for r in rows if "no upper" not in r[2]), default=0)
+    widths = {"quantity": len("Sun's distance"), "measured": None, "68 % interval": closed}
+    for col, just in (("quantity", "left"), ("measured", "right"), ("68 % interval", "right"),
+                      ("compared with", "right"), ("ratio", "right"), ("sigma apart", "right")):
+        t.add_column(col, justify=just, no_wrap=col == "measured", min_width=widths.get(col))
+    for r in rows:
+        t.add_row(*r)
     out.print(t)
     out.print("  compared with: the value a perfect measurement of this campaign gives; ratio: measured / that value")
     said = set()
