@@ -208,20 +208,7 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     # names and notes repeat from row to row: one string object for each distinct text
     observer = np.array(list(map(sys.intern, columns[observer_column])), dtype=object) if observer_column is not None else blank
     note = np.array(list(map(sys.intern, columns[note_column])), dtype=object) if note_column is not None else blank
-    m = int(ok.sum())
-    return {
-        "site": sites[ok].astype(str),
-        "time_utc": t[ok],
-        "time_column": np.full(m, "time_utc"),
-        "shadow_m": shadow_m[ok],
-        "shadow_column": np.full(m, shadow_column, dtype=object),
-        "gnomon_m": gnomon_m[ok],
-        "edge": edge[ok],
-        "temperature_c": weather["temperature_c"][ok],
-        "pressure_hpa": weather["pressure_hpa"][ok],
-        "observer": observer[ok],
-        "note": note[ok],
-    } | {name: np.full(m, value, dtype=_narrow(_FORM_DTYPES[name], value)) for name, value in LENGTH_FORM.items()}, ok
+    return _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note), ok
 
 
 def _narrow(dtype, value):
@@ -371,6 +358,11 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
                 if chosen.get("observer") is not None else blank)
     note = (_per_distinct(table, chosen["note"], lambda texts: np.array(texts, dtype=object))
             if chosen.get("note") is not None else blank)
+    return _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note), ok
+
+
+def _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note) -> dict:
+    """The plain length rows kept (``ok``) as the log's columns, the other forms' columns filled."""
     m = int(ok.sum())
     return {
         "site": sites[ok].astype(str),
@@ -384,4 +376,4 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
         "pressure_hpa": weather["pressure_hpa"][ok],
         "observer": observer[ok],
         "note": note[ok],
-    } | {name: np.full(m, value, dtype=_narrow(_FORM_DTYPES[name], value)) for name, value in LENGTH_FORM.items()}, ok
+    } | {name: np.full(m, value, dtype=_narrow(_FORM_DTYPES[name], value)) for name, value in LENGTH_FORM.items()}
