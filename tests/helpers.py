@@ -23,3 +23,18 @@ def shadows_only(campaign_toml) -> None:
     campaign_toml.write_text(
         "".join(line for line in text.splitlines(keepends=True) if not line.startswith(("eclipse =", "phases =")))
     )
+
+
+def write_network(tmp_path, rows, campaign_extra=""):
+    """An open network's campaign (no [[site]]) and its one log of ``rows`` (dicts): the campaign's path."""
+    import csv
+
+    logs = tmp_path / "logs"
+    logs.mkdir(exist_ok=True)
+    with open(logs / "schools.csv", "w", newline="") as f:
+        w = csv.DictWriter(f, fieldnames=list(rows[0]))
+        w.writeheader()
+        w.writerows(rows)
+    camp = tmp_path / "network.toml"
+    camp.write_text('[campaign]\nname = "Equinox network"\n' + campaign_extra + '[logs]\nshadows = ["logs/schools.csv"]\n')
+    return camp

@@ -32,6 +32,17 @@ def phone_options():
     return options
 
 
+def _press(driver, css: str) -> str:
+    """Press the form's button as a thumb would (scrolled into view) and wait for the page's verdict."""
+    from selenium.webdriver.common.by import By
+    from selenium.webdriver.support.ui import WebDriverWait
+
+    button = driver.find_element(By.CSS_SELECTOR, css)
+    driver.execute_script("arguments[0].scrollIntoView()", button)
+    button.click()
+    return WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "verdict")).text
+
+
 @pytest.mark.skipif(CHROMIUM is None or DRIVER is None,
                     reason="Debian's chromium and chromium-driver are not installed (.ci/run installs them)")
 def test_a_phone_sends_a_shadow_reading_and_sees_the_verdict(tmp_path):
@@ -53,10 +64,7 @@ def test_a_phone_sends_a_shadow_reading_and_sees_the_verdict(tmp_path):
             driver.execute_script("arguments[0].value = '2027-03-20T12:25:00'", time_field)
             Select(driver.find_element(By.NAME, "column:shadow_m")).select_by_value("shadow_mm")
             driver.find_element(By.ID, "shadows-value:shadow_m").send_keys("1661")
-            before = driver.find_element(By.CSS_SELECTOR, "#kind-shadows button")
-            driver.execute_script("arguments[0].scrollIntoView()", before)
-            before.click()
-            verdict = WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "verdict")).text
+            verdict = _press(driver, "#kind-shadows button")
             assert verdict.startswith("Stored")
             assert "Looks right." in verdict or "look again" in verdict
             driver.execute_script("window.scrollTo(0, 0)")
@@ -92,10 +100,7 @@ def test_a_phone_joins_an_open_network_and_sends_from_its_own_link(tmp_path):
             driver.find_element(By.ID, "join-value:gnomon_m").send_keys("120")
             Select(driver.find_element(By.NAME, "column:gnomon_m")).select_by_value("gnomon_cm")
             driver.find_element(By.ID, "join-timezone").send_keys("Europe/Zurich")
-            button = driver.find_element(By.CSS_SELECTOR, "form button")
-            driver.execute_script("arguments[0].scrollIntoView()", button)
-            button.click()
-            verdict = WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "verdict")).text
+            verdict = _press(driver, "form button")
             assert verdict.startswith("Joined.") and "site ridge-school" in verdict
             link = driver.find_element(By.ID, "school-link").get_attribute("href")
             shot = Path(os.environ.get("FIRSTRUNG_SCREENSHOT_JOIN", tmp_path / "join.png"))
@@ -106,10 +111,7 @@ def test_a_phone_joins_an_open_network_and_sends_from_its_own_link(tmp_path):
             assert "Ridge School" in driver.page_source and "Local apparent noon" in driver.page_source
             driver.execute_script("arguments[0].value = '2027-03-20T12:33:00'", time_field)
             driver.find_element(By.ID, "shadows-value:shadow_m").send_keys("133.0")
-            send = driver.find_element(By.CSS_SELECTOR, "#kind-shadows button")
-            driver.execute_script("arguments[0].scrollIntoView()", send)
-            send.click()
-            verdict = WebDriverWait(driver, 30).until(lambda d: d.find_element(By.ID, "verdict")).text
+            verdict = _press(driver, "#kind-shadows button")
             assert verdict.startswith("Stored") and "Looks right." in verdict
             log = request(server.links["coordinator"] + "/logs/shadows.csv").text
             assert "Ridge School,2027-03-20T12:33,133.0,120,47.8012,8.9034,Europe/Zurich" in log

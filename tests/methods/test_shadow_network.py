@@ -15,7 +15,7 @@ import json
 import numpy as np
 import pytest
 from geographiclib.geodesic import Geodesic
-from tests.helpers import run_cli
+from tests.helpers import run_cli, write_network
 
 from firstrung.methods.shadows.network import reduce_network
 from firstrung.methods.shadows.rehearsal_network import (
@@ -151,24 +151,12 @@ def test_realistic_networks_with_blunders_hold_the_truth_68_percent_of_the_time_
     assert 0.02 <= float(np.median(pair_spread)) <= 0.08  # pairs a few per cent apart
 
 
-def _write_network(tmp_path, rows, campaign_extra=""):
-    import csv
-
-    logs = tmp_path / "logs"
-    logs.mkdir(exist_ok=True)
-    with open(logs / "schools.csv", "w", newline="") as f:
-        w = csv.DictWriter(f, fieldnames=list(rows[0]))
-        w.writeheader()
-        w.writerows(rows)
-    camp = tmp_path / "network.toml"
-    camp.write_text('[campaign]\nname = "Equinox network"\n' + campaign_extra + '[logs]\nshadows = ["logs/schools.csv"]\n')
-    return camp
 
 
 def test_a_network_without_site_tables_reduces_from_its_rows_with_pairs_and_subsolar_results(
         tmp_path, capsys, monkeypatch):
     net = simulate_network(24, EQUINOX, 5, blunder_fraction=0.0)
-    camp = _write_network(tmp_path, network_log_rows(net))
+    camp = write_network(tmp_path, network_log_rows(net))
     code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
     assert code == 0, err
     data = json.loads(out)
@@ -184,7 +172,7 @@ def test_a_network_without_site_tables_reduces_from_its_rows_with_pairs_and_subs
 def test_a_one_school_campaign_reduces_against_the_subsolar_point_and_says_what_it_assumed(
         tmp_path, capsys, monkeypatch):
     net = simulate_network(1, EQUINOX, 8, errors=None, blunder_fraction=0.0)
-    camp = _write_network(tmp_path, network_log_rows(net))
+    camp = write_network(tmp_path, network_log_rows(net))
     code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
     assert code == 0, err
     data = json.loads(out)
@@ -208,7 +196,7 @@ def test_rows_of_one_school_that_disagree_on_the_position_are_refused_with_both_
     rows = network_log_rows(net)
     moved = dict(rows[3], latitude_deg=f"{float(rows[3]['latitude_deg']) + 0.5:.4f}", note="sent again")
     rows.append(moved)
-    camp = _write_network(tmp_path, rows)
+    camp = write_network(tmp_path, rows)
     code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
     assert code == 2  # rows were refused; the result of the good rows is still given
     data = json.loads(out)
@@ -226,7 +214,7 @@ def test_rows_of_one_school_that_disagree_on_the_position_are_refused_with_both_
 
 def test_plan_for_many_schools_sums_up_each_day_and_writes_every_site_to_a_file(tmp_path, capsys, monkeypatch):
     net = simulate_network(60, EQUINOX, 4, blunder_fraction=0.0)  # more than SITE_COLUMNS_SHOWN
-    camp = _write_network(tmp_path, network_log_rows(net))
+    camp = write_network(tmp_path, network_log_rows(net))
     csv_path = tmp_path / "sites.csv"
     code, out, err = run_cli(["plan", "shadows", camp, "--from", "2027-03-01", "--to", "2027-04-30", "--top", "4",
                               "--sites-csv", csv_path], capsys, monkeypatch, columns=80)
@@ -244,7 +232,7 @@ def test_zero_shadow_days_fall_when_the_sun_stands_at_the_site_latitude(tmp_path
              "time_utc": "2027-03-20T16:40:00Z", "shadow_cm": "22.5", "gnomon_m": "1.0"},
             {"site": "Pine Ridge School", "latitude_deg": "45.0000", "longitude_deg": "-70.0000",
              "time_utc": "2027-03-20T16:40:00Z", "shadow_cm": "100.0", "gnomon_m": "1.0"}]
-    camp = _write_network(tmp_path, rows)
+    camp = write_network(tmp_path, rows)
     code, out, err = run_cli(["plan", "shadows", camp, "--from", "2027-01-01", "--to", "2027-12-31", "--json"],
                              capsys, monkeypatch)
     assert code == 0, err
@@ -294,7 +282,7 @@ def test_rows_with_a_date_and_no_time_are_read_at_apparent_noon_with_a_wider_sta
     for k, row in enumerate(network_log_rows(net)):
         t = row.pop("time_utc")
         rows.append(dict(row, date=t[:10], time_utc="" if k % 3 == 0 else t[11:]))
-    camp = _write_network(tmp_path, rows)
+    camp = write_network(tmp_path, rows)
     code, out, err = run_cli(["reduce", "shadows", camp, "--json"], capsys, monkeypatch)
     assert code == 0, err
     data = json.loads(out)
@@ -315,7 +303,7 @@ def test_every_school_gets_a_printable_result_page(tmp_path, capsys, monkeypatch
     net = simulate_network(10, EQUINOX, 41, blunder_fraction=0.0)
     rows = network_log_rows(net)
     rows[0]["site"] = "<b>Bold</b> & Co School"
-    camp = _write_network(tmp_path, rows)
+    camp = write_network(tmp_path, rows)
     sheets = tmp_path / "schools.html"
     code, out, err = run_cli(["reduce", "shadows", camp, "--json", "--school-sheets", sheets], capsys, monkeypatch)
     assert code == 0, err

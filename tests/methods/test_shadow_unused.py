@@ -8,12 +8,11 @@ reduction's own JSON (regression checks of the pages, no outside reference is in
 
 from __future__ import annotations
 
-import csv
 import html
 import json
 import re
 
-from tests.helpers import run_cli
+from tests.helpers import run_cli, write_network
 
 from firstrung.methods.shadows.rehearsal_network import (
     network_log_rows,
@@ -25,16 +24,6 @@ from firstrung.methods.shadows.unused import CHECK_BEFORE_AGAIN, EVERY_TIME, PLA
 EQUINOX = "2027-03-20"
 
 
-def _network(tmp_path, rows):
-    logs = tmp_path / "logs"
-    logs.mkdir(exist_ok=True)
-    with open(logs / "schools.csv", "w", newline="") as f:
-        w = csv.DictWriter(f, fieldnames=list(rows[0]))
-        w.writeheader()
-        w.writerows(rows)
-    camp = tmp_path / "network.toml"
-    camp.write_text('[campaign]\nname = "Equinox network"\n[logs]\nshadows = ["logs/schools.csv"]\n')
-    return camp
 
 
 def _pages(text: str) -> dict[str, str]:
@@ -50,7 +39,7 @@ def test_a_school_whose_only_row_was_not_used_gets_a_page_saying_why_and_what_to
     bad_cell, moved = clean[0], clean[1]
     rows[bad_cell]["shadow_cm"] = "12,3x"  # a cell the reader refuses
     rows.append(dict(rows[moved], latitude_deg=f"{float(rows[moved]['latitude_deg']) + 3.0:.4f}"))  # two positions
-    camp = _network(tmp_path, rows)
+    camp = write_network(tmp_path, rows)
     sheets = tmp_path / "schools.html"
     code, out, err = run_cli(["reduce", "shadows", camp, "--json", "--school-sheets", sheets], capsys, monkeypatch)
     assert code == 2  # rows were refused; the result from the good rows still comes
@@ -88,7 +77,7 @@ def test_a_school_whose_only_row_was_not_used_gets_a_page_saying_why_and_what_to
 
 def test_the_report_thanks_every_school_and_counts_those_whose_reading_was_not_used(tmp_path, capsys, monkeypatch):
     net = simulate_network(30, EQUINOX, 29, blunder_fraction=0.2)
-    camp = _network(tmp_path, network_log_rows(net))
+    camp = write_network(tmp_path, network_log_rows(net))
     code, _, err = run_cli(["report", camp, "-o", tmp_path / "r.html"], capsys, monkeypatch)
     assert code == 0, err
     text = html.unescape((tmp_path / "r.html").read_text())

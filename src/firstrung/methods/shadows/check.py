@@ -370,7 +370,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
         if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
             shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
             shift_ms = np.round(shift_h * 3600e3).astype(np.int64)
-            uniform = n > 0 and bool(np.all(shift_ms == shift_ms[0]))  # no row needs a hypothesis: n is 0
+            uniform = bool(np.all(shift_ms == shift_ms[0]))  # n > 0: the function returned early otherwise
             t_h = distinct0[3] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
                 x.t + shift_ms.astype("timedelta64[ms]"))
             if not _in_span(t_h):
