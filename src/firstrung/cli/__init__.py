@@ -74,8 +74,9 @@ def main(argv: list[str] | None = None) -> None:
     """
     import warnings
 
-    from firstrung.cli.app import build
+    from firstrung.cli.app import build, plain_values
 
+    plain_values()
     args, debug = _take_debug(list(sys.argv[1:] if argv is None else argv))
     app = build(args)
     with warnings.catch_warnings():

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import importlib
+import re
+from pathlib import Path
 from typing import Annotated
 
 import typer
@@ -121,3 +123,70 @@ def build(args=None) -> typer.Typer:
     for module in modules:
         importlib.import_module(f"firstrung.cli.{module}").register(app)
     return app
+
+
+#: Command-line numbers converted here, without typer's general converter: plain decimals only
+#: (anything else, and every value out of its range, goes to typer's own converter and its messages).
+_PLAIN_INT = re.compile(r"-?(0|[1-9][0-9]{0,14})")
+_PLAIN_FLOAT = re.compile(r"-?(0|[1-9][0-9]{0,14})(\.[0-9]{1,17})?")
+_UNSURE = object()
+
+
+def _plain(annotation, info, value):
+    """``value`` converted as typer would convert it for the simple types firstrung's options use,
+    or ``_UNSURE`` (typer's own converter then decides, with its own message)."""
+    if annotation is str:
+        return value if isinstance(value, str) else _UNSURE
+    if annotation is bool:
+        return value if isinstance(value, bool) else _UNSURE
+    if annotation is int or annotation is float:
+        if isinstance(value, str) and (_PLAIN_INT if annotation is int else _PLAIN_FLOAT).fullmatch(value):
+            number = annotation(value)
+        elif type(value) is annotation or (annotation is float and type(value) is int):
+            number = annotation(value)
+        else:
+            return _UNSURE
+        if info.clamp or (info.min is not None and number < info.min) or (info.max is not None and number > info.max):
+            return _UNSURE
+        return number
+    if annotation == list[str]:
+        return list(value) if isinstance(value, (list, tuple)) and all(isinstance(v, str) for v in value) else _UNSURE
+    return _UNSURE
+
+
+def plain_values() -> None:
+    """Convert the command line's values of the simple types (text, whole and decimal numbers, paths,
+    lists of text, flags) directly, as typer would, without building typer's general converters.
+
+    typer (0.2x) converts every value through pydantic, whose import and per-option set-up cost
+    a command's start more than the rest of its parsing; the values and the messages are the same
+    (a value this does not recognise goes to typer's own converter). A typer without that
+    machinery is left as it is.
+    """
+    try:
+        from typer import _coercion, core
+        from typer._param_types import coerce_cli_path
+    except ImportError:  # pragma: no cover - another typer: its own conversion, unchanged
+        return
+    typers_own = _coercion.build_runtime_param
+    if getattr(core, "build_runtime_param", None) is not typers_own:
+        return  # already in place, or a typer laid out otherwise
+
+    class PlainValue(_coercion.RuntimeParam):
+        def _coerce_value(self, value, param, ctx):
+            info = self.parameter_info
+            if self.annotation is Path and info.path_type is None and info.parser is None:
+                if isinstance(value, str) and value and "\x00" not in value:
+                    return coerce_cli_path(Path(value), info, path_type=Path, param=param, ctx=ctx)
+            elif info.parser is None:
+                out = _plain(self.annotation, info, value)
+                if out is not _UNSURE:
+                    return out
+            return typers_own(param.type_descriptor)._coerce_value(value, param=param, ctx=ctx)
+
+    def runtime_param(descriptor):
+        if descriptor.is_file:
+            return typers_own(descriptor)
+        return PlainValue(descriptor.parameter_info, descriptor.annotation)
+
+    core.build_runtime_param = runtime_param

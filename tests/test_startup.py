@@ -1,0 +1,137 @@
+"""What a command loads at start-up: only what it uses (docs/architecture.md, "Start-up").
+
+A user pays every import of every command, cold. These tests hold that ``plan shadows`` and
+``reduce shadows`` load no library they do not use (pydantic, through typer's general value
+converter; scipy.stats; the plotting and templating libraries; skyfield's download machinery),
+and that firstrung's own conversion of the command line's values gives what typer's does.
+They time nothing: the benchmark measures the time (benchmarks/run.py).
+"""
+
+from __future__ import annotations
+
+import math
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
+
+#: Libraries these commands never use: each costs a cold start tenths of a second.
+NOT_LOADED = ("pydantic", "scipy.stats", "matplotlib", "jinja2", "skyfield.iokit", "astropy")
+
+
+def _loaded_after(args: list[str]) -> set[str]:
+    """The modules a fresh interpreter holds after running ``firstrung args`` (output discarded)."""
+    code = (
+        "import contextlib, io, sys\n"
+        "from firstrung.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):\n"
+        "    try:\n"
+        f"        main({args!r})\n"
+        "    except SystemExit as e:\n"
+        "        status = e.code\n"
+        "print(status)\n"
+        "print(' '.join(sorted(sys.modules)))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120,
+                         env={"COLUMNS": "80", "PATH": "/usr/bin:/bin"})
+    assert out.returncode == 0, out.stderr
+    status, modules = out.stdout.strip().splitlines()[-2:]
+    assert status in ("0", "None"), status
+    return set(modules.split())
+
+
+def _unwanted(modules: set[str]) -> list[str]:
+    return sorted(m for m in modules if any(m == n or m.startswith(n + ".") for n in NOT_LOADED))
+
+
+def test_plan_shadows_loads_no_library_it_does_not_use():
+    modules = _loaded_after(["plan", "shadows", str(EXAMPLE), "--from", "2027-03-01", "--to", "2027-03-31",
+                             "--min-altitude", "15", "--top", "3", "--exclude", "2027-03-02"])
+    assert "firstrung.methods.shadows.prediction" in modules  # the plan did run
+    assert _unwanted(modules) == []
+
+
+def test_reduce_shadows_loads_no_library_it_does_not_use():
+    modules = _loaded_after(["reduce", "shadows", str(EXAMPLE)])
+    assert "firstrung.methods.shadows.reduction" in modules
+    assert _unwanted(modules) == []
+
+
+# --- the command line's values, converted as typer's own converter does ---------------------------
+
+
+def _typers_own(annotation, text, minimum=None, maximum=None):
+    """typer's general converter (pydantic) on one value: the value, or its error's class name."""
+    from typing import Annotated
+
+    from pydantic import Field, TypeAdapter, ValidationError
+
+    limits = {k: v for k, v in (("ge", minimum), ("le", maximum)) if v is not None}
+    adapter = TypeAdapter(Annotated[annotation, Field(**limits)] if limits else annotation)
+    try:
+        return adapter.validate_python(text)
+    except ValidationError:
+        return "refused"
+
+
+class _Limits:
+    """The parts of typer's ParameterInfo the conversion reads."""
+
+    def __init__(self, minimum=None, maximum=None):
+        self.min, self.max, self.clamp = minimum, maximum, False
+
+
+@pytest.mark.parametrize(
+    ("annotation", "text", "minimum", "maximum"),
+    [
+        (int, "10", None, None), (int, "-3", None, None), (int, "0", 1, None), (int, "1", 1, None),
+        (int, "366", 1, 366), (int, "367", 1, 366), (int, "007", None, None), (int, "+5", None, None),
+        (int, "1_000", None, None), (int, " 5", None, None), (int, "5.0", None, None), (int, "x", None, None),
+        (int, "123456789012345678901", None, None),
+        (float, "20", None, None), (float, "20.5", None, None), (float, "-0", None, None),
+        (float, "0.1", None, None), (float, "1e3", None, None), (float, ".5", None, None),
+        (float, "1.", None, None), (float, "nan", None, None), (float, "-0.0001", 0.0, None),
+        (float, "0.05", 0.05, 1000.0), (float, "1000.0000001", 0.05, 1000.0),
+        (float, "2.675", None, None), (float, "123456789.123456789", None, None),
+        (str, "mon-fri", None, None), (str, "", None, None),
+    ],
+)
+def test_plain_values_are_typers_values(annotation, text, minimum, maximum):
+    """Each value the plain conversion accepts is the value typer's own converter gives; each it
+    does not recognise (or finds out of range) is left to typer's converter, which refuses it or
+    converts it with its own rules and messages."""
+    from firstrung.cli.app import _UNSURE, _plain
+
+    ours = _plain(annotation, _Limits(minimum, maximum), text)
+    theirs = _typers_own(annotation, text, minimum, maximum)
+    if ours is _UNSURE:
+        return  # typer's own converter decides, as before
+    assert type(ours) is type(theirs)
+    assert ours == theirs or (math.isnan(ours) and math.isnan(theirs))
+    if annotation is float:
+        assert math.copysign(1.0, ours) == math.copysign(1.0, theirs)
+
+
+def test_plain_values_take_the_usual_values_themselves():
+    """The conversion does its work: the values a user types go no further (else nothing is gained)."""
+    from firstrung.cli.app import _UNSURE, _plain
+
+    assert _plain(int, _Limits(1), "10") == 10
+    assert _plain(float, _Limits(), "20.5") == 20.5
+    assert _plain(float, _Limits(), 20) == 20.0 and type(_plain(float, _Limits(), 20)) is float
+    assert _plain(list[str], _Limits(), ("2027-03-02", "2027-03-05")) == ["2027-03-02", "2027-03-05"]
+    assert _plain(int, _Limits(1), "0") is _UNSURE  # out of range: typer's message
+    assert _plain(int, _Limits(), True) is _UNSURE  # a flag's value is no number
+
+
+def test_a_refused_value_keeps_typers_message(capsys):
+    from firstrung.cli import main
+
+    with pytest.raises(SystemExit) as stop:
+        main(["plan", "shadows", str(EXAMPLE), "--from", "2027-03-01", "--to", "2027-03-02", "--top", "0"])
+    assert stop.value.code == 2
+    err = capsys.readouterr().err
+    assert "Invalid value for '--top'" in err and "greater than or equal to 1" in err
