@@ -4,7 +4,8 @@ Each client is a phone session: it opens its site's page, then sends a
 reading, reads the answer page (the verdict and a fresh form) and sends the
 next, for the sites it holds. The campaign is invented (200 sites 35-60 deg N)
 and its readings come from ``firstrung simulate shadows`` (stated errors).
-Prints the median and 95th percentile of the answer time to a reading, and
+Prints the median and 95th percentile of the answer time to a reading, the
+server's CPU time per reading (which other work on the machine distorts less), and
 checks that every reading is stored exactly once.
 
 By default each client sends its next reading as soon as it has the answer (a
@@ -35,6 +36,15 @@ from tests.collect.client import Server, form_tokens, request  # noqa: E402
 
 #: The whole run may take at most this long [s].
 TIME_LIMIT_S = 900
+
+
+def cpu_s(pid: int) -> float:
+    """A process's CPU time so far (user + system) [s], from /proc; NaN where there is none."""
+    try:
+        fields = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()
+    except OSError:
+        return float("nan")
+    return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
 
 
 def campaign_text(n_sites: int) -> str:
@@ -95,10 +105,12 @@ def main() -> int:
 
         sites = sorted(plan)
         groups = [sites[k :: args.clients] for k in range(args.clients)]
+        server_cpu0 = cpu_s(server.process.pid)
         t0 = time.perf_counter()
         with ThreadPoolExecutor(max_workers=args.clients) as pool:
             list(pool.map(session, groups))
         wall = time.perf_counter() - t0
+        server_cpu = cpu_s(server.process.pid) - server_cpu0
         log = request(server.links["coordinator"] + "/logs/shadows.csv").text
         every = request(server.links["coordinator"] + "/readings.csv").text
     rows = list(csv.DictReader(io.StringIO(log)))
@@ -113,6 +125,8 @@ def main() -> int:
           f"{expected / wall:.1f} readings/s")
     print(f"answers: {len(answers)}, status 201: {statuses.count(201)}, median {statistics.median(answers) * 1e3:.0f} ms, "
           f"95th percentile {ordered[int(0.95 * (len(ordered) - 1))] * 1e3:.0f} ms, max {ordered[-1] * 1e3:.0f} ms")
+    print(f"server CPU (user + system) during the load {server_cpu:.1f} s, "
+          f"{server_cpu / max(len(answers), 1) * 1e3:.1f} ms per reading (its page GET included)")
     print(f"stored: {len(rows)} in the log, {len(ids)} in the store; every reading stored exactly once: {stored_once}")
     return 0 if stored_once and statuses.count(201) == expected else 1
 

@@ -66,6 +66,8 @@ JOIN_REFILL_S = 30.0
 #: Join posts per address, refused ones included: a burst, then one every JOIN_TRY_REFILL_S seconds.
 JOIN_TRY_BURST = 120
 JOIN_TRY_REFILL_S = 1.0
+#: Forms' fields kept rendered (per kind, form, zone and minute); all dropped when there are more.
+FIELDS_KEPT = 512
 
 
 def _environment():
@@ -110,6 +112,8 @@ class Collection:
         self.post_limits = Buckets(RATE_BURST, RATE_REFILL_S)
         self.bad_tokens = Buckets(BAD_TOKEN_BURST, BAD_TOKEN_REFILL_S)
         self._check_cache: tuple[tuple, dict] | None = None
+        self._forms: dict = {}
+        self._fields_html: dict = {}
 
     # --- schools of an open network ----------------------------------------------------------------
 
@@ -122,6 +126,29 @@ class Collection:
         self.book.add(token, Holder("site", school.id))
         self.judge.zones[school.id] = site.timezone
         self.judge.campaign = replace(self.judge.campaign, sites=self.judge.campaign.sites + (site,))
+
+    def forms_of(self, kind: str, zone: str | None):
+        """The ways of recording a reading of a kind and their fields, for a site's zone (the same every time)."""
+        key = (kind, zone)
+        found = self._forms.get(key)
+        if found is None:
+            found = self._forms[key] = form_fields.forms(self.kinds[kind], zone)
+        return found
+
+    def fields_html(self, kind: str, way: int, zone: str | None, id_prefix: str, now_local: str, refill: dict):
+        """The fields of one form of a site's page, as HTML (escaped by its own template, shown as it is by the
+        page's); kept per zone and minute when nothing is refilled."""
+        key = (kind, way, zone, id_prefix, now_local)
+        if not refill and key in self._fields_html:
+            return self._fields_html[key]
+        html = self.env.get_template("site_fields.html.j2").render(
+            w={"fields": self.forms_of(kind, zone)[way][1], "id_prefix": id_prefix}, refill_here=refill,
+            now_local=now_local)
+        if not refill:
+            if len(self._fields_html) >= FIELDS_KEPT:
+                self._fields_html.clear()
+            self._fields_html[key] = html
+        return html
 
     def kinds_of(self, site_id: str) -> dict[str, LogKind]:
         """The kinds of log a site sends: every collected kind, or for a school those that carry a position."""
@@ -145,12 +172,18 @@ class Collection:
         self.store.close()
 
     def _warm_up(self) -> None:
-        """Load the ephemeris and each check once, and today's noon at every site (in one vectorised call),
-        so that the first page and the first reading are answered fast."""
+        """Load the ephemeris and each check once, and today's noon at every site (in one vectorised call)
+        with the predictions each form shows, so that the first page and the first reading are answered fast."""
+        now = dt.datetime.now(dt.UTC)
         try:
-            form_fields.prepare_today(self.sites.values(), dt.datetime.now(dt.UTC))
+            form_fields.prepare_today(self.sites.values(), now)
         except Exception:  # a date past the ephemeris: each page says what it can
             pass
+        for site in list(self.sites.values()):
+            date = form_fields.local_now(site.timezone, now)[:10]
+            for name in self.kinds_of(site.id):
+                for form, _ in self.forms_of(name, site.timezone):
+                    form_fields.hints(name, site, date, form.key if form is not None else None)
         for kind in self.kinds.values():
             try:
                 kind.log_flags(self.campaign, kind.read(self.campaign, []))
@@ -301,15 +334,18 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
         token = request.path_params["token"]
         now = clock()
         date = form_fields.local_now(site.timezone, now)[:10]
+        now_local = form_fields.local_now(site.timezone, now)
         kinds = []
-        for name, kind in state.kinds_of(site_id).items():
+        for name in state.kinds_of(site_id):
             ways = []
-            for k, (form, fields) in enumerate(form_fields.forms(kind, site.timezone)):
+            refill_here = (refill or {}) if kind_shown == name else {}
+            for k, (form, _) in enumerate(state.forms_of(name, site.timezone)):
                 form_id = new_form_id()
+                id_prefix = name if k == 0 else f"{name}-{form.key}"
                 ways.append({
-                    "id_prefix": name if k == 0 else f"{name}-{form.key}",
+                    "id_prefix": id_prefix,
                     "title": form.title if form is not None else "",
-                    "fields": fields,
+                    "fields_html": state.fields_html(name, k, site.timezone, id_prefix, now_local, refill_here),
                     "hints": form_fields.hints(name, site, date, form.key if form is not None else None),
                     "form_id": form_id,
                     "csrf": form_token(state.key, token, form_id, now.timestamp()),
@@ -325,8 +361,8 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
                 "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
             })
         html = state.env.get_template("site.html.j2").render(
-            campaign=state.campaign.name, site=site, kinds=kinds, now_local=form_fields.local_now(site.timezone, now),
-            result=result, refill=refill or {}, readings=state.store.recent(site_id, 30), kind_shown=kind_shown,
+            campaign=state.campaign.name, site=site, kinds=kinds, result=result,
+            readings=state.store.recent(site_id, 30),
         )
         return _answer(request, status, result or {}, html)
 

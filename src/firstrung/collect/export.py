@@ -80,7 +80,21 @@ def _converted(value: str, source: str, target: str, zone: str | None) -> str:
     return value
 
 
-def log_csv(slots: Sequence[Slot], rows: Iterable[tuple[str, dict[str, str]]], zones: dict[str, str | None]) -> str:
+def log_columns(slots: Sequence[Slot], rows: Sequence[tuple[str, dict[str, str]]]) -> list[tuple[Slot, str]]:
+    """The columns of the log file holding ``rows``: each used slot with the one name it is written under."""
+    columns: list[tuple[Slot, str]] = []
+    for slot in slots:
+        if slot.names == ("site",):
+            columns.append((slot, "site"))
+            continue
+        used = {name for _, cells in rows for name in slot.names if cells.get(name, "") != ""}
+        if used:
+            columns.append((slot, _chosen(slot, used)))
+    return columns
+
+
+def log_csv(slots: Sequence[Slot], rows: Iterable[tuple[str, dict[str, str]]], zones: dict[str, str | None],
+            columns: list[tuple[Slot, str]] | None = None) -> str:
     """A log file holding ``rows`` (site id, cells by column name), one column per slot used.
 
     Parameters
@@ -91,6 +105,8 @@ def log_csv(slots: Sequence[Slot], rows: Iterable[tuple[str, dict[str, str]]], z
         Each reading's site id and cells as posted.
     zones : dict
         Each site's IANA zone (None when it has none), to write local times as UTC.
+    columns : list, optional
+        :func:`log_columns` of these rows, when already known.
 
     >>> from firstrung.tabular import Slot, TIME_COLUMNS
     >>> s = (Slot(("site",)), Slot(TIME_COLUMNS), Slot(("shadow_m", "shadow_cm", "shadow_mm")), Slot(("note",)))
@@ -101,14 +117,7 @@ def log_csv(slots: Sequence[Slot], rows: Iterable[tuple[str, dict[str, str]]], z
     a,2027-03-20T11:40:00Z,1036,
     """
     rows = list(rows)
-    columns: list[tuple[Slot, str]] = []
-    for slot in slots:
-        if slot.names == ("site",):
-            columns.append((slot, "site"))
-            continue
-        used = {name for _, cells in rows for name in slot.names if cells.get(name, "") != ""}
-        if used:
-            columns.append((slot, _chosen(slot, used)))
+    columns = log_columns(slots, rows) if columns is None else columns
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow([name for _, name in columns])

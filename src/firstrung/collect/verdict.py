@@ -1,13 +1,21 @@
 """A submitted reading, read and checked by its method's own code.
 
-The posted cells become a one-row log and go through the method's reader
-(:func:`firstrung.methods.<name>.log.read_*_logs`, on :mod:`firstrung.tabular`):
-a problem there refuses the reading, naming the field. A reading the reader
-accepts is checked together with its site's stored readings by the method's
+A reading is checked together with its site's stored readings by the method's
 ``log_flags``, the check ``firstrung check`` runs, on the same log file the
 coordinator downloads (:func:`firstrung.collect.export.log_csv`); the flags of
-its row are its verdict. Readings that arrive together are read and checked
-in one pass (the check's cost is mostly per call, not per row).
+its row are its verdict. That file is read once by the method's reader
+(:func:`firstrung.methods.<name>.log.read_*_logs`, on :mod:`firstrung.tabular`).
+When the reader finds a problem in a new row there, or a new row is written in
+another column than it was posted in (a unit, a local time), the posted cells
+are first read on their own as a log: a problem there refuses the reading,
+naming the field, and only the readings it takes are checked.
+
+What a check of a site's readings needs is all it gets: the campaign with only
+the sites at hand, and the Sun of the day from one kept hourly grid
+(:func:`firstrung.ephemeris.sun.grid_preferred`). Readings that arrive together
+are read and checked in one pass (the check's cost is mostly per call, not per
+row). ``tests/collect/test_verdict.py`` holds each verdict to the full check's
+on the same rows.
 """
 
 from __future__ import annotations
@@ -16,12 +24,13 @@ import itertools
 import os
 import tempfile
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from dataclasses import field as _field
 from pathlib import Path
 
-from firstrung.collect.export import log_csv
+from firstrung.collect.export import log_columns, log_csv
 from firstrung.collect.kinds import LogKind
+from firstrung.ephemeris.sun import grid_preferred
 
 #: Longest cell accepted from a form [characters]; a longer one is refused.
 CELL_LIMIT = 200
@@ -82,13 +91,22 @@ class Judge:
         self._folder = Path(tempfile.mkdtemp(prefix="firstrung-collect-"))
         self._count = itertools.count()
 
-    def _read(self, kind: LogKind, text: str):
+    def _read(self, kind: LogKind, campaign, text: str):
         path = self._folder / f"{next(self._count)}.csv"
         path.write_text(text, encoding="utf-8")
         try:
-            return kind.read(self.campaign, [path]), str(path)
+            return kind.read(campaign, [path])
         finally:
             os.unlink(path)
+
+    def campaign_of(self, site_ids) -> object:
+        """The campaign with only these sites (and their baselines' other sites): what their readings' check
+        reads. The reader and the check then build their per-site tables for a few sites, not every site."""
+        wanted = set(site_ids)
+        for baseline in self.campaign.baselines:
+            if wanted & set(baseline.sites):
+                wanted |= set(baseline.sites)
+        return replace(self.campaign, sites=tuple(s for s in self.campaign.sites if s.id in wanted))
 
     def judge(self, kind: LogKind, subs: Sequence[Submission], stored: dict[str, list[dict[str, str]]]) -> list[Outcome]:
         """The outcome of each submission of one kind; ``stored`` holds each site's readings' cells.
@@ -96,45 +114,75 @@ class Judge:
         A refused submission is left out of the check of the others.
         """
         outcomes: list[Outcome | None] = [None] * len(subs)
-        # 1. the reader, on the cells as posted (one file per set of columns, so messages name them)
-        groups: dict[tuple[str, ...], list[int]] = {}
+        candidates = []
         for i, sub in enumerate(subs):
             problem = cells_problem(kind, sub.cells)
             if problem is not None:
                 outcomes[i] = Outcome(True, problem[0], problem[1])
-                continue
-            groups.setdefault(tuple(sorted(sub.cells)), []).append(i)
-        for members in groups.values():
-            log, _ = self._read(kind, log_csv(kind.slots, [(subs[i].site, subs[i].cells) for i in members], self.zones))
-            for p in log.problems:
-                if p.row is None:
-                    targets = members
-                else:
-                    targets = [members[p.row - 1]]
-                for i in targets:
-                    if outcomes[i] is None:
-                        outcomes[i] = Outcome(True, p.column or "kind", p.message)
-        accepted = [i for i in range(len(subs)) if outcomes[i] is None]
-        if not accepted:
+            else:
+                candidates.append(i)
+        if not candidates:
             return outcomes
-        # 2. the check, on each site's stored readings and the new ones: the log the coordinator downloads
-        sites = list(dict.fromkeys(subs[i].site for i in accepted))
-        rows: list[tuple[str, dict[str, str]]] = []
-        new_row: dict[int, int] = {}
-        for site in sites:
-            rows.extend((site, cells) for cells in stored.get(site, []))
-            for i in accepted:
-                if subs[i].site == site:
-                    rows.append((site, subs[i].cells))
-                    new_row[len(rows)] = i
-        log, label = self._read(kind, log_csv(kind.slots, rows, self.zones))
-        for i in accepted:
+        campaign = self.campaign_of(subs[i].site for i in candidates)
+        # 1. one read of each site's stored readings with the new ones, as the coordinator downloads them
+        checked = self._combined(kind, campaign, subs, candidates, stored, quick=True)
+        if checked is None:
+            # 2. a new reading the reader does not take there, or written in other columns than it was posted
+            # in: each is read on its own first, with the cells as posted (one file per set of columns, so
+            # messages name them), and only those it takes are checked
+            self._read_alone(kind, campaign, subs, candidates, outcomes)
+            accepted = [i for i in candidates if outcomes[i] is None]
+            if not accepted:
+                return outcomes
+            checked = self._combined(kind, campaign, subs, accepted, stored, quick=False)
+        log, new_row = checked
+        for i in new_row.values():
             outcomes[i] = Outcome(False)
         for p in log.problems:  # the reader accepted each row alone; say so if it does not now
             if p.row in new_row:
                 outcomes[new_row[p.row]].flags.append(
                     {"code": "bad-value", "severity": "error", "message": p.message, "fix": "correct the reading"})
-        for flag in kind.log_flags(self.campaign, log):
+        with grid_preferred():  # the Sun of these days from one kept grid, not a skyfield call per batch
+            flags = kind.log_flags(campaign, log)
+        for flag in flags:
             if flag.row in new_row:
                 outcomes[new_row[flag.row]].flags.append(flag_json(flag))
         return outcomes
+
+    def _read_alone(self, kind: LogKind, campaign, subs, members, outcomes) -> None:
+        """Refuse (in ``outcomes``) each submission the reader refuses with the cells as posted."""
+        groups: dict[tuple[str, ...], list[int]] = {}
+        for i in members:
+            groups.setdefault(tuple(sorted(subs[i].cells)), []).append(i)
+        for group in groups.values():
+            log = self._read(kind, campaign, log_csv(kind.slots, [(subs[i].site, subs[i].cells) for i in group],
+                                                     self.zones))
+            for p in log.problems:
+                for i in (group if p.row is None else [group[p.row - 1]]):
+                    if outcomes[i] is None:
+                        outcomes[i] = Outcome(True, p.column or "kind", p.message)
+
+    def _combined(self, kind: LogKind, campaign, subs, members, stored, quick: bool):
+        """The log of the members' sites' stored readings and the members, and the member of each new row.
+
+        ``quick``: None instead when a member's row is not written with its cells as posted (another
+        column of a slot: a unit, a local time) or the reader finds a problem in a member's row or the
+        file; then :meth:`_read_alone` must say first which members the reader takes on their own.
+        """
+        rows: list[tuple[str, dict[str, str]]] = []
+        new_row: dict[int, int] = {}
+        for site in dict.fromkeys(subs[i].site for i in members):
+            rows.extend((site, cells) for cells in stored.get(site, []))
+            for i in members:
+                if subs[i].site == site:
+                    rows.append((site, subs[i].cells))
+                    new_row[len(rows)] = i
+        columns = log_columns(kind.slots, rows)
+        if quick:
+            written = {name for _, name in columns}
+            if any(not written.issuperset(k for k, v in subs[i].cells.items() if v != "") for i in members):
+                return None
+        log = self._read(kind, campaign, log_csv(kind.slots, rows, self.zones, columns=columns))
+        if quick and any(p.row is None or p.row in new_row for p in log.problems):
+            return None
+        return log, new_row
