@@ -90,6 +90,17 @@ def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings)
         final = {r.site: r.verdict for r in state.store.readings()}
         assert final["fjell"]["looks_right"] and final["lowmead"]["looks_right"]
         assert [f["code"] for f in final[LATE]["flags"]] == ["local-time-as-utc"]
+        # the coordinator withdraws the late readings but one: the next reading is checked without them
+        late_ids = [r.id for r in state.store.readings() if r.site == LATE]
+        for reading_id in late_ids[:-1]:
+            assert state.withdraw(reading_id, "clock an hour late").withdrawn
+        on_time = dict(plan[LATE][0], time_utc=f"{np.datetime64(plan[LATE][0]['time_utc'].rstrip('Z')) - 3600}Z")
+        (outcome, reading), = state._process([Submission("shadows", LATE, on_time, "form-on-time")])
+        readings_now, full = state.full_check()["shadows"]
+        row = next(k + 1 for k, r in enumerate(readings_now) if r.id == reading.id)
+        assert len(readings_now) == 3 * 6 + 1 - 5
+        assert _flags(reading.verdict["flags"]) == _flags(
+            [{"code": f.code, "severity": f.severity, "message": f.message} for f in full if f.row == row])
     finally:
         state.writer.shutdown(wait=True)
         state.store.close()

@@ -113,6 +113,8 @@ class Collection:
         self.bad_tokens = Buckets(BAD_TOKEN_BURST, BAD_TOKEN_REFILL_S)
         self._check_cache: tuple[tuple, dict] | None = None
         self._forms: dict = {}
+        #: (kind, site) -> (id, cells) of its readings not withdrawn, in order; the writer's thread's alone.
+        self._cells: dict[tuple[str, str], list[tuple[int, dict[str, str]]]] = {}
         self._fields_html: dict = {}
 
     # --- schools of an open network ----------------------------------------------------------------
@@ -236,9 +238,7 @@ class Collection:
             members = [i for i in fresh if subs[i].kind == kind_name]
             kind = self.kinds[kind_name]
             sites = list(dict.fromkeys(subs[i].site for i in members))
-            stored: dict[str, list[dict[str, str]]] = {}
-            for r in self.store.readings(kind_name, sites, include_withdrawn=False):
-                stored.setdefault(r.site, []).append(r.cells)
+            stored = self._stored_cells(kind_name, sites)
             try:
                 outcomes = self.judge.judge(kind, [subs[i] for i in members], stored)
             except Exception as error:  # a reading is never lost to a failing check
@@ -255,6 +255,10 @@ class Collection:
         stored_rows = self.store.add([(subs[i].kind, subs[i].site, subs[i].cells, subs[i].form_id,
                                        results[i][1].verdict()) for i in to_store])
         reading_of = dict(zip(to_store, stored_rows, strict=True))
+        for r in stored_rows:
+            kept = self._cells.get((r.kind, r.site))
+            if kept is not None and (not kept or kept[-1][0] < r.id):  # a form sent again is there already
+                kept.append((r.id, r.cells))
         out = []
         for i, (how, value) in enumerate(results):
             if how == "again":
@@ -265,6 +269,24 @@ class Collection:
             else:
                 out.append((value, reading_of.get(i)))
         return out
+
+    def _stored_cells(self, kind: str, sites) -> dict[str, list[dict[str, str]]]:
+        """Each site's readings of a kind not withdrawn (their cells, in order), read from the store once and
+        then kept: the writer adds each reading it stores, and a withdrawal drops its site's."""
+        missing = [s for s in sites if (kind, s) not in self._cells]
+        if missing:
+            for site in missing:
+                self._cells[(kind, site)] = []
+            for r in self.store.readings(kind, missing, include_withdrawn=False):
+                self._cells[(kind, r.site)].append((r.id, r.cells))
+        return {s: [cells for _, cells in self._cells[(kind, s)]] for s in sites}
+
+    def withdraw(self, reading_id: int, reason: str):
+        """Mark a reading withdrawn (in the writer's thread, like every write): the store's reading or None."""
+        reading = self.store.withdraw(reading_id, reason)
+        if reading is not None:
+            self._cells.pop((reading.kind, reading.site), None)
+        return reading
 
     # --- the full check of what is stored, as the coordinator downloads it -------------------------
 
@@ -505,7 +527,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
             return _answer(request, 422, {"error": "expected a reading number", "field": "reading"})
         reason = form_fields.clean(values.get("reason", ""))[:200] or "withdrawn by the coordinator"
         loop = asyncio.get_running_loop()
-        reading = await loop.run_in_executor(state.writer, state.store.withdraw, int(reading_id), reason)
+        reading = await loop.run_in_executor(state.writer, state.withdraw, int(reading_id), reason)
         if reading is None:
             return _answer(request, 404, {"error": f"no reading {reading_id}", "field": "reading"})
         note = f"Reading {reading.id} ({reading.site}) is withdrawn: kept in the store, left out of the logs."

@@ -100,6 +100,7 @@ def serve(campaign_path, host: str = "127.0.0.1", port: int = 8000, store=None, 
     state = app.state.collection
     content = links(base, state.coordinator_token, state.site_tokens, state.join_token, state.school_tokens)
 
+    # loop and http "auto": uvloop and httptools (declared dependencies), else asyncio's loop and h11
     config = uvicorn.Config(app, log_level="warning", access_log=False, lifespan="on",
                             timeout_keep_alive=5, limit_concurrency=1000, server_header=False)
     server = uvicorn.Server(config)
