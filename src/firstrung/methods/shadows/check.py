@@ -89,6 +89,7 @@ from firstrung.methods.shadows.check_statistics import (
     _zone_offsets_h,
     check_footing,
     check_sites,
+    hopeless,
     distinct_sun,
     edge_groups,
     equivalent_length_m,
@@ -98,6 +99,7 @@ from firstrung.methods.shadows.check_statistics import (
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log import shadow_readings
+from firstrung.methods.shadows.series_layout import SeriesLayout
 from firstrung.numbers import median
 from firstrung.refraction import standard_pressure_hpa
 
@@ -233,7 +235,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     edges0 = edge_groups(rows.edge)
     rand0, sys0 = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather, edge=edges0)
     rand0 = rand0 + (rate0 * READING_TIME_SIGMA_S) ** 2
-    base = series_statistic(group, n_groups, obs0 - pred0, rate0, np.sqrt(rand0), sys0)
+    base = series_statistic(SeriesLayout(group, n_groups), n_groups, obs0 - pred0, rate0, np.sqrt(rand0), sys0)
 
     zone_offset_h = _zone_offsets_h(sites, rows, group, group_site, group_day)
     # Only a series whose statistic as logged reaches DECISIVE_IMPROVEMENT can be explained by a
@@ -364,6 +366,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), x.sd)
     time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
     sqrt_rand0 = np.sqrt(rand0)
+    series = SeriesLayout(x.group, x.n_groups)  # every fit below is over the same series
     stats, fits, separations = [], [], []
     for h in HYPOTHESES:  # a few dozen hypotheses, each vectorised over every row
         pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
@@ -402,14 +405,26 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
                                       edge=h.edge, width_m=width0)
             rand = rand + time_sigma0
         residual = obs - pred
-        sep = series_statistic(x.group, x.n_groups, residual0 - residual, rate0, sqrt_rand0, sys0,
-                               robust=False).statistic
+        sigma = np.sqrt(rand)
+        # a series whose statistic under h is sure to stay above its statistic as logged less one can never
+        # choose h (see _kept_z): neither h's separation nor its fit is needed there
+        wanted = None if base_statistic is None else ~hopeless(series, residual, rate, sigma, sysv,
+                                                               base_statistic - _REACHABLE_IMPROVEMENT)
+        if wanted is not None and not wanted.any():
+            stats.append(None)
+            fits.append(None)
+            separations.append(np.zeros(x.n_groups))
+            continue
+        sep = series_statistic(series, x.n_groups, residual0 - residual, rate0, sqrt_rand0, sys0,
+                               robust=False, columns=wanted).statistic
+        if wanted is not None:
+            sep[~wanted] = 0.0
         if not (sep >= MIN_SEPARATION).any():  # the same as the logged reading everywhere: never decisive
             stats.append(None)
             fits.append(None)
             separations.append(sep)
             continue
-        fit = series_statistic(x.group, x.n_groups, residual, rate, np.sqrt(rand), sysv)
+        fit = series_statistic(series, x.n_groups, residual, rate, sigma, sysv, columns=wanted)
         if base_statistic is not None:
             fit = _kept_z(fit, x.group, sep, base_statistic, sel)
         stats.append(fit.statistic)

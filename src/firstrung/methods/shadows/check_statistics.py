@@ -16,6 +16,7 @@ from firstrung.constants import (
 )
 from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, altitude_error_terms_rad
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.series_layout import SeriesLayout, hopeless_series, laid_out_fit
 from firstrung.refraction import refraction_from_apparent_deg
 
 #: Readings of one file and site more than this apart [h] belong to different series.
@@ -253,7 +254,7 @@ def _group_median(values, group, n_groups, start, count):
 
 
 def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
-                     *, robust=True) -> SeriesStatistic:
+                     *, robust=True, columns=None) -> SeriesStatistic:
     """Robust chi-square of each series about a fitted level and clock offset.
 
     Model of row i of series g: ``r_i = m_g + d_i u_g + e_i`` with ``d_i``
@@ -267,11 +268,13 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
 
     Parameters
     ----------
-    group : int array (n,)
-        Series of each row, 0..n_groups-1.
+    group : int array (n,) or SeriesLayout
+        Series of each row, 0..n_groups-1, or their :class:`SeriesLayout` (the same numbers, faster).
     residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2 : arrays (n,)
         Observed minus predicted altitude [rad], its rate with time [rad/s],
         the random and the systematic error [rad, rad^2].
+    columns : bool array (n_groups,), optional
+        With a SeriesLayout: fit only these series (the others get an infinite statistic, NaN values).
 
     Returns
     -------
@@ -282,6 +285,11 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
     >>> round(float(s.statistic[0]), 2), round(float(s.level_rad[0]) * 1e3, 3)
     (0.83, 1.0)
     """
+    if isinstance(group, SeriesLayout):
+        if group.usable:
+            return _laid_out_statistic(group, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+                                       robust, columns)
+        group = group.group
     group = np.asarray(group, int)
     r = np.asarray(residual_rad, float)
     d = np.asarray(rate_rad_s, float)
@@ -325,6 +333,38 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
         mean_square=scatter / np.maximum(count, 1),
         z=z,
     )
+
+
+def _laid_out_statistic(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+                        robust: bool, columns) -> SeriesStatistic:
+    """:func:`series_statistic` on the rows laid out by series (the same numbers); ``columns`` (bool per
+    series, or None for all): the series fitted, the others get an infinite statistic and NaN."""
+    statistic, level, level_var, clock, mean_square, z = laid_out_fit(
+        layout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, robust=robust,
+        prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA, iterations=_FIT_ITERATIONS, cap=RESIDUAL_CAP_SIGMA,
+        columns=columns)
+    if columns is None or columns.all():
+        return SeriesStatistic(statistic, level, np.sqrt(level_var), clock, mean_square, layout.rows(z))
+
+    def wide(values, fill):
+        out = np.full(layout.n_groups, fill)
+        out[columns] = values
+        return out
+
+    z_all = np.full(layout.shape, np.nan)
+    z_all[:, columns] = z
+    return SeriesStatistic(wide(statistic, np.inf), wide(level, np.nan), wide(np.sqrt(level_var), np.nan),
+                           wide(clock, np.nan), wide(mean_square, np.nan), layout.rows(z_all))
+
+
+def hopeless(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+             beyond) -> np.ndarray:
+    """Per series: whether :func:`series_statistic` is sure to exceed ``beyond`` (see
+    :func:`~firstrung.methods.shadows.series_layout.hopeless_series`); never when the layout is not used."""
+    if not layout.usable:
+        return np.zeros(layout.n_groups, bool)
+    return hopeless_series(layout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, beyond,
+                           prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA)
 
 
 def _edge_sign(edge) -> np.ndarray:

@@ -1,0 +1,201 @@
+"""Rows laid out by series for the check's many fits: one column per series, its rows down the column.
+
+The check fits a level and a clock offset to every series under a few dozen
+hypotheses, each fit a few passes of sums per series. With the rows of each
+series in a column of an (L, n_series) array (L the longest series, short
+columns padded with rows that weigh nothing), a per-series value reaches its
+rows by broadcasting instead of a gather, and a per-series sum is one
+reduction down the columns instead of a :func:`numpy.bincount`.
+
+The sums are the same numbers as :func:`numpy.bincount`'s: a reduction down
+the first axis adds each column's rows in order, one after another, as
+``bincount`` does; the padding adds zeros after the last row (a sum of only
+negative zeros is made positive, as ``bincount``'s sum starting from zero is).
+Each series' fit depends on its own rows alone, so a fit of some of the
+series gives them the same numbers as a fit of all of them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+#: The layout is used when its padded cells are at most this many times the rows (series of
+#: about equal length, as a campaign's are); otherwise the fits sum rows by ``bincount``.
+MAX_PADDING_RATIO = 2.0
+
+#: With fewer series than this the sums add the rows one at a time in Python (a reduction down a
+#: single column is done pairwise, not in order).
+_FEW_SERIES = 16
+
+#: Arrays a layout keeps laid out (see :meth:`SeriesLayout.spread`).
+_KEPT = 8
+
+
+class SeriesLayout:
+    """Where each row of ``group`` sits in the (longest, n_groups) series layout.
+
+    ``group``: series of each row, 0..n_groups-1 (int array of n rows).
+    """
+
+    def __init__(self, group: np.ndarray, n_groups: int) -> None:
+        group = np.asarray(group, np.int64)
+        self.group, self.n_groups, self.n = group, int(n_groups), group.size
+        self.count = np.bincount(group, minlength=self.n_groups)
+        self.longest = int(self.count.max()) if self.count.size else 0
+        cells = self.longest * self.n_groups
+        self.usable = self.n > 0 and cells <= MAX_PADDING_RATIO * self.n + 1024
+        if not self.usable:
+            return
+        start = np.concatenate([[0], np.cumsum(self.count)[:-1]])
+        order = np.argsort(group, kind="stable")  # each series' rows in the order of the rows
+        in_series = np.arange(self.n) - start[group[order]]
+        self.row_cell = np.empty(self.n, np.int64)
+        self.row_cell[order] = in_series * self.n_groups + group[order]
+        padding = np.ones(cells, bool)
+        padding[self.row_cell] = False
+        self.padding = np.flatnonzero(padding)
+        self.shape = (self.longest, self.n_groups)
+        self._kept: dict = {}
+
+    def spread(self, values, fill: float = 0.0) -> np.ndarray:
+        """Per-row ``values`` in the layout; the padding holds ``fill``.
+
+        The last few arrays laid out are kept (by identity, read-only): the check's fits share their
+        rates and errors between hypotheses.
+        """
+        key = (id(values), fill)
+        kept = self._kept.get(key)
+        if kept is not None and kept[0] is values:
+            return kept[1]
+        out = np.full(self.shape[0] * self.shape[1], fill)
+        out[self.row_cell] = values
+        out = out.reshape(self.shape)
+        if isinstance(values, np.ndarray):
+            if len(self._kept) >= _KEPT:
+                del self._kept[next(iter(self._kept))]
+            out.setflags(write=False)
+            self._kept[key] = (values, out)
+        return out
+
+    def rows(self, laid_out: np.ndarray) -> np.ndarray:
+        """Back from the layout to one value per row."""
+        return laid_out.reshape(-1)[self.row_cell]
+
+
+def column_sums(laid_out: np.ndarray) -> np.ndarray:
+    """Per-column sums, the same numbers as ``np.bincount(group, weights=values, minlength=n_groups)``."""
+    laid_out = np.ascontiguousarray(laid_out)  # rows in memory one after another: the reduction adds row by row
+    if laid_out.shape[1] < _FEW_SERIES:  # a reduction of one column would add its rows pairwise
+        total = laid_out[0] + 0.0
+        for row in laid_out[1:]:
+            total += row
+        return total
+    return np.add.reduce(laid_out, axis=0) + 0.0
+
+
+def column_medians(laid_out: np.ndarray, count: np.ndarray, columns: np.ndarray, gap: float) -> np.ndarray:
+    """Per series (``laid_out`` holds the series ``columns``), the median that
+    :func:`firstrung.methods.shadows.check_statistics._group_median` gives over all the series.
+
+    That function sorts ``group * gap + value`` and subtracts ``group * gap`` again (``gap`` from
+    all the rows); the same rounding is done here on each series' own order statistics.
+    """
+    sortable = laid_out.copy()
+    sortable[np.arange(laid_out.shape[0])[:, None] >= count[None, :]] = np.inf
+    sortable.sort(axis=0)
+    at = np.arange(columns.size)
+    offset = columns * gap
+    low = (offset + sortable[(count - 1) // 2, at]) - offset
+    high = (offset + sortable[count // 2, at]) - offset
+    return 0.5 * (low + high)
+
+
+def laid_out_fit(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, *,
+                 robust: bool, prior: float, huber: float, iterations: int, cap: float, columns=None):
+    """The fit of :func:`firstrung.methods.shadows.check_statistics.series_statistic` on the laid-out rows:
+    the same operations on each row, in the same order, and the same per-series sums.
+
+    ``columns``: the series to fit (bool per series; default all). Returns (statistic, level, level
+    variance, clock, mean square, z laid out) for those series.
+    """
+    r = layout.spread(np.asarray(residual_rad, float))
+    d = layout.spread(np.asarray(rate_rad_s, float))
+    sigma = layout.spread(np.asarray(sigma_random_rad, float), fill=1.0)
+    v = layout.spread(np.asarray(variance_systematic_rad2, float))
+    count = layout.count
+    index = np.arange(layout.n_groups)
+    gap = 2.0 * float(np.max(np.abs(r))) + 1.0 if robust else 0.0  # the padding's zeros never raise the maximum
+    if columns is not None and not columns.all():
+        index = np.flatnonzero(columns)
+        r, d, sigma, v = (np.ascontiguousarray(x[:, index]) for x in (r, d, sigma, v))
+        count = count[index]
+    w = 1.0 / sigma**2
+    w[np.arange(w.shape[0])[:, None] >= count[None, :]] = 0.0  # the padding weighs nothing
+    sqrt_w = np.sqrt(w)
+    sums = column_sums
+    m = column_medians(r, count, index, gap) if robust else sums(w * r) / np.maximum(sums(w), 1e-300)
+    u = np.zeros(index.size)
+    weight = w
+    for _ in range(iterations if robust else 1):
+        if robust:
+            z = (r - m - d * u) * sqrt_w
+            weight = w * np.minimum(1.0, huber / np.maximum(np.abs(z), 1e-12))
+        weight_d = weight * d
+        a = sums(weight)
+        b = sums(weight_d)
+        c = sums(weight_d * d) + prior
+        b1 = sums(weight * r)
+        b2 = sums(weight_d * r)
+        det = a * c - b * b
+        m = (c * b1 - b * b2) / det
+        u = (a * b2 - b * b1) / det
+    var_m = c / det
+    z = (r - m - d * u) * sqrt_w
+    z2 = np.minimum(z * z, cap**2) if robust else z * z
+    scatter = sums(z2)
+    level_var = sums(v) / np.maximum(count, 1) + var_m
+    statistic = scatter + m * m / level_var + u * u * prior
+    return statistic, m, level_var, u, scatter / np.maximum(count, 1), z
+
+
+def hopeless_series(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+                    beyond, *, prior: float, huber: float) -> np.ndarray:
+    """Per series: whether the robust fit's statistic is sure to exceed ``beyond`` (a lower bound does).
+
+    The bound needs no fit. In the fit's last pass the level m is a weighted mean of ``r - d u`` and the
+    clock u has the prior ``prior``; with the rows' residuals r in [r_lo, r_hi] (spread s), rates
+    |d| <= D, random weights w summing to W:
+
+    - |u| <= s sqrt(W / prior) (the fit's sum of squares is at most that of u = 0 at the mean);
+    - every normalised residual of the previous pass is at most sqrt(w) (s + 2 D |u|), so each Huber
+      weight is at least w min(1, huber / that), and their sum a at least A;
+    - the level's variance c / det is at most 1 / a + D^2 / prior (Cauchy-Schwarz on det);
+    - |m| >= R - D |u| with R the distance of [r_lo, r_hi] from zero;
+
+    so the statistic, at least m^2 / (V_sys + var m) + prior u^2, is at least
+    R^2 / (V_sys + 2 D^2 / prior + 1 / A). A series any input of which is not finite is never hopeless.
+    """
+    r = np.asarray(residual_rad, float)
+    d = np.asarray(rate_rad_s, float)
+    sigma = np.asarray(sigma_random_rad, float)
+    v = np.asarray(variance_systematic_rad2, float)
+    if not (np.isfinite(r).all() and np.isfinite(d).all() and np.isfinite(v).all()
+            and np.isfinite(sigma).all() and (sigma > 0.0).all()):
+        return np.zeros(layout.n_groups, bool)
+    padding = np.zeros(layout.shape[0] * layout.shape[1], bool)
+    padding[layout.padding] = True
+    padding = padding.reshape(layout.shape)
+    r_pad = layout.spread(r)
+    r_lo = np.where(padding, np.inf, r_pad).min(axis=0)
+    r_hi = np.where(padding, -np.inf, r_pad).max(axis=0)
+    reach = np.where(r_lo > 0.0, r_lo, np.where(r_hi < 0.0, -r_hi, 0.0))
+    rate_max = np.abs(layout.spread(d)).max(axis=0)
+    w = np.where(padding, 0.0, 1.0 / layout.spread(sigma, fill=1.0) ** 2)
+    clock_max = (r_hi - r_lo) * np.sqrt(w.sum(axis=0) / prior)
+    z_max = np.sqrt(w) * (r_hi - r_lo + 2.0 * rate_max * clock_max)[None, :]
+    weight_min = (w * np.minimum(1.0, huber / np.maximum(z_max, 1e-300))).sum(axis=0)
+    v_sys = layout.spread(v).sum(axis=0) / np.maximum(layout.count, 1)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        bound = reach**2 / (v_sys + 2.0 * rate_max**2 / prior + 1.0 / weight_min)
+    # a wide margin for the rounding of the fit and of this bound
+    return np.isfinite(bound) & (bound > 1.01 * np.asarray(beyond, float) + 2.0) & (layout.count > 0)
