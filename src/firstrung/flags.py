@@ -308,6 +308,11 @@ def checks_shared():
         _SHARED = previous
 
 
+def checks_are_shared() -> bool:
+    """Whether a :func:`checks_shared` block is running (a check made now is kept for a later one)."""
+    return _SHARED is not None
+
+
 def shared_check(kind: str, campaign, log, compute):
     """``compute()``, or within :func:`checks_shared` the result it gave for the same campaign (the same
     object) and a log of the same content (every array and problem, compared by their serialised bytes)."""

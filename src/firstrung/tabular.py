@@ -64,7 +64,7 @@ from firstrung.csv_cells import (
 )
 from firstrung.csv_table import Table, column_chunks, raw_rows_kept
 from firstrung.errors import RowProblem, merged_problems
-from firstrung.memory import release_free_memory
+from firstrung.memory import release_free_memory, repeated_object
 from firstrung.spreadsheet import date_and_time_text, mean_noon_utc
 from firstrung.text_files import (
     decode,
@@ -461,7 +461,8 @@ def read_columns(
             if n and chunk.delimiter == "," and not chunk.decimal_comma:
                 fast, handled = fast_columns(chunk, campaign)
                 if fast is not None:
-                    fast["file"] = np.full(int(handled.sum()), label, dtype=object if dtypes["file"] is object else None)
+                    m = int(handled.sum())  # one shared text for an object column, not a copy a row
+                    fast["file"] = repeated_object(label, m) if dtypes["file"] is object else np.full(m, label)
                     fast["row"] = np.asarray(chunk.numbers, dtype=np.int64)[handled]
                     parts.append((file_index, {name: fast[name] for name in dtypes}))
             good = []

@@ -547,16 +547,16 @@ def _decide(base: SeriesStatistic, stats, fits, separations, count, hypotheses=H
 # --- entry points over a campaign's log ------------------------------------------------------------
 
 
-def check_shadow_log(campaign: Campaign, log) -> tuple[ShadowCheck, list[Flag]]:
+def check_shadow_log(campaign: Campaign, log, readings=None) -> tuple[ShadowCheck, list[Flag]]:
     """Check a read shadow log against the campaign and the ephemeris.
 
     Returns the check of the good rows and the flags for the rows the reader
-    (or the gnomon lookup) refused.
+    (or the gnomon lookup) refused. ``readings``: what :func:`shadow_readings` gives for the log, when made.
     """
     from firstrung.flags import shared_check
 
     def compute():
-        rows, extra = shadow_readings(campaign, log)
+        rows, extra = shadow_readings(campaign, log) if readings is None else readings
         result = check_shadow_rows(check_sites(campaign), rows)
         return result, problem_flags(tuple(log.problems) + tuple(extra))
 

@@ -310,12 +310,17 @@ def _duplicate_flags(sites, rows) -> list[Flag]:
     n = len(rows)
     t = np.asarray(rows.time_utc, dtype="datetime64[ms]").astype(np.int64)
     length_um = np.round(np.asarray(rows.shadow_m) * 1e6).astype(np.int64)
-    keys = np.stack([np.asarray(rows.site_index, np.int64), t, length_um], axis=1)
-    _, first, inverse = np.unique(keys, axis=0, return_index=True, return_inverse=True)
-    inverse = inverse.ravel()
+    site_key = np.asarray(rows.site_index, np.int64)
+    # equal keys side by side, each run in the rows' order (a stable sort): its first row is the original
+    order = np.lexsort((length_um, t, site_key))
+    starts = np.ones(n, bool)
+    starts[1:] = (np.diff(site_key[order]) != 0) | (np.diff(t[order]) != 0) | (np.diff(length_um[order]) != 0)
+    first_of = np.empty(n, np.int64)
+    first_of[order] = order[np.flatnonzero(starts)][np.cumsum(starts) - 1]
+    del order, starts
     out = []
-    for i in np.flatnonzero(first[inverse] != np.arange(n)):
-        j = first[inverse[i]]
+    for i in np.flatnonzero(first_of != np.arange(n)):
+        j = first_of[i]
         site = sites[rows.site_index[i]]
         out.append(
             Flag(str(rows.file[i]), int(rows.row[i]), site.id, "duplicate-row", "error",

@@ -17,6 +17,7 @@ import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.memory import repeated_object
 from firstrung.methods.shadows.log_forms import (
     LENGTH_FORM,
     fast_form_columns,
@@ -369,7 +370,7 @@ def _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather,
         "time_utc": t[ok],
         "time_column": np.full(m, "time_utc"),
         "shadow_m": shadow_m[ok],
-        "shadow_column": np.full(m, shadow_column, dtype=object),
+        "shadow_column": repeated_object(shadow_column, m),
         "gnomon_m": gnomon_m[ok],
         "edge": edge[ok],
         "temperature_c": weather["temperature_c"][ok],

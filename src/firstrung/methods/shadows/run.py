@@ -57,23 +57,22 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     if not campaign.logs.get("shadows"):
         raise InputError("the campaign file lists no shadow logs ([logs] shadows = [...])", file=str(campaign_path))
     log = read_shadow_logs(campaign)
-    whole_log, flags, left_out = log, (), 0
-    if not include_flagged:
-        from firstrung.flags import without_error_rows
-        from firstrung.methods.shadows.check import log_flags
-
-        flags = tuple(log_flags(campaign, log))
-        log, left_out = without_error_rows(campaign, log, lambda *_: flags)
-        if log.rows_read >= 100_000:  # the check's many small objects are gone: give their memory back
-            from firstrung.memory import release_free_memory
-
-            release_free_memory()
     readings, extra = shadow_readings(campaign, log)
     problems = tuple(log.problems) + tuple(extra)
     rows_read, notes = log.rows_read, tuple(log.notes)
-    del log  # the readings hold what the reduction needs (a long log's columns are not kept beside them)
-    if not campaign.row_site_ids:
-        whole_log = None
+    whole_log = log if campaign.row_site_ids else None  # only an open network's schools read the whole log
+    flags, left_out = (), 0
+    if not include_flagged:
+        from firstrung.flags import checks_are_shared
+
+        # the check takes the readings made above; the log is not kept beside them (a long log's columns
+        # are the largest thing a reduction holds) unless a report is to check the same log again
+        shared_log = log if checks_are_shared() else None
+        del log
+        flags, readings, left_out = _without_flagged(campaign, shared_log, readings, extra, rows_read)
+        del shared_log
+    else:
+        del log
     if len(readings) == 0:
         first = f" (first: {problems[0]})" if problems else ""
         raise InputError(f"no usable shadow readings in the campaign's logs{first}", file=str(campaign_path),
@@ -88,8 +87,58 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
     return ShadowRun(
         campaign, reduction, problems, rows_read, len(readings), readings, left_out, notes,
         network=network, pairs=network_pairs(reduction.sites, network.flagged), subsolar=site_subsolar(reduction.sites),
-        flags=flags, log=whole_log,  # only an open network's schools read the whole log
+        flags=flags, log=whole_log,
     )
+
+
+def _without_flagged(campaign: Campaign, log, readings: ShadowReadings, extra, rows_read: int):
+    """The check's flags of the readings, the readings without the rows it flags as errors, and how many
+    those are: what :func:`firstrung.flags.without_error_rows` leaves of the log, made into readings.
+
+    ``log``: the log the readings were made from, when the check is to be shared with a later one
+    (:func:`firstrung.flags.checks_shared`), else None.
+    """
+    from firstrung.methods.shadows.check import check_shadow_log, check_shadow_rows, check_sites
+
+    if log is not None:
+        flags = tuple(check_shadow_log(campaign, log, readings=(readings, extra))[0].flags)
+    else:
+        flags = tuple(check_shadow_rows(check_sites(campaign), readings).flags) if len(readings) else ()
+    if rows_read >= 100_000:  # the check's many small objects are gone: give their memory back
+        from firstrung.memory import release_free_memory
+
+        release_free_memory()
+    bad = {(f.file, f.row) for f in flags if f.severity == "error" and f.row is not None}
+    if not bad:
+        return flags, readings, 0  # nothing to leave out: the readings as they are, not a copy
+    keep = np.ones(len(readings), bool)
+    file, row = np.asarray(readings.file), np.asarray(readings.row)
+    by_file: dict[str, list[int]] = {}
+    for f, r in bad:
+        by_file.setdefault(f, []).append(r)
+    for f, rows in by_file.items():  # a file at a time, its bad rows looked up together
+        at = np.flatnonzero(file == f)
+        keep[at[np.isin(row[at], rows)]] = False
+    return flags, readings_subset(readings, keep), int(np.sum(~keep))
+
+
+def readings_subset(readings: ShadowReadings, keep) -> ShadowReadings:
+    """The readings ``keep`` selects (a boolean mask or indices); a column that is one value seen every
+    time (a default of :class:`ShadowReadings`) stays one value, not a copy per reading."""
+    import dataclasses
+
+    keep = np.asarray(keep)
+    m = int(keep.sum()) if keep.dtype == bool else keep.size
+    columns = {}
+    for field in dataclasses.fields(readings):
+        values = getattr(readings, field.name)
+        if values is None:
+            columns[field.name] = None
+        elif isinstance(values, np.ndarray) and values.ndim == 1 and values.strides == (0,):
+            columns[field.name] = np.broadcast_to(values[:1], (m,))
+        else:
+            columns[field.name] = np.asarray(values)[keep]
+    return ShadowReadings(**columns)
 
 
 def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
