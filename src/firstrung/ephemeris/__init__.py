@@ -20,7 +20,11 @@ from firstrung.ephemeris.moon import (
     moon_position,
     sun_moon_geocentric,
 )
-from firstrung.ephemeris.seasons import SEASON_NAMES, equinoxes_and_solstices
+from firstrung.ephemeris.seasons import (
+    SEASON_NAMES,
+    equinox_and_solstice_dates,
+    equinoxes_and_solstices,
+)
 from firstrung.ephemeris.sun import (
     SolarTransit,
     SunPosition,
@@ -35,6 +39,7 @@ from firstrung.ephemeris.sun import (
 
 __all__ = [
     "SEASON_NAMES",
+    "equinox_and_solstice_dates",
     "equinoxes_and_solstices",
     "MoonPosition",
     "SunMoonGeocentric",

@@ -20,6 +20,46 @@ def equinoxes_and_solstices(first_utc, last_utc) -> tuple[np.ndarray, np.ndarray
     >>> [str(x.astype("datetime64[D]")) for x in t][:2], [str(n) for n in names[:2]]
     (['2027-03-20', '2027-06-21'], ['March equinox', 'June solstice'])
     """
+    searched = _search(first_utc, last_utc)
+    if searched is None:
+        return np.array([], dtype="datetime64[us]"), np.array([], dtype=str)
+    t, index = searched
+    return _utc_datetime64(t).reshape(-1), np.array([SEASON_NAMES[i] for i in np.asarray(index).reshape(-1)])
+
+
+#: How closely :func:`equinox_and_solstice_dates` searches an event before checking its date [days].
+_TO_THE_DATE_DAYS = 60.0 / 86400.0
+
+
+def equinox_and_solstice_dates(first_utc, last_utc) -> tuple[np.ndarray, np.ndarray]:
+    """The UTC dates (datetime64[D]) and names of the equinoxes and solstices between two times.
+
+    The same dates as :func:`equinoxes_and_solstices` gives, from a search to the minute instead
+    of the millisecond (half skyfield's work): the same search stops earlier, so the instant it
+    would refine lies in the minute found; when that minute holds a UTC midnight, the events are
+    searched to the millisecond.
+
+    >>> d, names = equinox_and_solstice_dates(np.datetime64("2027-01-01"), np.datetime64("2028-01-01"))
+    >>> [str(x) for x in d], [str(n) for n in names][:1]
+    (['2027-03-20', '2027-06-21', '2027-09-23', '2027-12-22'], ['March equinox'])
+    """
+    searched = _search(first_utc, last_utc, epsilon_days=_TO_THE_DATE_DAYS)
+    if searched is None:
+        return np.array([], dtype="datetime64[D]"), np.array([], dtype=str)
+    t, index = searched
+    ts = t.ts
+    ends = np.asarray(t.tt).reshape(-1)
+    late = _utc_datetime64(ts.tt_jd(ends)).reshape(-1).astype("datetime64[D]")
+    early = _utc_datetime64(ts.tt_jd(ends - _TO_THE_DATE_DAYS)).reshape(-1).astype("datetime64[D]")
+    if np.any(early != late):  # a midnight within the minute: the date needs the full search
+        t_full, names = equinoxes_and_solstices(first_utc, last_utc)
+        return t_full.astype("datetime64[D]"), names
+    return late, np.array([SEASON_NAMES[i] for i in np.asarray(index).reshape(-1)])
+
+
+def _search(first_utc, last_utc, epsilon_days: float | None = None):
+    """skyfield's search for the seasons' changes between two times (its Time and season index),
+    or None when the range holds no instant of DE421's span."""
     from skyfield import almanac
 
     first = np.datetime64(first_utc, "us")
@@ -32,12 +72,13 @@ def equinoxes_and_solstices(first_utc, last_utc) -> tuple[np.ndarray, np.ndarray
     first = max(first, (span_first + margin).astype("datetime64[us]"))
     last = min(last, (span_last - margin).astype("datetime64[us]"))
     if last <= first:
-        return np.array([], dtype="datetime64[us]"), np.array([], dtype=str)
+        return None
     ts, eph, _, _ = _loaded()
     start = ts.from_datetime(first.astype("datetime64[us]").item().replace(tzinfo=_utc()))
     end = ts.from_datetime(last.astype("datetime64[us]").item().replace(tzinfo=_utc()))
-    t, index = almanac.find_discrete(start, end, almanac.seasons(eph))
-    return _utc_datetime64(t).reshape(-1), np.array([SEASON_NAMES[i] for i in np.asarray(index).reshape(-1)])
+    if epsilon_days is None:
+        return almanac.find_discrete(start, end, almanac.seasons(eph))
+    return almanac.find_discrete(start, end, almanac.seasons(eph), epsilon=epsilon_days)
 
 
 def _utc():

@@ -287,10 +287,10 @@ def _constraints_and_special_days(dates, sites, apparent, length, declination, c
     excluded = DayReasons(dates, sites, apparent, length, c)
     special = [[] for _ in dates]
     # equinoxes and solstices
-    t, names = ephemeris.equinoxes_and_solstices(dates[0].astype("datetime64[us]"),
-                                                 (dates[-1] + np.timedelta64(1, "D")).astype("datetime64[us]"))
-    for when, name in zip(t, names, strict=True):
-        k = int((when.astype("datetime64[D]") - dates[0]).astype(int))
+    days, names = ephemeris.equinox_and_solstice_dates(dates[0].astype("datetime64[us]"),
+                                                       (dates[-1] + np.timedelta64(1, "D")).astype("datetime64[us]"))
+    for day, name in zip(days, names, strict=True):
+        k = int((day - dates[0]).astype(int))
         if 0 <= k < dates.size:
             special[k].append(str(name))
     # the Sun at the zenith at a tropical site: the day the noon declination passes its latitude
