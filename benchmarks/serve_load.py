@@ -105,12 +105,12 @@ def main() -> int:
 
         sites = sorted(plan)
         groups = [sites[k :: args.clients] for k in range(args.clients)]
-        server_cpu0 = cpu_s(server.process.pid)
+        server_cpu0, client_cpu0 = cpu_s(server.process.pid), cpu_s(os.getpid())
         t0 = time.perf_counter()
         with ThreadPoolExecutor(max_workers=args.clients) as pool:
             list(pool.map(session, groups))
         wall = time.perf_counter() - t0
-        server_cpu = cpu_s(server.process.pid) - server_cpu0
+        server_cpu, client_cpu = cpu_s(server.process.pid) - server_cpu0, cpu_s(os.getpid()) - client_cpu0
         log = request(server.links["coordinator"] + "/logs/shadows.csv").text
         every = request(server.links["coordinator"] + "/readings.csv").text
     rows = list(csv.DictReader(io.StringIO(log)))
@@ -126,7 +126,8 @@ def main() -> int:
     print(f"answers: {len(answers)}, status 201: {statuses.count(201)}, median {statistics.median(answers) * 1e3:.0f} ms, "
           f"95th percentile {ordered[int(0.95 * (len(ordered) - 1))] * 1e3:.0f} ms, max {ordered[-1] * 1e3:.0f} ms")
     print(f"server CPU (user + system) during the load {server_cpu:.1f} s, "
-          f"{server_cpu / max(len(answers), 1) * 1e3:.1f} ms per reading (its page GET included)")
+          f"{server_cpu / max(len(answers), 1) * 1e3:.1f} ms per reading (its page GET included); "
+          f"the clients' {client_cpu:.1f} s")
     print(f"stored: {len(rows)} in the log, {len(ids)} in the store; every reading stored exactly once: {stored_once}")
     return 0 if stored_once and statuses.count(201) == expected else 1
 
