@@ -142,3 +142,28 @@ def test_usual_utc_times_from_bytes_agree_with_numpys_calendar():
             expected = None  # numpy reads hour 24; the readers leave it to the row checks
         assert (t[k] if usual[k] else None) == expected, cell
     assert usual.sum() > 5000
+
+
+def _kept_rows(campaign, byte_reader, monkeypatch):
+    """The check's copy of every row (header, numbers, cells) and each column as the summary takes it."""
+    from firstrung.app.check import RawFile
+
+    monkeypatch.setattr(csv_bytes, "BYTE_READER", byte_reader)
+    with tabular.raw_rows_kept() as kept:
+        read_shadow_logs(campaign)
+    out = {}
+    for path, (header, numbers, cells) in kept.items():
+        raw = RawFile("shadows", "x.csv", Path(path), header, numbers, cells)
+        out[path] = (header, list(numbers), [list(c) for c in cells],
+                     {name: raw.column_cells(name) for name in [*header, "no such column"]})
+    return out
+
+
+def test_rows_kept_for_the_check_from_bytes_equal_the_csv_modules(tmp_path, monkeypatch):
+    _mixed_log(tmp_path)
+    campaign = read_campaign(tmp_path / "camp" / "campaign.toml")
+    from_bytes = _kept_rows(campaign, True, monkeypatch)
+    assert from_bytes == _kept_rows(campaign, False, monkeypatch)
+    (header, numbers, cells, columns), = from_bytes.values()
+    assert len(numbers) > 100 and "n" * 200 in columns[header[-1]] and "Zoë" in columns["observer"]
+    assert columns["no such column"] == [""] * len(numbers) and ["fjell", "2027-03-22T11:00:00Z"] in cells

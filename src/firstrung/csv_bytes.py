@@ -24,7 +24,7 @@ from firstrung.csv_table import Table, _header
 from firstrung.errors import RowProblem
 from firstrung.text_files import is_skipped
 
-__all__ = ["BYTE_READER", "ROWS_PER_CHUNK", "WIDEST_CELL", "ByteChunk", "byte_chunks", "plain_chunks"]
+__all__ = ["BYTE_READER", "ROWS_PER_CHUNK", "WIDEST_CELL", "ByteChunk", "LineCells", "byte_chunks", "plain_chunks"]
 
 #: Plain comma-separated files are read from their bytes; off, the csv module reads them (the
 #: same rows, cells and problems: a test compares the two on the bad-input corpus).
@@ -70,7 +70,8 @@ def plain_chunks(table: Table, text: str, slots: Sequence[Slot], known: set[str]
         header = _header(table, [cells], slots, known)
         if header is None or csv_table._RAW_KEPT is None:
             return header, None
-        csv_table._RAW_KEPT[str(table.path)] = kept = (tuple(header), [], [])  # the check's copy of every row
+        kept = (tuple(header), [], LineCells(data))  # the check's copy of every row, cut from the bytes on use
+        csv_table._RAW_KEPT[str(table.path)] = kept
         return header, kept
 
     return byte_chunks(table, data, header_of, known, rows_per_chunk)
@@ -126,6 +127,83 @@ class ByteChunk(Table):
             return {name: column[k] for name, column in self._columns.items()}
         cells = _cells(self._data[self.line_start[k]:self.line_end[k]].decode("utf-8"))
         return {name: cells[i].strip() if i < len(cells) else "" for name, i in self._wanted.items()}
+
+
+class LineCells(Sequence):
+    """The cells of some lines of a plain file (lists of ``str``, as :func:`_cells` splits a line), cut from
+    its bytes when asked for: no Python object per cell is kept. :meth:`column` gives one column of every
+    line at once."""
+
+    def __init__(self, data: bytes) -> None:
+        self._data = data
+        self._parts: list[tuple[np.ndarray, np.ndarray]] = []
+        self._size = 0
+
+    def add(self, start: np.ndarray, end: np.ndarray) -> None:
+        """Lines ``data[start:end]`` after those already held."""
+        self._parts.append((start, end))
+        self._size += start.size
+
+    def _spans(self) -> tuple[np.ndarray, np.ndarray]:
+        if not self._parts:
+            return np.zeros(0, np.int64), np.zeros(0, np.int64)
+        return np.concatenate([p[0] for p in self._parts]), np.concatenate([p[1] for p in self._parts])
+
+    def __len__(self) -> int:
+        return self._size
+
+    def __getitem__(self, k):
+        if isinstance(k, slice):
+            return [self[i] for i in range(*k.indices(self._size))]
+        if k < 0:
+            k += self._size
+        if not 0 <= k < self._size:
+            raise IndexError(k)
+        for start, end in self._parts:
+            if k < start.size:
+                return _cells(self._data[start[k]:end[k]].decode("utf-8"))
+            k -= start.size
+        raise IndexError(k)
+
+    def __iter__(self):
+        data = self._data
+        for start, end in self._parts:
+            for s, e in zip(start.tolist(), end.tolist(), strict=True):
+                yield _cells(data[s:e].decode("utf-8"))
+
+    def column(self, k: int) -> list[str]:
+        """Every line's ``k``-th cell, stripped as ``str.strip`` strips it ('' when the line has fewer)."""
+        start, end = self._spans()
+        n = start.size
+        if n == 0:
+            return []
+        raw = np.frombuffer(self._data, np.uint8)
+        commas = np.flatnonzero(raw == 44)
+        first = np.searchsorted(commas, start)
+        within = np.searchsorted(commas, end) - first  # commas inside each line
+        present = within >= k
+        at = np.flatnonzero(present)
+        s = start[at] if k == 0 else commas[first[at] + k - 1] + 1
+        e = end[at] if commas.size == 0 else np.where(
+            within[at] > k, commas[np.minimum(first[at] + k, commas.size - 1)], end[at])
+        out = [""] * n
+        long = (e - s) > WIDEST_CELL
+        for j in np.flatnonzero(long).tolist():
+            out[at[j]] = self._data[s[j]:e[j]].decode("utf-8").strip()
+        short = np.flatnonzero(~long)
+        if short.size:
+            values, inverse = distinct_bytes(_gather(raw, s[short], e[short]))
+            texts = np.array([v.decode("utf-8").strip() for v in values.tolist()], dtype=object)
+            if long.any():
+                for row, text in zip(at[short].tolist(), texts[inverse].tolist(), strict=True):
+                    out[row] = text
+            elif at.size == n:
+                out = texts[inverse].tolist()
+            else:
+                column = np.full(n, "", dtype=object)
+                column[at] = texts[inverse]
+                out = column.tolist()
+        return out
 
 
 def distinct_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -236,7 +314,7 @@ def _chunk(table, data, raw, start, end, number, width, wanted, raw_kept) -> Byt
             refused[k] = True
     if raw_kept is not None:
         raw_kept[1].extend(numbers[counted].tolist())
-        raw_kept[2].extend(_cells(data[start[k]:end[k]].decode("utf-8")) for k in counted.tolist())
+        raw_kept[2].add(start[counted], end[counted])
     kept = np.flatnonzero(~skipped & ~refused)
     chunk.numbers = numbers[kept].tolist()
     chunk.line_start, chunk.line_end = start[kept], end[kept]

@@ -50,6 +50,8 @@ class RawFile:
         k = next((k for k, name in enumerate(self.header) if name == wanted), None)
         if k is None:
             return [""] * len(self.numbers)
+        if hasattr(self.cells, "column"):  # cells cut from a plain file's bytes: the column at once
+            return self.cells.column(k)
         return [cells[k].strip() if k < len(cells) else "" for cells in self.cells]
 
     def cell(self, cells: tuple[str, ...], column: str) -> str:
