@@ -160,7 +160,9 @@ def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...
     n = len(row)
     if n == 0:
         return ()
-    file, site, observer = _texts(file), _texts("" if s is None else s for s in site), _texts(observer)
+    if not (isinstance(site, list) and None not in site):
+        site = ["" if s is None else s for s in site]
+    file, site, observer = _texts(file), _texts(site), _texts(observer)
     refused = {f.file for f in flags if f.row is None and f.code == "unreadable-file" and f.severity == "error"}
     marked: dict[str, tuple[set, set]] = {}  # per file: rows with a flag, rows with an error flag
     for f in flags:
@@ -200,6 +202,8 @@ def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...
 
 def _texts(values) -> list[str]:
     """Each value as text, as a NumPy string array holds it (trailing NUL characters dropped)."""
+    if type(values) is list and set(map(type, values)) <= {str}:  # texts already (the usual case)
+        return values if "\x00" not in "".join(values) else [v.rstrip("\x00") for v in values]
     out = [v if type(v) is str else str(v) for v in values]
     if "\x00" in "".join(out):
         out = [v.rstrip("\x00") for v in out]
