@@ -52,6 +52,7 @@ def test_plan_shadows_loads_no_library_it_does_not_use():
                              "--min-altitude", "15", "--top", "3", "--exclude", "2027-03-02"])
     assert "firstrung.methods.shadows.prediction" in modules  # the plan did run
     assert _unwanted(modules) == []
+    assert "firstrung.calendar_export" not in modules  # the calendar's module only with --ics
 
 
 def test_reduce_shadows_loads_no_library_it_does_not_use():

@@ -8,7 +8,6 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
-from firstrung.calendar_export import CalendarEvent, events_to_ics
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
 from firstrung.errors import InputError
@@ -89,6 +88,8 @@ def chosen_days(plan: ShadowPlan, top: int | None) -> np.ndarray:
 def calendar_bytes(run: ShadowPlanRun, days: np.ndarray, site: str | None = None) -> bytes:
     """One event per site (or only ``site``) per chosen day, from 30 min before to 30 min after
     local apparent noon."""
+    from firstrung.calendar_export import CalendarEvent, events_to_ics  # only for a calendar
+
     plan = run.plan
     events = []
     half = np.timedelta64(SESSION_HALF_SPAN_MIN, "m")
