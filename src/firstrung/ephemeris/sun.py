@@ -213,15 +213,16 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
     if not grid and (grid is False or time_utc.size * uses < _GRID_MIN_GAIN * nodes):
         key = time_utc.tobytes() if time_utc.size <= _RECENT_MAX_TIMES else None
-        if key in _RECENT_DIRECT:  # the same few times again (a check's hypotheses, a server's batches)
-            xyz, gast = _RECENT_DIRECT[key]
+        hit = None if key is None else _RECENT_DIRECT.get(key)
+        if hit is not None:  # the same few times again (a check's hypotheses, a server's batches)
+            xyz, gast = hit
             return xyz.copy(), gast.copy()
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
         xyz, gast = _direct_geocentric_sun(t)
         if key is not None:
-            if len(_RECENT_DIRECT) >= _RECENT_KEPT:
-                del _RECENT_DIRECT[next(iter(_RECENT_DIRECT))]
+            if len(_RECENT_DIRECT) >= _RECENT_KEPT:  # (safe with the check's two threads)
+                _RECENT_DIRECT.pop(next(iter(_RECENT_DIRECT), None), None)
             _RECENT_DIRECT[key] = (xyz.copy(), gast.copy())
         return xyz, gast
     grid_values = _sun_grid_stacked(float(start), nodes, step)

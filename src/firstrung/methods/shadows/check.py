@@ -46,6 +46,8 @@ explanation is reported.
 
 from __future__ import annotations
 
+import contextlib
+import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -89,6 +91,7 @@ from firstrung.methods.shadows.check_statistics import (
     _zone_offsets_h,
     check_footing,
     check_sites,
+    distinct_texts,
     hopeless,
     distinct_sun,
     edge_groups,
@@ -132,6 +135,9 @@ ACCEPTABLE_MEAN_SQUARE = 4.0
 ACCEPTABLE_CLOCK_SIGMA = 2.0
 #: A series whose level is this many sigma off, unexplained, is flagged.
 SERIES_LEVEL_SIGMA = 5.0
+#: Rows to check from which the hypotheses are tried two at a time, on two threads (NumPy works
+#: without the interpreter lock; each hypothesis' numbers are its own, so the results are the same).
+PARALLEL_ROWS = 20_000
 
 
 # --- inputs and results ---------------------------------------------------------------
@@ -205,7 +211,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     t = np.asarray(rows.time_utc, dtype="datetime64[ms]")
 
     # series: runs of one file and site with no gap longer than SERIES_GAP_H between readings
-    _, file_index = np.unique(np.asarray(rows.file, dtype=object).astype(str), return_inverse=True)
+    _, file_index = distinct_texts(rows.file)
     t_ms = t.astype(np.int64)
     by = np.lexsort((t_ms, idx, file_index))
     new_series = np.ones(n, bool)
@@ -367,8 +373,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
     sqrt_rand0 = np.sqrt(rand0)
     series = SeriesLayout(x.group, x.n_groups)  # every fit below is over the same series
-    stats, fits, separations = [], [], []
-    for h in HYPOTHESES:  # a few dozen hypotheses, each vectorised over every row
+
+    def one(h):  # a hypothesis, vectorised over every row
         pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
         if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
             shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
@@ -376,11 +382,11 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             uniform = bool(np.all(shift_ms == shift_ms[0]))  # n > 0: the function returned early otherwise
             t_h = distinct0[3] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
                 x.t + shift_ms.astype("timedelta64[ms]"))
-            if not _in_span(t_h):
-                stats.append(None)
-                fits.append(None)
-                separations.append(np.zeros(x.n_groups))
-                continue
+            as_logged = uniform and shift_ms[0] == 0 and h.latitude_sign == 1.0 and h.longitude_sign == 1.0
+            if as_logged and h.factor == 1.0 and h.edge is None and h.angle is None or not _in_span(t_h):
+                # the logged reading itself (local time typed as UTC where no site keeps a zone), or times
+                # outside the ephemeris: never decisive
+                return None, None, np.zeros(x.n_groups)
             distinct = distinct_sun(None, int(shift_ms[0]), like=distinct0) if uniform else distinct_sun(t_h)
             pred, rate, _, _ = sun_altitude_rad(None, x.lat * h.latitude_sign, x.lon * h.longitude_sign,
                                                 distinct=distinct)
@@ -411,25 +417,34 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
         wanted = None if base_statistic is None else ~hopeless(series, residual, rate, sigma, sysv,
                                                                base_statistic - _REACHABLE_IMPROVEMENT)
         if wanted is not None and not wanted.any():
-            stats.append(None)
-            fits.append(None)
-            separations.append(np.zeros(x.n_groups))
-            continue
+            return None, None, np.zeros(x.n_groups)
         sep = series_statistic(series, x.n_groups, residual0 - residual, rate0, sqrt_rand0, sys0,
                                robust=False, columns=wanted).statistic
         if wanted is not None:
             sep[~wanted] = 0.0
         if not (sep >= MIN_SEPARATION).any():  # the same as the logged reading everywhere: never decisive
-            stats.append(None)
-            fits.append(None)
-            separations.append(sep)
-            continue
+            return None, None, sep
         fit = series_statistic(series, x.n_groups, residual, rate, sigma, sysv, columns=wanted)
         if base_statistic is not None:
             fit = _kept_z(fit, x.group, sep, base_statistic, sel)
-        stats.append(fit.statistic)
-        fits.append(fit)
-        separations.append(sep)
+        return fit.statistic, fit, sep
+
+    if n >= PARALLEL_ROWS and (os.cpu_count() or 1) > 1:  # a long log: two hypotheses at a time
+        from concurrent.futures import ThreadPoolExecutor
+
+        from firstrung.ephemeris import sun
+
+        prefer_grid = getattr(sun._PREFER_GRID, "on", False)  # the caller's choice, on each thread
+
+        def on_thread(h):
+            with sun.grid_preferred() if prefer_grid else contextlib.nullcontext():
+                return one(h)
+
+        with ThreadPoolExecutor(2) as pool:
+            tried = list(pool.map(on_thread, HYPOTHESES))
+    else:
+        tried = [one(h) for h in HYPOTHESES]
+    stats, fits, separations = (list(values) for values in zip(*tried, strict=True))
     return stats, fits, separations
 
 

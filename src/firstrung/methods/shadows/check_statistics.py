@@ -121,9 +121,10 @@ def check_footing(rows: ShadowReadings) -> ShadowReadings:
     length error that gives the same altitude error, its limb as the edge that limb casts), a trace as its
     lengths; a trace without times has no clock to check and is left out.
     """
-    form = np.asarray(rows.form).astype(str)
-    if not (form != "length").any():
+    forms, _ = distinct_texts(rows.form)
+    if not (forms != "length").any():
         return rows
+    form = np.asarray(rows.form).astype(str)
     keep = (form != "trace") | np.asarray(rows.timed, bool)
     angle = form == "angle"
     length = equivalent_length_m(np.asarray(rows.altitude_read_deg, float) + rows.index_correction_deg)
@@ -367,9 +368,25 @@ def hopeless(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, v
                            prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA)
 
 
+def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
+    """``np.unique(np.asarray(values, dtype=object).astype(str), return_inverse=True)``, without a text
+    array of every row when the values are texts already (a log's file names, edges and forms: a few
+    distinct texts over many rows)."""
+    values = np.asarray(values, dtype=object).reshape(-1)
+    listed = values.tolist()
+    distinct = set(listed)
+    if not listed or not all(type(v) is str and "\x00" not in v for v in distinct):  # NumPy's own conversions
+        names, inverse = np.unique(values.astype(str), return_inverse=True)
+        return names, inverse.reshape(-1)
+    names = sorted(distinct)  # code point order, as NumPy sorts texts
+    if len(names) == 1:
+        return np.array(names), np.zeros(len(listed), np.int64)
+    code = {name: k for k, name in enumerate(names)}
+    return np.array(names), np.array(list(map(code.__getitem__, listed)), np.int64)
+
+
 def _edge_sign(edge) -> np.ndarray:
-    edge = np.asarray(edge, dtype=object)
-    names, inverse = np.unique(edge.astype(str), return_inverse=True)
+    names, inverse = distinct_texts(edge)
     return np.array([EDGE_LIMB_SIGN.get(n, 0.0) for n in names], float)[inverse]
 
 
@@ -385,7 +402,7 @@ def edge_groups(edge) -> tuple[tuple[str, np.ndarray | None], ...]:
     """Each edge name of the rows and the rows that mark it (None: every row), for :func:`_error_terms`."""
     if isinstance(edge, str):
         return ((edge, None),)
-    names, code = np.unique(np.asarray(edge, dtype=object).astype(str), return_inverse=True)
+    names, code = distinct_texts(edge)
     if names.size == 1:
         return ((str(names[0]), None),)
     return tuple((str(name), code == k) for k, name in enumerate(names))

@@ -17,6 +17,8 @@ series gives them the same numbers as a fit of all of them.
 
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 
 #: The layout is used when its padded cells are at most this many times the rows (series of
@@ -56,6 +58,7 @@ class SeriesLayout:
         self.padding = np.flatnonzero(padding)
         self.shape = (self.longest, self.n_groups)
         self._kept: dict = {}
+        self._lock = threading.Lock()
 
     def spread(self, values, fill: float = 0.0) -> np.ndarray:
         """Per-row ``values`` in the layout; the padding holds ``fill``.
@@ -64,17 +67,19 @@ class SeriesLayout:
         rates and errors between hypotheses.
         """
         key = (id(values), fill)
-        kept = self._kept.get(key)
+        with self._lock:
+            kept = self._kept.get(key)
         if kept is not None and kept[0] is values:
             return kept[1]
         out = np.full(self.shape[0] * self.shape[1], fill)
         out[self.row_cell] = values
         out = out.reshape(self.shape)
         if isinstance(values, np.ndarray):
-            if len(self._kept) >= _KEPT:
-                del self._kept[next(iter(self._kept))]
             out.setflags(write=False)
-            self._kept[key] = (values, out)
+            with self._lock:  # the check's hypotheses may be tried on two threads
+                if len(self._kept) >= _KEPT:
+                    del self._kept[next(iter(self._kept))]
+                self._kept[key] = (values, out)
         return out
 
     def rows(self, laid_out: np.ndarray) -> np.ndarray:
