@@ -33,11 +33,6 @@ class SeriesFit:
     latitude_information: np.ndarray  # the latitude's normal-equation entry: 1/variance with the clock known
 
 
-def _altitude_model(lat, dec, ha):
-    sin_alt = np.sin(lat) * np.sin(dec) + np.cos(lat) * np.cos(dec) * np.cos(ha)
-    return np.arcsin(np.clip(sin_alt, -1.0, 1.0))
-
-
 def fit_series(
     group,
     n_groups,
@@ -93,11 +88,14 @@ def fit_series(
         u_k = u[:, group]
         dec = declination_rad + declination_rate_rad_s * u_k
         ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
-        model = _altitude_model(lat_k, dec, ha)
+        # each sine and cosine once: sin a = sin(phi) sin(dec) + cos(phi) cos(dec) cos(H), and its derivatives
+        sin_lat, cos_lat, sin_dec, cos_dec, cos_ha = np.sin(lat_k), np.cos(lat_k), np.sin(dec), np.cos(dec), np.cos(ha)
+        del lat_k, u_k, dec
+        model = np.arcsin(np.clip(sin_lat * sin_dec + cos_lat * cos_dec * cos_ha, -1.0, 1.0))
         cos_alt = np.maximum(np.cos(model), 1e-9)
-        d_lat = (np.cos(lat_k) * np.sin(dec) - np.sin(lat_k) * np.cos(dec) * np.cos(ha)) / cos_alt
-        d_dec = (np.sin(lat_k) * np.cos(dec) - np.cos(lat_k) * np.sin(dec) * np.cos(ha)) / cos_alt
-        d_ha = -np.cos(lat_k) * np.cos(dec) * np.sin(ha) / cos_alt
+        d_lat = (cos_lat * sin_dec - sin_lat * cos_dec * cos_ha) / cos_alt
+        d_dec = (sin_lat * cos_dec - cos_lat * sin_dec * cos_ha) / cos_alt
+        d_ha = -cos_lat * cos_dec * np.sin(ha) / cos_alt
         d_u = d_ha * hour_angle_rate_rad_s + d_dec * declination_rate_rad_s
         r = alt - model
         n11 = sums(weight * d_lat * d_lat)

@@ -222,6 +222,9 @@ def shared_objects(values) -> np.ndarray:
     values = np.asarray(values)
     if values.dtype == object or values.size == 0:
         return values.astype(object)
+    first = values.reshape(-1)[:1]
+    if (values == first[0]).all():  # one text in every row (a log's time column): no sort of a million texts
+        return repeated_object(first.astype(object)[0], values.size).reshape(values.shape)
     names, inverse = np.unique(values, return_inverse=True)
     return names.astype(object)[inverse.reshape(values.shape)]
 
