@@ -54,6 +54,7 @@ from firstrung.campaign_model import (
 from firstrung.constants import WGS84_SEMI_MAJOR_AXIS_M
 from firstrung.errors import InputError
 from firstrung.times import check_zone
+from firstrung.toml_plain import loads as plain_toml
 
 __all__ = [
     "DEFAULT_HEIGHT_SIGMA_M",
@@ -228,7 +229,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, all
     if text.startswith("\ufeff"):
         text = text[1:]
     try:
-        document = tomllib.loads(text)
+        document = plain_toml(text) or tomllib.loads(text)  # the plain part of TOML read quickly
     except tomllib.TOMLDecodeError as error:
         raise _syntax_error(error, label) from None
     except RecursionError:
