@@ -113,27 +113,30 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
     i, j, every = _candidates(day_of, lon)
     x, phi, sigma = pos, np.radians(lat), np.radians(sig)
     dx = x[j] - x[i] if i.size else np.zeros(0)
-    far = np.abs(dx) >= MIN_NORTH_SOUTH_KM
+    far = np.flatnonzero(np.abs(dx) >= MIN_NORTH_SOUTH_KM)
     i, j, dx = i[far], j[far], dx[far]
+    del far
     south = dx > 0
     i, j = np.where(south, i, j), np.where(south, j, i)
-    dx = np.abs(dx)
+    del south
+    # sorted by day, then the ids as text: their ranks among the sorted ids sort the same way; every per-pair
+    # value below is computed in that order (each pair's numbers are its own, whatever the order)
+    _, rank = np.unique(names, return_inverse=True) if names.size else (None, np.zeros(0, int))
+    code = rank.reshape(-1)[site_of]
+    order = np.lexsort((code[j], code[i], day_of[i])) if i.size else np.zeros(0, int)
+    i, j, dx = i[order], j[order], np.abs(dx[order])
+    del order, code
     slope = (phi[j] - phi[i]) / dx
     slope_sigma = np.hypot(sigma[i], sigma[j]) / dx
     with np.errstate(divide="ignore", invalid="ignore"):
         radius = 1.0 / slope
         high = np.where(slope - slope_sigma > 0, 1.0 / (slope - slope_sigma), np.nan)
         low = 1.0 / (slope + slope_sigma)
-    # sorted by day, then the ids as text: their ranks among the sorted ids sort the same way
-    _, rank = np.unique(names, return_inverse=True) if names.size else (None, np.zeros(0, int))
-    code = rank.reshape(-1)[site_of]
-    order = np.lexsort((code[j], code[i], day_of[i])) if i.size else np.zeros(0, int)
-    first, second = site_of[i][order], site_of[j][order]
     return NetworkPairs(
-        site_names=names, first_site=first, second_site=second, date_names=date_names,
-        date_index=day_of[i][order], north_south_km=dx[order],
-        radius_km=radius[order], sigma_km=(slope_sigma / slope**2)[order], low_km=low[order], high_km=high[order],
-        flagged=(bad_a[i] | bad_a[j])[order],
+        site_names=names, first_site=site_of[i], second_site=site_of[j], date_names=date_names,
+        date_index=day_of[i], north_south_km=dx,
+        radius_km=radius, sigma_km=slope_sigma / slope**2, low_km=low, high_km=high,
+        flagged=bad_a[i] | bad_a[j],
         selection=EVERY_PAIR if every else NEIGHBOUR_PAIRS,
     )
 
