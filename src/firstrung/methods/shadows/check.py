@@ -138,6 +138,9 @@ SERIES_LEVEL_SIGMA = 5.0
 #: Rows to check from which the hypotheses are tried two at a time, on two threads (NumPy works
 #: without the interpreter lock; each hypothesis' numbers are its own, so the results are the same).
 PARALLEL_ROWS = 20_000
+#: ... up to this many: each hypothesis holds some 250 bytes a row while it is tried, and two at a time
+#: would take a million-row reduction past 1 GB (one at a time it stays near 0.9 GB).
+PARALLEL_MAX_ROWS = 400_000
 
 
 # --- inputs and results ---------------------------------------------------------------
@@ -429,7 +432,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             fit = _kept_z(fit, x.group, sep, base_statistic, sel)
         return fit.statistic, fit, sep
 
-    if n >= PARALLEL_ROWS and (os.cpu_count() or 1) > 1:  # a long log: two hypotheses at a time
+    if PARALLEL_ROWS <= n <= PARALLEL_MAX_ROWS and (os.cpu_count() or 1) > 1:  # a long log: two at a time
         from concurrent.futures import ThreadPoolExecutor
 
         from firstrung.ephemeris import sun
