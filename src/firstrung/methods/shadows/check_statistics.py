@@ -372,7 +372,14 @@ def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
     """``np.unique(np.asarray(values, dtype=object).astype(str), return_inverse=True)``, without a text
     array of every row when the values are texts already (a log's file names, edges and forms: a few
     distinct texts over many rows)."""
-    values = np.asarray(values, dtype=object).reshape(-1)
+    values = np.asarray(values)
+    if values.ndim == 1 and values.size > 1 and values.strides[0] == 0:  # one text shared by every row
+        names, _ = distinct_texts(values[:1])
+        return names, np.zeros(values.size, np.int64)
+    if values.dtype.kind != "O":
+        names, inverse = np.unique(values.astype(str), return_inverse=True)
+        return names, inverse.reshape(-1)
+    values = values.reshape(-1)
     listed = values.tolist()
     distinct = set(listed)
     if not listed or not all(type(v) is str and "\x00" not in v for v in distinct):  # NumPy's own conversions

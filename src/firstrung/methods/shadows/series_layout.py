@@ -56,15 +56,16 @@ class SeriesLayout:
         padding = np.ones(cells, bool)
         padding[self.row_cell] = False
         self.padding = np.flatnonzero(padding)
+        self.padding_source = self.padding % self.n_groups  # the first row of each padded cell's series
         self.shape = (self.longest, self.n_groups)
         self._kept: dict = {}
         self._lock = threading.Lock()
 
-    def spread(self, values, fill: float = 0.0) -> np.ndarray:
+    def spread(self, values, fill: float = 0.0, keep: bool = False) -> np.ndarray:
         """Per-row ``values`` in the layout; the padding holds ``fill``.
 
-        The last few arrays laid out are kept (by identity, read-only): the check's fits share their
-        rates and errors between hypotheses.
+        With ``keep``, the last few arrays laid out are kept (by identity, read-only): the check's fits
+        share their rates and errors between hypotheses.
         """
         key = (id(values), fill)
         with self._lock:
@@ -74,7 +75,7 @@ class SeriesLayout:
         out = np.full(self.shape[0] * self.shape[1], fill)
         out[self.row_cell] = values
         out = out.reshape(self.shape)
-        if isinstance(values, np.ndarray):
+        if keep and isinstance(values, np.ndarray):
             out.setflags(write=False)
             with self._lock:  # the check's hypotheses may be tried on two threads
                 if len(self._kept) >= _KEPT:
@@ -124,9 +125,9 @@ def laid_out_fit(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_ra
     variance, clock, mean square, z laid out) for those series.
     """
     r = layout.spread(np.asarray(residual_rad, float))
-    d = layout.spread(np.asarray(rate_rad_s, float))
-    sigma = layout.spread(np.asarray(sigma_random_rad, float), fill=1.0)
-    v = layout.spread(np.asarray(variance_systematic_rad2, float))
+    d = layout.spread(np.asarray(rate_rad_s, float), keep=True)
+    sigma = layout.spread(np.asarray(sigma_random_rad, float), fill=1.0, keep=True)
+    v = layout.spread(np.asarray(variance_systematic_rad2, float), keep=True)
     count = layout.count
     index = np.arange(layout.n_groups)
     gap = 2.0 * float(np.max(np.abs(r))) + 1.0 if robust else 0.0  # the padding's zeros never raise the maximum
@@ -184,22 +185,24 @@ def hopeless_series(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random
     d = np.asarray(rate_rad_s, float)
     sigma = np.asarray(sigma_random_rad, float)
     v = np.asarray(variance_systematic_rad2, float)
-    if not (np.isfinite(r).all() and np.isfinite(d).all() and np.isfinite(v).all()
-            and np.isfinite(sigma).all() and (sigma > 0.0).all()):
+    with np.errstate(over="ignore", invalid="ignore"):
+        finite = np.isfinite(r.sum() + d.sum() + v.sum() + sigma.sum())  # (a sum too large only spares no fit)
+    if not (finite and sigma.min() > 0.0):
         return np.zeros(layout.n_groups, bool)
-    padding = np.zeros(layout.shape[0] * layout.shape[1], bool)
-    padding[layout.padding] = True
-    padding = padding.reshape(layout.shape)
-    r_pad = layout.spread(r)
-    r_lo = np.where(padding, np.inf, r_pad).min(axis=0)
-    r_hi = np.where(padding, -np.inf, r_pad).max(axis=0)
+    r_pad = np.empty(layout.shape[0] * layout.shape[1])
+    r_pad[layout.row_cell] = r
+    r_pad[layout.padding] = r_pad[layout.padding_source]  # a padded cell repeats its series' first row
+    r_pad = r_pad.reshape(layout.shape)
+    r_lo, r_hi = r_pad.min(axis=0), r_pad.max(axis=0)
     reach = np.where(r_lo > 0.0, r_lo, np.where(r_hi < 0.0, -r_hi, 0.0))
-    rate_max = np.abs(layout.spread(d)).max(axis=0)
-    w = np.where(padding, 0.0, 1.0 / layout.spread(sigma, fill=1.0) ** 2)
+    rate_max = np.abs(layout.spread(d, keep=True)).max(axis=0)
+    w = layout.spread(1.0 / sigma**2)  # the padding weighs nothing
     clock_max = (r_hi - r_lo) * np.sqrt(w.sum(axis=0) / prior)
-    z_max = np.sqrt(w) * (r_hi - r_lo + 2.0 * rate_max * clock_max)[None, :]
-    weight_min = (w * np.minimum(1.0, huber / np.maximum(z_max, 1e-300))).sum(axis=0)
-    v_sys = layout.spread(v).sum(axis=0) / np.maximum(layout.count, 1)
+    z_max = np.sqrt(w)
+    z_max *= (r_hi - r_lo + 2.0 * rate_max * clock_max)[None, :]
+    np.maximum(z_max, 1e-300, out=z_max)
+    weight_min = (w * np.minimum(1.0, huber / z_max)).sum(axis=0)
+    v_sys = layout.spread(v, keep=True).sum(axis=0) / np.maximum(layout.count, 1)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         bound = reach**2 / (v_sys + 2.0 * rate_max**2 / prior + 1.0 / weight_min)
     # a wide margin for the rounding of the fit and of this bound
