@@ -82,12 +82,13 @@ def _converted(value: str, source: str, target: str, zone: str | None) -> str:
 
 def log_columns(slots: Sequence[Slot], rows: Sequence[tuple[str, dict[str, str]]]) -> list[tuple[Slot, str]]:
     """The columns of the log file holding ``rows``: each used slot with the one name it is written under."""
+    given = {name for _, cells in rows for name, value in cells.items() if value != ""}
     columns: list[tuple[Slot, str]] = []
     for slot in slots:
         if slot.names == ("site",):
             columns.append((slot, "site"))
             continue
-        used = {name for _, cells in rows for name in slot.names if cells.get(name, "") != ""}
+        used = given.intersection(slot.names)
         if used:
             columns.append((slot, _chosen(slot, used)))
     return columns
