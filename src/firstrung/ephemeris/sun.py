@@ -146,7 +146,7 @@ def _grid_nodes(tt: np.ndarray):
     return _direct_geocentric_sun(grid)
 
 
-@functools.lru_cache(maxsize=32)  # a few kB each; a check's shifted times keep their own grids
+@functools.lru_cache(maxsize=4)
 def _sun_grid(start_tt_jd: float, nodes: int, step_days: float):
     """Geocentric apparent Sun and unwrapped GAST on a uniform TT grid (cached: searches reuse it)."""
     tt = start_tt_jd + step_days * np.arange(nodes)
@@ -168,7 +168,7 @@ def _sun_grid(start_tt_jd: float, nodes: int, step_days: float):
     return xyz, gast
 
 
-@functools.lru_cache(maxsize=32)
+@functools.lru_cache(maxsize=4)
 def _sun_grid_stacked(start_tt_jd: float, nodes: int, step_days: float) -> np.ndarray:
     """The grid's x, y, z and unwrapped GAST as one (4, nodes) array: one interpolation serves all four."""
     xyz, gast = _sun_grid(start_tt_jd, nodes, step_days)
