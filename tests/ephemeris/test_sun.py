@@ -193,3 +193,28 @@ def test_a_few_times_asked_again_are_computed_once_with_the_same_numbers(monkeyp
     assert len(calls) == 2
     ref_xyz, ref_gast = direct(ephemeris._core._prepared_time(t))
     assert np.array_equal(xyz2, ref_xyz) and np.array_equal(gast2, gast1) and not np.array_equal(xyz3, xyz2)
+
+
+def test_grid_preferred_serves_a_few_times_from_kept_day_grids(monkeypatch):
+    """Within grid_preferred (the collection point's writer), a few times over several days come from
+    one grid per day, computed once: the direct place to 0.02" (our own shortcut, as above), and a later
+    call with other times on the same days calls skyfield no more."""
+    from firstrung.ephemeris import sun as sun_module
+
+    monkeypatch.setattr(sun_module, "_DAY_GRIDS", {})
+    calls = []
+    nodes = sun_module._grid_nodes
+
+    def counted(tt):
+        calls.append(len(tt))
+        return nodes(tt)
+
+    monkeypatch.setattr(sun_module, "_grid_nodes", counted)
+    rng = np.random.default_rng(11)
+    t = np.datetime64("2027-03-18T00:00", "us") + (rng.uniform(0, 5 * 86400, 12) * 1e6).astype("timedelta64[us]")
+    with sun_module.grid_preferred():
+        _compare_with_direct(sun_module, t)
+        assert len(calls) == 1 and calls[0] % sun_module._DAY_NODES == 0
+        _compare_with_direct(sun_module, t[:5] + np.timedelta64(600, "s"))
+    assert len(calls) == 1
+    assert not getattr(sun_module._PREFER_GRID, "on", False)  # only within the block

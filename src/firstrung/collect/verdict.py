@@ -11,7 +11,7 @@ are first read on their own as a log: a problem there refuses the reading,
 naming the field, and only the readings it takes are checked.
 
 What a check of a site's readings needs is all it gets: the campaign with only
-the sites at hand, and the Sun of the day from one kept hourly grid
+the sites at hand, and the Sun of each day from a kept hourly grid of that day
 (:func:`firstrung.ephemeris.sun.grid_preferred`). Readings that arrive together
 are read and checked in one pass (the check's cost is mostly per call, not per
 row). ``tests/collect/test_verdict.py`` holds each verdict to the full check's
@@ -142,7 +142,7 @@ class Judge:
             if p.row in new_row:
                 outcomes[new_row[p.row]].flags.append(
                     {"code": "bad-value", "severity": "error", "message": p.message, "fix": "correct the reading"})
-        with grid_preferred():  # the Sun of these days from one kept grid, not a skyfield call per batch
+        with grid_preferred():  # the Sun of these days from their kept grids, not a skyfield call per batch
             flags = kind.log_flags(campaign, log)
         for flag in flags:
             if flag.row in new_row:

@@ -115,13 +115,13 @@ _PREFER_GRID = threading.local()
 
 @contextlib.contextmanager
 def grid_preferred():
-    """Within this block, this thread's geocentric Sun comes from the hourly grid however few the times.
+    """Within this block, this thread's geocentric Sun comes from hourly grids however few the times.
 
     For a long-running caller that asks again and again for a few times within
     the same days (the collection point checks each new reading with its site's
-    stored ones): the grid of those days is computed once and kept, and each
-    call is an interpolation instead of a skyfield call. The grid agrees with
-    the direct computation to 1e-6" (see :data:`_GRID_STEP_H`).
+    stored ones): each day's grid (:func:`_day_grids_sun`) is computed once and
+    kept, and each call is an interpolation instead of a skyfield call. The grid
+    agrees with the direct computation to 1e-6" (see :data:`_GRID_STEP_H`).
     """
     before = getattr(_PREFER_GRID, "on", False)
     _PREFER_GRID.on = True
@@ -177,6 +177,39 @@ def _sun_grid_stacked(start_tt_jd: float, nodes: int, step_days: float) -> np.nd
     return stacked
 
 
+#: Nodes of a day's grid: two days from the day's start (a time ``tt`` belongs to the day starting at
+#: ``floor(tt - 0.5)``, so that it has a day of nodes on each side, as :func:`_geocentric_sun`'s grid).
+_DAY_NODES = int(round(2.0 / (_GRID_STEP_H / 24.0))) + 1
+#: Days' grids kept for :func:`grid_preferred` callers, by the day's start (TT Julian date); 1,024 days
+#: hold 1.6 MB, and all are dropped when there would be more.
+_DAY_GRIDS: dict[float, np.ndarray] = {}
+_DAY_GRIDS_KEPT = 1_024
+
+
+def _day_grids_sun(tt: np.ndarray):
+    """The geocentric Sun and GAST at TT Julian dates ``tt`` from each one's day grid (the days not yet
+    kept computed in one skyfield call): the same grid for a time whatever other times come with it."""
+    step = _GRID_STEP_H / 24.0
+    starts = np.floor(tt - 0.5)
+    days, inverse = np.unique(starts, return_inverse=True)
+    missing = [float(d) for d in days if float(d) not in _DAY_GRIDS]
+    if missing:
+        if len(_DAY_GRIDS) + len(missing) > _DAY_GRIDS_KEPT:
+            _DAY_GRIDS.clear()
+        nodes = (np.asarray(missing)[:, None] + step * np.arange(_DAY_NODES)[None, :]).reshape(-1)
+        xyz, gast = _grid_nodes(nodes)
+        for k, day in enumerate(missing):
+            part = slice(k * _DAY_NODES, (k + 1) * _DAY_NODES)
+            grid = np.vstack([xyz[:, part], np.unwrap(gast[part])[None, :]])
+            grid.setflags(write=False)
+            _DAY_GRIDS[day] = grid
+    both = np.empty((4, tt.size))
+    for k, day in enumerate(days):
+        at = inverse.reshape(-1) == k
+        both[:, at] = _lagrange4(tt[at], day, step, _DAY_GRIDS[float(day)])
+    return both[:3], np.mod(both[3], 2.0 * np.pi)
+
+
 def _grid_pays(time_utc: np.ndarray, evaluations: int) -> bool:
     """Whether ``evaluations`` Sun positions over the span of these times are cheaper from the grid."""
     ends = _tt_jd(np.array([time_utc.min(), time_utc.max()], dtype="datetime64[us]"))
@@ -204,9 +237,9 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     time_utc = np.asarray(time_utc, dtype="datetime64[us]").reshape(-1)
     if time_utc.size == 0:  # no instant: empty results, as numpy gives for empty input
         return np.zeros((3, 0)), np.zeros(0)
-    if grid is None and getattr(_PREFER_GRID, "on", False):
-        grid = True
     tt = _tt_jd(time_utc)
+    if grid is None and getattr(_PREFER_GRID, "on", False):
+        return _day_grids_sun(tt)
     step = _GRID_STEP_H / 24.0
     # whole days with half a day of margin, so that the iterations of a search share one grid
     start = np.floor(tt.min() - 0.5)
