@@ -376,6 +376,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
     sqrt_rand0 = np.sqrt(rand0)
     series = SeriesLayout(x.group, x.n_groups)  # every fit below is over the same series
+    has_angles = bool(np.isfinite(rows.altitude_read_deg).any())
+    one_edge = edges0[0][0] if len(edges0) == 1 and edges0[0][1] is None else None  # the edge of every row
 
     def one(h):  # a hypothesis, vectorised over every row
         pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
@@ -400,6 +402,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
                                       width_m=width0)
             rand = rand + time_sigma0
+        if (h.angle is not None and not has_angles) or (h.edge is not None and one_edge == h.edge):
+            return None, None, np.zeros(x.n_groups)  # no angle to retype, or the edge every row marks: as logged
         if h.angle is not None:
             angle = np.isfinite(rows.altitude_read_deg)
             retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
