@@ -92,8 +92,12 @@ def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings)
         assert [f["code"] for f in final[LATE]["flags"]] == ["local-time-as-utc"]
         # the coordinator withdraws the late readings but one: the next reading is checked without them
         late_ids = [r.id for r in state.store.readings() if r.site == LATE]
+        before = state.reading_rows(LATE, 30)  # the site page's rows, kept rendered
+        assert len(before) == 6 and all("local-time-as-utc" in row for row in before[:2])
         for reading_id in late_ids[:-1]:
             assert state.withdraw(reading_id, "clock an hour late").withdrawn
+        after = state.reading_rows(LATE, 30)  # rendered again: withdrawn, the last one as it was
+        assert after[0] == before[0] and all('class="withdrawn"' in row for row in after[1:])
         on_time = dict(plan[LATE][0], time_utc=f"{np.datetime64(plan[LATE][0]['time_utc'].rstrip('Z')) - 3600}Z")
         (outcome, reading), = state._process([Submission("shadows", LATE, on_time, "form-on-time")])
         readings_now, full = state.full_check()["shadows"]

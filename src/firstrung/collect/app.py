@@ -68,6 +68,8 @@ JOIN_TRY_BURST = 120
 JOIN_TRY_REFILL_S = 1.0
 #: Forms' fields kept rendered (per kind, form, zone and minute); all dropped when there are more.
 FIELDS_KEPT = 512
+#: Readings' rows of the sites' pages kept rendered (a few hundred bytes each); all dropped when there are more.
+ROWS_KEPT = 100_000
 
 
 def _environment():
@@ -116,6 +118,8 @@ class Collection:
         #: (kind, site) -> (id, cells) of its readings not withdrawn, in order; the writer's thread's alone.
         self._cells: dict[tuple[str, str], list[tuple[int, dict[str, str]]]] = {}
         self._fields_html: dict = {}
+        #: reading id -> (withdrawn_utc or "", its row in the site's page)
+        self._rows_html: dict[int, tuple[str, str]] = {}
 
     # --- schools of an open network ----------------------------------------------------------------
 
@@ -151,6 +155,19 @@ class Collection:
                 self._fields_html.clear()
             self._fields_html[key] = html
         return html
+
+    def reading_rows(self, site_id: str, count: int) -> list[str]:
+        """A site's last ``count`` readings as its page's table rows (HTML, escaped by their template), the
+        newest first; each row is rendered once and again only when its reading is withdrawn."""
+        keys = self.store.recent_keys(site_id, count)
+        missing = [i for i, withdrawn in keys if self._rows_html.get(i, (None, ""))[0] != (withdrawn or "")]
+        if missing:
+            if len(self._rows_html) + len(missing) > ROWS_KEPT:
+                self._rows_html.clear()
+            template = self.env.get_template("site_reading.html.j2")
+            for i, r in self.store.by_ids(missing).items():
+                self._rows_html[i] = (r.withdrawn_utc or "", template.render(r=r))
+        return [self._rows_html[i][1] for i, _ in keys if i in self._rows_html]
 
     def kinds_of(self, site_id: str) -> dict[str, LogKind]:
         """The kinds of log a site sends: every collected kind, or for a school those that carry a position."""
@@ -384,7 +401,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
             })
         html = state.env.get_template("site.html.j2").render(
             campaign=state.campaign.name, site=site, kinds=kinds, result=result,
-            readings=state.store.recent(site_id, 30),
+            readings=state.reading_rows(site_id, 30),
         )
         return _answer(request, status, result or {}, html)
 

@@ -248,11 +248,19 @@ class Store:
             row = self._writer.execute(f"SELECT {_COLUMNS} FROM reading WHERE id = ?", (int(reading_id),)).fetchone()
         return None if row is None else _reading(row)
 
-    def recent(self, site: str, count: int) -> list[Reading]:
-        """A site's last ``count`` readings, the newest first (its page's list)."""
-        rows = self._reader().execute(f"SELECT {_COLUMNS} FROM reading WHERE site = ? ORDER BY id DESC LIMIT ?",
+    def recent_keys(self, site: str, count: int) -> list[tuple[int, str | None]]:
+        """(id, withdrawn_utc) of a site's last ``count`` readings, the newest first (what may change of them)."""
+        return self._reader().execute("SELECT id, withdrawn_utc FROM reading WHERE site = ? ORDER BY id DESC LIMIT ?",
                                       (site, int(count))).fetchall()
-        return [_reading(r) for r in rows]
+
+    def by_ids(self, ids) -> dict[int, Reading]:
+        """The readings with these ids."""
+        ids = [int(i) for i in ids]
+        if not ids:
+            return {}
+        rows = self._reader().execute(f"SELECT {_COLUMNS} FROM reading WHERE id IN ({','.join('?' * len(ids))})",
+                                      ids).fetchall()
+        return {r[0]: _reading(r) for r in rows}
 
     def readings(self, kind: str | None = None, sites=None, include_withdrawn: bool = True) -> list[Reading]:
         """Stored readings in the order they arrived, optionally of one kind and some sites."""
