@@ -282,12 +282,17 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     diagnoses: list[SeriesDiagnosis] = []
     chosen_z = base.z.copy()
     explained_time = np.zeros(n_groups, bool)
+    # each series' numbers as Python values at once (not a NumPy scalar per series)
+    dates = np.datetime_as_string(group_day.astype("datetime64[D]"), unit="D").tolist()
+    files, counts = rows.file[first_row].tolist(), count.tolist()
+    logged, levels = base.statistic.tolist(), base.level_rad.tolist()
+    level_sigmas = (base.level_rad / base.level_sigma_rad).tolist()
     for g in range(n_groups):  # one pass over series, not rows; flags are built only where needed
         verdict, k, candidates = verdicts[g]
         site = sites[group_site[g]]
         rows_g = order[start[g] : start[g] + count[g]] if verdict != "fits" else None
-        date = str(np.datetime64(int(group_day[g]), "D"))
-        file = str(rows.file[first_row[g]])
+        date = dates[g]
+        file = str(files[g])
         best_stat = None if k is None else float(stats[k][g])
         pair = pairs.get(g)
         explained_by_pair = pair is not None and pair.verdict == "explained"
@@ -295,10 +300,10 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
             best_stat = pair.statistic
         diagnoses.append(
             SeriesDiagnosis(
-                file=file, site=site.id, date=date, rows=int(count[g]),
-                statistic_logged=round(float(base.statistic[g]), 2),
-                level_arcmin=round(float(base.level_rad[g]) * _ARCMIN_PER_RAD, 2),
-                level_sigma=round(float(base.level_rad[g] / base.level_sigma_rad[g]), 2),
+                file=file, site=site.id, date=date, rows=counts[g],
+                statistic_logged=round(logged[g], 2),
+                level_arcmin=round(levels[g] * _ARCMIN_PER_RAD, 2),
+                level_sigma=round(level_sigmas[g], 2),
                 best=pair.pair.label if explained_by_pair else (None if k is None else HYPOTHESES[k].label),
                 statistic_best=None if best_stat is None else round(best_stat, 2),
                 verdict=verdict,
