@@ -69,6 +69,10 @@ def run_shadows(campaign_path, *, include_flagged: bool = False) -> ShadowRun:
         # are the largest thing a reduction holds) unless a report is to check the same log again
         shared_log = log if checks_are_shared() else None
         del log
+        if rows_read >= 100_000:  # the log's columns are gone: their memory back before the check's arrays
+            from firstrung.memory import release_free_memory
+
+            release_free_memory()
         flags, readings, left_out = _without_flagged(campaign, shared_log, readings, extra, rows_read)
         del shared_log
     else:
