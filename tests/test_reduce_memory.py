@@ -13,6 +13,7 @@ import shutil
 from pathlib import Path
 
 import numpy as np
+from tests.helpers import shadows_only
 
 from firstrung.campaign import read_campaign
 from firstrung.flags import checks_shared, without_error_rows
@@ -23,7 +24,6 @@ from firstrung.methods.shadows.forms import READING_SOURCE, reading_sources
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
 from firstrung.methods.shadows.run import _without_flagged, readings_subset, run_shadows
-from tests.helpers import shadows_only
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 
@@ -148,23 +148,3 @@ def test_duplicates_name_the_first_copy(tmp_path):
             first[key] = i
     got = [(f.file, f.row, f.fields["duplicate_of"]) for f in _duplicate_flags(sites, rows)]
     assert got == expected == [("b.csv", 1, "a.csv:1"), ("b.csv", 3, "a.csv:3"), ("b.csv", 4, "a.csv:1")]
-
-
-def test_a_log_past_the_threads_limit_is_checked_one_hypothesis_at_a_time(monkeypatch):
-    """Above ``PARALLEL_MAX_ROWS`` the hypotheses are tried on this thread alone (two at a time hold twice
-    the rows' arrays), with the same flags and diagnoses as two at a time."""
-    import concurrent.futures
-
-    from firstrung.methods.shadows import check
-
-    campaign = read_campaign(EXAMPLES / "campaign.toml")
-    monkeypatch.setattr(check, "PARALLEL_ROWS", 1)
-    threaded = check.check_campaign(campaign)
-
-    def no_threads(*args, **kwargs):
-        raise AssertionError("a thread pool was started past the limit")
-
-    monkeypatch.setattr(concurrent.futures, "ThreadPoolExecutor", no_threads)
-    monkeypatch.setattr(check, "PARALLEL_MAX_ROWS", 5)
-    alone = check.check_campaign(campaign)
-    assert len(alone.flags) > 5 and alone.flags == threaded.flags and alone.series == threaded.series

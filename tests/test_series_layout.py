@@ -86,18 +86,3 @@ def test_hopeless_is_never_sure_of_rows_that_are_not_finite():
     sure = hopeless(SeriesLayout(group, 30), residual, np.zeros(150), np.full(150, 1e-3), np.full(150, 1e-8),
                     np.full(30, 10.0))
     assert not sure.any()
-
-
-def test_hypotheses_on_two_threads_give_the_same_check(monkeypatch):
-    from pathlib import Path
-
-    from firstrung.campaign import read_campaign
-    from firstrung.methods.shadows import check
-
-    campaign = read_campaign(Path(__file__).resolve().parent.parent / "examples" / "campaign.toml")
-    monkeypatch.setattr(check, "PARALLEL_ROWS", 10**9)
-    serial = check.check_campaign(campaign)
-    monkeypatch.setattr(check, "PARALLEL_ROWS", 1)
-    threaded = check.check_campaign(campaign)
-    assert len(serial.flags) > 5 and {f.code for f in serial.flags} >= {"outlier", "duplicate-row"}
-    assert threaded.flags == serial.flags and threaded.series == serial.series

@@ -254,7 +254,7 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
         t._nutation_angles_radians = iau2000b_radians(t)
         xyz, gast = _direct_geocentric_sun(t)
         if key is not None:
-            if len(_RECENT_DIRECT) >= _RECENT_KEPT:  # (safe with the check's two threads)
+            if len(_RECENT_DIRECT) >= _RECENT_KEPT:  # (safe should another thread ask too)
                 _RECENT_DIRECT.pop(next(iter(_RECENT_DIRECT), None), None)
             _RECENT_DIRECT[key] = (xyz.copy(), gast.copy())
         return xyz, gast

@@ -46,8 +46,6 @@ explanation is reported.
 
 from __future__ import annotations
 
-import contextlib
-import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -91,11 +89,11 @@ from firstrung.methods.shadows.check_statistics import (
     _zone_offsets_h,
     check_footing,
     check_sites,
-    distinct_texts,
-    hopeless,
     distinct_sun,
+    distinct_texts,
     edge_groups,
     equivalent_length_m,
+    hopeless,
     retyped_angle_deg,
     series_statistic,
     sun_altitude_rad,
@@ -135,13 +133,6 @@ ACCEPTABLE_MEAN_SQUARE = 4.0
 ACCEPTABLE_CLOCK_SIGMA = 2.0
 #: A series whose level is this many sigma off, unexplained, is flagged.
 SERIES_LEVEL_SIGMA = 5.0
-#: Rows to check from which the hypotheses are tried two at a time, on two threads (each hypothesis'
-#: numbers are its own, so the results are the same). Off: on a machine of two cores, 100,000 rows
-#: from 1,000 sites took as long on two threads as on one, with some 15 % more CPU (load 2.3).
-PARALLEL_ROWS = 10**12
-#: ... up to this many: each hypothesis holds some 250 bytes a row while it is tried, and two at a time
-#: would take a million-row reduction past 1 GB (one at a time it stays near 0.9 GB).
-PARALLEL_MAX_ROWS = 400_000
 
 
 # --- inputs and results ---------------------------------------------------------------
@@ -442,21 +433,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             fit = _kept_z(fit, x.group, sep, base_statistic, sel)
         return fit.statistic, fit, sep
 
-    if PARALLEL_ROWS <= n <= PARALLEL_MAX_ROWS and (os.cpu_count() or 1) > 1:  # a long log: two at a time
-        from concurrent.futures import ThreadPoolExecutor
-
-        from firstrung.ephemeris import sun
-
-        prefer_grid = getattr(sun._PREFER_GRID, "on", False)  # the caller's choice, on each thread
-
-        def on_thread(h):
-            with sun.grid_preferred() if prefer_grid else contextlib.nullcontext():
-                return one(h)
-
-        with ThreadPoolExecutor(2) as pool:
-            tried = list(pool.map(on_thread, HYPOTHESES))
-    else:
-        tried = [one(h) for h in HYPOTHESES]
+    tried = [one(h) for h in HYPOTHESES]  # one at a time: each holds some 250 bytes a row while tried
     stats, fits, separations = (list(values) for values in zip(*tried, strict=True))
     return stats, fits, separations
 

@@ -17,8 +17,6 @@ series gives them the same numbers as a fit of all of them.
 
 from __future__ import annotations
 
-import threading
-
 import numpy as np
 
 #: The layout is used when its padded cells are at most this many times the rows (series of
@@ -59,7 +57,6 @@ class SeriesLayout:
         self.padding_source = self.padding % self.n_groups  # the first row of each padded cell's series
         self.shape = (self.longest, self.n_groups)
         self._kept: dict = {}
-        self._lock = threading.Lock()
 
     def spread(self, values, fill: float = 0.0, keep: bool = False) -> np.ndarray:
         """Per-row ``values`` in the layout; the padding holds ``fill``.
@@ -68,8 +65,7 @@ class SeriesLayout:
         share their rates and errors between hypotheses.
         """
         key = (id(values), fill)
-        with self._lock:
-            kept = self._kept.get(key)
+        kept = self._kept.get(key)
         if kept is not None and kept[0] is values:
             return kept[1]
         out = np.full(self.shape[0] * self.shape[1], fill)
@@ -77,10 +73,9 @@ class SeriesLayout:
         out = out.reshape(self.shape)
         if keep and isinstance(values, np.ndarray):
             out.setflags(write=False)
-            with self._lock:  # the check's hypotheses may be tried on two threads
-                if len(self._kept) >= _KEPT:
-                    del self._kept[next(iter(self._kept))]
-                self._kept[key] = (values, out)
+            if len(self._kept) >= _KEPT:
+                del self._kept[next(iter(self._kept))]
+            self._kept[key] = (values, out)
         return out
 
     def rows(self, laid_out: np.ndarray) -> np.ndarray:
