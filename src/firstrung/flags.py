@@ -359,12 +359,22 @@ def without_error_rows(campaign, log, check):
     bad = error_rows(campaign, log, check)
     if not bad:
         return log, 0  # nothing to leave out: the log as it is, not a copy
-    keep = np.ones(len(log), bool)
-    file, row = np.asarray(log.file), np.asarray(log.row)
+    keep = rows_kept(log.file, log.row, bad)
+    return log.select(keep), int(np.sum(~keep))
+
+
+def rows_kept(file, row, bad) -> np.ndarray:
+    """True where the row (``file[i]``, ``row[i]``) is not one of the ``bad`` (file, row) pairs.
+
+    >>> rows_kept(np.array(["a", "a", "b"]), np.array([1, 2, 1]), {("a", 2)}).tolist()
+    [True, False, True]
+    """
+    file, row = np.asarray(file), np.asarray(row)
+    keep = np.ones(len(file), bool)
     by_file: dict[str, list[int]] = {}
     for f, r in bad:
         by_file.setdefault(f, []).append(r)
     for f, rows in by_file.items():  # a file at a time, its bad rows looked up together
         at = np.flatnonzero(file == f)
         keep[at[np.isin(row[at], rows)]] = False
-    return log.select(keep), int(np.sum(~keep))
+    return keep

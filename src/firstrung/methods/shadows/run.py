@@ -115,14 +115,9 @@ def _without_flagged(campaign: Campaign, log, readings: ShadowReadings, extra, r
     bad = {(f.file, f.row) for f in flags if f.severity == "error" and f.row is not None}
     if not bad:
         return flags, readings, 0  # nothing to leave out: the readings as they are, not a copy
-    keep = np.ones(len(readings), bool)
-    file, row = np.asarray(readings.file), np.asarray(readings.row)
-    by_file: dict[str, list[int]] = {}
-    for f, r in bad:
-        by_file.setdefault(f, []).append(r)
-    for f, rows in by_file.items():  # a file at a time, its bad rows looked up together
-        at = np.flatnonzero(file == f)
-        keep[at[np.isin(row[at], rows)]] = False
+    from firstrung.flags import rows_kept
+
+    keep = rows_kept(readings.file, readings.row, bad)
     return flags, readings_subset(readings, keep), int(np.sum(~keep))
 
 
