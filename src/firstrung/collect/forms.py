@@ -210,15 +210,12 @@ def _noon_line(site, date: str, noon: dt.datetime) -> str:
 
 def _noon_shadow(site, noon: Noon) -> tuple[float, str, float]:
     """The shortest shadow [m] of the site's gnomon, its direction and the Sun's refracted altitude [deg],
-    as the day's field sheet gives them (:func:`firstrung.methods.shadows.sheet.shadow_sheet_predictions`)."""
-    from firstrung.methods.shadows.prediction import shadow_length_m
-    from firstrung.refraction import apparent_from_true_altitude_deg
+    as the day's field sheet gives them."""
+    from firstrung.methods.shadows.sheet import noon_shadow
 
     g = site.gnomon
-    length = float(shadow_length_m(g.height_m, noon.altitude_deg, noon.semidiameter_deg,
-                                   np.array([g.edge], dtype=object))[0])
-    direction = "north" if site.latitude_deg > noon.declination_deg else "south"
-    return length, direction, float(apparent_from_true_altitude_deg(noon.altitude_deg))
+    return noon_shadow(g.height_m, g.edge, site.latitude_deg, noon.altitude_deg, noon.semidiameter_deg,
+                       noon.declination_deg)
 
 
 @functools.lru_cache(maxsize=4096)

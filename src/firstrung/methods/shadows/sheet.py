@@ -58,7 +58,6 @@ def shadow_sheet_predictions(site, date) -> dict:
     from firstrung import ephemeris
     from firstrung.methods.shadows.altitude import penumbra_width_m
     from firstrung.methods.shadows.prediction import shadow_length_m
-    from firstrung.refraction import apparent_from_true_altitude_deg
 
     transit = ephemeris.solar_transit(np.datetime64(date, "D"), site.latitude_deg, site.longitude_deg, site.elevation_m)
     t0 = np.datetime64(transit.time_utc, "s")
@@ -68,17 +67,35 @@ def shadow_sheet_predictions(site, date) -> dict:
     pos = ephemeris.sun_position(times, site.latitude_deg, site.longitude_deg, site.elevation_m)
     lengths = shadow_length_m(site.gnomon_height_m, pos.altitude_deg, pos.semidiameter_deg,
                               np.array([site.edge] * times.size, dtype=object))
-    noon_alt = float(apparent_from_true_altitude_deg(float(transit.altitude_deg)))
+    noon_m, direction, noon_alt = noon_shadow(site.gnomon_height_m, site.edge, site.latitude_deg,
+                                              float(transit.altitude_deg), float(transit.semidiameter_deg),
+                                              float(transit.declination_deg))
     return {
         "transit_utc": t0,
         "times_utc": times,
         "shadow_m": lengths,
         "noon_altitude_deg": noon_alt,
-        "noon_shadow_m": float(shadow_length_m(site.gnomon_height_m, float(transit.altitude_deg),
-                                               float(transit.semidiameter_deg), np.array([site.edge], dtype=object))[0]),
+        "noon_shadow_m": noon_m,
         "penumbra_m": float(penumbra_width_m(site.gnomon_height_m, float(transit.altitude_deg), float(transit.semidiameter_deg))),
-        "direction": "north" if site.latitude_deg > float(transit.declination_deg) else "south",
+        "direction": direction,
     }
+
+
+def noon_shadow(gnomon_height_m: float, edge: str, latitude_deg: float, altitude_deg: float, semidiameter_deg: float,
+                declination_deg: float) -> tuple[float, str, float]:
+    """At the Sun's transit (its true altitude, semi-diameter and declination): the gnomon's shortest shadow
+    [m], the way it points, and the Sun's altitude with refraction [deg], as a day's sheet prints them.
+
+    >>> length, direction, altitude = noon_shadow(1.0, "umbra", 46.2, 44.0, 0.27, 0.2)
+    >>> round(length, 3), direction, round(altitude, 2)  # the umbra's tip: cot(44.0 + 0.27 deg) = 1.0254
+    (1.025, 'north', 44.02)
+    """
+    from firstrung.methods.shadows.prediction import shadow_length_m
+    from firstrung.refraction import apparent_from_true_altitude_deg
+
+    length = float(shadow_length_m(gnomon_height_m, altitude_deg, semidiameter_deg, np.array([edge], dtype=object))[0])
+    direction = "north" if latitude_deg > declination_deg else "south"
+    return length, direction, float(apparent_from_true_altitude_deg(altitude_deg))
 
 
 #: Below this noon altitude a sheet warns: the shadow is over 5.7 gnomon heights long, its tip faint
