@@ -23,7 +23,7 @@ from firstrung.methods.shadows.check_messages import _duplicate_flags
 from firstrung.methods.shadows.forms import READING_SOURCE, reading_sources
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.log import read_shadow_logs, shadow_readings
-from firstrung.methods.shadows.run import _without_flagged, readings_subset, run_shadows
+from firstrung.methods.shadows.run import _without_flagged, run_shadows
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 
@@ -87,11 +87,11 @@ def test_a_subset_keeps_a_default_column_one_value():
     r = ShadowReadings(np.arange(n), np.arange(n).astype("datetime64[ms]"), np.linspace(1, 2, n), np.ones(n),
                        np.full(n, "umbra", dtype=object), np.full(n, 0.002), np.full(n, 0.001), np.full(n, np.nan),
                        np.full(n, np.nan))
-    sub = readings_subset(r, np.array([True, False, True, True, False]))
+    sub = r.select(np.array([True, False, True, True, False]))
     assert sub.site_index.tolist() == [0, 2, 3] and sub.shadow_m.tolist() == [1.0, 1.5, 1.75]
     assert sub.form.strides == (0,) and sub.form.tolist() == ["length"] * 3  # one value, seen three times
     assert sub.limb.tolist() == ["centre"] * 3 and np.isnan(sub.tip_x_m).all()
-    assert len(readings_subset(r, np.zeros(n, bool))) == 0
+    assert len(r.select(np.zeros(n, bool))) == 0
 
 
 def test_a_file_name_is_one_text_for_every_row(tmp_path):

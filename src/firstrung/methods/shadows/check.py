@@ -74,7 +74,6 @@ from firstrung.methods.shadows.check_messages import (
     _outlier_flags,
     _pair_flags,
 )
-from firstrung.methods.shadows.check_pairs import _subset
 from firstrung.methods.shadows.check_statistics import (
     _ARCMIN_PER_RAD,
     CHECK_CLOCK_SIGMA_S,
@@ -252,7 +251,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     else:
         def pick(values):
             return values[sel]
-    sub = _Inputs(rows if sel.size == n else _subset(rows, sel), np.searchsorted(needy, pick(group)), needy.size,
+    sub = _Inputs(rows if sel.size == n else rows.select(sel), np.searchsorted(needy, pick(group)), needy.size,
                   pick(t), pick(lat), pick(lon), pick(sign), pick(sd), pick(temperature), pick(pressure),
                   pick(measured_weather), pick(zone_offset_h))
     tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),

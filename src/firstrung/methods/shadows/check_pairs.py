@@ -9,7 +9,6 @@ recomputed with every part of the pair applied at once.
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -57,11 +56,6 @@ def _pairs() -> tuple[_Hypothesis, ...]:
 
 #: Pairs of mistakes, tried only on the series the single hypotheses leave unexplained.
 PAIRS = _pairs()
-
-
-def _subset(rows: ShadowReadings, sel) -> ShadowReadings:
-    return ShadowReadings(**{f.name: None if getattr(rows, f.name) is None else np.asarray(getattr(rows, f.name))[sel]
-                             for f in dataclasses.fields(rows)})
 
 
 def fit_hypothesis(h: _Hypothesis, rows: ShadowReadings, group, n_groups, t, lat, lon, sd, temperature, pressure,
@@ -129,7 +123,7 @@ def pair_verdicts(verdicts, count, group, rows, t, lat, lon, sd, temperature, pr
     sel = np.flatnonzero(np.isin(group, needy))
     sub_group = np.searchsorted(np.asarray(needy), group[sel])
     n_sub = len(needy)
-    args = (_subset(rows, sel), sub_group, n_sub, t[sel], lat[sel], lon[sel], sd[sel], temperature[sel],
+    args = (rows.select(sel), sub_group, n_sub, t[sel], lat[sel], lon[sel], sd[sel], temperature[sel],
             pressure[sel], measured_weather[sel], zone_offset_h[sel], in_span, {})
     base, (r0, rate0, rand0, sys0) = fit_hypothesis(_Hypothesis("as-logged", "as logged"), *args)
     single_base, single_stats, single_fits, single_separations = singles

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -75,6 +75,22 @@ class ShadowReadings:
 
     def __len__(self) -> int:
         return int(np.size(self.shadow_m))
+
+    def select(self, keep) -> ShadowReadings:
+        """The readings ``keep`` selects (a boolean mask or indices); a column that is one value seen every
+        time (a default filled in above) stays one value, not a copy per reading."""
+        keep = np.asarray(keep)
+        m = int(keep.sum()) if keep.dtype == bool else keep.size
+        columns = {}
+        for field in fields(self):
+            values = getattr(self, field.name)
+            if values is None:
+                columns[field.name] = None
+            elif isinstance(values, np.ndarray) and values.ndim == 1 and values.strides == (0,):
+                columns[field.name] = np.broadcast_to(values[:1], (m,))
+            else:
+                columns[field.name] = np.asarray(values)[keep]
+        return ShadowReadings(**columns)
 
 
 @dataclass(frozen=True)

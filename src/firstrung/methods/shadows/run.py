@@ -118,26 +118,7 @@ def _without_flagged(campaign: Campaign, log, readings: ShadowReadings, extra, r
     from firstrung.flags import rows_kept
 
     keep = rows_kept(readings.file, readings.row, bad)
-    return flags, readings_subset(readings, keep), int(np.sum(~keep))
-
-
-def readings_subset(readings: ShadowReadings, keep) -> ShadowReadings:
-    """The readings ``keep`` selects (a boolean mask or indices); a column that is one value seen every
-    time (a default of :class:`ShadowReadings`) stays one value, not a copy per reading."""
-    import dataclasses
-
-    keep = np.asarray(keep)
-    m = int(keep.sum()) if keep.dtype == bool else keep.size
-    columns = {}
-    for field in dataclasses.fields(readings):
-        values = getattr(readings, field.name)
-        if values is None:
-            columns[field.name] = None
-        elif isinstance(values, np.ndarray) and values.ndim == 1 and values.strides == (0,):
-            columns[field.name] = np.broadcast_to(values[:1], (m,))
-        else:
-            columns[field.name] = np.asarray(values)[keep]
-    return ShadowReadings(**columns)
+    return flags, readings.select(keep), int(np.sum(~keep))
 
 
 def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
