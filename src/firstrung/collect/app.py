@@ -36,6 +36,7 @@ from starlette.requests import Request
 from starlette.responses import PlainTextResponse, Response
 from starlette.routing import Route
 
+from firstrung.bounded import Bounded
 from firstrung.collect import forms as form_fields
 from firstrung.collect.export import formula_safe, log_csv
 from firstrung.collect.kinds import LogKind, log_kind
@@ -66,9 +67,9 @@ JOIN_REFILL_S = 30.0
 #: Join posts per address, refused ones included: a burst, then one every JOIN_TRY_REFILL_S seconds.
 JOIN_TRY_BURST = 120
 JOIN_TRY_REFILL_S = 1.0
-#: Forms' fields kept rendered (per kind, form, zone and minute); all dropped when there are more.
+#: Forms' fields kept rendered (per kind, form, zone and minute); the oldest dropped first.
 FIELDS_KEPT = 512
-#: Readings' rows of the sites' pages kept rendered (a few hundred bytes each); all dropped when there are more.
+#: Readings' rows of the sites' pages kept rendered (a few hundred bytes each); the oldest dropped first.
 ROWS_KEPT = 100_000
 
 
@@ -117,9 +118,9 @@ class Collection:
         self._forms: dict = {}
         #: (kind, site) -> (id, cells) of its readings not withdrawn, in order; the writer's thread's alone.
         self._cells: dict[tuple[str, str], list[tuple[int, dict[str, str]]]] = {}
-        self._fields_html: dict = {}
+        self._fields_html: dict = Bounded(FIELDS_KEPT)
         #: reading id -> (withdrawn_utc or "", its row in the site's page)
-        self._rows_html: dict[int, tuple[str, str]] = {}
+        self._rows_html: dict[int, tuple[str, str]] = Bounded(ROWS_KEPT)
 
     # --- schools of an open network ----------------------------------------------------------------
 
@@ -151,8 +152,6 @@ class Collection:
             w={"fields": self.forms_of(kind, zone)[way][1], "id_prefix": id_prefix}, refill_here=refill,
             now_local=now_local)
         if not refill:
-            if len(self._fields_html) >= FIELDS_KEPT:
-                self._fields_html.clear()
             self._fields_html[key] = html
         return html
 
@@ -161,13 +160,13 @@ class Collection:
         newest first; each row is rendered once and again only when its reading is withdrawn."""
         keys = self.store.recent_keys(site_id, count)
         missing = [i for i, withdrawn in keys if self._rows_html.get(i, (None, ""))[0] != (withdrawn or "")]
+        fresh = {}
         if missing:
-            if len(self._rows_html) + len(missing) > ROWS_KEPT:
-                self._rows_html.clear()
             template = self.env.get_template("site_reading.html.j2")
             for i, r in self.store.by_ids(missing).items():
-                self._rows_html[i] = (r.withdrawn_utc or "", template.render(r=r))
-        return [self._rows_html[i][1] for i, _ in keys if i in self._rows_html]
+                self._rows_html[i] = fresh[i] = (r.withdrawn_utc or "", template.render(r=r))
+        rows = [fresh.get(i) or self._rows_html.get(i) for i, _ in keys]
+        return [row[1] for row in rows if row is not None]
 
     def kinds_of(self, site_id: str) -> dict[str, LogKind]:
         """The kinds of log a site sends: every collected kind, or for a school those that carry a position."""

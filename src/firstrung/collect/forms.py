@@ -18,6 +18,7 @@ from zoneinfo import ZoneInfo
 
 import numpy as np
 
+from firstrung.bounded import Bounded
 from firstrung.collect.kinds import LogKind
 from firstrung.tabular import TIME_COLUMNS
 
@@ -161,9 +162,8 @@ class Noon:
     declination_deg: float
 
 
-#: Transits already computed, by (site, date); cleared when it holds more than _NOONS_KEPT.
-_NOONS: dict = {}
-_NOONS_KEPT = 50_000
+#: Transits already computed, by (site, date); at most 50,000 (the oldest dropped first).
+_NOONS: dict = Bounded(50_000)
 
 
 def prepare_noons(sites, dates) -> None:
@@ -173,8 +173,6 @@ def prepare_noons(sites, dates) -> None:
     wanted = [(s, d) for s, d in zip(sites, dates, strict=True) if (s, d) not in _NOONS]
     if not wanted:
         return
-    if len(_NOONS) + len(wanted) > _NOONS_KEPT:
-        _NOONS.clear()
     t = ephemeris.solar_transit(np.array([d for _, d in wanted], dtype="datetime64[D]"),
                                 np.array([s.latitude_deg for s, _ in wanted]),
                                 np.array([s.longitude_deg for s, _ in wanted]),

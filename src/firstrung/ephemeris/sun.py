@@ -24,6 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from firstrung.bounded import Bounded
 from firstrung.constants import (
     ASTRONOMICAL_UNIT_KM,
     EARTH_ROTATION_RATE_RAD_PER_S,
@@ -181,9 +182,8 @@ def _sun_grid_stacked(start_tt_jd: float, nodes: int, step_days: float) -> np.nd
 #: ``floor(tt - 0.5)``, so that it has a day of nodes on each side, as :func:`_geocentric_sun`'s grid).
 _DAY_NODES = int(round(2.0 / (_GRID_STEP_H / 24.0))) + 1
 #: Days' grids kept for :func:`grid_preferred` callers, by the day's start (TT Julian date); 1,024 days
-#: hold 1.6 MB, and all are dropped when there would be more.
-_DAY_GRIDS: dict[float, np.ndarray] = {}
-_DAY_GRIDS_KEPT = 1_024
+#: hold 1.6 MB (the oldest dropped first).
+_DAY_GRIDS: dict[float, np.ndarray] = Bounded(1_024)
 
 
 def _day_grids_sun(tt: np.ndarray):
@@ -192,21 +192,20 @@ def _day_grids_sun(tt: np.ndarray):
     step = _GRID_STEP_H / 24.0
     starts = np.floor(tt - 0.5)
     days, inverse = np.unique(starts, return_inverse=True)
-    missing = [float(d) for d in days if float(d) not in _DAY_GRIDS]
+    grid_of = {float(d): _DAY_GRIDS.get(float(d)) for d in days}  # this call's grids, whatever the cache drops
+    missing = [d for d, grid in grid_of.items() if grid is None]
     if missing:
-        if len(_DAY_GRIDS) + len(missing) > _DAY_GRIDS_KEPT:
-            _DAY_GRIDS.clear()
         nodes = (np.asarray(missing)[:, None] + step * np.arange(_DAY_NODES)[None, :]).reshape(-1)
         xyz, gast = _grid_nodes(nodes)
         for k, day in enumerate(missing):
             part = slice(k * _DAY_NODES, (k + 1) * _DAY_NODES)
             grid = np.vstack([xyz[:, part], np.unwrap(gast[part])[None, :]])
             grid.setflags(write=False)
-            _DAY_GRIDS[day] = grid
+            _DAY_GRIDS[day] = grid_of[day] = grid
     both = np.empty((4, tt.size))
     for k, day in enumerate(days):
         at = inverse.reshape(-1) == k
-        both[:, at] = _lagrange4(tt[at], day, step, _DAY_GRIDS[float(day)])
+        both[:, at] = _lagrange4(tt[at], day, step, grid_of[float(day)])
     return both[:3], np.mod(both[3], 2.0 * np.pi)
 
 
@@ -254,8 +253,6 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
         t._nutation_angles_radians = iau2000b_radians(t)
         xyz, gast = _direct_geocentric_sun(t)
         if key is not None:
-            if len(_RECENT_DIRECT) >= _RECENT_KEPT:  # (safe should another thread ask too)
-                _RECENT_DIRECT.pop(next(iter(_RECENT_DIRECT), None), None)
             _RECENT_DIRECT[key] = (xyz.copy(), gast.copy())
         return xyz, gast
     grid_values = _sun_grid_stacked(float(start), nodes, step)
@@ -268,8 +265,7 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
 #: The last direct computations of a few times, by the times (each skyfield call costs some
 #: milliseconds however few the times: a check tries several hypotheses on the same times, and the
 #: collection point checks each site's stored readings again with every new one). Same numbers.
-_RECENT_DIRECT: dict[bytes, tuple[np.ndarray, np.ndarray]] = {}
-_RECENT_KEPT = 64
+_RECENT_DIRECT: dict[bytes, tuple[np.ndarray, np.ndarray]] = Bounded(64)
 _RECENT_MAX_TIMES = 2_048
 
 #: Times interpolated at once from the grid (each costs some 200 bytes of temporaries; a block this
