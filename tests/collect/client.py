@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import http.client
 import json
 import os
 import re
@@ -35,6 +36,42 @@ def request(url: str, data: bytes | None = None, headers: dict | None = None, me
             return Answer(response.status, response.read(), response.headers)
     except urllib.error.HTTPError as error:
         return Answer(error.code, error.read(), error.headers)
+
+
+class Session:
+    """One phone's connection to the server, kept open between requests as a browser keeps it (HTTP/1.1
+    keep-alive), for the load benchmark. Should the server have closed it meanwhile (its idle timeout), the
+    request is sent once more on a new connection, as a browser does: a reading sent twice is stored once
+    (its form id)."""
+
+    def __init__(self, base_url: str) -> None:
+        parts = urllib.parse.urlsplit(base_url)
+        self.host, self.port = parts.hostname, parts.port
+        self.connection: http.client.HTTPConnection | None = None
+
+    def request(self, url: str, data: bytes | None = None, headers: dict | None = None) -> Answer:
+        path = urllib.parse.urlsplit(url).path
+        for attempt in (1, 2):
+            if self.connection is None:
+                self.connection = http.client.HTTPConnection(self.host, self.port, timeout=60)
+            try:
+                self.connection.request("GET" if data is None else "POST", path, body=data, headers=headers or {})
+                response = self.connection.getresponse()
+                body = response.read()
+            except (http.client.RemoteDisconnected, ConnectionResetError, BrokenPipeError):
+                self.close()
+                if attempt == 2:
+                    raise
+                continue
+            if response.will_close:
+                self.close()
+            return Answer(response.status, body, response.headers)
+        raise AssertionError("unreachable")
+
+    def close(self) -> None:
+        if self.connection is not None:
+            self.connection.close()
+            self.connection = None
 
 
 def form_tokens(page: str, kind: str) -> dict[str, str]:

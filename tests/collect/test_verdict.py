@@ -13,6 +13,7 @@ every site as the coordinator downloads them.
 from __future__ import annotations
 
 import csv
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -62,9 +63,21 @@ def readings(tmp_path_factory):
     return folder, campaign, plan
 
 
-def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings):
+def _apart(state) -> None:
+    """Run the collection point's checks in their own process, as the server does on two cores or more."""
+    if (os.cpu_count() or 1) < 2:
+        pytest.skip("one core: the server checks in its own thread (the case without apart)")
+    state.checks.start()
+    state.checks.wait_ready()
+    assert state.checks._pool is not None
+
+
+@pytest.mark.parametrize("apart", [False, True], ids=["in-thread", "check-process"])
+def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings, apart):
     folder, campaign, plan = readings
-    state = Collection(campaign, folder / "store.sqlite", ("shadows",))
+    state = Collection(campaign, folder / f"store-{apart}.sqlite", ("shadows",))
+    if apart:
+        _apart(state)
     try:
         # one at a time, then two sites' readings arriving together, then the rest one at a time
         steps: list[list[tuple[str, dict]]] = [[(site, plan[site][k])] for k in range(3) for site in SITES]
@@ -106,6 +119,34 @@ def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings)
         assert _flags(reading.verdict["flags"]) == _flags(
             [{"code": f.code, "severity": f.severity, "message": f.message} for f in full if f.row == row])
     finally:
+        state.checks.stop()
+        state.writer.shutdown(wait=True)
+        state.store.close()
+
+
+def test_a_check_process_that_dies_loses_no_verdict(readings):
+    """The check process killed between two readings: the next is judged in the server's thread (the same
+    flags as the full check's), and a new process checks the one after."""
+    folder, campaign, plan = readings
+    state = Collection(campaign, folder / "store-killed.sqlite", ("shadows",))
+    _apart(state)
+    try:
+        state._process([Submission("shadows", LATE, plan[LATE][0], "k0")])
+        first = list(state.checks._pool._processes.values())[0]
+        first.kill()
+        first.join(10)
+        for n in (1, 2):
+            (outcome, reading), = state._process([Submission("shadows", LATE, plan[LATE][n], f"k{n}")])
+            readings_now, full = state.full_check()["shadows"]
+            row = next(k + 1 for k, r in enumerate(readings_now) if r.id == reading.id)
+            assert not outcome.refused and "check-failed" not in {f["code"] for f in reading.verdict["flags"]}
+            assert _flags(reading.verdict["flags"]) == _flags(
+                [{"code": f.code, "severity": f.severity, "message": f.message} for f in full if f.row == row])
+        assert "local-time-as-utc" in {f["code"] for f in reading.verdict["flags"]}
+        second = list(state.checks._pool._processes.values())
+        assert second and second[0].pid != first.pid and second[0].is_alive()
+    finally:
+        state.checks.stop()
         state.writer.shutdown(wait=True)
         state.store.close()
 

@@ -43,7 +43,7 @@ from firstrung.collect.kinds import LogKind, log_kind
 from firstrung.collect.schools import School, serving_campaign
 from firstrung.collect.store import Store
 from firstrung.collect.tokens import Holder, TokenBook, form_token, form_token_ok, new_form_id
-from firstrung.collect.verdict import Judge, Submission
+from firstrung.collect.verdict import CheckProcess, Judge, Submission
 from firstrung.collect.web import (
     BODY_LIMIT_BYTES,
     SECURITY_HEADERS,
@@ -102,6 +102,8 @@ class Collection:
             self.book.add(self.join_token, Holder("join", None))
         self.sites = {s.id: s for s in self.campaign.sites}
         self.judge = Judge(self.campaign)
+        #: The checks, in a process of their own once the server starts (two cores or more).
+        self.checks = CheckProcess(self.judge, tuple(self.kinds))
         self.schools: dict[str, School] = {}
         self.school_tokens: dict[str, str] = {}
         for school_id, name, cells, token, _, joined in self.store.schools():
@@ -179,6 +181,7 @@ class Collection:
     # --- the writer: batches of submissions, read, checked and stored in one thread ----------------
 
     async def start(self) -> None:
+        self.checks.start()
         self.queue = asyncio.Queue()
         self._task = asyncio.create_task(self._drain())
         loop = asyncio.get_running_loop()
@@ -187,6 +190,7 @@ class Collection:
     async def stop(self) -> None:
         self._task.cancel()
         self.writer.shutdown(wait=True)
+        self.checks.stop()
         self.store.close()
 
     def _warm_up(self) -> None:
@@ -207,6 +211,7 @@ class Collection:
                 kind.log_flags(self.campaign, kind.read(self.campaign, []))
             except Exception:
                 pass
+        self.checks.wait_ready()
 
     async def submit(self, sub: Submission):
         future = asyncio.get_running_loop().create_future()
@@ -256,7 +261,7 @@ class Collection:
             sites = list(dict.fromkeys(subs[i].site for i in members))
             stored = self._stored_cells(kind_name, sites)
             try:
-                outcomes = self.judge.judge(kind, [subs[i] for i in members], stored)
+                outcomes = self.checks.judge(kind, [subs[i] for i in members], stored)
             except Exception as error:  # a reading is never lost to a failing check
                 from firstrung.collect.verdict import Outcome
 

@@ -16,12 +16,20 @@ the sites at hand, and the Sun of each day from a kept hourly grid of that day
 are read and checked in one pass (the check's cost is mostly per call, not per
 row). ``tests/collect/test_verdict.py`` holds each verdict to the full check's
 on the same rows.
+
+On a machine of two cores or more the check runs in a process of its own
+(:class:`CheckProcess`): the server's process answers pages meanwhile, on the
+other core, without waiting for the interpreter's lock. Each batch takes
+along the campaign restricted to its sites (a school that joined is there at
+once) and the sites' stored readings, so the process keeps no state of its
+own to go stale; should it fail, the batch is checked in the server's thread.
 """
 
 from __future__ import annotations
 
 import itertools
 import os
+import signal
 import tempfile
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
@@ -85,10 +93,10 @@ def flag_json(flag) -> dict:
 class Judge:
     """Reads and checks submissions of one campaign, with temporary log files in a private folder."""
 
-    def __init__(self, campaign) -> None:
+    def __init__(self, campaign, folder: Path | None = None) -> None:
         self.campaign = campaign
         self.zones = {s.id: s.timezone for s in campaign.sites}
-        self._folder = Path(tempfile.mkdtemp(prefix="firstrung-collect-"))
+        self._folder = Path(folder) if folder is not None else Path(tempfile.mkdtemp(prefix="firstrung-collect-"))
         self._count = itertools.count()
 
     def _read(self, kind: LogKind, campaign, text: str):
@@ -186,3 +194,83 @@ class Judge:
         if quick and any(p.row is None or p.row in new_row for p in log.problems):
             return None
         return log, new_row
+
+
+# --- the check in a process of its own -----------------------------------------------------------
+
+#: The check process's judge (its campaign and zones replaced by each batch's).
+_APART: Judge | None = None
+
+
+def _start_apart(campaign, kinds: tuple[str, ...], folder: str) -> None:
+    """In the check process: a judge writing its files in ``folder``, each kind's check run once (the
+    ephemeris loaded, the modules imported), so that the first reading is answered fast. Ctrl-C is the
+    server's to handle: it stops this process in order."""
+    global _APART
+    from firstrung.collect.kinds import log_kind
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    _APART = Judge(campaign, folder)
+    for name in kinds:
+        kind = log_kind(name)
+        try:
+            kind.log_flags(campaign, kind.read(campaign, []))
+        except Exception:  # a warm-up only
+            pass
+
+
+def _judge_apart(kind_name: str, subs, stored, campaign, zones) -> list[Outcome]:
+    from firstrung.collect.kinds import log_kind
+
+    _APART.campaign, _APART.zones = campaign, zones
+    return _APART.judge(log_kind(kind_name), subs, stored)
+
+
+class CheckProcess:
+    """A :class:`Judge`'s checks run in a process of its own once :meth:`start` is called (two cores or
+    more), else in the caller's thread; one batch at a time, from one thread (the server's writer)."""
+
+    def __init__(self, judge: Judge, kinds: tuple[str, ...]) -> None:
+        self.here, self.kinds = judge, tuple(kinds)
+        self._pool = None
+
+    def start(self) -> None:
+        """Start the process (its warm-up runs meanwhile); nothing on a single core."""
+        if (os.cpu_count() or 1) < 2 or self._pool is not None:
+            return
+        import multiprocessing
+        from concurrent.futures import ProcessPoolExecutor
+
+        # a new interpreter, not a fork: the server's process has threads and an event loop by then
+        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"),
+                                         initializer=_start_apart,
+                                         initargs=(self.here.campaign, self.kinds, str(self.here._folder)))
+        self._ready = self._pool.submit(int)  # start the process now, not at the first reading
+
+    def wait_ready(self) -> None:
+        """Wait until the process has warmed up; should it fail to start, the checks run in the caller's thread."""
+        if self._pool is not None:
+            try:
+                self._ready.result()
+            except Exception:
+                self.stop()
+
+    def stop(self) -> None:
+        pool, self._pool = self._pool, None
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
+
+    def judge(self, kind: LogKind, subs: Sequence[Submission], stored: dict[str, list[dict[str, str]]]) -> list[Outcome]:
+        """:meth:`Judge.judge`, in the check process when it runs."""
+        if self._pool is None:
+            return self.here.judge(kind, subs, stored)
+        from concurrent.futures.process import BrokenProcessPool
+
+        campaign = self.here.campaign_of(sub.site for sub in subs)
+        zones = {s.id: self.here.zones.get(s.id) for s in campaign.sites}
+        try:
+            return self._pool.submit(_judge_apart, kind.kind, list(subs), stored, campaign, zones).result()
+        except BrokenProcessPool:  # the process died (killed, out of memory): this batch here, a new process next
+            self.stop()
+            self.start()
+            return self.here.judge(kind, subs, stored)
