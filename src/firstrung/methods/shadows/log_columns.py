@@ -106,30 +106,28 @@ def _plain_cells(cells: list[str], low: float, high: float, factor: float) -> tu
 def _utc_times(cells: list[str]) -> np.ndarray:
     """Plain UTC times (as :data:`_PLAIN_UTC_RE` takes them) to datetime64[ms]; NaT for anything else.
 
-    The usual ``YYYY-MM-DDTHH:MM:SSZ`` is checked a column at a time; other forms one by one.
+    The usual ``YYYY-MM-DDTHH:MM:SSZ`` is read a column at a time by :func:`_usual_utc_bytes` (the byte
+    reader's parser); other forms one by one.
     """
     n = len(cells)
-    iso = np.full(n, "NaT", dtype="<U23")
-    codes, index, _ = _codes(cells, 20)
-    if index.size and codes.shape[1] == 20:  # narrower: none has the usual form
-        digit = codes - 48 < 10
-        at = np.array([0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18])
-        usual = (np.all(digit[:, at], axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45) & (codes[:, 10] == 84)
-                 & (codes[:, 13] == 58) & (codes[:, 16] == 58) & (codes[:, 19] == 90))
+    lengths = np.fromiter(map(len, cells), np.int64, n)
+    index = np.flatnonzero(lengths == 20)
+    t = np.full(n, np.datetime64("NaT"), dtype="datetime64[ms]")
+    if index.size:
+        picked = np.array(cells, dtype=object)[index].astype("<U20")
+        ascii_ = (picked.view(np.uint32).reshape(index.size, 20) < 128).all(axis=1)
+        index = index[ascii_]
+        t[index], usual = _usual_utc_bytes(picked[ascii_].astype("S20"))
         done = index[usual]
-        iso[done] = np.array(cells, dtype=object)[done].astype("<U19")
     else:
         done = np.zeros(0, np.int64)
     rest = np.ones(n, bool)
     rest[done] = False
-    for k in np.flatnonzero(rest):
+    for k in np.flatnonzero(rest).tolist():
         m = _PLAIN_UTC_RE.match(cells[k])
         if m is not None:
-            iso[k] = f"{m.group(1)}T{m.group(2)}"
-    try:
-        return iso.astype("datetime64[ms]")
-    except ValueError:  # a date that does not exist: that row alone goes the long way
-        return np.array([_datetime_or_nat(str(text)) for text in iso], dtype="datetime64[ms]")
+            t[k] = _datetime_or_nat(f"{m.group(1)}T{m.group(2)}")
+    return t
 
 
 def _site_ids(campaign: Campaign, cells) -> tuple[np.ndarray, np.ndarray]:
