@@ -21,6 +21,7 @@ import numpy as np
 from firstrung import csv_table
 from firstrung.csv_cells import Slot, _surplus_message
 from firstrung.csv_table import Table, _header
+from firstrung.distinct import distinct_texts
 from firstrung.errors import RowProblem
 from firstrung.text_files import is_skipped
 
@@ -111,7 +112,7 @@ class ByteChunk(Table):
 
     def distinct(self, name: str) -> tuple[list[str], np.ndarray]:
         """The distinct texts of a column's regular cells and each kept row's index into them."""
-        values, inverse = distinct_bytes(self.byte_columns[name])
+        values, inverse = distinct_texts(self.byte_columns[name])
         return [v.decode("utf-8").strip() for v in values.tolist()], inverse
 
     def _text_column(self, name: str) -> list[str]:
@@ -192,7 +193,7 @@ class LineCells(Sequence):
             out[at[j]] = self._data[s[j]:e[j]].decode("utf-8").strip()
         short = np.flatnonzero(~long)
         if short.size:
-            values, inverse = distinct_bytes(_gather(raw, s[short], e[short]))
+            values, inverse = distinct_texts(_gather(raw, s[short], e[short]))
             texts = np.array([v.decode("utf-8").strip() for v in values.tolist()], dtype=object)
             if long.any():
                 for row, text in zip(at[short].tolist(), texts[inverse].tolist(), strict=True):
@@ -204,33 +205,6 @@ class LineCells(Sequence):
                 column[at] = texts[inverse]
                 out = column.tolist()
         return out
-
-
-def distinct_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """``np.unique(cells, return_inverse=True)`` for a fixed-width bytes array, sorting integers, not texts.
-
-    Each cell's bytes are read as 64-bit words and mixed into one key; the keys' distinct values
-    are the cells' unless two cells share a key, which is checked (then the texts are sorted).
-    The distinct cells come in no particular order.
-    """
-    n, width = cells.size, cells.dtype.itemsize
-    if n == 0:
-        return cells[:0], np.zeros(0, np.int64)
-    words = -(-width // 8)
-    block = np.zeros((n, words * 8), np.uint8)
-    block[:, :width] = cells.view(np.uint8).reshape(n, width)
-    block = block.view(np.uint64)
-    key = block[:, 0].copy()
-    for w in range(1, words):  # a 64-bit mix of the words (a collision is found below, not assumed away)
-        key *= np.uint64(0x9E3779B97F4A7C15)
-        key ^= block[:, w] + (key >> np.uint64(29))
-    keys, first, inverse = np.unique(key, return_index=True, return_inverse=True)
-    inverse = inverse.reshape(-1)
-    values = cells[first]
-    if words > 1 and not np.array_equal(values[inverse], cells):
-        values, inverse = np.unique(cells, return_inverse=True)
-        inverse = inverse.reshape(-1)
-    return values, inverse
 
 
 def _lines(data: bytes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

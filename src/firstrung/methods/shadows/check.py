@@ -54,6 +54,7 @@ from firstrung.campaign_model import Campaign
 from firstrung.constants import (
     STANDARD_TEMPERATURE_C,
 )
+from firstrung.distinct import distinct_texts
 from firstrung.flags import (
     CODES,
     Flag,
@@ -89,7 +90,6 @@ from firstrung.methods.shadows.check_statistics import (
     check_footing,
     check_sites,
     distinct_sun,
-    distinct_texts,
     edge_groups,
     equivalent_length_m,
     hopeless,

@@ -14,6 +14,7 @@ from firstrung.constants import (
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
     WGS84_SEMI_MAJOR_AXIS_M,
 )
+from firstrung.distinct import distinct_texts
 from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, altitude_error_terms_rad
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.series_layout import SeriesLayout, hopeless_series, laid_out_fit
@@ -366,30 +367,6 @@ def hopeless(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, v
         return np.zeros(layout.n_groups, bool)
     return hopeless_series(layout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, beyond,
                            prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA)
-
-
-def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
-    """``np.unique(np.asarray(values, dtype=object).astype(str), return_inverse=True)``, without a text
-    array of every row when the values are texts already (a log's file names, edges and forms: a few
-    distinct texts over many rows)."""
-    values = np.asarray(values)
-    if values.ndim == 1 and values.size > 1 and values.strides[0] == 0:  # one text shared by every row
-        names, _ = distinct_texts(values[:1])
-        return names, np.zeros(values.size, np.int64)
-    if values.dtype.kind != "O":
-        names, inverse = np.unique(values.astype(str), return_inverse=True)
-        return names, inverse.reshape(-1)
-    values = values.reshape(-1)
-    listed = values.tolist()
-    distinct = set(listed)
-    if not listed or not all(type(v) is str and "\x00" not in v for v in distinct):  # NumPy's own conversions
-        names, inverse = np.unique(values.astype(str), return_inverse=True)
-        return names, inverse.reshape(-1)
-    names = sorted(distinct)  # code point order, as NumPy sorts texts
-    if len(names) == 1:
-        return np.array(names), np.zeros(len(listed), np.int64)
-    code = {name: k for k, name in enumerate(names)}
-    return np.array(names), np.array(list(map(code.__getitem__, listed)), np.int64)
 
 
 def _edge_sign(edge) -> np.ndarray:

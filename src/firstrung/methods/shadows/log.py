@@ -17,6 +17,7 @@ import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.csv_cells import cell_text
+from firstrung.distinct import shared_texts
 from firstrung.errors import RowProblem
 from firstrung.log_record import TimedRows
 from firstrung.methods.shadows.inputs import ShadowReadings
@@ -28,7 +29,6 @@ from firstrung.methods.shadows.log_columns import (
     TEMPERATURE_RANGE_C,
     _fast_shadow_columns,
     _unit_of,
-    shared_objects,
 )
 from firstrung.methods.shadows.log_forms import (
     FORM_SLOTS,
@@ -356,13 +356,13 @@ def shadow_readings(campaign: Campaign, log: ShadowLog) -> tuple[ShadowReadings,
     ok, site_index, height, edge = inst.ok, inst.site_index, inst.gnomon_m, inst.edge
     height_sigma, shadow_sigma, problems = inst.gnomon_sigma_m, inst.shadow_sigma_m, list(inst.problems)
     readings = ShadowReadings(
-        file=shared_objects(np.asarray(log.file)[ok]),
+        file=shared_texts(np.asarray(log.file)[ok]),
         row=np.asarray(log.row, dtype=np.int64)[ok],
         site_index=site_index[ok],
         time_utc=np.asarray(log.time_utc, dtype="datetime64[ms]")[ok],
-        time_column=shared_objects(np.asarray(log.time_column)[ok]),
+        time_column=shared_texts(np.asarray(log.time_column)[ok]),
         shadow_m=np.where(np.asarray(log.form) == "trace", np.hypot(log.tip_x_m, log.tip_y_m), log.shadow_m)[ok],
-        shadow_column=shared_objects(np.asarray(log.shadow_column)[ok]),
+        shadow_column=shared_texts(np.asarray(log.shadow_column)[ok]),
         gnomon_m=height[ok],
         edge=edge[ok],
         shadow_sigma_m=shadow_sigma[ok],

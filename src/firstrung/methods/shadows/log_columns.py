@@ -11,12 +11,12 @@ their bytes, and every other column through its distinct texts, each checked onc
 from __future__ import annotations
 
 import re
-import sys
 
 import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.distinct import distinct_texts
 from firstrung.memory import repeated_object
 from firstrung.methods.shadows.log_forms import (
     LENGTH_FORM,
@@ -205,26 +205,20 @@ def _fast_shadow_columns(table: Table, campaign: Campaign) -> tuple[dict | None,
     observer_column, note_column = chosen.get("observer"), chosen.get("note")
     blank = np.full(n, "", dtype=object)
     # names and notes repeat from row to row: one string object for each distinct text
-    observer = np.array(list(map(sys.intern, columns[observer_column])), dtype=object) if observer_column is not None else blank
-    note = np.array(list(map(sys.intern, columns[note_column])), dtype=object) if note_column is not None else blank
+    observer = _texts_shared(columns[observer_column]) if observer_column is not None else blank
+    note = _texts_shared(columns[note_column]) if note_column is not None else blank
     return _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note), ok
+
+
+def _texts_shared(cells: list[str]) -> np.ndarray:
+    """A text column as an object array with one string object per distinct text (names and notes repeat)."""
+    names, inverse = distinct_texts(np.array(cells, dtype=object))
+    return names[inverse]
 
 
 def _narrow(dtype, value):
     """A text column's dtype no wider than its one value (an empty angle column: 4 bytes a row, not 76)."""
     return f"<U{max(1, len(value))}" if isinstance(value, str) and np.dtype(dtype).kind == "U" else dtype
-
-
-def shared_objects(values) -> np.ndarray:
-    """A column of few distinct texts as an object array holding one string object per distinct text."""
-    values = np.asarray(values)
-    if values.dtype == object or values.size == 0:
-        return values.astype(object)
-    first = values.reshape(-1)[:1]
-    if (values == first[0]).all():  # one text in every row (a log's time column): no sort of a million texts
-        return repeated_object(first.astype(object)[0], values.size).reshape(values.shape)
-    names, inverse = np.unique(values, return_inverse=True)
-    return names.astype(object)[inverse.reshape(values.shape)]
 
 
 def _datetime_or_nat(text: str) -> np.datetime64:
@@ -285,12 +279,6 @@ def _usual_utc_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return t, usual
 
 
-def _per_distinct(chunk, name: str, fn) -> np.ndarray:
-    """``fn`` (a function of a list of cell texts giving an array) on a column's distinct texts, per row."""
-    texts, inverse = chunk.distinct(name)
-    return np.asarray(fn(texts))[inverse] if texts else np.asarray(fn([]))[np.zeros(0, int)]
-
-
 def _weather(cell: str, slot: str, low: float, high: float) -> tuple[bool, float]:
     """A temperature or pressure cell as the column checks take it: whether plain and in range, and its value."""
     if cell == "":
@@ -318,7 +306,8 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
         return np.array([c if c in by_id else (site.id if (site := campaign.site_matching(c)) is not None else "")
                          for c in texts], dtype=object)
 
-    sites = _per_distinct(table, chosen["site"], site_ids)
+    texts, inverse = table.distinct(chosen["site"])
+    sites = site_ids(texts)[inverse]
     ok &= sites != ""
     t, usual = _usual_utc_bytes(columns["time_utc"])
     other = np.flatnonzero(ok & ~usual)
@@ -356,11 +345,15 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
             values = np.array([value for _, value in read], float)[inverse]
         weather[slot] = values
     blank = np.full(n, "", dtype=object)
-    observer = (_per_distinct(table, chosen["observer"], lambda texts: np.array(texts, dtype=object))
-                if chosen.get("observer") is not None else blank)
-    note = (_per_distinct(table, chosen["note"], lambda texts: np.array(texts, dtype=object))
-            if chosen.get("note") is not None else blank)
+    observer, note = (blank if chosen.get(slot) is None else _distinct_column(table, chosen[slot])
+                      for slot in ("observer", "note"))
     return _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note), ok
+
+
+def _distinct_column(table, name: str) -> np.ndarray:
+    """A text column of a byte chunk as an object array, one string object per distinct text."""
+    texts, inverse = table.distinct(name)
+    return np.array(texts, dtype=object)[inverse]
 
 
 def _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note) -> dict:
