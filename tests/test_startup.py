@@ -20,9 +20,15 @@ EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
 
 #: Libraries these commands never use: each costs a cold start tenths of a second.
 NOT_LOADED = ("pydantic", "scipy.stats", "matplotlib", "jinja2", "skyfield.iokit", "astropy")
+#: Modules the Sun's commands (plan, check, reduce of shadows) never use: the Moon's ephemeris module
+#: (firstrung.ephemeris imports each of its modules on first use of one of its names).
+NOT_LOADED_BY_SHADOWS = ("firstrung.ephemeris.moon",)
+#: numpy's masked arrays, which np.unique (without its options), np.median and np.quantile import:
+#: the plan and the check of shadows do without (the reduction's pairs of sites use np.quantile).
+MASKED = "numpy.ma"
 
 
-def _loaded_after(args: list[str]) -> set[str]:
+def _loaded_after(args: list[str], ok=("0", "None")) -> set[str]:
     """The modules a fresh interpreter holds after running ``firstrung args`` (output discarded)."""
     code = (
         "import contextlib, io, sys\n"
@@ -39,12 +45,12 @@ def _loaded_after(args: list[str]) -> set[str]:
                          env={"COLUMNS": "80", "PATH": "/usr/bin:/bin"})
     assert out.returncode == 0, out.stderr
     status, modules = out.stdout.strip().splitlines()[-2:]
-    assert status in ("0", "None"), status
+    assert status in ok, status
     return set(modules.split())
 
 
 def _unwanted(modules: set[str]) -> list[str]:
-    return sorted(m for m in modules if any(m == n or m.startswith(n + ".") for n in NOT_LOADED))
+    return sorted(m for m in modules if any(m == n or m.startswith(n + ".") for n in NOT_LOADED + NOT_LOADED_BY_SHADOWS))
 
 
 def test_plan_shadows_loads_no_library_it_does_not_use():
@@ -52,6 +58,7 @@ def test_plan_shadows_loads_no_library_it_does_not_use():
                              "--min-altitude", "15", "--top", "3", "--exclude", "2027-03-02"])
     assert "firstrung.methods.shadows.prediction" in modules  # the plan did run
     assert _unwanted(modules) == []
+    assert MASKED not in modules
     assert "firstrung.calendar_export" not in modules  # the calendar's module only with --ics
 
 
@@ -59,6 +66,35 @@ def test_reduce_shadows_loads_no_library_it_does_not_use():
     modules = _loaded_after(["reduce", "shadows", str(EXAMPLE)])
     assert "firstrung.methods.shadows.reduction" in modules
     assert _unwanted(modules) == []
+
+
+def test_check_of_shadows_loads_no_library_it_does_not_use(tmp_path):
+    """The example campaign with its shadow log alone (its other logs need the Moon's modules)."""
+    text = EXAMPLE.read_text(encoding="utf-8")
+    logs = text.index("[logs]")
+    end = text.find("\n[", logs + 1)
+    shadows_only = text[:logs] + '[logs]\nshadows = ["' + (EXAMPLE.parent / "logs" / "shadows.csv").as_posix() + '"]\n'
+    campaign = tmp_path / "campaign.toml"
+    campaign.write_text(shadows_only + (text[end:] if end >= 0 else ""), encoding="utf-8")
+    modules = _loaded_after(["check", str(campaign)], ok=("0", "1"))  # 1: rows flagged
+    assert "firstrung.methods.shadows.check" in modules
+    assert _unwanted(modules) == []
+    assert MASKED not in modules
+
+
+def test_the_ephemeris_package_gives_every_name_it_lists():
+    """firstrung.ephemeris imports its modules on first use: every listed name and module is there."""
+    import importlib
+
+    from firstrung import ephemeris
+
+    for name in ephemeris.__all__:
+        assert getattr(ephemeris, name) is getattr(importlib.import_module(
+            f"firstrung.ephemeris.{ephemeris._WHERE[name]}"), name)
+    assert set(ephemeris.__all__) == set(ephemeris._WHERE)
+    assert ephemeris.sun.solar_transit is ephemeris.solar_transit
+    with pytest.raises(AttributeError):
+        ephemeris.no_such_name  # noqa: B018 - the attribute's absence is what is tested
 
 
 # --- the command line's values, converted as typer's own converter does ---------------------------

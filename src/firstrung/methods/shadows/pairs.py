@@ -20,6 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.methods.shadows.network_model import MIN_NORTH_SOUTH_KM
+from firstrung.numbers import median as plain_median
 
 #: Days with at most this many sites list every pair of them.
 ALL_PAIRS_MAX_SITES = 200
@@ -168,6 +169,6 @@ def partners_of(pairs: NetworkPairs) -> dict:
     ends = np.cumsum(np.bincount(good_site, minlength=n_sites))
     for k in present.tolist():  # one pass over sites, each its own block of the radii
         start = ends[k - 1] if k else 0
-        median = float(np.median(grouped[start:ends[k]])) if ends[k] > start else None
+        median = plain_median(grouped[start:ends[k]]) if ends[k] > start else None
         out[str(pairs.site_names[k])] = (int(count[k]), median)
     return out

@@ -333,7 +333,9 @@ def _combine_sites(prep: _Prepared, fit: SeriesFit, scale: np.ndarray):
 
 def reading_by_source(prep: _Prepared, gain, reading) -> dict:
     """Each form's share of the series' reading error (empty when every reading is a plain length)."""
-    codes = np.unique(prep.reading_source)
+    # the codes present, in order: np.unique's result without its import of numpy.ma (a command's start)
+    source = np.sort(prep.reading_source)
+    codes = source[np.concatenate(([True], source[1:] != source[:-1]))] if source.size else source
     if codes.tolist() == [0]:
         return {}
     n_groups = len(prep.group_site)
