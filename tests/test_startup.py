@@ -24,7 +24,7 @@ NOT_LOADED = ("pydantic", "scipy.stats", "matplotlib", "jinja2", "skyfield.iokit
 #: (firstrung.ephemeris imports each of its modules on first use of one of its names).
 NOT_LOADED_BY_SHADOWS = ("firstrung.ephemeris.moon",)
 #: numpy's masked arrays, which np.unique (without its options), np.median and np.quantile import:
-#: the plan and the check of shadows do without (the reduction's pairs of sites use np.quantile).
+#: the Sun's commands do without them (firstrung.numbers' median and quantiles, numpy's numbers).
 MASKED = "numpy.ma"
 
 
@@ -65,7 +65,9 @@ def test_plan_shadows_loads_no_library_it_does_not_use():
 def test_reduce_shadows_loads_no_library_it_does_not_use():
     modules = _loaded_after(["reduce", "shadows", str(EXAMPLE)])
     assert "firstrung.methods.shadows.reduction" in modules
+    assert "firstrung.methods.shadows.pairs" in modules  # the pairs' summary ran
     assert _unwanted(modules) == []
+    assert MASKED not in modules
 
 
 def test_check_of_shadows_loads_no_library_it_does_not_use(tmp_path):

@@ -21,6 +21,7 @@ import numpy as np
 
 from firstrung.methods.shadows.network_model import MIN_NORTH_SOUTH_KM
 from firstrung.numbers import median as plain_median
+from firstrung.numbers import quantiles
 
 #: Days with at most this many sites list every pair of them.
 ALL_PAIRS_MAX_SITES = 200
@@ -147,7 +148,7 @@ def pairs_summary(pairs: NetworkPairs) -> dict:
     good = pairs.radius_km[~pairs.flagged & np.isfinite(pairs.radius_km)]
     if good.size == 0:
         return {"count": 0, "median_km": None, "low_km": None, "high_km": None}
-    low, mid, high = np.quantile(good, [0.158655, 0.5, 0.841345])
+    low, mid, high = quantiles(good, [0.158655, 0.5, 0.841345])
     return {"count": int(good.size), "median_km": float(mid), "low_km": float(low), "high_km": float(high)}
 
 
