@@ -99,6 +99,32 @@ def test_the_ephemeris_package_gives_every_name_it_lists():
         ephemeris.no_such_name  # noqa: B018 - the attribute's absence is what is tested
 
 
+def test_importing_firstrung_compiles_no_regular_expression():
+    """Every module's patterns are compiled at their first use (firstrung.patterns), not at import."""
+    code = (
+        "import importlib, pkgutil, re, sys\n"
+        "import firstrung\n"
+        "found = []\n"
+        "compile_ = re._compile\n"
+        "def counted(pattern, flags):\n"
+        "    caller = sys._getframe(1)\n"
+        "    while caller is not None and caller.f_globals.get('__name__', '').split('.')[0] == 're':\n"
+        "        caller = caller.f_back\n"
+        "    if caller is not None and caller.f_globals.get('__name__', '').startswith('firstrung'):\n"
+        "        found.append(caller.f_globals['__name__'])\n"
+        "    return compile_(pattern, flags)\n"
+        "re._compile = counted\n"
+        "for m in pkgutil.walk_packages(firstrung.__path__, 'firstrung.'):\n"
+        "    importlib.import_module(m.name)\n"
+        "print(len(sys.modules), sorted(set(found)))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr[-2000:]
+    count, found = out.stdout.strip().split(" ", 1)
+    assert int(count) > 300  # every module was imported
+    assert found == "[]"
+
+
 # --- the command line's values, converted as typer's own converter does ---------------------------
 
 

@@ -15,10 +15,11 @@ whatever a name holds, with or without Python's ``-O``.
 from __future__ import annotations
 
 import datetime as dt
-import re
 from dataclasses import dataclass
 
 import numpy as np
+
+from firstrung.patterns import CONTROL_CHARACTERS, pattern
 
 
 @dataclass(frozen=True)
@@ -34,10 +35,8 @@ class CalendarEvent:
     geo: tuple[float, float] | None = None  # latitude, longitude [deg]
 
 
-#: Control characters (C0 but tab and line feed, DEL, C1) and the Unicode line and paragraph separators.
-_CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029]")
 #: A physical content line of RFC 5545: a property name then ';' or ':', or a folded continuation.
-_CONTENT_LINE = re.compile(r"(?:[A-Za-z0-9-]+[;:]| )[^\x00-\x08\x0a-\x1f\x7f]*")
+_CONTENT_LINE = pattern(r"(?:[A-Za-z0-9-]+[;:]| )[^\x00-\x08\x0a-\x1f\x7f]*")
 
 
 def calendar_text(value: str, *, one_line: bool = False) -> str:
@@ -49,7 +48,7 @@ def calendar_text(value: str, *, one_line: bool = False) -> str:
     'Line 1 INJECTED:1'
     """
     text = str(value).replace("\r\n", "\n").replace("\r", "\n")
-    text = _CONTROL.sub("", text.replace("\t", " "))
+    text = CONTROL_CHARACTERS().sub("", text.replace("\t", " "))
     if one_line:
         text = " ".join(text.split("\n"))
     return text
@@ -69,7 +68,7 @@ def checked_ical(calendar) -> bytes:
     if lines and lines[-1] == "":
         lines.pop()
     for number, line in enumerate(lines, start=1):
-        if not _CONTENT_LINE.fullmatch(line):
+        if not _CONTENT_LINE().fullmatch(line):
             raise RuntimeError(f"calendar line {number} is not an RFC 5545 content line: {line[:40]!r}")
     return data
 

@@ -30,7 +30,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 import os
-import re
 import tomllib
 from pathlib import Path
 
@@ -53,6 +52,7 @@ from firstrung.campaign_model import (
 )
 from firstrung.constants import WGS84_SEMI_MAJOR_AXIS_M
 from firstrung.errors import InputError
+from firstrung.patterns import pattern
 from firstrung.times import check_zone
 from firstrung.toml_plain import loads as plain_toml
 
@@ -121,7 +121,7 @@ _SHOWN_DIGITS = 20
 #: Python refuses to convert integers with more digits than this (sys.get_int_max_str_digits).
 _MAX_DIGITS = 4300
 
-_TOML_POSITION_RE = re.compile(
+_TOML_POSITION_RE = pattern(
     r"^(?P<message>.*?)\s*\(at line (?P<line>\d+), column (?P<column>\d+)\)$"
 )
 
@@ -274,7 +274,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, all
 def _syntax_error(error: tomllib.TOMLDecodeError, label: str) -> InputError:
     """An InputError ``file:line:column: TOML syntax error: ...`` from tomllib's error."""
     message = str(error)
-    match = _TOML_POSITION_RE.match(message)
+    match = _TOML_POSITION_RE().match(message)
     if match is None:
         return InputError(f"TOML syntax error: {message}", file=label)
     return InputError(
@@ -391,7 +391,7 @@ class _Reader:
         if "id" not in table:
             raise self.error(f"{prefix}.id", "missing; expected a short site id such as 'ridge'")
         site_id = table["id"]
-        if not isinstance(site_id, str) or not SITE_ID_PATTERN.match(site_id):
+        if not isinstance(site_id, str) or not SITE_ID_PATTERN().match(site_id):
             raise self.error(
                 f"{prefix}.id",
                 f"expected a site id of letters, digits, '-' and '_', got {_show(site_id)}",

@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import functools
-import re
 from dataclasses import dataclass, field
 from pathlib import Path
 from zoneinfo import ZoneInfo
 
 from firstrung.errors import InputError
+from firstrung.patterns import pattern
 from firstrung.times import check_zone
 
 #: Reading error of the gnomon's height when the campaign does not give one [m].
@@ -30,7 +30,7 @@ LOG_KINDS = ("shadows", "eclipse", "phases", "transits", "astrometry", "light_cu
 
 
 #: Site ids: letters, digits, ``-`` and ``_``.
-SITE_ID_PATTERN = re.compile(r"^[A-Za-z0-9_-]+$")
+SITE_ID_PATTERN = pattern(r"^[A-Za-z0-9_-]+$")
 
 
 @dataclass(frozen=True)

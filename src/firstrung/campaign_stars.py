@@ -45,7 +45,7 @@ def _star(reader, value: object, prefix: str) -> Star:
     table = reader.table(value, prefix, "[[star]]")
     reader.check_keys(table, prefix, _STAR_KEYS)
     star_id = table.get("id")
-    if not isinstance(star_id, str) or not SITE_ID_PATTERN.match(star_id):
+    if not isinstance(star_id, str) or not SITE_ID_PATTERN().match(star_id):
         shown = "missing" if star_id is None else f"got {star_id!r}"
         raise reader.error(f"{prefix}.id", f"expected a star id of letters, digits, '-' and '_' such as 'dcep', {shown}")
     name = reader.text(table, prefix, "name", "the star's name as text")

@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
 from firstrung.errors import RowProblem
+from firstrung.patterns import pattern
 from firstrung.text_files import (
     _printable,
 )
@@ -34,22 +34,22 @@ class Slot:
     def shown(self) -> str:
         return "|".join(self.names)
 
-_NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+_NUMBER_RE = pattern(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 
 
 #: A number with a decimal comma (``103,8``, ``-0,5``, ``,25``, ``1,5e3``).
-_DECIMAL_COMMA_RE = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
+_DECIMAL_COMMA_RE = pattern(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
 
 
 #: A number that a decimal-comma locale writes with ``.`` between groups of thousands.
-_GROUPED_POINT_RE = re.compile(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
+_GROUPED_POINT_RE = pattern(r"^[+-]?\d{1,3}(?:\.\d{3})+$")
 
 
 #: Two cells that a decimal comma may have split (``103`` and ``8``).
-_INTEGER_RE = re.compile(r"^[+-]?\d+$")
+_INTEGER_RE = pattern(r"^[+-]?\d+$")
 
 
-_DIGITS_RE = re.compile(r"^\d+$")
+_DIGITS_RE = pattern(r"^\d+$")
 
 
 #: Column names listed at most in a message about a header.
@@ -73,7 +73,7 @@ def _surplus_message(cells: Sequence[str], expected: int, delimiter: str) -> str
     if delimiter == ",":
         for left, right in zip(cells, cells[1:], strict=False):
             left, right = left.strip(), right.strip()
-            if _INTEGER_RE.match(left) and _DIGITS_RE.match(right):
+            if _INTEGER_RE().match(left) and _DIGITS_RE().match(right):
                 return (
                     f"{message} (is '{left},{right}' a number with a decimal comma? In a "
                     f"','-separated file write {left}.{right}, or save the file with ';' separators)"
@@ -129,7 +129,7 @@ def got(cell: str) -> str:
 
 def _number(cell: str) -> float | None:
     """A plain decimal number (decimal point, optional exponent), else ``None``."""
-    if not _NUMBER_RE.match(cell):
+    if not _NUMBER_RE().match(cell):
         return None
     value = float(cell)
     return value if math.isfinite(value) else None

@@ -86,17 +86,17 @@ class Table:
                     "a comma in a number in a ','-separated file: write it with a decimal "
                     "point and no thousands separator"
                 )
-            if not _DECIMAL_COMMA_RE.match(cell):
+            if not _DECIMAL_COMMA_RE().match(cell):
                 return None, None
             cell = cell.replace(",", ".")
-        elif self.decimal_comma and _GROUPED_POINT_RE.match(cell):
+        elif self.decimal_comma and _GROUPED_POINT_RE().match(cell):
             digits = cell.replace(".", "")
             return None, (
                 f"ambiguous in a file with decimal commas: {cell.lstrip('+')} or "
                 f"{int(digits)}? write {cell.replace('.', ',')} or {digits}"
             )
         value = _number(cell)
-        if value is None and _NUMBER_RE.match(cell):
+        if value is None and _NUMBER_RE().match(cell):
             return None, "too large to be a measurement"
         return value, None
 
@@ -234,7 +234,7 @@ def column_chunks(table: Table, text: str, slots: Sequence[Slot], known: set[str
         chunk = _chunk(table, first[1:], 1, header, known, kept_raw)
         numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
         chunk.decimal_comma = table.decimal_comma = any(
-            _DECIMAL_COMMA_RE.match(value)
+            _DECIMAL_COMMA_RE().match(value)
             for column in numeric
             if column is not None
             for value in chunk.columns.get(column, ())

@@ -11,11 +11,12 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
-import re
 from dataclasses import dataclass, field
 from zoneinfo import ZoneInfo
 
 import numpy as np
+
+from firstrung.patterns import pattern
 
 #: Flag codes: the design's contract codes first, then firstrung's own.
 CODES = (
@@ -74,7 +75,7 @@ class SummaryRow:
     warnings: int
 
 
-_UNKNOWN_SITE_RE = re.compile(r"unknown site '([^']*)'")
+_UNKNOWN_SITE_RE = pattern(r"unknown site '([^']*)'")
 
 
 def problem_flags(problems, site_of=None, observer_of=None) -> list[Flag]:
@@ -95,7 +96,7 @@ def problem_flags(problems, site_of=None, observer_of=None) -> list[Flag]:
     for p in problems:
         key = (p.file, p.row)
         site = site_of.get(key) or None
-        match = _UNKNOWN_SITE_RE.search(p.message)
+        match = _UNKNOWN_SITE_RE().search(p.message)
         if p.row is None:
             code, fix = "unreadable-file", "fix the file as the message says and send it again"
         elif p.column == "site":

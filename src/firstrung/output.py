@@ -20,6 +20,7 @@ from collections.abc import Iterable
 from pathlib import Path
 
 from firstrung.errors import InputError
+from firstrung.patterns import pattern
 
 __all__ = ["campaign_inputs", "make_folder", "refuse_overwriting_inputs", "refuse_replacing_others", "write_atomic"]
 
@@ -163,7 +164,7 @@ def refuse_replacing_others(files, ours, what: str) -> None:
 
 #: First characters that make a spreadsheet read a cell as a formula (or hide one after them).
 _FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r", "\n")
-_PLAIN_NUMBER = None
+_PLAIN_NUMBER = pattern(r"[+-]?(\d+[.,]?\d*|[.,]\d+)([eE][+-]?\d+)?")
 
 
 def spreadsheet_safe(cell: str) -> str:
@@ -176,14 +177,9 @@ def spreadsheet_safe(cell: str) -> str:
     >>> print(spreadsheet_safe('=HYPERLINK("http://x")'), spreadsheet_safe("-2.5"), spreadsheet_safe("Kepler"))
     '=HYPERLINK("http://x") -2.5 Kepler
     """
-    global _PLAIN_NUMBER
     if not cell.startswith(_FORMULA_STARTS):
         return cell
-    if _PLAIN_NUMBER is None:
-        import re
-
-        _PLAIN_NUMBER = re.compile(r"[+-]?(\d+[.,]?\d*|[.,]\d+)([eE][+-]?\d+)?")
-    if _PLAIN_NUMBER.fullmatch(cell):
+    if _PLAIN_NUMBER().fullmatch(cell):
         return cell
     return "'" + cell
 

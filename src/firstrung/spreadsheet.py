@@ -13,6 +13,7 @@ import re
 import numpy as np
 
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
+from firstrung.patterns import pattern
 from firstrung.times import TimeFormatError, in_ephemeris_span, quoted
 
 __all__ = [
@@ -20,13 +21,13 @@ __all__ = [
 ]
 
 #: A unit in parentheses or brackets at the end of a header cell: ``Shadow (cm)``.
-_BRACKETED_RE = re.compile(r"\s*[\(\[]\s*([^\)\]]*?)\s*[\)\]]\s*$")
+_BRACKETED_RE = pattern(r"\s*[\(\[]\s*([^\)\]]*?)\s*[\)\]]\s*$")
 #: Units as typed in a header and the name they stand for in a column name.
 _UNIT_WORDS = {"°": "deg", "degrees": "deg", "degree": "deg", "metres": "m", "meters": "m"}
 
-_ISO_DATE_RE = re.compile(r"^(\d{4})-(\d{1,2})-(\d{1,2})$")
-_NUMERIC_DATE_RE = re.compile(r"^(\d{1,2})([./-])(\d{1,2})\2(\d{4})$")
-_TIME_OF_DAY_RE = re.compile(
+_ISO_DATE_RE = pattern(r"^(\d{4})-(\d{1,2})-(\d{1,2})$")
+_NUMERIC_DATE_RE = pattern(r"^(\d{1,2})([./-])(\d{1,2})\2(\d{4})$")
+_TIME_OF_DAY_RE = pattern(
     r"^(?P<hour>\d{1,2}):(?P<minute>\d{2})(?::(?P<second>\d{2})(?:[.,](?P<fraction>\d{1,6}))?)?"
     r"\s*(?P<half>[AaPp]\.?\s*[Mm]\.?)?\s*(?P<zone>Z|\+00:?00)?$"
 )
@@ -43,7 +44,7 @@ def header_name(cell: str) -> str:
     'time_utc'
     """
     name = cell.replace("\ufeff", "").strip().lower()
-    match = _BRACKETED_RE.search(name)
+    match = _BRACKETED_RE().search(name)
     if match is not None and match.group(1):
         unit = _UNIT_WORDS.get(match.group(1), match.group(1))
         name = f"{name[: match.start()].strip()}_{unit}"
@@ -62,11 +63,11 @@ def iso_date(text: str, order: str = "iso") -> str:
     ('2027-09-22', '2027-04-03', '2027-09-22')
     """
     text = text.strip()
-    match = _ISO_DATE_RE.match(text)
+    match = _ISO_DATE_RE().match(text)
     if match is not None:
         year, month, day = (int(part) for part in match.groups())
     else:
-        match = _NUMERIC_DATE_RE.match(text)
+        match = _NUMERIC_DATE_RE().match(text)
         if match is None:
             raise TimeFormatError(f"expected a date such as 2027-09-22, got {quoted(text)}")
         first, second, year = int(match.group(1)), int(match.group(3)), int(match.group(4))
@@ -97,7 +98,7 @@ def iso_time_of_day(text: str) -> str:
     >>> iso_time_of_day("13:14"), iso_time_of_day("1:14:10 PM"), iso_time_of_day("12:05 am")
     ('13:14:00', '13:14:10', '00:05:00')
     """
-    match = _TIME_OF_DAY_RE.match(text.strip())
+    match = _TIME_OF_DAY_RE().match(text.strip())
     if match is None:
         raise TimeFormatError(
             f"expected a time of day such as 13:14, 13:14:10 or 1:14 PM (the date is in the "

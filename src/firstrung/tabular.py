@@ -251,7 +251,7 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
     elif table.delimiter != ",":
         numeric = [table.chosen.get(slot.names[0]) for slot in slots if slot.numeric]
         table.decimal_comma = any(
-            _DECIMAL_COMMA_RE.match(values.get(column, ""))
+            _DECIMAL_COMMA_RE().match(values.get(column, ""))
             for _, values in table.rows
             for column in numeric
             if column is not None

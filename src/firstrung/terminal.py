@@ -16,13 +16,14 @@ the two on many tables.
 from __future__ import annotations
 
 import copy
-import re
 
 from rich.cells import cell_len
 from rich.console import Console
 from rich.measure import Measurement
 from rich.table import Table
 from rich.text import Text
+
+from firstrung.patterns import pattern
 
 #: Below this width a table is not split further: a column then folds its longest piece.
 NARROWEST = 20
@@ -182,9 +183,9 @@ class FittingConsole(Console):
 
 #: rich's own patterns: a word with the spaces around it (its line breaking), an emoji code it
 #: would replace in a string, the spaces at the end of a line.
-_WORD = re.compile(r"\s*\S+\s*")
-_EMOJI_CODE = re.compile(r":\S*?:")
-_TRAILING = re.compile(r"\s+$")
+_WORD = pattern(r"\s*\S+\s*")
+_EMOJI_CODE = pattern(r":\S*?:")
+_TRAILING = pattern(r"\s+$")
 
 
 def _no_styles(console: Console) -> bool:
@@ -197,7 +198,7 @@ def _plain_text(text) -> bool:
     line or several, each character one column wide and printable."""
     if type(text) is not str or "[" in text or "\t" in text or text.startswith("\n") or text.endswith("\n"):
         return False
-    if ":" in text and _EMOJI_CODE.search(text):
+    if ":" in text and _EMOJI_CODE().search(text):
         return False
     return all(line.isprintable() and cell_len(line) == len(line) for line in text.split("\n"))
 
@@ -220,7 +221,7 @@ def _cell_lines(text: str, width: int, justify: str) -> list[str] | None:
     out = []
     for line in text.split("\n"):
         breaks, used = [], 0
-        for match in _WORD.finditer(line):
+        for match in _WORD().finditer(line):
             start, word = match.start(), match.group()
             length = len(word.rstrip())
             if width - used >= length:
@@ -233,7 +234,7 @@ def _cell_lines(text: str, width: int, justify: str) -> list[str] | None:
         for a, b in zip([0, *breaks], [*breaks, len(line)], strict=True):
             piece = line[a:b]
             if len(piece) > width:  # rich drops the spaces beyond the width
-                trailing = _TRAILING.search(piece)
+                trailing = _TRAILING().search(piece)
                 if trailing is not None:
                     piece = piece[:len(piece) - min(len(trailing.group()), len(piece) - width)]
             if len(piece) > width:

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import csv
 import itertools
-import re
 from collections.abc import Sequence
 
 from firstrung.errors import RowProblem
+from firstrung.patterns import pattern
 from firstrung.spreadsheet import header_name
 from firstrung.times import (
     QUOTED_LIMIT,
@@ -140,13 +140,13 @@ def normal_name(cell: str) -> str:
 
 
 #: A line as ``io.StringIO(text, newline="")`` gives it: up to and with ``\r\n``, ``\r`` or ``\n``.
-_LINE_RE = re.compile(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+$")
+_LINE_RE = pattern(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+$")
 
 
 def _text_lines(text: str):
     """The lines of ``text`` one at a time, as a text stream without newline translation gives them
     (without copying the whole text, as a stream over it would)."""
-    return (match.group() for match in _LINE_RE.finditer(text))
+    return (match.group() for match in _LINE_RE().finditer(text))
 
 
 def sniff_delimiter(text: str, known: set[str]) -> str:

@@ -18,6 +18,7 @@ import numpy as np
 
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
 from firstrung.errors import InputError
+from firstrung.patterns import pattern
 
 __all__ = [
     "TimeFormatError",
@@ -34,7 +35,7 @@ _UTC_EXAMPLE = "2027-03-20T11:38:00Z"
 #: Example shown in messages about local times.
 _LOCAL_EXAMPLE = "2027-03-20T12:38:00"
 
-_ISO_RE = re.compile(
+_ISO_RE = pattern(
     r"""
     ^\s*
     (?P<year>\d{4})-(?P<month>\d{2})-(?P<day>\d{2})
@@ -97,7 +98,7 @@ def _split_iso(text: str, expected: str) -> tuple[dt.datetime, str | None]:
     """
     if not isinstance(text, str):
         raise TimeFormatError(f"{expected}, got {quoted(text)}")
-    match = _ISO_RE.match(text)
+    match = _ISO_RE().match(text)
     if match is None:
         raise TimeFormatError(f"{expected}, got {quoted(text)}")
     fraction = match["fraction"] or ""

@@ -14,6 +14,8 @@ from __future__ import annotations
 
 import re
 
+from firstrung.patterns import pattern
+
 _KEY = r"[A-Za-z0-9_-]+"
 #: One value: a string without escapes or control characters, a decimal float, a decimal integer
 #: (at most 18 digits), a boolean (groups: basic, literal, float, int, bool).
@@ -25,8 +27,8 @@ _SCALAR = (
     r"|(?P<bool>true|false)"
 )
 _COMMENT = r"(?: *#[^\x00-\x08\x0a-\x1f\x7f]*| *)"
-_SCALAR_RE = re.compile(_SCALAR)
-_LINE = re.compile(
+_SCALAR_RE = pattern(_SCALAR)
+_LINE = pattern(
     rf" *(?:(?P<aot>\[\[{_KEY}(?:\.{_KEY})*\]\])|(?P<table>\[{_KEY}(?:\.{_KEY})*\])"
     rf"|(?P<key>{_KEY}) *= *(?P<value>(?:{_SCALAR})|\[[^\]\n]*\]))?{_COMMENT}"
 )
@@ -53,7 +55,7 @@ def _array(text: str):
             pos += 1
         if pos == end:  # empty, or after a trailing comma
             return items
-        match = _SCALAR_RE.match(inner, pos)
+        match = _SCALAR_RE().match(inner, pos)
         if match is None:
             return None
         items.append(_scalar(match))
@@ -75,7 +77,7 @@ def loads(text: str) -> dict | None:
     arrays: set[int] = set()  # the lists made by [[...]] headers (others may not be appended to)
     current = root
     for line in text.split("\n"):
-        match = _LINE.fullmatch(line)
+        match = _LINE().fullmatch(line)
         if match is None:
             return None
         header = match.group("aot") or match.group("table")
@@ -116,7 +118,7 @@ def loads(text: str) -> dict | None:
                 return None
             current[key] = items
         else:
-            current[key] = _scalar(_SCALAR_RE.fullmatch(value))
+            current[key] = _scalar(_SCALAR_RE().fullmatch(value))
     return root
 
 

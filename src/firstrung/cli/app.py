@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import importlib
-import re
 from pathlib import Path
 from typing import Annotated
 
 import typer
 
 from firstrung import __version__
+from firstrung.patterns import pattern
 
 #: The groups whose sub-commands come from the methods' registry (firstrung.methods.REGISTRY):
 #: group -> (its help, the registry entry's attribute naming the sub-command, and its help,
@@ -127,8 +127,8 @@ def build(args=None) -> typer.Typer:
 
 #: Command-line numbers converted here, without typer's general converter: plain decimals only
 #: (anything else, and every value out of its range, goes to typer's own converter and its messages).
-_PLAIN_INT = re.compile(r"-?(0|[1-9][0-9]{0,14})")
-_PLAIN_FLOAT = re.compile(r"-?(0|[1-9][0-9]{0,14})(\.[0-9]{1,17})?")
+_PLAIN_INT = pattern(r"-?(0|[1-9][0-9]{0,14})")
+_PLAIN_FLOAT = pattern(r"-?(0|[1-9][0-9]{0,14})(\.[0-9]{1,17})?")
 _UNSURE = object()
 
 
@@ -140,7 +140,7 @@ def _plain(annotation, info, value):
     if annotation is bool:
         return value if isinstance(value, bool) else _UNSURE
     if annotation is int or annotation is float:
-        if isinstance(value, str) and (_PLAIN_INT if annotation is int else _PLAIN_FLOAT).fullmatch(value):
+        if isinstance(value, str) and (_PLAIN_INT if annotation is int else _PLAIN_FLOAT)().fullmatch(value):
             number = annotation(value)
         elif type(value) is annotation or (annotation is float and type(value) is int):
             number = annotation(value)

@@ -10,6 +10,8 @@ from typing import Annotated
 
 import typer
 
+from firstrung.patterns import CONTROL_CHARACTERS, pattern
+
 CampaignArgument = Annotated[
     Path, typer.Argument(help="The campaign file (TOML) that lists the sites, instruments and logs.", show_default=False, metavar="CAMPAIGN")
 ]
@@ -17,8 +19,9 @@ JsonOption = Annotated[bool, typer.Option("--json", help="Print one JSON object 
 VerboseOption = Annotated[bool, typer.Option("--verbose", "-v", help="Show every step: per-day fits and assumptions.")]
 
 
-#: Control characters a terminal would act on (C0 but tab and line feed, DEL, C1, line separators).
-_CONTROL = None
+#: Control characters a terminal would act on, line feeds included (``one_line``); without them,
+#: :data:`firstrung.patterns.CONTROL_CHARACTERS`.
+_CONTROL_OR_LINE_FEED = pattern("[\x00-\x08\x0a-\x1f\x7f-\x9f\u2028\u2029]")
 
 
 def terminal_text(text: str, *, one_line: bool = False) -> str:
@@ -31,14 +34,8 @@ def terminal_text(text: str, *, one_line: bool = False) -> str:
     >>> print(terminal_text("site \x1b[2J\x07 ok"))
     site \x1b[2J\x07 ok
     """
-    global _CONTROL
-    if _CONTROL is None:
-        import re
-
-        _CONTROL = (re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029]"),
-                    re.compile("[\x00-\x08\x0a-\x1f\x7f-\x9f\u2028\u2029]"))
-    pattern = _CONTROL[1 if one_line else 0]
-    return pattern.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
+    control = (_CONTROL_OR_LINE_FEED if one_line else CONTROL_CHARACTERS)()
+    return control.sub(lambda m: m.group().encode("unicode_escape").decode("ascii"), text)
 
 
 CalendarSiteOption = Annotated[

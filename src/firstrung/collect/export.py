@@ -17,17 +17,17 @@ from __future__ import annotations
 
 import csv
 import io
-import re
 from collections.abc import Iterable, Sequence
 from decimal import Decimal, InvalidOperation
 
 import numpy as np
 
+from firstrung.patterns import pattern
 from firstrung.tabular import TIME_COLUMNS, Slot
 
 #: Characters that make a spreadsheet read a cell as a formula.
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
-_PLAIN_NUMBER_RE = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+_PLAIN_NUMBER_RE = pattern(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
 #: Length units of a column family and their size in metres (finest last).
 _UNITS = {"m": Decimal(1), "cm": Decimal("0.01"), "mm": Decimal("0.001")}
 
@@ -38,7 +38,7 @@ def formula_safe(cell: str) -> str:
     >>> formula_safe("=HYPERLINK(\\"x\\")"), formula_safe("-3.5"), formula_safe("T. Okafor")
     ('\\'=HYPERLINK("x")', '-3.5', 'T. Okafor')
     """
-    if cell.startswith(FORMULA_STARTS) and not _PLAIN_NUMBER_RE.match(cell):
+    if cell.startswith(FORMULA_STARTS) and not _PLAIN_NUMBER_RE().match(cell):
         return "'" + cell
     return cell
 

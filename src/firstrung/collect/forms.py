@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import datetime as dt
 import functools
-import re
 from dataclasses import dataclass
 from zoneinfo import ZoneInfo
 
@@ -20,6 +19,7 @@ import numpy as np
 
 from firstrung.bounded import Bounded
 from firstrung.collect.kinds import LogKind
+from firstrung.patterns import pattern
 from firstrung.tabular import TIME_COLUMNS
 
 #: Choices of columns whose cells are a word from a list (the readers' own lists, common to the methods).
@@ -31,7 +31,7 @@ CHOICES = {
 }
 _UNIT_WORDS = {"m": "m", "cm": "cm", "mm": "mm", "deg": "degrees", "s": "s", "c": "deg C", "hpa": "hPa",
                "arcmin": "arcmin"}
-_CONTROL_RE = re.compile(r"[\x00-\x1f\x7f]+")
+_CONTROL_RE = pattern(r"[\x00-\x1f\x7f]+")
 #: Columns a log row may carry its own site with (open networks): not asked on a known site's page.
 _SITE_POSITION = ("latitude_deg", "longitude_deg", "elevation_m", "timezone")
 
@@ -109,7 +109,7 @@ def forms(kind: LogKind, zone: str | None) -> list[tuple[object | None, list[Fie
 
 def clean(text: str) -> str:
     """A form's cell: control characters (line ends, tabs) as spaces, no surrounding spaces."""
-    return _CONTROL_RE.sub(" ", text).strip()
+    return _CONTROL_RE().sub(" ", text).strip()
 
 
 def cells_from_form(kind: LogKind, form: list[tuple[str, str]]) -> tuple[dict[str, str], tuple[str, str] | None]:

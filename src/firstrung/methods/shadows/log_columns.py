@@ -10,8 +10,6 @@ their bytes, and every other column through its distinct texts, each checked onc
 
 from __future__ import annotations
 
-import re
-
 import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
@@ -24,6 +22,7 @@ from firstrung.methods.shadows.log_forms import (
     mean_noons_utc,
     uses_forms,
 )
+from firstrung.patterns import pattern
 from firstrung.tabular import Table
 
 #: Largest accepted shadow length [m]; longer readings are typing errors.
@@ -49,10 +48,10 @@ def _unit_of(column: str) -> str:
     return column.rsplit("_", 1)[1]
 
 
-_PLAIN_UTC_RE = re.compile(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")
+_PLAIN_UTC_RE = pattern(r"^(\d{4}-\d{2}-\d{2})[T ](\d{2}:\d{2}(?::\d{2}(?:\.\d{1,3})?)?)(?:Z|\+00:00)?$")
 
 
-_PLAIN_NUMBER_RE = re.compile(r"^\d+(?:\.\d+)?$")
+_PLAIN_NUMBER_RE = pattern(r"^\d+(?:\.\d+)?$")
 
 
 _SPAN_MS = (np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LAST_UTC, "ms"))
@@ -60,7 +59,7 @@ _SPAN_MS = (np.datetime64(EPHEMERIS_FIRST_UTC, "ms"), np.datetime64(EPHEMERIS_LA
 
 def _plain(cell: str, low: float, high: float, factor: float = 1.0) -> float | None:
     """A plain positive decimal within [low, high] after ``factor``, else None (the slow path decides)."""
-    if not _PLAIN_NUMBER_RE.match(cell):
+    if not _PLAIN_NUMBER_RE().match(cell):
         return None
     value = float(cell) * factor
     return value if low <= value <= high else None
@@ -123,8 +122,9 @@ def _utc_times(cells: list[str]) -> np.ndarray:
         done = np.zeros(0, np.int64)
     rest = np.ones(n, bool)
     rest[done] = False
+    plain_utc = _PLAIN_UTC_RE().match
     for k in np.flatnonzero(rest).tolist():
-        m = _PLAIN_UTC_RE.match(cells[k])
+        m = plain_utc(cells[k])
         if m is not None:
             t[k] = _datetime_or_nat(f"{m.group(1)}T{m.group(2)}")
     return t

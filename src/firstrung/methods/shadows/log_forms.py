@@ -11,13 +11,13 @@ a ``date`` column; such a trace needs :data:`MIN_TRACE_POINTS` points a day.
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass
 
 import numpy as np
 
 from firstrung.campaign_model import LIMBS
 from firstrung.errors import RowProblem, row_ranges
+from firstrung.patterns import pattern
 from firstrung.tabular import Row, Slot
 
 #: Fewest points of a trace without times: a conic through the tip's path needs five.
@@ -109,7 +109,7 @@ def row_form(row: Row) -> str | None:
     return None
 
 
-_PLAIN_SIGNED_RE = re.compile(r"^-?\d+(?:\.\d+)?$")
+_PLAIN_SIGNED_RE = pattern(r"^-?\d+(?:\.\d+)?$")
 
 
 def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) -> dict | None:
@@ -127,7 +127,7 @@ def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) ->
     angle = cells.get(angle_column, "") if angle_column else ""
     x, y = (cells.get(c, "") if c else "" for c in (x_column, y_column))
     if angle and not x and not y:
-        if not _PLAIN_SIGNED_RE.match(angle) or (chosen.get("angle_sigma_deg") and cells.get(chosen["angle_sigma_deg"])):
+        if not _PLAIN_SIGNED_RE().match(angle) or (chosen.get("angle_sigma_deg") and cells.get(chosen["angle_sigma_deg"])):
             return None
         value = float(angle)
         limb = cells.get(chosen["limb"], "").strip().lower() if chosen.get("limb") else ""
@@ -136,7 +136,7 @@ def fast_form_row(chosen: dict, cells: dict, site_id: str, t, limit_m: float) ->
         values.update(form="angle", altitude_deg=90.0 - value if angle_column == "zenith_distance_deg" else value,
                       angle_column=angle_column, limb=limb or None)
         return values
-    if x and y and not angle and _PLAIN_SIGNED_RE.match(x) and _PLAIN_SIGNED_RE.match(y):
+    if x and y and not angle and _PLAIN_SIGNED_RE().match(x) and _PLAIN_SIGNED_RE().match(y):
         factor_x, factor_y = _FACTORS_M[x_column.rsplit("_", 1)[1]], _FACTORS_M[y_column.rsplit("_", 1)[1]]
         tip_x, tip_y = float(x) * factor_x, float(y) * factor_y
         if abs(tip_x) > limit_m or abs(tip_y) > limit_m:
@@ -167,7 +167,8 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float,
     def numbers(column):
         cells = columns[column] if column is not None else blank
         given = np.fromiter(map(bool, cells), bool, n)
-        plain = np.fromiter((bool(_PLAIN_SIGNED_RE.match(c)) for c in cells), bool, n)
+        plain_number = _PLAIN_SIGNED_RE().match
+        plain = np.fromiter((bool(plain_number(c)) for c in cells), bool, n)
         values = np.array([float(c) if p else np.nan for c, p in zip(cells, plain, strict=True)])
         return given, plain, values
 
@@ -202,7 +203,7 @@ def fast_form_columns(chosen: dict, columns: dict, ok, sites, t, limit_m: float,
     }, ok
 
 
-_PLAIN_DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+_PLAIN_DATE_RE = pattern(r"^\d{4}-\d{2}-\d{2}$")
 
 
 def _day_or_nat(text: str) -> np.datetime64:
@@ -219,7 +220,8 @@ def mean_noons_utc(campaign, cells, sites) -> tuple[np.ndarray, np.ndarray]:
     (other date spellings and unknown sites go the long way).
     """
     n = len(cells)
-    plain = np.fromiter((bool(_PLAIN_DATE_RE.match(c)) for c in cells), bool, n) & (sites != "")
+    plain_date = _PLAIN_DATE_RE().match
+    plain = np.fromiter((bool(plain_date(c)) for c in cells), bool, n) & (sites != "")
     days = np.full(n, "NaT", dtype="<U10")
     days[plain] = np.asarray(cells, dtype=object)[plain].astype(str)
     try:
