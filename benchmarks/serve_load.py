@@ -43,6 +43,15 @@ from tests.collect.client import Server, Session, form_tokens, request  # noqa: 
 TIME_LIMIT_S = 900
 
 
+def cpu_split_s(pid: int) -> tuple[float, float]:
+    """A process's user and system CPU time so far [s] (NaN where there is none)."""
+    try:
+        fields = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()
+    except OSError:
+        return float("nan"), float("nan")
+    return int(fields[11]) / os.sysconf("SC_CLK_TCK"), int(fields[12]) / os.sysconf("SC_CLK_TCK")
+
+
 def cpu_s(pid: int, children: bool = False) -> float:
     """A process's CPU time so far (user + system) [s], from /proc; NaN where there is none.
 
@@ -125,11 +134,13 @@ def main() -> int:
         sites = sorted(plan)
         groups = [sites[k :: args.clients] for k in range(args.clients)]
         server_cpu0, client_cpu0 = cpu_s(server.process.pid, True), cpu_s(os.getpid())
+        split0 = cpu_split_s(server.process.pid)
         t0 = time.perf_counter()
         with ThreadPoolExecutor(max_workers=args.clients) as pool:
             list(pool.map(session, groups))
         wall = time.perf_counter() - t0
         server_cpu, client_cpu = cpu_s(server.process.pid, True) - server_cpu0, cpu_s(os.getpid()) - client_cpu0
+        user, system = (b - a for a, b in zip(split0, cpu_split_s(server.process.pid), strict=True))
         log = request(server.links["coordinator"] + "/logs/shadows.csv").text
         every = request(server.links["coordinator"] + "/readings.csv").text
     rows = list(csv.DictReader(io.StringIO(log)))
@@ -149,6 +160,8 @@ def main() -> int:
     print(f"server CPU (user + system) during the load {server_cpu:.1f} s, "
           f"{server_cpu / max(len(answers), 1) * 1e3:.1f} ms per reading (its page GET included); "
           f"the clients' {client_cpu:.1f} s")
+    print(f"of it the server's own process {user:.1f} s user + {system:.1f} s system, its check process "
+          f"{server_cpu - user - system:.1f} s")
     print(f"stored: {len(rows)} in the log, {len(ids)} in the store; every reading stored exactly once: {stored_once}; "
           f"readings the check could not judge: {unchecked}")
     return 0 if stored_once and statuses.count(201) == expected and not unchecked else 1

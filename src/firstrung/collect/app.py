@@ -80,6 +80,7 @@ def _environment():
         loader=PackageLoader("firstrung.collect", "templates"),
         autoescape=select_autoescape(default=True, default_for_string=True),
         undefined=StrictUndefined,
+        auto_reload=False,  # the package's templates change only with a new version, which needs a restart
     )
 
 
