@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 import subprocess
 import sys
 import urllib.parse
@@ -120,6 +121,24 @@ def test_wrong_or_missing_tokens_get_404_and_store_nothing(served):
     token = site.rsplit("/", 1)[1]
     assert request(f"{base}/c/{token}/logs/shadows.csv").status == 404
     assert request(f"{base}/s/{server.links['coordinator'].rsplit('/', 1)[1]}").status == 404
+    assert len(every_reading(server)) == before
+
+
+def test_every_page_gives_each_form_its_own_id_and_token_and_the_other_sites_do_not_take_them(served):
+    """The forms are kept rendered; their ids and anti-forgery tokens are new on every page, one per form, and
+    a form of one site's page is refused by another site's link (403, nothing stored)."""
+    _, _, server = served
+    fjell, lowmead = server.links["sites"]["fjell"], server.links["sites"]["lowmead"]
+    first, second = request(fjell).text, request(fjell).text
+    ids = [re.findall(r'name="(form_id|csrf_token)" value="([^"]*)"', page) for page in (first, second)]
+    assert len(ids[0]) == len(ids[1]) >= 2 * 3  # a form per kind, three for the shadows
+    values = [v for found in ids for _, v in found]
+    assert len(set(values)) == len(values) and not any("<" in v or "&" in v for v in values)
+    assert "form-id-" not in first and "form-token-" not in second
+    before = len(every_reading(server))
+    fields = form_tokens(first, "shadows")
+    fields.update({"time_utc": "2027-03-20T11:20:00Z", "shadow_mm": "1500"})
+    assert request(lowmead, urllib.parse.urlencode(fields).encode(), FORM).status == 403
     assert len(every_reading(server)) == before
 
 

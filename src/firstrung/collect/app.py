@@ -31,6 +31,7 @@ from dataclasses import replace
 from pathlib import Path
 from urllib.parse import parse_qsl
 
+from markupsafe import Markup
 from starlette.applications import Starlette
 from starlette.requests import Request
 from starlette.responses import PlainTextResponse, Response
@@ -69,6 +70,12 @@ JOIN_TRY_BURST = 120
 JOIN_TRY_REFILL_S = 1.0
 #: Forms' fields kept rendered (per kind, form, zone and minute); the oldest dropped first.
 FIELDS_KEPT = 512
+#: Sites' forms kept rendered (per site, minute and kind shown, some kB each); the oldest dropped first.
+FORMS_KEPT = 1_024
+#: Where a form's id and anti-forgery token go in the forms kept rendered: tags no escaped text can hold,
+#: replaced in every page by the form's own.
+FORM_ID_MARK = "<form-id-{}>"
+CSRF_MARK = "<form-token-{}>"
 #: Readings' rows of the sites' pages kept rendered (a few hundred bytes each); the oldest dropped first.
 ROWS_KEPT = 100_000
 
@@ -122,6 +129,7 @@ class Collection:
         #: (kind, site) -> (id, cells) of its readings not withdrawn, in order; the writer's thread's alone.
         self._cells: dict[tuple[str, str], list[tuple[int, dict[str, str]]]] = {}
         self._fields_html: dict = Bounded(FIELDS_KEPT)
+        self._forms_html: dict = Bounded(FORMS_KEPT)
         #: reading id -> (withdrawn_utc or "", its row in the site's page)
         self._rows_html: dict[int, tuple[str, str]] = Bounded(ROWS_KEPT)
 
@@ -157,6 +165,45 @@ class Collection:
         if not refill:
             self._fields_html[key] = html
         return html
+
+    def site_forms(self, site, now_local: str, refill: dict | None, kind_shown: str | None) -> tuple[str, int]:
+        """The forms of a site's page as HTML, with :data:`FORM_ID_MARK` and :data:`CSRF_MARK` (numbered from 0)
+        where each form's id and anti-forgery token go, and how many forms; kept per site, minute and kind
+        shown when nothing is refilled (the page's tokens are new every time, its forms the same)."""
+        key = (site.id, now_local, kind_shown)
+        if not refill and key in self._forms_html:
+            return self._forms_html[key]
+        date = now_local[:10]
+        kinds = []
+        count = 0
+        for name in self.kinds_of(site.id):
+            ways = []
+            refill_here = (refill or {}) if kind_shown == name else {}
+            for k, (form, _) in enumerate(self.forms_of(name, site.timezone)):
+                id_prefix = name if k == 0 else f"{name}-{form.key}"
+                ways.append({
+                    "id_prefix": id_prefix,
+                    "title": form.title if form is not None else "",
+                    "fields_html": self.fields_html(name, k, site.timezone, id_prefix, now_local, refill_here),
+                    "hints": form_fields.hints(name, site, date, form.key if form is not None else None),
+                    "form_id": Markup(FORM_ID_MARK.format(count)),
+                    "csrf": Markup(CSRF_MARK.format(count)),
+                    "sent": form is not None and kind_shown == name and any(
+                        (refill or {}).get(key) for n in form.needs for key in (n, f"value:{n}")),
+                })
+                count += 1
+            if not any(w["sent"] for w in ways):
+                ways[0]["sent"] = True  # the first form open unless another was just sent
+            kinds.append({
+                "name": name,
+                "forms": ways,
+                "caution": form_fields.caution(name),
+                "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
+            })
+        found = self.env.get_template("site_forms.html.j2").render(kinds=kinds), count
+        if not refill:
+            self._forms_html[key] = found
+        return found
 
     def reading_rows(self, site_id: str, count: int) -> list[str]:
         """A site's last ``count`` readings as its page's table rows (HTML, escaped by their template), the
@@ -377,35 +424,14 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
         site = state.sites[site_id]
         token = request.path_params["token"]
         now = clock()
-        date = form_fields.local_now(site.timezone, now)[:10]
-        now_local = form_fields.local_now(site.timezone, now)
-        kinds = []
-        for name in state.kinds_of(site_id):
-            ways = []
-            refill_here = (refill or {}) if kind_shown == name else {}
-            for k, (form, _) in enumerate(state.forms_of(name, site.timezone)):
-                form_id = new_form_id()
-                id_prefix = name if k == 0 else f"{name}-{form.key}"
-                ways.append({
-                    "id_prefix": id_prefix,
-                    "title": form.title if form is not None else "",
-                    "fields_html": state.fields_html(name, k, site.timezone, id_prefix, now_local, refill_here),
-                    "hints": form_fields.hints(name, site, date, form.key if form is not None else None),
-                    "form_id": form_id,
-                    "csrf": form_token(state.key, token, form_id, now.timestamp()),
-                    "sent": form is not None and kind_shown == name and any(
-                        (refill or {}).get(key) for n in form.needs for key in (n, f"value:{n}")),
-                })
-            if not any(w["sent"] for w in ways):
-                ways[0]["sent"] = True  # the first form open unless another was just sent
-            kinds.append({
-                "name": name,
-                "forms": ways,
-                "caution": form_fields.caution(name),
-                "open": kind_shown == name or (kind_shown is None and len(kinds) == 0),
-            })
+        forms_html, count = state.site_forms(site, form_fields.local_now(site.timezone, now), refill, kind_shown)
+        issued = now.timestamp()
+        for k in range(count):  # each form its own id and anti-forgery token, in the marks left for them
+            form_id = new_form_id()
+            forms_html = forms_html.replace(FORM_ID_MARK.format(k), form_id, 1).replace(
+                CSRF_MARK.format(k), form_token(state.key, token, form_id, issued), 1)
         html = state.env.get_template("site.html.j2").render(
-            campaign=state.campaign.name, site=site, kinds=kinds, result=result,
+            campaign=state.campaign.name, site=site, result=result, forms_html=forms_html,
             readings=state.reading_rows(site_id, 30),
         )
         return _answer(request, status, result or {}, html)
