@@ -323,10 +323,12 @@ def sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunP
 
 
 def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: int = 1,
-                  hour_angle_only: bool = False):
+                  hour_angle_only: bool = False, full_rows: slice | None = None):
     """:func:`sun_position`, told how many calls on about the same times the caller makes.
 
     ``hour_angle_only``: return only the hour angle [deg] (a search's steps need nothing else).
+    ``full_rows``: the rows (of the flattened broadcast) that need every field; the others get only the
+    hour angle and the declination (NaN elsewhere: a rate's neighbouring times need nothing else).
     """
     t = as_utc_datetime64(time_utc)
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
@@ -350,25 +352,40 @@ def _sun_position(time_utc, latitude_deg, longitude_deg, elevation_m=0.0, uses: 
         np.broadcast_to(c, shape).ravel() for c in geodetic_to_itrs_km(*np.broadcast_arrays(lat, lon, elev))]
     n = lat_f.size
     fields = ("hour_angle_deg",) if hour_angle_only else tuple(SunPosition.__dataclass_fields__)
-    out = {f: np.empty(n) for f in fields}
+    out = {f: np.empty(n) if full_rows is None or f in _RATE_FIELDS else np.full(n, np.nan) for f in fields}
+    if hour_angle_only:
+        regions = [(0, n, _HOUR_ANGLE)]
+    elif full_rows is None:
+        regions = [(0, n, None)]
+    else:
+        first, last, _ = full_rows.indices(n)
+        regions = [(0, first, _RATE_FIELDS), (first, last, None), (last, n, _RATE_FIELDS)]
     # the same arithmetic a slice at a time, so that the temporaries stay small
-    for a in range(0, max(n, 1), _TOPOCENTRIC_CHUNK):
-        part = slice(a, a + _TOPOCENTRIC_CHUNK)
-        k = part if inverse is None else inverse[part]
-        p = _topocentric(sun_xyz_km[:, k], gast_rad[k], lat_f[part], lon_f[part], elev_f[part], hour_angle_only,
-                         None if site_xyz is None else [c[part] for c in site_xyz])
-        for f in fields:
-            out[f][part] = p[f]
+    for begin, end, wanted in regions:
+        for a in range(begin, max(end, begin + (n == 0)), _TOPOCENTRIC_CHUNK):
+            part = slice(a, min(a + _TOPOCENTRIC_CHUNK, end))
+            k = part if inverse is None else inverse[part]
+            p = _topocentric(sun_xyz_km[:, k], gast_rad[k], lat_f[part], lon_f[part], elev_f[part], wanted,
+                             None if site_xyz is None else [c[part] for c in site_xyz])
+            for f in p:
+                out[f][part] = p[f]
     if hour_angle_only:
         return out["hour_angle_deg"].reshape(shape)
     return SunPosition(**{f: v.reshape(shape) for f, v in out.items()})
 
 
-def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only: bool = False,
+#: What :func:`_topocentric` can be asked for short of every field: the hour angle alone (a transit search's
+#: steps), or with the declination (the times beside a reading, for the rates of :func:`sun_track`).
+_HOUR_ANGLE = ("hour_angle_deg",)
+_RATE_FIELDS = ("hour_angle_deg", "declination_deg")
+
+
+def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, wanted: tuple | None = None,
                  site_xyz=None) -> dict:
     """Parallax and diurnal aberration for each (site, time), then alt/az and hour angle (flat arrays).
 
-    ``site_xyz``: the sites' ITRS coordinates [km] when already known.
+    ``wanted``: :data:`_HOUR_ANGLE` or :data:`_RATE_FIELDS` for only those fields (the same numbers), None
+    for every field. ``site_xyz``: the sites' ITRS coordinates [km] when already known.
     """
     x, y, z = geodetic_to_itrs_km(lat_deg, lon_deg, elev_m) if site_xyz is None else site_xyz
     cos_g, sin_g = np.cos(gast_rad), np.sin(gast_rad)
@@ -383,9 +400,11 @@ def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, hour_angle_only
     ra_rad = np.arctan2(u[1], u[0])
     ha_rad = gast_rad + np.radians(lon_deg) - ra_rad
     ha_rad = np.arctan2(np.sin(ha_rad), np.cos(ha_rad))  # the same numbers as np.angle(np.exp(1j * ha)), sooner
-    if hour_angle_only:
+    if wanted == _HOUR_ANGLE:
         return {"hour_angle_deg": np.degrees(ha_rad)}
     dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
+    if wanted == _RATE_FIELDS:
+        return {"hour_angle_deg": np.degrees(ha_rad), "declination_deg": np.degrees(dec_rad)}
     lat_rad = np.radians(lat_deg)
     sin_alt = np.sin(lat_rad) * np.sin(dec_rad) + np.cos(lat_rad) * np.cos(dec_rad) * np.cos(ha_rad)
     alt_rad = np.arcsin(np.clip(sin_alt, -1.0, 1.0))
@@ -429,7 +448,8 @@ def sun_track(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunTrac
     lat, lon, elev = (np.asarray(x, dtype=float) for x in (latitude_deg, longitude_deg, elevation_m))
     t_b, lat_b, lon_b, elev_b = np.broadcast_arrays(t, lat, lon, elev)
     stacked_t = np.stack([t_b - step, t_b, t_b + step])
-    p = sun_position(stacked_t, lat_b[None], lon_b[None], elev_b[None])
+    # every field at the readings' times, the hour angle and declination alone beside them
+    p = _sun_position(stacked_t, lat_b[None], lon_b[None], elev_b[None], full_rows=slice(t_b.size, 2 * t_b.size))
     dha = np.angle(np.exp(1j * np.radians(p.hour_angle_deg[2] - p.hour_angle_deg[0])))
     mid = SunPosition(*(getattr(p, f)[1] for f in SunPosition.__dataclass_fields__))
     return SunTrack(
