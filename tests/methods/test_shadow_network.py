@@ -317,3 +317,16 @@ def test_every_school_gets_a_printable_result_page(tmp_path, capsys, monkeypatch
     assert f"{data['earth_radius_km']['value']:,.0f} ± {data['earth_radius_km']['sigma']:,.0f} km" in html
     code, out, err = run_cli(["reduce", "shadows", camp, "--school-sheets", tmp_path / "s.pdf"], capsys, monkeypatch)
     assert code == 2 and "HTML made to print" in err and len(err.strip().splitlines()) == 1
+
+
+def test_pair_order_is_numpys_lexsort():
+    # the one-key sort must give lexsort's order (day, then first, then second site, ties in order),
+    # and the lexsort itself when the key would not fit
+    from firstrung.methods.shadows.pairs import _pair_order
+
+    rng = np.random.default_rng(11)
+    day, first, second = rng.integers(0, 40, 50_000), rng.integers(0, 300, 50_000), rng.integers(0, 300, 50_000)
+    expected = np.lexsort((second, first, day))
+    assert np.array_equal(_pair_order(day, first, second, 300, 40), expected)
+    assert np.array_equal(_pair_order(day, first, second, 2**31, 40), expected)
+    assert _pair_order(day[:0], first[:0], second[:0], 300, 40).size == 0

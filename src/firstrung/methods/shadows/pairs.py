@@ -97,6 +97,17 @@ def _candidates(day_of, longitude):
     return np.concatenate(firsts), np.concatenate(seconds), every
 
 
+def _pair_order(day, first, second, n_sites: int, n_days: int) -> np.ndarray:
+    """``np.lexsort((second, first, day))``: by day, then first, then second site (ties kept in order), as one
+    sort of a single integer key when it fits in 63 bits (a few times sooner on millions of pairs)."""
+    if day.size == 0:
+        return np.zeros(0, int)
+    if n_days * n_sites * n_sites >= 2**62:
+        return np.lexsort((second, first, day))
+    key = (day.astype(np.int64) * n_sites + first) * n_sites + second
+    return np.argsort(key, kind="stable")
+
+
 def network_pairs(sites, flagged=()) -> NetworkPairs:
     """The pairs of a reduction's sites (``SiteResult``s with their series), one per pair and day."""
     flagged = set(flagged)
@@ -125,7 +136,7 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
     # value below is computed in that order (each pair's numbers are its own, whatever the order)
     _, rank = np.unique(names, return_inverse=True) if names.size else (None, np.zeros(0, int))
     code = rank.reshape(-1)[site_of]
-    order = np.lexsort((code[j], code[i], day_of[i])) if i.size else np.zeros(0, int)
+    order = _pair_order(day_of[i], code[i], code[j], max(names.size, 1), max(date_names.size, 1))
     i, j, dx = i[order], j[order], np.abs(dx[order])
     del order, code
     slope = (phi[j] - phi[i]) / dx
