@@ -88,6 +88,6 @@ def _series_results(prep, fit, per_series, total, scale, chi2_dof):
             ids[g], dates[g], counts[g], transit_times[g], de,
             _measured(la, sg, "deg"), _measured(al, sg, "deg"), _measured(ze, sg, "deg"),
             "south" if la > de else "north", _measured(of, ofs, "s"), noon_times[g], _measured(lo, los, "deg"),
-            chi2[g], dict(zip(budget_names, budgets[g], strict=True)), boards.get(g))))
+            chi2[g], dict(zip(budget_names, budgets[g], strict=True)), boards.get(g)), strict=True))
         out.append(result)
     return out
