@@ -233,7 +233,9 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     pred0_deg = np.degrees(pred0)
     obs0, refr0 = _observed(rows, rows.shadow_m, sign, sd, temperature, pressure)
     edges0 = edge_groups(rows.edge)
-    rand0, sys0 = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather, edge=edges0)
+    width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), sd)  # the error terms' and hypotheses'
+    rand0, sys0 = _error_terms(rows, rows.shadow_m, pred0_deg, sd, refr0, measured_weather, edge=edges0,
+                               width_m=width0)
     rand0 = rand0 + (rate0 * READING_TIME_SIGMA_S) ** 2
     base = series_statistic(SeriesLayout(group, n_groups), n_groups, obs0 - pred0, rate0, np.sqrt(rand0), sys0)
 
@@ -256,7 +258,9 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
                   pick(measured_weather), pick(zone_offset_h))
     tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),
                                pick(rand0), pick(sys0), distinct0 if sel.size == n else None,
-                               edges0 if sel.size == n else None, base_statistic=base.statistic[needy], sel=sel)
+                               edges0 if sel.size == n else None, base_statistic=base.statistic[needy], sel=sel,
+                               width0=width0 if sel.size == n else None)
+    del width0
     del sub
     stats, fits, separations = _widen(tried, needy, sel, n_groups, n)
 
@@ -349,10 +353,11 @@ class _Inputs:
 
 
 def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0, distinct0=None, edges0=None,
-                       *, base_statistic=None, sel=None):
+                       *, base_statistic=None, sel=None, width0=None):
     """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``.
 
-    ``distinct0``, ``edges0``: the geocentric Sun of ``x.t`` and the rows' edge groups, when known. The
+    ``distinct0``, ``edges0``, ``width0``: the geocentric Sun of ``x.t``, the rows' edge groups and the penumbra's
+    width at the logged reading, when known. The
     geocentric Sun is computed once per time shift (a coordinate's sign keeps the times), the penumbra's
     width once, and a hypothesis that separates from the logged reading in no series is not fitted
     (:func:`_decide` never takes it).
@@ -368,7 +373,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     pred0_deg = np.degrees(pred0)
     distinct0 = distinct_sun(x.t) if distinct0 is None else distinct0
     edges0 = edge_groups(rows.edge) if edges0 is None else edges0
-    width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), x.sd)
+    width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), x.sd) if width0 is None else width0
     time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
     sqrt_rand0 = np.sqrt(rand0)
     series = SeriesLayout(x.group, x.n_groups)  # every fit below is over the same series
