@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import http.client
 import json
 import os
 import re
+import socket
 import subprocess
 import sys
 import time
@@ -40,38 +40,92 @@ def request(url: str, data: bytes | None = None, headers: dict | None = None, me
 
 class Session:
     """One phone's connection to the server, kept open between requests as a browser keeps it (HTTP/1.1
-    keep-alive), for the load benchmark. Should the server have closed it meanwhile (its idle timeout), the
-    request is sent once more on a new connection, as a browser does: a reading sent twice is stored once
-    (its form id)."""
+    keep-alive), for the load benchmark: the requests a browser sends (request line, Host, the form's
+    Content-Type and Content-Length, the body), each answer read to its Content-Length (or its chunks).
+    A few lines on a socket rather than :mod:`http.client`, whose header parsing would cost the machine
+    more than the server's own work on a short answer. Should the server have closed the connection
+    meanwhile (its idle timeout), the request is sent once more on a new one, as a browser does: a reading
+    sent twice is stored once (its form id)."""
 
     def __init__(self, base_url: str) -> None:
         parts = urllib.parse.urlsplit(base_url)
         self.host, self.port = parts.hostname, parts.port
-        self.connection: http.client.HTTPConnection | None = None
+        self.sock: socket.socket | None = None
+        self.buffer = b""
 
     def request(self, url: str, data: bytes | None = None, headers: dict | None = None) -> Answer:
         path = urllib.parse.urlsplit(url).path
+        lines = [f"{'GET' if data is None else 'POST'} {path} HTTP/1.1", f"Host: {self.host}:{self.port}"]
+        lines += [f"{k}: {v}" for k, v in (headers or {}).items()]
+        if data is not None:
+            lines.append(f"Content-Length: {len(data)}")
+        message = ("\r\n".join(lines) + "\r\n\r\n").encode("latin-1") + (data or b"")
         for attempt in (1, 2):
-            if self.connection is None:
-                self.connection = http.client.HTTPConnection(self.host, self.port, timeout=60)
+            fresh = self.sock is None
+            if fresh:
+                self.sock = socket.create_connection((self.host, self.port), timeout=60)
+                self.sock.setsockopt(socket.IPPROTO_TCP, socket.TCP_NODELAY, 1)
+                self.buffer = b""
             try:
-                self.connection.request("GET" if data is None else "POST", path, body=data, headers=headers or {})
-                response = self.connection.getresponse()
-                body = response.read()
-            except (http.client.RemoteDisconnected, ConnectionResetError, BrokenPipeError):
+                self.sock.sendall(message)
+                return self._answer()
+            except (ConnectionError, _Closed):
                 self.close()
-                if attempt == 2:
+                if fresh or attempt == 2:
                     raise
-                continue
-            if response.will_close:
-                self.close()
-            return Answer(response.status, body, response.headers)
         raise AssertionError("unreachable")
 
+    def _fill(self) -> None:
+        chunk = self.sock.recv(65536)
+        if not chunk:
+            raise _Closed()
+        self.buffer += chunk
+
+    def _line(self) -> bytes:
+        while b"\r\n" not in self.buffer:
+            self._fill()
+        line, self.buffer = self.buffer.split(b"\r\n", 1)
+        return line
+
+    def _take(self, count: int) -> bytes:
+        while len(self.buffer) < count:
+            self._fill()
+        out, self.buffer = self.buffer[:count], self.buffer[count:]
+        return out
+
+    def _answer(self) -> Answer:
+        while b"\r\n\r\n" not in self.buffer:
+            self._fill()
+        head, self.buffer = self.buffer.split(b"\r\n\r\n", 1)
+        status_line, *header_lines = head.decode("latin-1").split("\r\n")
+        found: dict[str, str] = {}
+        for line in header_lines:
+            name, _, value = line.partition(":")
+            found[name.strip().lower()] = value.strip()
+        if "content-length" in found:
+            body = self._take(int(found["content-length"]))
+        elif found.get("transfer-encoding", "").lower() == "chunked":
+            parts = []
+            while (size := int(self._line().split(b";")[0], 16)) > 0:
+                parts.append(self._take(size))
+                self._take(2)
+            while self._line():  # the trailer, to its empty line
+                pass
+            body = b"".join(parts)
+        else:
+            raise AssertionError(f"an answer without its length: {status_line}")
+        if found.get("connection", "").lower() == "close":
+            self.close()
+        return Answer(int(status_line.split()[1]), body, found)
+
     def close(self) -> None:
-        if self.connection is not None:
-            self.connection.close()
-            self.connection = None
+        if self.sock is not None:
+            self.sock.close()
+            self.sock = None
+
+
+class _Closed(Exception):
+    """The server closed the connection before its answer."""
 
 
 def form_tokens(page: str, kind: str) -> dict[str, str]:
