@@ -27,6 +27,7 @@ import argparse
 import csv
 import io
 import os
+import shutil
 import statistics
 import subprocess
 import sys
@@ -88,6 +89,14 @@ def main() -> int:
     parser.add_argument("--think-s", type=float, default=0.0, help="each client's pause after an answer [s]")
     args = parser.parse_args()
     folder = Path(tempfile.mkdtemp(prefix="firstrung-load-"))
+    try:
+        return load(folder, args)
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
+
+
+def load(folder: Path, args) -> int:
+    """Run the load in ``folder`` (the campaign, its simulated readings, the store); 0 when it passed."""
     campaign = folder / "campaign.toml"
     campaign.write_text(campaign_text(args.sites), encoding="utf-8")
     subprocess.run([sys.executable, "-m", "firstrung", "simulate", "shadows", str(campaign), "--from", "2027-03-20",

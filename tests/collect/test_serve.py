@@ -5,9 +5,12 @@ from __future__ import annotations
 import csv
 import io
 import json
+import os
 import re
+import signal
 import subprocess
 import sys
+import time
 import urllib.parse
 from pathlib import Path
 
@@ -204,6 +207,35 @@ def test_only_the_kinds_named_are_collected(tmp_path):
         assert "certified solar filter" in page  # the solar caution beside the shadow form
         assert "Local apparent noon on" in page
         assert request(server.links["coordinator"] + "/logs/eclipse.csv").status == 404
+
+
+def _ended(pid: int) -> bool:
+    try:
+        return Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0] in ("Z", "X")
+    except OSError:
+        return True
+
+
+@pytest.mark.skipif(not Path("/proc/self/task").exists() or (os.cpu_count() or 1) < 2,
+                    reason="needs /proc and two cores (the check runs in the server's own process on one)")
+def test_the_check_process_ends_with_the_server_even_when_the_server_is_killed(tmp_path):
+    campaign = collecting_campaign(tmp_path, "shadows = []\n")
+    with Server(campaign, tmp_path / "s.sqlite", tmp_path / "links.json") as server:
+        answer = post_reading(server.links["sites"]["fjell"], "shadows",
+                              {"time_utc": "2027-03-20T11:20:00Z", "shadow_mm": "1500"})
+        assert answer.status == 201 and "check-failed" not in {f["code"] for f in answer.json()["flags"]}
+        pid = server.process.pid
+        children = [int(c) for task in Path(f"/proc/{pid}/task").glob("*/children") for c in task.read_text().split()]
+        assert children  # the check process (and multiprocessing's resource tracker)
+        server.process.kill()
+        server.process.wait()
+        deadline = time.monotonic() + 15
+        while not all(_ended(c) for c in children) and time.monotonic() < deadline:
+            time.sleep(0.2)
+        left = [c for c in children if not _ended(c)]
+        for c in left:  # (they would hold the server's output open)
+            os.kill(c, signal.SIGKILL)
+        assert not left
 
 
 def _reduce(campaign: Path) -> dict:

@@ -597,6 +597,7 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
         yield
         await state.stop()
         shutil.rmtree(state.join_folder, ignore_errors=True)
+        shutil.rmtree(state.judge._folder, ignore_errors=True)  # the checks' passing files, none left
 
     from contextlib import asynccontextmanager
 

@@ -31,6 +31,8 @@ import itertools
 import os
 import signal
 import tempfile
+import threading
+import time
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from dataclasses import field as _field
@@ -210,6 +212,7 @@ def _start_apart(campaign, kinds: tuple[str, ...], folder: str) -> None:
     from firstrung.collect.kinds import log_kind
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    threading.Thread(target=_end_with_server, args=(os.getppid(),), daemon=True).start()
     _APART = Judge(campaign, folder)
     for name in kinds:
         kind = log_kind(name)
@@ -217,6 +220,13 @@ def _start_apart(campaign, kinds: tuple[str, ...], folder: str) -> None:
             kind.log_flags(campaign, kind.read(campaign, []))
         except Exception:  # a warm-up only
             pass
+
+
+def _end_with_server(server_pid: int) -> None:
+    """In the check process: end it when the server's process is gone (killed outright, it could not say so)."""
+    while os.getppid() == server_pid:
+        time.sleep(1.0)
+    os._exit(0)
 
 
 def _judge_apart(kind_name: str, subs, stored, campaign, zones) -> list[Outcome]:
