@@ -84,13 +84,14 @@ def fit_series(
 
     def normal_terms(lat, u):
         """Residuals, partial derivatives and normal-equation sums at (lat, u)."""
-        lat_k = lat[:, group]
         u_k = u[:, group]
         dec = declination_rad + declination_rate_rad_s * u_k
         ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
-        # each sine and cosine once: sin a = sin(phi) sin(dec) + cos(phi) cos(dec) cos(H), and its derivatives
-        sin_lat, cos_lat, sin_dec, cos_dec, cos_ha = np.sin(lat_k), np.cos(lat_k), np.sin(dec), np.cos(dec), np.cos(ha)
-        del lat_k, u_k, dec
+        # each sine and cosine once: sin a = sin(phi) sin(dec) + cos(phi) cos(dec) cos(H), and its derivatives;
+        # the latitude's once per series, then to its readings (the same numbers as per reading)
+        sin_lat, cos_lat = np.sin(lat)[:, group], np.cos(lat)[:, group]
+        sin_dec, cos_dec, cos_ha = np.sin(dec), np.cos(dec), np.cos(ha)
+        del u_k, dec
         model = np.arcsin(np.clip(sin_lat * sin_dec + cos_lat * cos_dec * cos_ha, -1.0, 1.0))
         cos_alt = np.maximum(np.cos(model), 1e-9)
         d_lat = (cos_lat * sin_dec - sin_lat * cos_dec * cos_ha) / cos_alt
