@@ -15,10 +15,10 @@ from firstrung.methods.shadows.check_statistics import (
     LENGTH_FACTORS,
     CheckSite,
     SeriesStatistic,
-    _group_median,
     _Hypothesis,
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.series_layout import group_median
 from firstrung.numbers import median
 
 #: Fewest rows for a time, longitude, latitude or edge hypothesis (the shape
@@ -233,7 +233,7 @@ def _outlier_flags(sites, rows, group, n_groups, count, z, residual0, rand0, sys
     big = count >= MIN_ROWS_FOR_SPREAD
     if np.any(big):
         start = np.concatenate([[0], np.cumsum(count)[:-1]])
-        mad = _group_median(np.abs(z), group, n_groups, start, count)
+        mad = group_median(np.abs(z), group, n_groups, start, count)
         spread = np.where(big, np.maximum(1.0, 1.4826 * mad), 1.0)
     score = np.abs(z) / spread[group]
     direct = np.abs(residual0) / np.sqrt(rand0 + sys0)

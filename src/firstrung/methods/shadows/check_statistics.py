@@ -17,7 +17,12 @@ from firstrung.constants import (
 from firstrung.distinct import distinct_texts
 from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, altitude_error_terms_rad
 from firstrung.methods.shadows.inputs import ShadowReadings
-from firstrung.methods.shadows.series_layout import SeriesLayout, hopeless_series, laid_out_fit
+from firstrung.methods.shadows.series_layout import (
+    FlatSeries,
+    SeriesLayout,
+    hopeless_series,
+    series_fit,
+)
 from firstrung.refraction import refraction_from_apparent_deg
 
 #: Readings of one file and site more than this apart [h] belong to different series.
@@ -241,20 +246,6 @@ class SeriesStatistic:
     z: np.ndarray  # (n,) normalised residual of each row about the fit
 
 
-def _sums(group, n_groups, values):
-    return np.bincount(group, weights=values, minlength=n_groups)
-
-
-def _group_median(values, group, n_groups, start, count):
-    """Median of ``values`` within each group, by one sort of all values with the groups kept apart."""
-    spread = float(np.max(np.abs(values))) if values.size else 0.0
-    gap = 2.0 * spread + 1.0
-    ordered = np.sort(group * gap + values) - np.repeat(np.arange(n_groups) * gap, count)
-    low = ordered[start + (count - 1) // 2]
-    high = ordered[start + count // 2]
-    return 0.5 * (low + high)
-
-
 def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
                      *, robust=True, columns=None) -> SeriesStatistic:
     """Robust chi-square of each series about a fitted level and clock offset.
@@ -287,64 +278,14 @@ def series_statistic(group, n_groups, residual_rad, rate_rad_s, sigma_random_rad
     >>> round(float(s.statistic[0]), 2), round(float(s.level_rad[0]) * 1e3, 3)
     (0.83, 1.0)
     """
-    if isinstance(group, SeriesLayout):
-        if group.usable:
-            return _laid_out_statistic(group, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
-                                       robust, columns)
-        group = group.group
-    group = np.asarray(group, int)
-    r = np.asarray(residual_rad, float)
-    d = np.asarray(rate_rad_s, float)
-    w = 1.0 / np.asarray(sigma_random_rad, float) ** 2
-    sqrt_w = np.sqrt(w)
-    count = np.bincount(group, minlength=n_groups)
-    prior = 1.0 / CHECK_CLOCK_SIGMA_S**2
-    if robust:
-        start = np.concatenate([[0], np.cumsum(count)[:-1]])
-        m = _group_median(r, group, n_groups, start, np.maximum(count, 0))
-    else:
-        m = _sums(group, n_groups, w * r) / np.maximum(_sums(group, n_groups, w), 1e-300)
-    u = np.zeros(n_groups)
-    weight = w
-    iterations = _FIT_ITERATIONS if robust else 1
-    for _ in range(iterations):
-        if robust:
-            z = (r - m[group] - d * u[group]) * sqrt_w
-            weight = w * np.minimum(1.0, HUBER_SIGMA / np.maximum(np.abs(z), 1e-12))
-        weight_d = weight * d
-        a = _sums(group, n_groups, weight)
-        b = _sums(group, n_groups, weight_d)
-        c = _sums(group, n_groups, weight_d * d) + prior
-        b1 = _sums(group, n_groups, weight * r)
-        b2 = _sums(group, n_groups, weight_d * r)
-        det = a * c - b * b
-        m = (c * b1 - b * b2) / det
-        u = (a * b2 - b * b1) / det
-    var_m = c / det
-    z = (r - m[group] - d * u[group]) * sqrt_w
-    z2 = np.minimum(z * z, RESIDUAL_CAP_SIGMA**2) if robust else z * z
-    scatter = _sums(group, n_groups, z2)
-    v_sys = _sums(group, n_groups, variance_systematic_rad2) / np.maximum(count, 1)
-    level_var = v_sys + var_m
-    statistic = scatter + m * m / level_var + u * u * prior
-    return SeriesStatistic(
-        statistic=statistic,
-        level_rad=m,
-        level_sigma_rad=np.sqrt(level_var),
-        clock_s=u,
-        mean_square=scatter / np.maximum(count, 1),
-        z=z,
-    )
-
-
-def _laid_out_statistic(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
-                        robust: bool, columns) -> SeriesStatistic:
-    """:func:`series_statistic` on the rows laid out by series (the same numbers); ``columns`` (bool per
-    series, or None for all): the series fitted, the others get an infinite statistic and NaN."""
-    statistic, level, level_var, clock, mean_square, z = laid_out_fit(
-        layout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, robust=robust,
-        prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA, iterations=_FIT_ITERATIONS, cap=RESIDUAL_CAP_SIGMA,
-        columns=columns)
+    layout = group if isinstance(group, SeriesLayout) and group.usable else None
+    if layout is None:  # the rows as they are (the fit ignores ``columns``: every series is fitted)
+        flat = FlatSeries(group.group if isinstance(group, SeriesLayout) else group, n_groups)
+        statistic, level, level_var, clock, mean_square, z = _fit(flat, residual_rad, rate_rad_s, sigma_random_rad,
+                                                                  variance_systematic_rad2, robust, None)
+        return SeriesStatistic(statistic, level, np.sqrt(level_var), clock, mean_square, z)
+    statistic, level, level_var, clock, mean_square, z = _fit(
+        layout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, robust, columns)
     if columns is None or columns.all():
         return SeriesStatistic(statistic, level, np.sqrt(level_var), clock, mean_square, layout.rows(z))
 
@@ -357,6 +298,12 @@ def _laid_out_statistic(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_ra
     z_all[:, columns] = z
     return SeriesStatistic(wide(statistic, np.inf), wide(level, np.nan), wide(np.sqrt(level_var), np.nan),
                            wide(clock, np.nan), wide(mean_square, np.nan), layout.rows(z_all))
+
+
+def _fit(arrangement, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, robust, columns):
+    return series_fit(arrangement, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,
+                      robust=robust, prior=1.0 / CHECK_CLOCK_SIGMA_S**2, huber=HUBER_SIGMA,
+                      iterations=_FIT_ITERATIONS, cap=RESIDUAL_CAP_SIGMA, columns=columns)
 
 
 def hopeless(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2,

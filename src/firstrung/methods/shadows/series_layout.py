@@ -82,6 +82,66 @@ class SeriesLayout:
         """Back from the layout to one value per row."""
         return laid_out.reshape(-1)[self.row_cell]
 
+    # what :func:`series_fit` asks of the rows' arrangement (:class:`FlatSeries` answers the same)
+    @staticmethod
+    def expand(per_series: np.ndarray) -> np.ndarray:
+        """Per-series values against the laid-out rows (they broadcast down the columns)."""
+        return per_series
+
+    @staticmethod
+    def sums(laid_out: np.ndarray) -> np.ndarray:
+        return column_sums(laid_out)
+
+    @staticmethod
+    def medians(laid_out, count, columns, gap):
+        return column_medians(laid_out, count, columns, gap)
+
+    @staticmethod
+    def unweight_padding(w: np.ndarray, count: np.ndarray) -> None:
+        """The padding weighs nothing."""
+        w[np.arange(w.shape[0])[:, None] >= count[None, :]] = 0.0
+
+
+class FlatSeries:
+    """The rows as they are, each series' sums by :func:`numpy.bincount`: :func:`series_fit` for series too
+    uneven in length to lay out (or given as a plain group array). The same numbers as a layout's."""
+
+    def __init__(self, group: np.ndarray, n_groups: int) -> None:
+        self.group, self.n_groups = np.asarray(group, np.int64), int(n_groups)
+        self.count = np.bincount(self.group, minlength=self.n_groups)
+
+    @staticmethod
+    def spread(values, fill: float = 0.0, keep: bool = False) -> np.ndarray:
+        return values
+
+    @staticmethod
+    def rows(values: np.ndarray) -> np.ndarray:
+        return values
+
+    def expand(self, per_series: np.ndarray) -> np.ndarray:
+        return per_series[self.group]
+
+    def sums(self, values: np.ndarray) -> np.ndarray:
+        return np.bincount(self.group, weights=values, minlength=self.n_groups)
+
+    def medians(self, values, count, columns, gap):
+        start = np.concatenate([[0], np.cumsum(count)[:-1]])
+        return group_median(values, self.group, self.n_groups, start, np.maximum(count, 0))
+
+    @staticmethod
+    def unweight_padding(w: np.ndarray, count: np.ndarray) -> None:
+        """No padding."""
+
+
+def group_median(values, group, n_groups, start, count):
+    """Median of ``values`` within each group, by one sort of all values with the groups kept apart."""
+    spread = float(np.max(np.abs(values))) if values.size else 0.0
+    gap = 2.0 * spread + 1.0
+    ordered = np.sort(group * gap + values) - np.repeat(np.arange(n_groups) * gap, count)
+    low = ordered[start + (count - 1) // 2]
+    high = ordered[start + count // 2]
+    return 0.5 * (low + high)
+
 
 def column_sums(laid_out: np.ndarray) -> np.ndarray:
     """Per-column sums, the same numbers as ``np.bincount(group, weights=values, minlength=n_groups)``."""
@@ -96,7 +156,7 @@ def column_sums(laid_out: np.ndarray) -> np.ndarray:
 
 def column_medians(laid_out: np.ndarray, count: np.ndarray, columns: np.ndarray, gap: float) -> np.ndarray:
     """Per series (``laid_out`` holds the series ``columns``), the median that
-    :func:`firstrung.methods.shadows.check_statistics._group_median` gives over all the series.
+    :func:`group_median` gives over all the series.
 
     That function sorts ``group * gap + value`` and subtracts ``group * gap`` again (``gap`` from
     all the rows); the same rounding is done here on each series' own order statistics.
@@ -111,13 +171,15 @@ def column_medians(laid_out: np.ndarray, count: np.ndarray, columns: np.ndarray,
     return 0.5 * (low + high)
 
 
-def laid_out_fit(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_rad, variance_systematic_rad2, *,
-                 robust: bool, prior: float, huber: float, iterations: int, cap: float, columns=None):
-    """The fit of :func:`firstrung.methods.shadows.check_statistics.series_statistic` on the laid-out rows:
-    the same operations on each row, in the same order, and the same per-series sums.
+def series_fit(layout: SeriesLayout | FlatSeries, residual_rad, rate_rad_s, sigma_random_rad,
+               variance_systematic_rad2, *, robust: bool, prior: float, huber: float, iterations: int, cap: float,
+               columns=None):
+    """The fit of :func:`firstrung.methods.shadows.check_statistics.series_statistic`, on rows laid out by series
+    (a :class:`SeriesLayout`) or as they are (a :class:`FlatSeries`): the same operations on each row, in the
+    same order, and the same per-series sums.
 
-    ``columns``: the series to fit (bool per series; default all). Returns (statistic, level, level
-    variance, clock, mean square, z laid out) for those series.
+    ``columns``: the series to fit (bool per series; default all; a layout only). Returns (statistic, level,
+    level variance, clock, mean square, z in the arrangement's form) for those series.
     """
     r = layout.spread(np.asarray(residual_rad, float))
     d = layout.spread(np.asarray(rate_rad_s, float), keep=True)
@@ -125,21 +187,21 @@ def laid_out_fit(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_ra
     v = layout.spread(np.asarray(variance_systematic_rad2, float), keep=True)
     count = layout.count
     index = np.arange(layout.n_groups)
-    gap = 2.0 * float(np.max(np.abs(r))) + 1.0 if robust else 0.0  # the padding's zeros never raise the maximum
+    gap = 2.0 * float(np.max(np.abs(r))) + 1.0 if robust and r.size else 0.0  # padding never raises the maximum
     if columns is not None and not columns.all():
         index = np.flatnonzero(columns)
         r, d, sigma, v = (np.ascontiguousarray(x[:, index]) for x in (r, d, sigma, v))
         count = count[index]
     w = 1.0 / sigma**2
-    w[np.arange(w.shape[0])[:, None] >= count[None, :]] = 0.0  # the padding weighs nothing
+    layout.unweight_padding(w, count)
     sqrt_w = np.sqrt(w)
-    sums = column_sums
-    m = column_medians(r, count, index, gap) if robust else sums(w * r) / np.maximum(sums(w), 1e-300)
+    sums, expand = layout.sums, layout.expand
+    m = layout.medians(r, count, index, gap) if robust else sums(w * r) / np.maximum(sums(w), 1e-300)
     u = np.zeros(index.size)
     weight = w
     for _ in range(iterations if robust else 1):
         if robust:
-            z = (r - m - d * u) * sqrt_w
+            z = (r - expand(m) - d * expand(u)) * sqrt_w
             weight = w * np.minimum(1.0, huber / np.maximum(np.abs(z), 1e-12))
         weight_d = weight * d
         a = sums(weight)
@@ -151,7 +213,7 @@ def laid_out_fit(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random_ra
         m = (c * b1 - b * b2) / det
         u = (a * b2 - b * b1) / det
     var_m = c / det
-    z = (r - m - d * u) * sqrt_w
+    z = (r - expand(m) - d * expand(u)) * sqrt_w
     z2 = np.minimum(z * z, cap**2) if robust else z * z
     scatter = sums(z2)
     level_var = sums(v) / np.maximum(count, 1) + var_m
