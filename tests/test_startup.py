@@ -21,8 +21,9 @@ EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "campaign.toml"
 #: Libraries these commands never use: each costs a cold start tenths of a second.
 NOT_LOADED = ("pydantic", "scipy.stats", "matplotlib", "jinja2", "skyfield.iokit", "astropy")
 #: Modules the Sun's commands (plan, check, reduce of shadows) never use: the Moon's ephemeris module
-#: (firstrung.ephemeris imports each of its modules on first use of one of its names).
-NOT_LOADED_BY_SHADOWS = ("firstrung.ephemeris.moon",)
+#: (firstrung.ephemeris imports each of its modules on first use of one of its names), and Python's
+#: TOML reader (a plain campaign file is read by firstrung.toml_plain; tomllib only for the rest).
+NOT_LOADED_BY_SHADOWS = ("firstrung.ephemeris.moon", "tomllib")
 #: numpy's masked arrays, which np.unique (without its options), np.median and np.quantile import:
 #: the Sun's commands do without them (firstrung.numbers' median and quantiles, numpy's numbers).
 MASKED = "numpy.ma"

@@ -30,7 +30,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 import os
-import tomllib
+import sys
 from pathlib import Path
 
 from firstrung.campaign_model import (
@@ -229,12 +229,17 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, all
     if text.startswith("\ufeff"):
         text = text[1:]
     try:
-        document = plain_toml(text) or tomllib.loads(text)  # the plain part of TOML read quickly
-    except tomllib.TOMLDecodeError as error:
-        raise _syntax_error(error, label) from None
+        document = plain_toml(text)  # the plain part of TOML read quickly
+        if not document:  # the rest of TOML by Python's reader (imported only then), with its messages
+            import tomllib
+
+            document = tomllib.loads(text)
     except RecursionError:
         raise InputError("TOML syntax error: arrays or tables nested too deeply", file=label) from None
-    except ValueError as error:  # an integer of more digits than Python converts
+    except ValueError as error:  # tomllib's syntax error, or an integer of more digits than Python converts
+        toml_reader = sys.modules.get("tomllib")
+        if toml_reader is not None and isinstance(error, toml_reader.TOMLDecodeError):
+            raise _syntax_error(error, label) from None
         message = str(error)
         if "digits" in message:
             message = f"a number too long to read (more than {_MAX_DIGITS} digits)"
@@ -271,7 +276,7 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, all
     )
 
 
-def _syntax_error(error: tomllib.TOMLDecodeError, label: str) -> InputError:
+def _syntax_error(error: ValueError, label: str) -> InputError:
     """An InputError ``file:line:column: TOML syntax error: ...`` from tomllib's error."""
     message = str(error)
     match = _TOML_POSITION_RE().match(message)
