@@ -10,7 +10,8 @@ does this for every table it prints, so no command can cut a value at any width.
 When nothing is styled (output to a file or a pipe, where rich writes no colours) and every cell
 is plain text, :func:`plain_table_lines` lays a table out itself, character for character as rich
 would (rich's layout costs a command a fifth of a second for a few hundred cells); a test compares
-the two on many tables.
+the two on many tables, another checks that the parts of rich it reads are there
+(tests/test_startup_libraries.py), and pyproject.toml bounds rich to the versions tested.
 """
 
 from __future__ import annotations

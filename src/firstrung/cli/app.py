@@ -161,7 +161,8 @@ def plain_values() -> None:
     typer (0.2x) converts every value through pydantic, whose import and per-option set-up cost
     a command's start more than the rest of its parsing; the values and the messages are the same
     (a value this does not recognise goes to typer's own converter). A typer without that
-    machinery is left as it is.
+    machinery is left as it is. tests/test_startup_libraries.py runs the same app both ways and fails
+    if typer's conversion changes; pyproject.toml bounds typer to the versions tested.
     """
     try:
         from typer import _coercion, core
