@@ -76,11 +76,13 @@ def loads(text: str) -> dict | None:
     root: dict = {}
     arrays: set[int] = set()  # the lists made by [[...]] headers (others may not be appended to)
     current = root
+    line_match, scalar_match = _LINE().fullmatch, _SCALAR_RE().fullmatch
     for line in text.split("\n"):
-        match = _LINE().fullmatch(line)
+        match = line_match(line)
         if match is None:
             return None
-        header = match.group("aot") or match.group("table")
+        aot, table_header, key, value = match.group("aot", "table", "key", "value")
+        header = aot or table_header
         if header is not None:
             parts = header.strip("[]").split(".")
             table = root
@@ -92,7 +94,7 @@ def loads(text: str) -> dict | None:
                     return None
                 table = node
             last = parts[-1]
-            if match.group("aot") is not None:
+            if aot is not None:
                 node = table.get(last)
                 if node is None:
                     node = table[last] = []
@@ -106,19 +108,17 @@ def loads(text: str) -> dict | None:
                     return None
                 current = table[last] = {}
             continue
-        key = match.group("key")
         if key is None:
             continue  # a blank line or a comment
         if key in current:
             return None
-        value = match.group("value")
         if value.startswith("["):
             items = _array(value)
             if items is None:
                 return None
             current[key] = items
         else:
-            current[key] = _scalar(_SCALAR_RE().fullmatch(value))
+            current[key] = _scalar(scalar_match(value))
     return root
 
 
