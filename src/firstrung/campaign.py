@@ -30,7 +30,6 @@ from __future__ import annotations
 import datetime as dt
 import math
 import os
-import sys
 from pathlib import Path
 
 from firstrung.campaign_model import (
@@ -54,7 +53,8 @@ from firstrung.constants import WGS84_SEMI_MAJOR_AXIS_M
 from firstrung.errors import InputError
 from firstrung.patterns import pattern
 from firstrung.times import check_zone
-from firstrung.toml_plain import loads as plain_toml
+from firstrung.toml_plain import document as toml_document
+from firstrung.toml_plain import syntax_error as toml_syntax_error
 
 __all__ = [
     "DEFAULT_HEIGHT_SIGMA_M",
@@ -229,16 +229,11 @@ def parse_campaign(text: str, *, path: str | os.PathLike[str] | None = None, all
     if text.startswith("\ufeff"):
         text = text[1:]
     try:
-        document = plain_toml(text)  # the plain part of TOML read quickly
-        if not document:  # the rest of TOML by Python's reader (imported only then), with its messages
-            import tomllib
-
-            document = tomllib.loads(text)
+        document = toml_document(text)  # the plain part of TOML read quickly
     except RecursionError:
         raise InputError("TOML syntax error: arrays or tables nested too deeply", file=label) from None
     except ValueError as error:  # tomllib's syntax error, or an integer of more digits than Python converts
-        toml_reader = sys.modules.get("tomllib")
-        if toml_reader is not None and isinstance(error, toml_reader.TOMLDecodeError):
+        if toml_syntax_error(error):
             raise _syntax_error(error, label) from None
         message = str(error)
         if "digits" in message:

@@ -13,6 +13,7 @@ any error. ``tests/test_toml_plain.py`` compares the two on many texts.
 from __future__ import annotations
 
 import re
+import sys
 
 from firstrung.patterns import pattern
 
@@ -122,4 +123,21 @@ def loads(text: str) -> dict | None:
     return root
 
 
-__all__ = ["loads"]
+def document(text: str) -> dict:
+    """``tomllib.loads(text)``: the plain part of TOML read by :func:`loads`, anything else by Python's
+    reader (imported only then: a command's start), with its errors and messages as they are."""
+    found = loads(text)
+    if found:
+        return found
+    import tomllib
+
+    return tomllib.loads(text)
+
+
+def syntax_error(error: BaseException) -> bool:
+    """Whether ``error`` is the syntax error of Python's TOML reader (never when it was not imported)."""
+    reader = sys.modules.get("tomllib")
+    return reader is not None and isinstance(error, reader.TOMLDecodeError)
+
+
+__all__ = ["document", "loads", "syntax_error"]
