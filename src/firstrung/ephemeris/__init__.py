@@ -17,7 +17,7 @@ _WHERE = {
                      "solar_transit", "sun_greenwich_hour_angle_deg", "sun_position", "sun_track"), "sun"),
 }
 #: The package's modules, reachable as attributes (``ephemeris.sun``) as when all were imported at once.
-_MODULES = frozenset(("_core", "libration", "moon", "observer_moon", "planets", "seasons", "stars", "sun"))
+_MODULES = frozenset(("_core", "libration", "moon", "observer_moon", "planets", "seasons", "stars", "sun", "sun_table"))
 
 
 def __getattr__(name: str):

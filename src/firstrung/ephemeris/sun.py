@@ -31,6 +31,7 @@ from firstrung.constants import (
     SPEED_OF_LIGHT_KM_PER_S,
     SUN_SEMIDIAMETER_AT_1AU_ARCSEC,
 )
+from firstrung.ephemeris import sun_table
 from firstrung.ephemeris._core import (
     _loaded,
     _skyfield_time,
@@ -38,6 +39,7 @@ from firstrung.ephemeris._core import (
     check_in_span,
     timescale,
 )
+from firstrung.ephemeris.sun_table import grid_nodes as grid_table_nodes
 from firstrung.errors import InputError
 from firstrung.geodesy import geodetic_to_itrs_km
 
@@ -151,7 +153,10 @@ def _grid_nodes(tt: np.ndarray):
 def _sun_grid(start_tt_jd: float, nodes: int, step_days: float):
     """Geocentric apparent Sun and unwrapped GAST on a uniform TT grid (cached: searches reuse it)."""
     tt = start_tt_jd + step_days * np.arange(nodes)
-    if nodes < _GRID_SPLIT_NODES or (os.cpu_count() or 1) < 2:
+    from_table = grid_table_nodes(tt, step_days)  # 2026-2035: the same nodes, computed once (sun_table)
+    if from_table is not None:
+        xyz, gast = from_table
+    elif nodes < _GRID_SPLIT_NODES or (os.cpu_count() or 1) < 2:
         xyz, gast = _grid_nodes(tt)
     else:  # two halves at once: numpy computes outside the interpreter's lock, on a second core
         half = nodes // 2
@@ -534,3 +539,21 @@ def sun_greenwich_hour_angle_deg(time_utc) -> np.ndarray:
     ra = np.arctan2(xyz[1], xyz[0])
     gha = np.angle(np.exp(1j * (gast - ra)))
     return np.degrees(gha)[inverse].reshape(shape)
+
+
+def write_table(path: str = sun_table.FILE) -> None:
+    """Compute every node of :mod:`firstrung.ephemeris.sun_table` with the grid's own function (a year
+    at a time) and write the table (``python -m firstrung.ephemeris.sun``)."""
+    step = _GRID_STEP_H / 24.0
+    count = sun_table.DAYS * sun_table.PER_DAY + 1
+    table = np.empty((4, count))
+    for first in range(0, count, 366 * sun_table.PER_DAY):
+        n = min(366 * sun_table.PER_DAY, count - first)
+        xyz, gast = _grid_nodes(sun_table.node_times(first, n, step))
+        table[:3, first:first + n] = xyz
+        table[3, first:first + n] = gast
+    np.save(path, table)
+
+
+if __name__ == "__main__":
+    write_table()
