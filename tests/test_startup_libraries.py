@@ -34,9 +34,12 @@ ARGUMENTS = [
 def _run(arguments: list[str], plain: bool) -> tuple[int, str, dict]:
     """The exit status, the output and the values a small typer app received, with or without
     firstrung's conversion in place (typer's own converter restored after)."""
-    typers_own = core.build_runtime_param
+    from typer import _coercion
+
+    before, typers_own = core.build_runtime_param, _coercion.build_runtime_param
     got: dict = {}
     try:
+        core.build_runtime_param = typers_own  # as typer has it (a command run earlier put firstrung's in)
         if plain:
             plain_values()
             assert core.build_runtime_param is not typers_own, "firstrung's conversion is no longer put in place"
@@ -55,7 +58,7 @@ def _run(arguments: list[str], plain: bool) -> tuple[int, str, dict]:
 
         result = CliRunner().invoke(app, arguments)
     finally:
-        core.build_runtime_param = typers_own
+        core.build_runtime_param = before
     return result.exit_code, result.output, {k: (type(v), repr(v)) for k, v in got.items()}
 
 
