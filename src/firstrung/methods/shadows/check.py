@@ -164,7 +164,7 @@ class ShadowCheck:
 # --- the check ------------------------------------------------------------------------------------
 
 
-def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> ShadowCheck:
+def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings, *, diagnoses: bool = True) -> ShadowCheck:
     """Flags for shadow rows that disagree with the Sun, and why.
 
     Parameters
@@ -173,6 +173,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         ``rows.site_index`` points into it.
     rows : ShadowReadings
         The rows to check (good rows of the logs, defaults filled in).
+    diagnoses : bool
+        False: no per-series diagnosis (a reduction that leaves out the flagged rows needs only the flags).
 
     Returns
     -------
@@ -274,7 +276,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         verdicts[g] = (p.verdict, None, p.candidates)
     noon_only = bool(median(np.abs(ha0)) <= np.radians(NOON_ONLY_MEDIAN_H * 15.0))
     flags: list[Flag] = []
-    diagnoses: list[SeriesDiagnosis] = []
+    series: list[SeriesDiagnosis] = []
     chosen_z = base.z.copy()
     explained_time = np.zeros(n_groups, bool)
     # each series' numbers as Python values at once (not a NumPy scalar per series)
@@ -284,6 +286,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
     level_sigmas = (base.level_rad / base.level_sigma_rad).tolist()
     for g in range(n_groups):  # one pass over series, not rows; flags are built only where needed
         verdict, k, candidates = verdicts[g]
+        if verdict == "fits" and not diagnoses:
+            continue
         site = sites[group_site[g]]
         rows_g = order[start[g] : start[g] + count[g]] if verdict != "fits" else None
         date = dates[g]
@@ -293,8 +297,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         explained_by_pair = pair is not None and pair.verdict == "explained"
         if explained_by_pair:
             best_stat = pair.statistic
-        diagnoses.append(
-            SeriesDiagnosis(
+        if diagnoses:
+            series.append(SeriesDiagnosis(
                 file=file, site=site.id, date=date, rows=counts[g],
                 statistic_logged=round(logged[g], 2),
                 level_arcmin=round(levels[g] * _ARCMIN_PER_RAD, 2),
@@ -302,8 +306,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
                 best=pair.pair.label if explained_by_pair else (None if k is None else HYPOTHESES[k].label),
                 statistic_best=None if best_stat is None else round(best_stat, 2),
                 verdict=verdict,
-            )
-        )
+            ))
         if verdict == "fits":
             continue
         if explained_by_pair:
@@ -331,7 +334,7 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings) -> Sha
         flags.extend(_noon_flags(sites, rows, ha0, time_ok))
     flags.extend(_duplicate_flags(sites, rows))
     flags.sort(key=lambda f: (f.file, -1 if f.row is None else f.row, CODES.index(f.code) if f.code in CODES else 99))
-    return ShadowCheck(tuple(flags), tuple(diagnoses), noon_only)
+    return ShadowCheck(tuple(flags), tuple(series), noon_only)
 
 
 @dataclass(frozen=True)

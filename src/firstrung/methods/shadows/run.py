@@ -107,7 +107,7 @@ def _without_flagged(campaign: Campaign, log, readings: ShadowReadings, extra, r
     if log is not None:
         flags = tuple(check_shadow_log(campaign, log, readings=(readings, extra))[0].flags)
     else:
-        flags = tuple(check_shadow_rows(check_sites(campaign), readings).flags) if len(readings) else ()
+        flags = tuple(check_shadow_rows(check_sites(campaign), readings, diagnoses=False).flags) if len(readings) else ()
     if rows_read >= 100_000:  # the check's many small objects are gone: give their memory back
         from firstrung.memory import release_free_memory
 
