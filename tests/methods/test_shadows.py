@@ -260,27 +260,3 @@ def test_logged_temperature_and_pressure_are_honoured():
     # less true altitude -> larger zenith distance -> higher latitude, by the extra refraction
     assert lat_cold - lat_base == pytest.approx(extra, rel=0.05)
     assert any("temperature" in a for a in changed.assumptions)
-
-
-def test_series_results_are_made_as_their_constructors_make_them():
-    # the per-series results are built without their frozen __init__ (for speed): each must equal, field
-    # for field and in its hash, the one the constructors give
-    import dataclasses
-
-    from firstrung.methods.shadows.series_results import SeriesResult
-    from firstrung.uncertainty import Measured
-
-    sites, readings = campaign([41.0, 46.4, 52.0], [7.0, 8.0, 9.0], ["2027-03-20", "2027-03-21"],
-                               errors=ShadowErrors(clock_sigma_s=20.0))
-    for series in (s for site in reduce_shadows(sites, readings).sites for s in site.series):
-        values = {f.name: getattr(series, f.name) for f in dataclasses.fields(SeriesResult)}
-        for name, value in values.items():
-            if isinstance(value, Measured):
-                again = Measured(value.value, value.sigma, value.value - value.sigma, value.value + value.sigma,
-                                 value.unit)
-                assert value == again and repr(value) == repr(again) and hash(value) == hash(again)
-                values[name] = again
-        assert SeriesResult(**{**values, "budget_rad": series.budget_rad}) == series
-        assert series.sun_side in ("south", "north") and series.latitude_deg.unit == "deg"
-        assert series.clock_offset_s.unit == "s" and isinstance(series.site_id, str)
-        assert type(series.readings) is int and isinstance(series.budget_rad, dict)

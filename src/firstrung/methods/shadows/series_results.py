@@ -37,14 +37,6 @@ class SeriesResult:
     board: object = None  # a timed trace's Board (orientation, handedness, tilt warning)
 
 
-def _measured(value: float, sigma: float, unit: str) -> Measured:
-    """``Measured(value, sigma, value - sigma, value + sigma, unit)``, made as its __init__ makes it (it
-    stores its fields and nothing else), sooner."""
-    out = object.__new__(Measured)
-    out.__dict__.update(value=value, sigma=sigma, low=value - sigma, high=value + sigma, unit=unit)
-    return out
-
-
 def _series_results(prep, fit, per_series, total, scale, chi2_dof):
     """Per series (site and day): the result with its budget, clock, implied longitude and board."""
     from firstrung import ephemeris
@@ -77,17 +69,26 @@ def _series_results(prep, fit, per_series, total, scale, chi2_dof):
     counts = [int(c) for c in np.asarray(fit.count).tolist()]
     transit_times, noon_times = list(transit.time_utc), list(noon_clock)
     out = []
-    new, fields = object.__new__, tuple(SeriesResult.__dataclass_fields__)
     for g, (la, sg, de, ze, al, of, ofs, lo, los) in enumerate(zip(
             lat.tolist(), sig.tolist(), dec.tolist(), zenith.tolist(), altitude.tolist(), offset.tolist(),
             offset_sigma.tolist(), lon_implied.tolist(), lon_sigma.tolist(), strict=True)):
-        # each frozen result made as its __init__ makes it (it only stores its fields), without a
-        # frozen __setattr__ per field: a million readings make some 60,000 results and 300,000 numbers
-        result = new(SeriesResult)
-        result.__dict__.update(zip(fields, (
-            ids[g], dates[g], counts[g], transit_times[g], de,
-            _measured(la, sg, "deg"), _measured(al, sg, "deg"), _measured(ze, sg, "deg"),
-            "south" if la > de else "north", _measured(of, ofs, "s"), noon_times[g], _measured(lo, los, "deg"),
-            chi2[g], dict(zip(budget_names, budgets[g], strict=True)), boards.get(g)), strict=True))
-        out.append(result)
+        out.append(
+            SeriesResult(
+                site_id=ids[g],
+                date=dates[g],
+                readings=counts[g],
+                transit_utc=transit_times[g],
+                declination_deg=de,
+                latitude_deg=Measured(la, sg, la - sg, la + sg, "deg"),
+                culmination_altitude_deg=Measured(al, sg, al - sg, al + sg, "deg"),
+                zenith_distance_deg=Measured(ze, sg, ze - sg, ze + sg, "deg"),
+                sun_side="south" if la > de else "north",
+                clock_offset_s=Measured(of, ofs, of - ofs, of + ofs, "s"),
+                apparent_noon_clock_utc=noon_times[g],
+                implied_longitude_deg=Measured(lo, los, lo - los, lo + los, "deg"),
+                chi2_per_dof=chi2[g],
+                budget_rad=dict(zip(budget_names, budgets[g], strict=True)),
+                board=boards.get(g),
+            )
+        )
     return out
