@@ -37,18 +37,20 @@ def _part(table: Table, columns: list, title: str | None, caption: str | None) -
     for i, column in enumerate(columns):
         c = copy.copy(column)
         c._index = i
-        c._cells = list(column._cells)
+        c._cells = column._cells  # shared, never changed: a part is printed, not filled
         part.columns.append(c)
     part.title = title
     part.caption = caption
     return part
 
 
-def _measures(console: Console, table: Table) -> list[tuple[int, int]]:
+def _measures(console: Console, table: Table, columns_seen: dict | None = None) -> list[tuple[int, int]]:
     """Each column's (minimum, maximum) width, padding included.
 
     The minimum is the longest unbreakable piece of its header and cells; in a column that
     may not wrap (``no_wrap``), the widest cell whole (its header may still wrap).
+    ``columns_seen``: the widths of the columns already measured in this layout (a table split
+    in parts tries each column in several parts; its cells are the same list in each).
     """
     options = console.options.update_width(10**6)
     known = _measured(console)
@@ -66,11 +68,18 @@ def _measures(console: Console, table: Table) -> list[tuple[int, int]]:
     out = []
     for column in table.columns:
         pad = table._get_padding_width(column._index)
-        head = measure(column.header) if table.show_header else Measurement(0, 0)
-        cells = [measure(c) for c in column._cells] or [Measurement(1, 1)]
-        body_min = max((c.maximum if column.no_wrap else c.minimum) for c in cells)
-        lo = max(head.minimum, body_min, column.min_width or 0)
-        hi = max(head.maximum, max(c.maximum for c in cells), lo)
+        key = (id(column._cells), id(column.header), table.show_header, column.no_wrap, column.min_width)
+        seen = None if columns_seen is None else columns_seen.get(key)
+        if seen is not None and seen[0] is column._cells and seen[1] is column.header:
+            lo, hi = seen[2]
+        else:
+            head = measure(column.header) if table.show_header else Measurement(0, 0)
+            cells = [measure(c) for c in column._cells] or [Measurement(1, 1)]
+            body_min = max((c.maximum if column.no_wrap else c.minimum) for c in cells)
+            lo = max(head.minimum, body_min, column.min_width or 0)
+            hi = max(head.maximum, max(c.maximum for c in cells), lo)
+            if columns_seen is not None:  # the list and header kept: their ids stay theirs
+                columns_seen[key] = (column._cells, column.header, (lo, hi))
         out.append((lo + pad, hi + pad))
     return out
 
@@ -84,13 +93,13 @@ def _measured(console: Console) -> dict[str, Measurement]:
     return known
 
 
-def _fits(console: Console, table: Table, width: int) -> bool:
-    return sum(lo for lo, _ in _measures(console, table)) + table._extra_width <= width
+def _fits(console: Console, table: Table, width: int, columns_seen: dict | None = None) -> bool:
+    return sum(lo for lo, _ in _measures(console, table, columns_seen)) + table._extra_width <= width
 
 
-def _set_widths(console: Console, table: Table, width: int) -> None:
+def _set_widths(console: Console, table: Table, width: int, columns_seen: dict | None = None) -> None:
     """Fix each column's width between its minimum and maximum so the table fits ``width``."""
-    measures = _measures(console, table)
+    measures = _measures(console, table, columns_seen)
     room = width - table._extra_width - sum(lo for lo, _ in measures)
     slack = [hi - lo for lo, hi in measures]
     total = sum(slack)
@@ -125,16 +134,17 @@ def fit_table(console: Console, table: Table, keep: int = 1) -> list[Table]:
     if table.expand:
         table = copy.copy(table)
         table.expand = False
-    if _fits(console, table, width) or len(table.columns) <= keep + 1:
+    seen: dict = {}  # each column measured once for all the parts tried
+    if _fits(console, table, width, seen) or len(table.columns) <= keep + 1:
         whole = _part(table, table.columns, table.title, table.caption)
-        _set_widths(console, whole, width)
+        _set_widths(console, whole, width, seen)
         return [whole]
     key = table.columns[:keep]
     groups: list[list] = []
     current: list = []
     for column in table.columns[keep:]:
         trial = _part(table, key + current + [column], None, None)
-        if current and not _fits(console, trial, width):
+        if current and not _fits(console, trial, width, seen):
             groups.append(current)
             current = [column]
         else:
@@ -149,7 +159,7 @@ def fit_table(console: Console, table: Table, keep: int = 1) -> list[Table]:
             f"{title}(part 1 of {len(groups)})" if n == 1 else f"continued (part {n} of {len(groups)})",
             table.caption if last else f"more columns of these rows in part {n + 1} below",
         )
-        _set_widths(console, part, width)
+        _set_widths(console, part, width, seen)
         parts.append(part)
     return parts
 
