@@ -37,9 +37,8 @@ def _loaded():
         # what skyfield's Loader does for a local kernel and its builtin timescale, without its
         # module for downloads (never used here: its network libraries cost every command's start)
         ephemeris = SpiceKernel(os.path.join(folder, EPHEMERIS_FILE))
-        timescale = _builtin_timescale()
     atexit.register(ephemeris.close)
-    return timescale, ephemeris, ephemeris["earth"], ephemeris["sun"]
+    return timescale(), ephemeris, ephemeris["earth"], ephemeris["sun"]
 
 
 def _builtin_timescale():
@@ -54,9 +53,13 @@ def _builtin_timescale():
     return Timescale((daily_tt, daily_delta_t), arrays["leap_dates"], arrays["leap_offsets"])
 
 
+@functools.lru_cache(maxsize=1)
 def timescale():
-    """The one skyfield ``Timescale`` firstrung uses (builtin data, no download)."""
-    return _loaded()[0]
+    """The one skyfield ``Timescale`` firstrung uses (builtin data, no download), loaded without the
+    ephemeris (a plan served by the Sun's table needs only the time scale)."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return _builtin_timescale()
 
 
 def ephemeris_span_utc() -> tuple[np.datetime64, np.datetime64]:

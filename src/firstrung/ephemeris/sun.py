@@ -236,8 +236,6 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     xyz_km : ndarray, shape (3, n)
     gast_rad : ndarray, shape (n,)
     """
-    from skyfield.nutationlib import iau2000b_radians
-
     time_utc = np.asarray(time_utc, dtype="datetime64[us]").reshape(-1)
     if time_utc.size == 0:  # no instant: empty results, as numpy gives for empty input
         return np.zeros((3, 0)), np.zeros(0)
@@ -254,6 +252,8 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
         if hit is not None:  # the same few times again (a check's hypotheses, a server's batches)
             xyz, gast = hit
             return xyz.copy(), gast.copy()
+        from skyfield.nutationlib import iau2000b_radians
+
         t = _skyfield_time(time_utc)
         t._nutation_angles_radians = iau2000b_radians(t)
         xyz, gast = _direct_geocentric_sun(t)
