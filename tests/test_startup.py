@@ -63,6 +63,19 @@ def test_plan_shadows_loads_no_library_it_does_not_use():
     assert "firstrung.calendar_export" not in modules  # the calendar's module only with --ics
 
 
+def test_a_years_plan_reads_the_sun_and_the_seasons_from_their_tables(tmp_path):
+    """2026-2035: the Sun's hourly grid (a plan of 30 sites uses it) and the equinoxes come from the
+    package's tables (same numbers, tests/ephemeris/test_sun_table.py and test_season_table.py), so
+    neither DE421 is opened nor skyfield's search loaded: only its time scale."""
+    campaign = tmp_path / "campaign.toml"
+    campaign.write_text('[campaign]\nname = "thirty sites"\n' + "".join(
+        f'[[site]]\nid = "s{i}"\nlatitude_deg = {(-1) ** i * (30 + i)}.5\nlongitude_deg = {11 * i - 160}.25\n'
+        "[site.gnomon]\nheight_m = 1.0\n" for i in range(30)), encoding="utf-8")
+    modules = _loaded_after(["plan", "shadows", str(campaign), "--from", "2027-01-01", "--to", "2027-12-31"])
+    assert "firstrung.methods.shadows.prediction" in modules and "skyfield.timelib" in modules
+    assert {"skyfield.jpllib", "jplephem", "skyfield.almanac", "skyfield.searchlib"}.isdisjoint(modules)
+
+
 def test_reduce_shadows_loads_no_library_it_does_not_use():
     modules = _loaded_after(["reduce", "shadows", str(EXAMPLE)])
     assert "firstrung.methods.shadows.reduction" in modules

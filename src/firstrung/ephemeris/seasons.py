@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import functools
+import os
+
 import numpy as np
 
 from firstrung.ephemeris._core import _loaded, _utc_datetime64, check_in_span, ephemeris_span_utc
@@ -43,6 +46,9 @@ def equinox_and_solstice_dates(first_utc, last_utc) -> tuple[np.ndarray, np.ndar
     >>> [str(x) for x in d], [str(n) for n in names][:1]
     (['2027-03-20', '2027-06-21', '2027-09-23', '2027-12-22'], ['March equinox'])
     """
+    kept = _dates_from_table(first_utc, last_utc)
+    if kept is not None:
+        return kept
     searched = _search(first_utc, last_utc, epsilon_days=_TO_THE_DATE_DAYS)
     if searched is None:
         return np.array([], dtype="datetime64[D]"), np.array([], dtype=str)
@@ -85,3 +91,56 @@ def _utc():
     import datetime as dt
 
     return dt.UTC
+
+
+# --- the events of 2026-2035, found once ------------------------------------------------------------
+
+#: The events of these years, found once by :func:`equinoxes_and_solstices` (to the millisecond) and
+#: kept in the package (``python -m firstrung.ephemeris.seasons`` writes the file again): instants
+#: [us since 1970, UTC] and season indices, one column an event.
+TABLE_FILE = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "data",
+                          "seasons_2026_2035.npy")
+TABLE_FIRST_UTC = np.datetime64("2026-01-01T00:00", "us")
+TABLE_LAST_UTC = np.datetime64("2036-01-01T00:00", "us")
+#: An event this close to an end of the range asked for, or to a UTC midnight, is left to the search.
+_TABLE_MARGIN = np.timedelta64(2, "m")
+
+
+@functools.lru_cache(maxsize=1)
+def _table():
+    try:
+        table = np.load(TABLE_FILE)
+    except OSError:
+        return None
+    return table[0].astype("datetime64[us]"), table[1]
+
+
+def _dates_from_table(first_utc, last_utc):
+    """:func:`equinox_and_solstice_dates` from the table, or None (the search then decides) for a range
+    outside 2026-2035 or an event within two minutes of one of its ends or of a midnight."""
+    table = _table()
+    if table is None:
+        return None
+    first, last = np.datetime64(first_utc, "us"), np.datetime64(last_utc, "us")
+    if first < TABLE_FIRST_UTC or last > TABLE_LAST_UTC or last <= first:
+        return None
+    instants, index = table
+    days = instants.astype("datetime64[D]")
+    keep = (instants >= first) & (instants <= last)
+    at_an_end = (np.abs(instants - first) <= _TABLE_MARGIN) | (np.abs(instants - last) <= _TABLE_MARGIN)
+    at_midnight = (instants - days.astype("datetime64[us]") <= _TABLE_MARGIN) | (
+        (days + np.timedelta64(1, "D")).astype("datetime64[us]") - instants <= _TABLE_MARGIN)
+    if np.any(at_an_end | (at_midnight & keep)):
+        return None
+    return days[keep], np.array([SEASON_NAMES[i] for i in index[keep]])
+
+
+def write_table(path: str = TABLE_FILE) -> None:
+    """Find every event of 2026-2035 to the millisecond and write the table."""
+    instants, names = equinoxes_and_solstices(TABLE_FIRST_UTC, TABLE_LAST_UTC)
+    index = [SEASON_NAMES.index(str(n)) for n in names]
+    np.save(path, np.array([instants.astype(np.int64), index], dtype=np.int64))
+
+
+if __name__ == "__main__":
+    write_table()
