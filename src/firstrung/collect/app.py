@@ -288,20 +288,16 @@ class Collection:
         results: list = [None] * len(subs)
         first_of: dict[tuple[str, str], int] = {}
         fresh: list[int] = []
-        by_site: dict[str, list[int]] = {}
+        known = self.store.known_forms((sub.site, sub.form_id) for sub in subs)
         for i, sub in enumerate(subs):
-            by_site.setdefault(sub.site, []).append(i)
-        for site, members in by_site.items():
-            known = self.store.known_forms(site, [subs[i].form_id for i in members])
-            for i in members:
-                key = (site, subs[i].form_id)
-                if subs[i].form_id in known:
-                    results[i] = ("again", known[subs[i].form_id])
-                elif key in first_of:
-                    results[i] = ("same", first_of[key])
-                else:
-                    first_of[key] = i
-                    fresh.append(i)
+            key = (sub.site, sub.form_id)
+            if key in known:
+                results[i] = ("again", known[key])
+            elif key in first_of:
+                results[i] = ("same", first_of[key])
+            else:
+                first_of[key] = i
+                fresh.append(i)
         to_store = []
         for kind_name in dict.fromkeys(subs[i].kind for i in fresh):
             members = [i for i in fresh if subs[i].kind == kind_name]

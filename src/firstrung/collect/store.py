@@ -224,19 +224,20 @@ class Store:
             except BaseException:
                 self._writer.execute("ROLLBACK")
                 raise
-            rows = [self._writer.execute(f"SELECT {_COLUMNS} FROM reading WHERE id = ?", (i,)).fetchone() for i in out_ids]
-        return [_reading(r) for r in rows]
+            found = {r[0]: r for r in self._writer.execute(
+                f"SELECT {_COLUMNS} FROM reading WHERE id IN ({','.join('?' * len(out_ids))})", out_ids)}
+        return [_reading(found[i]) for i in out_ids]
 
-    def known_forms(self, site: str, form_ids) -> dict[str, Reading]:
-        """The readings already stored from these forms of a site."""
-        form_ids = list(form_ids)
-        if not form_ids:
+    def known_forms(self, pairs) -> dict[tuple[str, str], Reading]:
+        """The readings already stored from these forms, by (site, form id): one query for a batch."""
+        pairs = set(pairs)
+        if not pairs:
             return {}
-        marks = ",".join("?" * len(form_ids))
-        rows = self._reader().execute(
-            f"SELECT {_COLUMNS} FROM reading WHERE site = ? AND form_id IN ({marks})", (site, *form_ids)
-        ).fetchall()
-        return {r[5]: _reading(r) for r in rows}
+        sites, form_ids = sorted({s for s, _ in pairs}), sorted({f for _, f in pairs})
+        rows = self._reader().execute(  # (the unique index on site and form id serves both lists)
+            f"SELECT {_COLUMNS} FROM reading WHERE site IN ({','.join('?' * len(sites))}) "
+            f"AND form_id IN ({','.join('?' * len(form_ids))})", (*sites, *form_ids)).fetchall()
+        return {(r[2], r[5]): _reading(r) for r in rows if (r[2], r[5]) in pairs}
 
     def withdraw(self, reading_id: int, reason: str) -> Reading | None:
         """Mark a reading withdrawn (it is kept); None when there is no such reading."""
