@@ -67,6 +67,9 @@ _MANY_TIMES = 1 << 17
 #: Use the grid when the Sun positions a call (or a search's repeated calls on
 #: nearby times) would compute outnumber the grid nodes this many times.
 _GRID_MIN_GAIN = 3.0
+#: A grid read from the shipped table (sun_table) costs no Sun computation: it serves any call of at
+#: least this many positions (a year's plan at a few sites), fewer are computed directly as before.
+_TABLE_MIN_EVALUATIONS = 512
 
 
 def _direct_geocentric_sun(t):
@@ -246,7 +249,10 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     # whole days with half a day of margin, so that the iterations of a search share one grid
     start = np.floor(tt.min() - 0.5)
     nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
-    if not grid and (grid is False or time_utc.size * uses < _GRID_MIN_GAIN * nodes):
+    evaluations = time_utc.size * uses
+    few = evaluations < _GRID_MIN_GAIN * nodes and not (
+        evaluations >= _TABLE_MIN_EVALUATIONS and sun_table.covers(float(start), nodes, step))
+    if not grid and (grid is False or few):
         key = time_utc.tobytes() if time_utc.size <= _RECENT_MAX_TIMES else None
         hit = None if key is None else _RECENT_DIRECT.get(key)
         if hit is not None:  # the same few times again (a check's hypotheses, a server's batches)

@@ -46,6 +46,16 @@ def _table() -> np.ndarray | None:
     return table if table.shape == (4, DAYS * PER_DAY + 1) and table.dtype == np.float64 else None
 
 
+def covers(start_tt_jd: float, nodes: int, step_days: float) -> bool:
+    """Whether a grid of ``nodes`` from ``start_tt_jd`` (a whole Julian date) at ``step_days`` is read
+    from the table rather than computed (then the grid costs no Sun computation however few the
+    times it serves)."""
+    if step_days != 1.0 / PER_DAY or _table() is None:
+        return False
+    first = (start_tt_jd - FIRST_TT_JD) * PER_DAY
+    return first >= 0 and first + nodes <= DAYS * PER_DAY + 1
+
+
 def grid_nodes(tt: np.ndarray, step_days: float):
     """(xyz_km (3, n), gast_rad (n,)) at the TT instants ``tt`` from the table, or None when the table
     does not hold every one of them bit for bit (a step other than an hour, an instant outside
