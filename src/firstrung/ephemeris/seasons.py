@@ -8,6 +8,7 @@ import os
 import numpy as np
 
 from firstrung.ephemeris._core import _loaded, _utc_datetime64, check_in_span, ephemeris_span_utc
+from firstrung.ephemeris.sun_table import DATA_FOLDER, kept_table
 
 #: Names of the four events by skyfield's season index, in the order of the year.
 SEASON_NAMES = ("March equinox", "June solstice", "September equinox", "December solstice")
@@ -98,8 +99,7 @@ def _utc():
 #: The events of these years, found once by :func:`equinoxes_and_solstices` (to the millisecond) and
 #: kept in the package (``python -m firstrung.ephemeris.seasons`` writes the file again): instants
 #: [us since 1970, UTC] and season indices, one column an event.
-TABLE_FILE = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "data",
-                          "seasons_2026_2035.npy")
+TABLE_FILE = os.path.join(DATA_FOLDER, "seasons_2026_2035.npy")
 TABLE_FIRST_UTC = np.datetime64("2026-01-01T00:00", "us")
 TABLE_LAST_UTC = np.datetime64("2036-01-01T00:00", "us")
 #: An event this close to an end of the range asked for, or to a UTC midnight, is left to the search.
@@ -108,11 +108,8 @@ _TABLE_MARGIN = np.timedelta64(2, "m")
 
 @functools.lru_cache(maxsize=1)
 def _table():
-    try:
-        table = np.load(TABLE_FILE)
-    except OSError:
-        return None
-    return table[0].astype("datetime64[us]"), table[1]
+    table = kept_table(TABLE_FILE)
+    return None if table is None else (table[0].astype("datetime64[us]"), table[1])
 
 
 def _dates_from_table(first_utc, last_utc):

@@ -25,8 +25,19 @@ FIRST_TT_JD = 2461041.0
 DAYS = 3_654
 #: Nodes a day (the grid's step of one hour).
 PER_DAY = 24
+#: The package's data folder, where the tables computed once are kept.
+DATA_FOLDER = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "data")
 #: The file, in the package's data folder.
-FILE = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))), "data", "sun_hourly_2026_2035.npy")
+FILE = os.path.join(DATA_FOLDER, "sun_hourly_2026_2035.npy")
+
+
+def kept_table(path: str, mapped: bool = False) -> np.ndarray | None:
+    """A table computed once and kept in the package (this one, the seasons'), or None without its file
+    (the caller then computes what it needs); ``mapped``: only the parts read are loaded."""
+    try:
+        return np.load(path, mmap_mode="r" if mapped else None)
+    except OSError:
+        return None
 
 
 def node_times(first: int, count: int, step_days: float) -> np.ndarray:
@@ -39,11 +50,8 @@ def node_times(first: int, count: int, step_days: float) -> np.ndarray:
 @functools.lru_cache(maxsize=1)
 def _table() -> np.ndarray | None:
     """The table, mapped from its file (only the columns read are loaded), or None without the file."""
-    try:
-        table = np.load(FILE, mmap_mode="r")
-    except OSError:
-        return None
-    return table if table.shape == (4, DAYS * PER_DAY + 1) and table.dtype == np.float64 else None
+    table = kept_table(FILE, mapped=True)
+    return table if table is not None and table.shape == (4, DAYS * PER_DAY + 1) and table.dtype == np.float64 else None
 
 
 def covers(start_tt_jd: float, nodes: int, step_days: float) -> bool:
