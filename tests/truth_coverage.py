@@ -67,6 +67,15 @@ def summary(name, hits, bias, extra=None, error=None, sigma=None):
     return out
 
 
+#: Every trial's folder is made in this one, removed with them when the process ends.
+_TRIALS = tempfile.TemporaryDirectory(prefix="firstrung-trials-")
+
+
+def trial_folder() -> Path:
+    """A new folder for one simulated campaign (its file and logs)."""
+    return Path(tempfile.mkdtemp(dir=_TRIALS.name))
+
+
 # --- shadows -------------------------------------------------------------------------------
 
 
@@ -79,7 +88,7 @@ def shadows(n, seed=1):
     hits, bias = [], []
     sites = [("north", 52.0, 5.0, 10.0), ("mid", 46.0, 6.0, 400.0), ("south", 40.0, 4.0, 50.0)]
     for i in range(n):
-        folder = Path(tempfile.mkdtemp())
+        folder = trial_folder()
         path = write_campaign(folder, sites, shadows=[])
         rows = shadow_rows(read_campaign(path), "2027-03-18", "2027-03-20", seed + i)
         (folder / "logs" / "shadows.csv").write_text(
@@ -121,7 +130,7 @@ def eclipse(n, seed=2, observed_moon=False):
     for i in range(n):
         when, sites = ECLIPSES[i % len(ECLIPSES)]
         e = eclipse_near(when)
-        folder = Path(tempfile.mkdtemp())
+        folder = trial_folder()
         extra = ""
         if observed_moon:
             site = sites[0]
@@ -272,7 +281,7 @@ def eclipse_enlargement(n, seed=5, fixed=None, craters=False):
         simulated_percent = 100 * (factor * danjon / geometric - 1)
         if craters:
             rows += _crater_rows(e, simulated_percent, sites, rng)
-        folder = Path(tempfile.mkdtemp())
+        folder = trial_folder()
         path = write_campaign(folder, sites, eclipse=rows)
         results = [r for r in run_eclipse(path).results if r.reduction is not None]
         if not results:
@@ -358,7 +367,7 @@ def phases(n, scenario, seed=3, common_zero_point_sigma=0.0):
                         err = shared + rng.normal(0, 300.0)
                     t = half[k, j] + np.timedelta64(int(err * 1e3), "ms")
                     rows.append([site[0], z(t), str(q.quarter[k]), "", "", "1200", f"eye {site[0]} {o}"])
-        folder = Path(tempfile.mkdtemp())
+        folder = trial_folder()
         path = write_campaign(folder, [s + (False,) for s in PHASE_SITES], phases=rows)
         run = run_phases(path, **settings)
         truth_e = float(np.mean([x.expected_elongation_deg for x in run.estimates]))

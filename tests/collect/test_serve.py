@@ -218,7 +218,8 @@ def _ended(pid: int) -> bool:
 
 @pytest.mark.skipif(not Path("/proc/self/task").exists() or (os.cpu_count() or 1) < 2,
                     reason="needs /proc and two cores (the check runs in the server's own process on one)")
-def test_the_check_process_ends_with_the_server_even_when_the_server_is_killed(tmp_path):
+def test_the_check_process_ends_with_the_server_even_when_the_server_is_killed(tmp_path, monkeypatch):
+    monkeypatch.setenv("TMPDIR", str(tmp_path))  # a server killed outright cannot remove its passing files' folders
     campaign = collecting_campaign(tmp_path, "shadows = []\n")
     with Server(campaign, tmp_path / "s.sqlite", tmp_path / "links.json") as server:
         answer = post_reading(server.links["sites"]["fjell"], "shadows",

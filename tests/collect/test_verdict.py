@@ -119,9 +119,7 @@ def test_each_new_readings_verdict_is_the_full_checks_on_the_same_rows(readings,
         assert _flags(reading.verdict["flags"]) == _flags(
             [{"code": f.code, "severity": f.severity, "message": f.message} for f in full if f.row == row])
     finally:
-        state.checks.stop()
-        state.writer.shutdown(wait=True)
-        state.store.close()
+        state.close()
 
 
 def test_a_check_process_that_dies_loses_no_verdict(readings):
@@ -146,9 +144,9 @@ def test_a_check_process_that_dies_loses_no_verdict(readings):
         second = list(state.checks._pool._processes.values())
         assert second and second[0].pid != first.pid and second[0].is_alive()
     finally:
-        state.checks.stop()
-        state.writer.shutdown(wait=True)
-        state.store.close()
+        state.close()
+    # the passing files' folders (the server's and each check process's within it) removed on closing
+    assert not state.judge.folder.exists() and not state.join_folder.exists()
 
 
 def test_a_reading_the_reader_refuses_with_stored_ones_is_refused_as_alone(readings):
@@ -165,5 +163,4 @@ def test_a_reading_the_reader_refuses_with_stored_ones_is_refused_as_alone(readi
         assert not good.refused and stored is not None
         assert [r.cells for r in state.store.readings()] == [plan["fjell"][0], plan["fjell"][2]]
     finally:
-        state.writer.shutdown(wait=True)
-        state.store.close()
+        state.close()

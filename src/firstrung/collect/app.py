@@ -237,9 +237,15 @@ class Collection:
 
     async def stop(self) -> None:
         self._task.cancel()
+        self.close()
+
+    def close(self) -> None:
+        """The writer, the check process and the store closed, and the passing files' folders removed."""
         self.writer.shutdown(wait=True)
         self.checks.stop()
         self.store.close()
+        shutil.rmtree(self.join_folder, ignore_errors=True)
+        shutil.rmtree(self.judge.folder, ignore_errors=True)  # the checks' passing files, none left
 
     def _warm_up(self) -> None:
         """Load the ephemeris and each check once, and today's noon at every site (in one vectorised call)
@@ -592,8 +598,6 @@ def create_app(campaign_path, store_path, kinds: tuple[str, ...], now=None, join
         app.state.collection = state
         yield
         await state.stop()
-        shutil.rmtree(state.join_folder, ignore_errors=True)
-        shutil.rmtree(state.judge._folder, ignore_errors=True)  # the checks' passing files, none left
 
     from contextlib import asynccontextmanager
 

@@ -98,11 +98,11 @@ class Judge:
     def __init__(self, campaign, folder: Path | None = None) -> None:
         self.campaign = campaign
         self.zones = {s.id: s.timezone for s in campaign.sites}
-        self._folder = Path(folder) if folder is not None else Path(tempfile.mkdtemp(prefix="firstrung-collect-"))
+        self.folder = Path(folder) if folder is not None else Path(tempfile.mkdtemp(prefix="firstrung-collect-"))
         self._count = itertools.count()
 
     def _read(self, kind: LogKind, campaign, text: str):
-        path = self._folder / f"{next(self._count)}.csv"
+        path = self.folder / f"{next(self._count)}.csv"
         path.write_text(text, encoding="utf-8")
         try:
             return kind.read(campaign, [path])
@@ -205,7 +205,7 @@ _APART: Judge | None = None
 
 
 def _start_apart(campaign, kinds: tuple[str, ...], folder: str) -> None:
-    """In the check process: a judge writing its files in ``folder``, each kind's check run once (the
+    """In the check process: a judge writing its files in a folder of its own within ``folder``, each kind's check run once (the
     ephemeris loaded, the modules imported), so that the first reading is answered fast. Ctrl-C is the
     server's to handle: it stops this process in order."""
     global _APART
@@ -213,7 +213,9 @@ def _start_apart(campaign, kinds: tuple[str, ...], folder: str) -> None:
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     threading.Thread(target=_end_with_server, args=(os.getppid(),), daemon=True).start()
-    _APART = Judge(campaign, folder)
+    own = Path(folder) / f"check-{os.getpid()}"  # its own files: never the same name as the server's thread's
+    own.mkdir(exist_ok=True)
+    _APART = Judge(campaign, own)
     for name in kinds:
         kind = log_kind(name)
         try:
@@ -254,7 +256,7 @@ class CheckProcess:
         # a new interpreter, not a fork: the server's process has threads and an event loop by then
         self._pool = ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"),
                                          initializer=_start_apart,
-                                         initargs=(self.here.campaign, self.kinds, str(self.here._folder)))
+                                         initargs=(self.here.campaign, self.kinds, str(self.here.folder)))
         self._ready = self._pool.submit(int)  # start the process now, not at the first reading
 
     def wait_ready(self) -> None:
