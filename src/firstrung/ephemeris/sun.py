@@ -217,11 +217,24 @@ def _day_grids_sun(tt: np.ndarray):
     return both[:3], np.mod(both[3], 2.0 * np.pi)
 
 
+def _grid_span(first_tt: float, last_tt: float) -> tuple[float, int]:
+    """The grid for TT Julian dates from ``first_tt`` to ``last_tt``: its first node and its number of nodes
+    (whole days with half a day of margin, so that the iterations of a search share one grid)."""
+    start = float(np.floor(first_tt - 0.5))
+    return start, int(round((np.ceil(last_tt + 0.5) - start) / (_GRID_STEP_H / 24.0))) + 1
+
+
+def _grid_serves(evaluations: int, start: float, nodes: int) -> bool:
+    """Whether ``evaluations`` Sun positions are served by the grid of ``nodes`` from ``start``: when
+    they outnumber its nodes enough, or at least a few hundred when the shipped table holds the grid."""
+    return evaluations >= _GRID_MIN_GAIN * nodes or (
+        evaluations >= _TABLE_MIN_EVALUATIONS and sun_table.covers(start, nodes, _GRID_STEP_H / 24.0))
+
+
 def _grid_pays(time_utc: np.ndarray, evaluations: int) -> bool:
-    """Whether ``evaluations`` Sun positions over the span of these times are cheaper from the grid."""
+    """Whether ``evaluations`` Sun positions over the span of these times are served by the grid."""
     ends = _tt_jd(np.array([time_utc.min(), time_utc.max()], dtype="datetime64[us]"))
-    nodes = int(round((np.ceil(ends[1] + 0.5) - np.floor(ends[0] - 0.5)) / (_GRID_STEP_H / 24.0))) + 1
-    return evaluations >= _GRID_MIN_GAIN * nodes
+    return _grid_serves(evaluations, *_grid_span(ends[0], ends[1]))
 
 
 def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = None):
@@ -246,13 +259,8 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     if grid is None and getattr(_PREFER_GRID, "on", False):
         return _day_grids_sun(tt)
     step = _GRID_STEP_H / 24.0
-    # whole days with half a day of margin, so that the iterations of a search share one grid
-    start = np.floor(tt.min() - 0.5)
-    nodes = int(round((np.ceil(tt.max() + 0.5) - start) / step)) + 1
-    evaluations = time_utc.size * uses
-    few = evaluations < _GRID_MIN_GAIN * nodes and not (
-        evaluations >= _TABLE_MIN_EVALUATIONS and sun_table.covers(float(start), nodes, step))
-    if not grid and (grid is False or few):
+    start, nodes = _grid_span(tt.min(), tt.max())
+    if not grid and (grid is False or not _grid_serves(time_utc.size * uses, start, nodes)):
         key = time_utc.tobytes() if time_utc.size <= _RECENT_MAX_TIMES else None
         hit = None if key is None else _RECENT_DIRECT.get(key)
         if hit is not None:  # the same few times again (a check's hypotheses, a server's batches)
