@@ -345,7 +345,8 @@ def error_rows(campaign, log, check) -> frozenset[tuple[str, int]]:
 
 
 def without_error_rows(campaign, log, check):
-    """The log without the rows ``check`` flags as errors, and how many were left out.
+    """The log without the rows ``check`` flags as errors, and how many were left out. ``log``: anything
+    with ``file``, ``row`` and ``select`` (a method's log, or the shadow readings made from one).
 
     >>> from firstrung.campaign import parse_campaign
     >>> from firstrung.methods.shadows.check import log_flags

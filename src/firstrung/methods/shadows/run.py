@@ -112,13 +112,10 @@ def _without_flagged(campaign: Campaign, log, readings: ShadowReadings, extra, r
         from firstrung.memory import release_free_memory
 
         release_free_memory()
-    bad = {(f.file, f.row) for f in flags if f.severity == "error" and f.row is not None}
-    if not bad:
-        return flags, readings, 0  # nothing to leave out: the readings as they are, not a copy
-    from firstrung.flags import rows_kept
+    from firstrung.flags import without_error_rows
 
-    keep = rows_kept(readings.file, readings.row, bad)
-    return flags, readings.select(keep), int(np.sum(~keep))
+    kept, left_out = without_error_rows(campaign, readings, lambda *_: flags)  # the readings take a log's place
+    return flags, kept, left_out
 
 
 def is_open_network(campaign: Campaign, readings: ShadowReadings) -> bool:
