@@ -72,6 +72,17 @@ def main(argv: list[str] | None = None) -> None:
     SystemExit
         With the exit status.
     """
+    from firstrung.cli import kept_methods
+
+    kept_methods.install()  # before any dataclass is made: typer's and rich's too
+    try:
+        _run(argv)
+    finally:
+        kept_methods.keep()
+
+
+def _run(argv: list[str] | None) -> None:
+    """:func:`main` once the dataclass methods' kept code is in place."""
     import warnings
 
     from firstrung.cli.app import build, plain_values
