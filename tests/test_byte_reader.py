@@ -157,6 +157,10 @@ def _kept_rows(campaign, byte_reader, monkeypatch):
         raw = RawFile("shadows", "x.csv", Path(path), header, numbers, cells)
         out[path] = (header, list(numbers), [list(c) for c in cells],
                      {name: raw.column_cells(name) for name in [*header, "no such column"]})
+        for name in [*header, "no such column"]:  # the same cells as distinct texts and indices
+            texts, code = raw.column_codes(name)
+            assert len(set(texts)) == len(texts) and set(code.tolist()) <= set(range(len(texts)))
+            assert [texts[c] for c in code.tolist()] == out[path][3][name]
     return out
 
 

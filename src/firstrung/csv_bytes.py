@@ -139,6 +139,7 @@ class LineCells(Sequence):
         self._data = data
         self._parts: list[tuple[np.ndarray, np.ndarray]] = []
         self._size = 0
+        self._comma_cache: tuple | None = None
 
     def add(self, start: np.ndarray, end: np.ndarray) -> None:
         """Lines ``data[start:end]`` after those already held."""
@@ -174,37 +175,45 @@ class LineCells(Sequence):
 
     def column(self, k: int) -> list[str]:
         """Every line's ``k``-th cell, stripped as ``str.strip`` strips it ('' when the line has fewer)."""
-        start, end = self._spans()
+        names, code = self.column_codes(k)
+        return np.array(names, dtype=object)[code].tolist() if names else []
+
+    def column_codes(self, k: int) -> tuple[list[str], np.ndarray]:
+        """:meth:`column` as its distinct texts and each line's index into them."""
+        raw, start, end, commas, first, within = self._commas()
         n = start.size
         if n == 0:
-            return []
-        raw = np.frombuffer(self._data, np.uint8)
-        commas = np.flatnonzero(raw == 44)
-        first = np.searchsorted(commas, start)
-        within = np.searchsorted(commas, end) - first  # commas inside each line
-        present = within >= k
-        at = np.flatnonzero(present)
+            return [], np.zeros(0, np.int64)
+        at = np.flatnonzero(within >= k)
         s = start[at] if k == 0 else commas[first[at] + k - 1] + 1
         e = end[at] if commas.size == 0 else np.where(
             within[at] > k, commas[np.minimum(first[at] + k, commas.size - 1)], end[at])
-        out = [""] * n
+        names = [""]  # a line without the cell
+        code = np.zeros(n, np.int64)
         long = (e - s) > WIDEST_CELL
-        for j in np.flatnonzero(long).tolist():
-            out[at[j]] = self._data[s[j]:e[j]].decode("utf-8").strip()
         short = np.flatnonzero(~long)
         if short.size:
             values, inverse = distinct_texts(_gather(raw, s[short], e[short]))
-            texts = np.array([v.decode("utf-8").strip() for v in values.tolist()], dtype=object)
-            if long.any():
-                for row, text in zip(at[short].tolist(), texts[inverse].tolist(), strict=True):
-                    out[row] = text
-            elif at.size == n:
-                out = texts[inverse].tolist()
-            else:
-                column = np.full(n, "", dtype=object)
-                column[at] = texts[inverse]
-                out = column.tolist()
-        return out
+            names.extend(v.decode("utf-8").strip() for v in values.tolist())
+            code[at[short]] = inverse + 1
+        for j in np.flatnonzero(long).tolist():
+            code[at[j]] = len(names)
+            names.append(self._data[s[j]:e[j]].decode("utf-8").strip())
+        index: dict[str, int] = {}  # cells that differ only in their spaces are one text
+        same = np.array([index.setdefault(name, len(index)) for name in names], np.int64)
+        return list(index), same[code]
+
+    def _commas(self) -> tuple[np.ndarray, ...]:
+        """The bytes, every line's start and end, the commas, each line's first comma and its count of them
+        (kept for the next column)."""
+        if self._comma_cache is None or self._comma_cache[0] != self._size:
+            start, end = self._spans()
+            raw = np.frombuffer(self._data, np.uint8)
+            commas = np.flatnonzero(raw == 44)
+            first = np.searchsorted(commas, start)
+            within = np.searchsorted(commas, end) - first  # commas inside each line
+            self._comma_cache = (self._size, raw, start, end, commas, first, within)
+        return self._comma_cache[1:]
 
 
 def _lines(data: bytes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -154,16 +154,33 @@ def summarize(records, flags) -> tuple[SummaryRow, ...]:
 
 
 def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...]:
-    """:func:`summarize` of rows given column by column (arrays or sequences of equal length): the rows
-    are counted by site and by site and observer at once, then only the flagged rows are looked at."""
-    from collections import Counter
+    """:func:`summarize` of rows given column by column (arrays or sequences of equal length)."""
+    from firstrung.distinct import distinct_texts
 
-    n = len(row)
+    if len(row) == 0:
+        return ()
+    site = ["" if s is None else s for s in site]
+
+    def coded(values):
+        names, code = distinct_texts(np.array(list(values), dtype=object))
+        return names.tolist(), code
+
+    return summarize_coded(coded(file), row, coded(site), coded(observer), flags)
+
+
+def summarize_coded(file, row, site, observer, flags) -> tuple[SummaryRow, ...]:
+    """:func:`summarize` of rows whose file, site and observer are each given as (distinct texts, each row's
+    index into them): the rows are counted by site and observer pair at once, then the flagged rows' counts
+    are taken off (a site of None counts as '')."""
+    file_names, file_code = file
+    site_names, site_code = site
+    observer_names, observer_code = observer
+    n = len(file_code)
     if n == 0:
         return ()
-    if not (isinstance(site, list) and None not in site):
-        site = ["" if s is None else s for s in site]
-    file, site, observer = _texts(file), _texts(site), _texts(observer)
+    file_names = _texts(list(file_names))
+    site_names = _texts(["" if s is None else s for s in site_names])
+    observer_names = _texts(list(observer_names))
     refused = {f.file for f in flags if f.row is None and f.code == "unreadable-file" and f.severity == "error"}
     marked: dict[str, tuple[set, set]] = {}  # per file: rows with a flag, rows with an error flag
     for f in flags:
@@ -172,32 +189,35 @@ def summarize_columns(file, row, site, observer, flags) -> tuple[SummaryRow, ...
             rows_of[0].add(f.row)
             if f.severity == "error":
                 rows_of[1].add(f.row)
+    file_code = np.asarray(file_code, np.int64)
+    flagged, error = np.zeros(n, bool), np.zeros(n, bool)
+    numbers = None
+    for k, name in enumerate(file_names):
+        if name in refused:  # every row of a file that could not be read has an error
+            flagged |= file_code == k
+            error |= file_code == k
+        elif name in marked:
+            numbers = np.asarray(row, np.int64) if numbers is None else numbers
+            on_file = file_code == k
+            flagged |= on_file & np.isin(numbers, np.fromiter(marked[name][0], np.int64))
+            error |= on_file & np.isin(numbers, np.fromiter(marked[name][1], np.int64))
+    width = max(1, len(observer_names))
+    pairs, pair = np.unique(np.asarray(site_code, np.int64) * width + np.asarray(observer_code, np.int64),
+                            return_inverse=True)
+    pair = pair.reshape(-1)
+    read = np.bincount(pair, minlength=pairs.size).tolist()
+    flagged_count = np.bincount(pair[flagged], minlength=pairs.size).tolist()
+    error_count = np.bincount(pair[error], minlength=pairs.size).tolist()
     table: dict[tuple[str, str], list[int]] = {}
-    for (s, o), count in Counter(zip(site, observer, strict=True)).items():
+    for j, p in enumerate(pairs.tolist()):
+        s, o = site_names[p // width], observer_names[p % width]
         for key in ((s, ""), (s, o)) if o else ((s, ""),):
             counts = table.setdefault(key, [0, 0, 0, 0, 0])  # read, accepted, flagged, errors, warnings
-            counts[0] += count
-            counts[1] += count
-    wanted = refused | marked.keys()
-    if wanted:
-        for k, name in enumerate(file):
-            if name not in wanted:
-                continue
-            if name in refused:
-                flagged = error = True
-            else:
-                number = int(row[k])
-                flagged, error = number in marked[name][0], number in marked[name][1]
-            if not flagged:
-                continue
-            for key in ((site[k], ""), (site[k], observer[k])) if observer[k] else ((site[k], ""),):
-                counts = table[key]
-                counts[2] += 1
-                if error:
-                    counts[1] -= 1
-                    counts[3] += 1
-                else:
-                    counts[4] += 1
+            counts[0] += read[j]
+            counts[1] += read[j] - error_count[j]
+            counts[2] += flagged_count[j]
+            counts[3] += error_count[j]
+            counts[4] += flagged_count[j] - error_count[j]
     return tuple(SummaryRow(s, o, *v) for (s, o), v in sorted(table.items()))
 
 

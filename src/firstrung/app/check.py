@@ -11,17 +11,19 @@ from __future__ import annotations
 
 import csv
 import io
-import itertools
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+
+import numpy as np
 
 from firstrung import tabular as _logs
 from firstrung import text_files
 from firstrung.campaign import read_campaign
 from firstrung.campaign_model import Campaign
+from firstrung.distinct import distinct_texts
 from firstrung.errors import InputError
-from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize_columns
+from firstrung.flags import Flag, KindCheck, SeriesDiagnosis, SummaryRow, summarize_coded
 
 
 @dataclass(frozen=True)
@@ -53,6 +55,15 @@ class RawFile:
         if hasattr(self.cells, "column"):  # cells cut from a plain file's bytes: the column at once
             return self.cells.column(k)
         return [cells[k].strip() if k < len(cells) else "" for cells in self.cells]
+
+    def column_codes(self, column: str) -> tuple[list[str], np.ndarray]:
+        """:meth:`column_cells` as its distinct texts and each row's index into them."""
+        wanted = column.strip().lower()
+        k = next((k for k, name in enumerate(self.header) if name == wanted), None)
+        if k is not None and hasattr(self.cells, "column_codes"):  # cut from a plain file's bytes
+            return self.cells.column_codes(k)
+        names, code = distinct_texts(np.array(self.column_cells(column), dtype=object))
+        return names.tolist(), code
 
     def cell(self, cells: tuple[str, ...], column: str) -> str:
         """The cell of a column (matched like the readers: case and spaces ignored), '' when absent."""
@@ -178,11 +189,12 @@ def run_check(campaign_path) -> CheckRun:
         series.extend(result.series)
         noon_only = result.noon_only if result.noon_only is not None else noon_only
         files.extend(read_raw_rows(campaign, kind, kept))
-    columns = [(f.label, f.numbers, f.column_cells("site"), f.column_cells("observer")) for f in files]
     needed = {(f.file, f.row) for f in flags if f.site is None and f.row is not None}
     site_of, observer_of = {}, {}
-    for label, numbers, sites, observers in columns:  # only the rows whose flags lack a site
+    for raw in files:  # only the rows whose flags lack a site
+        label, numbers = raw.label, raw.numbers
         if any(file == label for file, _ in needed):
+            sites, observers = raw.column_cells("site"), raw.column_cells("observer")
             place = dict(zip(numbers, range(len(numbers)), strict=True))
             for file, row in needed:
                 if file == label and row in place:
@@ -193,10 +205,29 @@ def run_check(campaign_path) -> CheckRun:
         for f in flags
     ]
     flags.sort(key=lambda f: (f.file, -1 if f.row is None else f.row))
-    summary = summarize_columns(*(
-        [value for column in columns for value in itertools.repeat(column[0], len(column[1]))] if k == 0 else
-        [value for column in columns for value in column[k]] for k in range(4)), flags)
+    summary = summarize_coded(*_coded_columns(files), flags)
     return CheckRun(campaign, kinds, tuple(flags), tuple(series), summary, tuple(files), noon_only)
+
+
+def _coded_columns(files: Sequence[RawFile]):
+    """The files' rows as :func:`firstrung.flags.summarize_coded` takes them: file, row, site and observer,
+    each text column as (distinct texts, each row's index into them)."""
+    labels, file_code, rows, sites, observers = [], [], [], ([], []), ([], [])
+    for raw in files:
+        file_code.append(np.full(len(raw.numbers), len(labels), np.int64))
+        labels.append(raw.label)
+        rows.append(np.asarray(raw.numbers, np.int64).reshape(-1))
+        for column, (names, codes) in zip((sites, observers), (raw.column_codes("site"), raw.column_codes("observer")),
+                                          strict=True):
+            codes = np.asarray(codes, np.int64) + len(column[0])
+            column[0].extend(names)
+            column[1].append(codes)
+
+    def joined(parts):
+        return np.concatenate(parts) if parts else np.zeros(0, np.int64)
+
+    return ((labels, joined(file_code)), joined(rows), (sites[0], joined(sites[1])),
+            (observers[0], joined(observers[1])))
 
 
 def _with_site(flag: Flag, site: str | None, observer_of) -> Flag:
