@@ -85,16 +85,18 @@ def _run(argv: list[str] | None) -> None:
     """:func:`main` once the dataclass methods' kept code is in place."""
     import warnings
 
-    from firstrung.cli.app import build, plain_values
+    from firstrung.cli.direct import run_direct
 
-    plain_values()
     args, debug = _take_debug(list(sys.argv[1:] if argv is None else argv))
-    app = build(args)
     with warnings.catch_warnings():
         if not debug:
             warnings.showwarning = _one_line_warning
         try:
-            app(args=args, prog_name="firstrung", standalone_mode=True)
+            if not run_direct(args):  # a plain command line is read without typer; typer reads the rest
+                from firstrung.cli.app import build, plain_values
+
+                plain_values()
+                build(args)(args=args, prog_name="firstrung", standalone_mode=True)
         except SystemExit as exit_:
             if exit_.code == INTERRUPTED_STATUS and _interrupted(exit_):
                 print("firstrung: interrupted", file=sys.stderr)

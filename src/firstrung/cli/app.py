@@ -6,35 +6,9 @@ import importlib
 from pathlib import Path
 from typing import Annotated
 
-import typer
-
 from firstrung import __version__
-from firstrung.patterns import pattern
-
-#: The groups whose sub-commands come from the methods' registry (firstrung.methods.REGISTRY):
-#: group -> (its help, the registry entry's attribute naming the sub-command, and its help,
-#: and the function of the method's ``commands`` module that adds it).
-GROUPS = {
-    "plan": ("Plan a campaign: dates and times that work at every site, predictions, calendars.",
-             "plan_command", "plan_help", "register_plan"),
-    "reduce": ("Reduce a campaign's logs to a result with its uncertainty.",
-               "reduce_command", "reduce_help", "register_reduce"),
-    "simulate": ("Write synthetic logs a campaign would produce, with its stated errors.",
-                 "simulate_command", "simulate_help", "register_simulate"),
-}
-#: Commands at the top level, each in its own module of firstrung.cli defining ``register(app)``.
-TOP_LEVEL = ["sheet", "ladder", "report", "check", "demo", "serve"]
-#: The top-level names each TOP_LEVEL module registers, with their one-line help, so that
-#: ``firstrung --help`` lists every command without importing any (a test keeps this true).
-TOP_LEVEL_HELP = {
-    "check": ("check", "Check every log of a campaign and name the rows that look wrong, with the fix to ask for."),
-    "demo": ("demo", "Simulate an invented campaign's logs, check them, reduce every rung, chain the ladder, write the report."),
-    "ladder": ("ladder", "Earth's radius -> the Moon's distance -> the Sun's distance -> the sizes of Moon and Sun."),
-    "report": ("report", "Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."),
-    "serve": ("serve", "Collect readings on line: a form per log for each site's link, the check's verdict at once."),
-    "sheet": ("sheet", "A printable noon-shadow field sheet (one page) for one site and day, with the times to read."),
-    "blank-sheets": ("sheet", "Blank field sheets (HTML) and CSV log templates for shadows, eclipse and half-moon work."),
-}
+from firstrung.cli.command_names import GROUPS, TOP_LEVEL, TOP_LEVEL_HELP
+from firstrung.cli.direct import Option, TyperApp, typer_ready
 
 HELP = (
     "Plan, check and reduce geometric-astronomy measurement campaigns: noon shadows at "
@@ -44,6 +18,8 @@ HELP = (
 
 
 def _version(value: bool) -> None:
+    import typer
+
     if value:
         print(f"firstrung {__version__}")
         raise typer.Exit(0)
@@ -59,7 +35,7 @@ def _first_command(args) -> str | None:
     return None
 
 
-def _add_aliases(group: typer.Typer, infos, aliases) -> None:
+def _add_aliases(group, infos, aliases) -> None:
     """The same commands under the method's other spellings, hidden from the help."""
     import copy
 
@@ -71,12 +47,14 @@ def _add_aliases(group: typer.Typer, infos, aliases) -> None:
                 group.registered_commands.append(twin)
 
 
-def build(args=None) -> typer.Typer:
+def build(args=None):
     """The command tree; given the command line, only the named command's modules are imported.
 
     With no command named (``firstrung --help``), every command is listed by
     name and one-line help without importing its module.
     """
+    import typer
+
     app = typer.Typer(
         name="firstrung",
         help=HELP,
@@ -86,14 +64,15 @@ def build(args=None) -> typer.Typer:
         rich_markup_mode=None,
     )
 
-    @app.callback()
     def root(
         version: Annotated[
-            bool, typer.Option("--version", callback=_version, is_eager=True, help="Show the version and exit.")
+            bool, Option("--version", callback=_version, is_eager=True, help="Show the version and exit.")
         ] = False,
-        debug: Annotated[bool, typer.Option("--debug", help="Show the traceback of an internal error.")] = False,
+        debug: Annotated[bool, Option("--debug", help="Show the traceback of an internal error.")] = False,
     ) -> None:
         """firstrung: campaigns of classical geometric astronomy."""
+
+    app.callback()(typer_ready(root))
 
     from ..methods import REGISTRY
 
@@ -107,7 +86,7 @@ def build(args=None) -> typer.Typer:
             command = getattr(m, command_attr)
             if args is None or (wanted == name and sub in (command, *m.aliases)):
                 before = len(group.registered_commands)
-                getattr(m.module("commands"), adder)(group)
+                getattr(m.module("commands"), adder)(TyperApp(group))
                 _add_aliases(group, group.registered_commands[before:], m.aliases)
                 continue
             # listed by name and help only: the method's modules are not imported
@@ -121,37 +100,8 @@ def build(args=None) -> typer.Typer:
         [TOP_LEVEL_HELP[wanted][0]] if wanted in TOP_LEVEL_HELP else []
     )
     for module in modules:
-        importlib.import_module(f"firstrung.cli.{module}").register(app)
+        importlib.import_module(f"firstrung.cli.{module}").register(TyperApp(app))
     return app
-
-
-#: Command-line numbers converted here, without typer's general converter: plain decimals only
-#: (anything else, and every value out of its range, goes to typer's own converter and its messages).
-_PLAIN_INT = pattern(r"-?(0|[1-9][0-9]{0,14})")
-_PLAIN_FLOAT = pattern(r"-?(0|[1-9][0-9]{0,14})(\.[0-9]{1,17})?")
-_UNSURE = object()
-
-
-def _plain(annotation, info, value):
-    """``value`` converted as typer would convert it for the simple types firstrung's options use,
-    or ``_UNSURE`` (typer's own converter then decides, with its own message)."""
-    if annotation is str:
-        return value if isinstance(value, str) else _UNSURE
-    if annotation is bool:
-        return value if isinstance(value, bool) else _UNSURE
-    if annotation is int or annotation is float:
-        if isinstance(value, str) and (_PLAIN_INT if annotation is int else _PLAIN_FLOAT)().fullmatch(value):
-            number = annotation(value)
-        elif type(value) is annotation or (annotation is float and type(value) is int):
-            number = annotation(value)
-        else:
-            return _UNSURE
-        if info.clamp or (info.min is not None and number < info.min) or (info.max is not None and number > info.max):
-            return _UNSURE
-        return number
-    if annotation == list[str]:
-        return list(value) if isinstance(value, (list, tuple)) and all(isinstance(v, str) for v in value) else _UNSURE
-    return _UNSURE
 
 
 def plain_values() -> None:
@@ -164,6 +114,8 @@ def plain_values() -> None:
     machinery is left as it is. tests/test_startup_libraries.py runs the same app both ways and fails
     if typer's conversion changes; pyproject.toml bounds typer to the versions tested.
     """
+    from firstrung.cli.direct import UNSURE, plain_value
+
     try:
         from typer import _coercion, core
         from typer._param_types import coerce_cli_path
@@ -180,8 +132,8 @@ def plain_values() -> None:
                 if isinstance(value, str) and value and "\x00" not in value:
                     return coerce_cli_path(Path(value), info, path_type=Path, param=param, ctx=ctx)
             elif info.parser is None:
-                out = _plain(self.annotation, info, value)
-                if out is not _UNSURE:
+                out = plain_value(self.annotation, info, value)
+                if out is not UNSURE:
                     return out
             return typers_own(param.type_descriptor)._coerce_value(value, param=param, ctx=ctx)
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     JsonOption,
@@ -18,7 +18,7 @@ from firstrung.cli.common import (
 from firstrung.numbers import plural
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     """Add ``check`` at the top level."""
     app.command("check")(handles_errors(check))
 
@@ -29,7 +29,7 @@ def check(
     verbose: VerboseOption = False,
     accepted: Annotated[
         Path | None,
-        typer.Option(
+        Option(
             "--accepted",
             help="Also write a copy of every row read, with a status column (accepted, "
             "accepted-with-warning, rejected) and its flag codes, to this CSV file. The logs are never changed.",
@@ -56,7 +56,7 @@ def check(
     else:
         render_check(data, verbose, accepted)
     if run.flags:
-        raise typer.Exit(1)
+        raise SystemExit(1)
 
 
 def render_check(data: dict, verbose: bool, accepted: Path | None) -> None:

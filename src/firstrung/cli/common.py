@@ -8,15 +8,15 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Argument, Option
 from firstrung.patterns import CONTROL_CHARACTERS, pattern
 
 CampaignArgument = Annotated[
-    Path, typer.Argument(help="The campaign file (TOML) that lists the sites, instruments and logs.", show_default=False, metavar="CAMPAIGN")
+    Path, Argument(help="The campaign file (TOML) that lists the sites, instruments and logs.", show_default=False, metavar="CAMPAIGN")
 ]
-JsonOption = Annotated[bool, typer.Option("--json", help="Print one JSON object on stdout and nothing else there.")]
-VerboseOption = Annotated[bool, typer.Option("--verbose", "-v", help="Show every step: per-day fits and assumptions.")]
+JsonOption = Annotated[bool, Option("--json", help="Print one JSON object on stdout and nothing else there.")]
+VerboseOption = Annotated[bool, Option("--verbose", "-v", help="Show every step: per-day fits and assumptions.")]
 
 
 #: Control characters a terminal would act on, line feeds included (``one_line``); without them,
@@ -40,7 +40,7 @@ def terminal_text(text: str, *, one_line: bool = False) -> str:
 
 CalendarSiteOption = Annotated[
     str | None,
-    typer.Option("--site", help="Put only this site's events in the calendar (--ics); the site id from the campaign file.",
+    Option("--site", help="Put only this site's events in the calendar (--ics); the site id from the campaign file.",
                  show_default=False),
 ]
 
@@ -60,10 +60,10 @@ def html_output(path: Path, option: str = "-o", suffix: str = ".html") -> None:
                          f"{path.with_suffix(suffix)} and print it to PDF from a browser")
 
 
-def fail(message: str, status: int = 2) -> typer.Exit:
+def fail(message: str, status: int = 2) -> SystemExit:
     """Print one line on stderr and give the exit to raise."""
     print(f"firstrung: {terminal_text(str(message), one_line=True)}", file=sys.stderr)
-    return typer.Exit(status)
+    return SystemExit(status)
 
 
 def handles_errors(command):
@@ -189,7 +189,7 @@ def print_json(obj: dict) -> None:
 
 
 IncludeFlaggedOption = Annotated[
-    bool, typer.Option("--include-flagged", help="Keep the rows that 'firstrung check' flags as errors.")
+    bool, Option("--include-flagged", help="Keep the rows that 'firstrung check' flags as errors.")
 ]
 
 
@@ -251,13 +251,13 @@ def finish_reduction(run, data: dict, *, render, json_output: bool, verbose: boo
     report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
-        raise typer.Exit(2)
+        raise SystemExit(2)
 
 
 WEEKDAYS = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
 
-FromOption = Annotated[str, typer.Option("--from", help="First date (ISO 8601, e.g. 2027-01-01).", show_default=False)]
-ToOption = Annotated[str, typer.Option("--to", help="Last date, included.", show_default=False)]
+FromOption = Annotated[str, Option("--from", help="First date (ISO 8601, e.g. 2027-01-01).", show_default=False)]
+ToOption = Annotated[str, Option("--to", help="Last date, included.", show_default=False)]
 
 
 def parse_weekdays(text: str | None) -> tuple[int, ...] | None:
@@ -312,8 +312,8 @@ def parse_date(option: str, value: str) -> str:
         raise InputError(f"{option}: expected an ISO date such as 2027-03-20, got {value!r}") from None
 
 
-OutputOption = Annotated[Path, typer.Option("-o", "--output", help="Folder for the log file.", show_default=False)]
-SeedOption = Annotated[int, typer.Option("--seed", help="Seed of the random errors (same seed, same logs).")]
+OutputOption = Annotated[Path, Option("-o", "--output", help="Folder for the log file.", show_default=False)]
+SeedOption = Annotated[int, Option("--seed", help="Seed of the random errors (same seed, same logs).")]
 
 
 def write_simulated(campaign, kind: str, rows, columns, output: Path, what: str) -> None:
@@ -375,7 +375,7 @@ def registers(name: str, command):
     """A method's ``register_plan``/``register_reduce``/``register_simulate``: adds ``command``
     (its errors handled) to the group under ``name``."""
 
-    def register(group: typer.Typer) -> None:
+    def register(group) -> None:
         group.command(name)(handles_errors(command))
 
     return register

@@ -5,17 +5,17 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import console, handles_errors, progress_bar
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     app.command("demo")(handles_errors(demo))
 
 
 def demo(
-    output: Annotated[Path, typer.Option("-o", "--output", help="Folder for the demo's campaign, logs and results.")] = Path(
+    output: Annotated[Path, Option("-o", "--output", help="Folder for the demo's campaign, logs and results.")] = Path(
         "firstrung-demo"
     ),
 ) -> None:

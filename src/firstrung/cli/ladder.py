@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     JsonOption,
@@ -16,14 +16,14 @@ from firstrung.cli.common import (
 )
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     app.command("ladder")(handles_errors(ladder))
 
 
 def ladder(
     campaign: CampaignArgument,
-    samples: Annotated[int, typer.Option("--samples", min=1000, help="Monte Carlo draws.")] = 100_000,
-    seed: Annotated[int, typer.Option("--seed", help="Seed of the draws (same seed, same result).")] = 1,
+    samples: Annotated[int, Option("--samples", min=1000, help="Monte Carlo draws.")] = 100_000,
+    seed: Annotated[int, Option("--seed", help="Seed of the draws (same seed, same result).")] = 1,
     json_output: JsonOption = False,
 ) -> None:
     """Earth's radius -> the Moon's distance -> the Sun's distance -> the sizes of Moon and Sun.
@@ -42,7 +42,7 @@ def ladder(
         _render(data)
     report_problems(run.problems)
     if run.problems:
-        raise typer.Exit(2)
+        raise SystemExit(2)
 
 
 LABELS = {

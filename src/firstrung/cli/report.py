@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     console,
@@ -17,17 +17,17 @@ from firstrung.cli.common import (
 )
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     app.command("report")(handles_errors(report))
 
 
 def report(
     campaign: CampaignArgument,
-    output: Annotated[Path, typer.Option("-o", "--output", help="Report file to write (.html, or .md with --markdown).",
+    output: Annotated[Path, Option("-o", "--output", help="Report file to write (.html, or .md with --markdown).",
                                          show_default=False)],
-    markdown: Annotated[bool, typer.Option("--markdown", help="Write Markdown with PNG figures beside it instead of one HTML file.")] = False,
-    samples: Annotated[int, typer.Option("--samples", min=1000, help="Monte Carlo draws of the ladder.")] = 100_000,
-    seed: Annotated[int, typer.Option("--seed", help="Seed of the draws (same seed, same report).")] = 1,
+    markdown: Annotated[bool, Option("--markdown", help="Write Markdown with PNG figures beside it instead of one HTML file.")] = False,
+    samples: Annotated[int, Option("--samples", min=1000, help="Monte Carlo draws of the ladder.")] = 100_000,
+    seed: Annotated[int, Option("--seed", help="Seed of the draws (same seed, same report).")] = 1,
 ) -> None:
     """Write the campaign report: the ladder, each rung's data, fits and error budget, data quality, cautions."""
     from rich.markup import escape

@@ -5,31 +5,31 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import CampaignArgument, console, handles_errors
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     """Add ``serve`` at the top level."""
     app.command("serve")(handles_errors(serve))
 
 
 def serve(
     campaign: CampaignArgument,
-    host: Annotated[str, typer.Option("--host", help="Address to listen on; 127.0.0.1 unless a proxy or the "
+    host: Annotated[str, Option("--host", help="Address to listen on; 127.0.0.1 unless a proxy or the "
                                       "local network must reach it (see docs/serving.md).")] = "127.0.0.1",
-    port: Annotated[int, typer.Option("--port", help="Port to listen on (0: any free port).", min=0, max=65535)] = 8000,
-    store: Annotated[Path | None, typer.Option("--store", help="SQLite file of the readings (default: beside the "
+    port: Annotated[int, Option("--port", help="Port to listen on (0: any free port).", min=0, max=65535)] = 8000,
+    store: Annotated[Path | None, Option("--store", help="SQLite file of the readings (default: beside the "
                                                "campaign, NAME.readings.sqlite).", show_default=False,
                                                metavar="FILE")] = None,
-    links: Annotated[Path | None, typer.Option("--links", help="Write the coordinator's and each site's link "
+    links: Annotated[Path | None, Option("--links", help="Write the coordinator's and each site's link "
                                                "(JSON) to this file once the server listens.", show_default=False,
                                                metavar="FILE")] = None,
-    public_url: Annotated[str | None, typer.Option("--public-url", help="The address observers use, e.g. "
+    public_url: Annotated[str | None, Option("--public-url", help="The address observers use, e.g. "
                                                    "https://obs.example.org/readings behind a TLS proxy; the "
                                                    "links start with it.", show_default=False)] = None,
-    join: Annotated[bool | None, typer.Option("--join/--no-join", help="Serve an open network's join link, where "
+    join: Annotated[bool | None, Option("--join/--no-join", help="Serve an open network's join link, where "
                                               "a school registers and gets its own link (default: on when the "
                                               "campaign declares no [[site]]).", show_default=False)] = None,
 ) -> None:

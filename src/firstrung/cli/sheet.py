@@ -7,14 +7,14 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import CampaignArgument, console, handles_errors, html_output
 
-PaperOption = Annotated[str, typer.Option("--paper", help="Page size for printing: a4 or letter.")]
+PaperOption = Annotated[str, Option("--paper", help="Page size for printing: a4 or letter.")]
 
 
-def register(app: typer.Typer) -> None:
+def register(app) -> None:
     """Add ``sheet`` and ``blank-sheets`` at the top level."""
     app.command("sheet")(handles_errors(sheet))
     app.command("blank-sheets")(handles_errors(blank_sheets))
@@ -32,12 +32,12 @@ def _paper(value: str) -> str:
 
 def sheet(
     campaign: CampaignArgument,
-    site: Annotated[str, typer.Option("--site", help="Site id from the campaign file.", show_default=False)],
-    date: Annotated[str, typer.Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
-    output: Annotated[Path, typer.Option("-o", "--output", help="HTML file to write.", show_default=False)],
+    site: Annotated[str, Option("--site", help="Site id from the campaign file.", show_default=False)],
+    date: Annotated[str, Option("--date", help="Day of the readings (ISO 8601).", show_default=False)],
+    output: Annotated[Path, Option("-o", "--output", help="HTML file to write.", show_default=False)],
     paper: PaperOption = "a4",
-    blind: Annotated[bool, typer.Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
-    kind: Annotated[str, typer.Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night), phases (a half moon), transit (a transit of Mercury or Venus), parallax or cepheids (a night of star work).")] = "shadows",
+    blind: Annotated[bool, Option("--blind", help="Leave the predictions to be measured off the sheet.")] = False,
+    kind: Annotated[str, Option("--kind", help="shadows (noon shadows), eclipse (a lunar eclipse night), phases (a half moon), transit (a transit of Mercury or Venus), parallax or cepheids (a night of star work).")] = "shadows",
 ) -> None:
     """A printable noon-shadow field sheet (one page) for one site and day, with the times to read.
 
@@ -66,7 +66,7 @@ def sheet(
 
 
 def blank_sheets(
-    output: Annotated[Path, typer.Option("-o", "--output", help="Folder for the blank sheets and CSV templates.")] = Path(
+    output: Annotated[Path, Option("-o", "--output", help="Folder for the blank sheets and CSV templates.")] = Path(
         "field_sheets"
     ),
     paper: PaperOption = "a4",

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     FromOption,
@@ -28,8 +28,8 @@ from firstrung.cli.common import (
     write_simulated,
 )
 
-StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
-PeriodOption = Annotated[float | None, typer.Option("--period-days", min=0.05, max=1000.0,
+StarOption = Annotated[str | None, Option("--star", help="Only this star (its id or name in the campaign file).")]
+PeriodOption = Annotated[float | None, Option("--period-days", min=0.05, max=1000.0,
                                                      help="The Cepheid's period [d] (default: period_days of its [[star]]).")]
 
 
@@ -39,7 +39,7 @@ def plan_cepheids(
     date_to: ToOption,
     star: StarOption = None,
     period_days: PeriodOption = None,
-    nights: Annotated[int, typer.Option("--nights", min=2, max=1000, help="How many nights to choose.")] = 12,
+    nights: Annotated[int, Option("--nights", min=2, max=1000, help="How many nights to choose.")] = 12,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
 ) -> None:
@@ -75,10 +75,10 @@ def plan_cepheids(
 
 def reduce_cepheids(
     campaign: CampaignArgument,
-    relation: Annotated[str | None, typer.Option(
+    relation: Annotated[str | None, Option(
         "--relation", help="Period-luminosity relation by name: benedict2007-v (default for V), benedict2007-i, "
                            "benedict2007-k (Benedict et al. 2007, AJ 133, 1810).")] = None,
-    figure: Annotated[Path | None, typer.Option("--figure", help="Also write the folded light curves (.svg or .png).")] = None,
+    figure: Annotated[Path | None, Option("--figure", help="Also write the folded light curves (.svg or .png).")] = None,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
     include_flagged: IncludeFlaggedOption = False,
@@ -132,11 +132,11 @@ def simulate_cepheids(
     date_to: ToOption,
     output: OutputOption,
     seed: SeedOption = 1,
-    sigma_mag: Annotated[float, typer.Option("--sigma-mag", min=0.0001, max=2.0, help="Error of one magnitude [mag].")] = 0.02,
+    sigma_mag: Annotated[float, Option("--sigma-mag", min=0.0001, max=2.0, help="Error of one magnitude [mag].")] = 0.02,
     period_days: PeriodOption = None,
-    mean_magnitude: Annotated[float, typer.Option("--mean-magnitude", min=-30.0, max=30.0, help="Mean magnitude of the light curve (default: delta Cephei's in V).")] = 3.954,
-    range_mag: Annotated[float, typer.Option("--range-mag", min=0.0, max=5.0, help="Peak-to-peak range of the light curve [mag].")] = 0.89,
-    band: Annotated[str, typer.Option("--band", help="Band written in the log.")] = "V",
+    mean_magnitude: Annotated[float, Option("--mean-magnitude", min=-30.0, max=30.0, help="Mean magnitude of the light curve (default: delta Cephei's in V).")] = 3.954,
+    range_mag: Annotated[float, Option("--range-mag", min=0.0, max=5.0, help="Peak-to-peak range of the light curve [mag].")] = 0.89,
+    band: Annotated[str, Option("--band", help="Band written in the log.")] = "V",
     star: StarOption = None,
 ) -> None:
     """Light-curve logs: one magnitude of each Cepheid every night a site sees it in a dark sky.

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CalendarSiteOption,
     CampaignArgument,
@@ -31,7 +31,7 @@ from firstrung.cli.common import (
 
 ConventionOption = Annotated[
     str,
-    typer.Option(
+    Option(
         "--convention",
         help="How the atmosphere enlarges the Earth's shadow: danjon (the NASA canon's), chauvenet or geometric.",
     ),
@@ -40,14 +40,14 @@ ConventionOption = Annotated[
 
 def plan_eclipses(
     campaign: CampaignArgument,
-    date_from: Annotated[str, typer.Option("--from", help="First date (YYYY-MM-DD, UTC).", show_default=False)],
-    date_to: Annotated[str, typer.Option("--to", help="Last date (YYYY-MM-DD, UTC).", show_default=False)],
+    date_from: Annotated[str, Option("--from", help="First date (YYYY-MM-DD, UTC).", show_default=False)],
+    date_to: Annotated[str, Option("--to", help="Last date (YYYY-MM-DD, UTC).", show_default=False)],
     ics: Annotated[
-        Path | None, typer.Option("--ics", help="Also write to this calendar file (RFC 5545) the eclipses some "
+        Path | None, Option("--ics", help="Also write to this calendar file (RFC 5545) the eclipses some "
                                                 "site can see (the Moon up at a contact).")
     ] = None,
     site: CalendarSiteOption = None,
-    penumbral: Annotated[bool, typer.Option("--penumbral", help="Put penumbral eclipses in the calendar too.")] = False,
+    penumbral: Annotated[bool, Option("--penumbral", help="Put penumbral eclipses in the calendar too.")] = False,
     convention: ConventionOption = "danjon",
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
@@ -183,24 +183,24 @@ def reduce_eclipse(
     campaign: CampaignArgument,
     convention: Annotated[
         str,
-        typer.Option(
+        Option(
             "--convention",
             help="Enlargement convention inverted for the Moon's parallax: danjon (the NASA canon's), chauvenet or geometric.",
         ),
     ] = "danjon",
     earth_radius_km: Annotated[
         float | None,
-        typer.Option("--earth-radius-km", help="Earth radius for the distance in km (else the campaign's own shadow result) [km]."),
+        Option("--earth-radius-km", help="Earth radius for the distance in km (else the campaign's own shadow result) [km]."),
     ] = None,
     earth_radius_sigma_km: Annotated[
-        float | None, typer.Option("--earth-radius-sigma-km", help="One-sigma error of --earth-radius-km [km].")
+        float | None, Option("--earth-radius-sigma-km", help="One-sigma error of --earth-radius-km [km].")
     ] = None,
     magnitude: Annotated[
         float | None,
-        typer.Option("--magnitude", help="Observed greatest umbral magnitude (a partial eclipse timed at U1 and U4 needs it)."),
+        Option("--magnitude", help="Observed greatest umbral magnitude (a partial eclipse timed at U1 and U4 needs it)."),
     ] = None,
     magnitude_sigma: Annotated[
-        float | None, typer.Option("--magnitude-sigma", help="One-sigma error of --magnitude.")
+        float | None, Option("--magnitude-sigma", help="One-sigma error of --magnitude.")
     ] = None,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
@@ -316,7 +316,7 @@ def simulate_eclipse(
     date_to: ToOption,
     output: OutputOption,
     seed: SeedOption = 1,
-    observers: Annotated[int, typer.Option("--observers", min=1, help="Observers timing at each site.")] = 2,
+    observers: Annotated[int, Option("--observers", min=1, help="Observers timing at each site.")] = 2,
 ) -> None:
     """Eclipse logs: umbral contacts and crater timings of every eclipse each site can time in the dark."""
     from firstrung.campaign import read_campaign

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     FromOption,
@@ -29,7 +29,7 @@ from firstrung.cli.common import (
     write_simulated,
 )
 
-StarOption = Annotated[str | None, typer.Option("--star", help="Only this star (its id or name in the campaign file).")]
+StarOption = Annotated[str | None, Option("--star", help="Only this star (its id or name in the campaign file).")]
 
 
 def plan_parallax(
@@ -37,7 +37,7 @@ def plan_parallax(
     date_from: FromOption,
     date_to: ToOption,
     star: StarOption = None,
-    step_days: Annotated[int, typer.Option("--step-days", min=1, max=366, help="Days between the listed dates.")] = 7,
+    step_days: Annotated[int, Option("--step-days", min=1, max=366, help="Days between the listed dates.")] = 7,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
 ) -> None:
@@ -84,7 +84,7 @@ def render_plan(data: dict, verbose: bool) -> None:
 
 def reduce_parallax(
     campaign: CampaignArgument,
-    figure: Annotated[Path | None, typer.Option("--figure", help="Also write the parallax ellipse with the epochs (.svg or .png).")] = None,
+    figure: Annotated[Path | None, Option("--figure", help="Also write the parallax ellipse with the epochs (.svg or .png).")] = None,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
     include_flagged: IncludeFlaggedOption = False,
@@ -142,9 +142,9 @@ def simulate_parallax(
     date_to: ToOption,
     output: OutputOption,
     seed: SeedOption = 1,
-    sigma_arcsec: Annotated[float, typer.Option("--sigma-arcsec", min=0.0001, max=60.0, help="Error of one coordinate of one position [arcsec].")] = 0.05,
-    cadence_days: Annotated[int, typer.Option("--cadence-days", min=1, max=366, help="Days between epochs.")] = 14,
-    parallax_mas: Annotated[float | None, typer.Option("--parallax-mas", min=0.0, help="Give every star this parallax instead of the catalogue's [mas].")] = None,
+    sigma_arcsec: Annotated[float, Option("--sigma-arcsec", min=0.0001, max=60.0, help="Error of one coordinate of one position [arcsec].")] = 0.05,
+    cadence_days: Annotated[int, Option("--cadence-days", min=1, max=366, help="Days between epochs.")] = 14,
+    parallax_mas: Annotated[float | None, Option("--parallax-mas", min=0.0, help="Give every star this parallax instead of the catalogue's [mas].")] = None,
     star: StarOption = None,
 ) -> None:
     """Astrometry logs: each star's place every few weeks when a site sees it in a dark sky."""

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CalendarSiteOption,
     CampaignArgument,
@@ -35,18 +35,18 @@ def plan_phases(
     date_from: FromOption,
     date_to: ToOption,
     min_altitude_deg: Annotated[
-        float, typer.Option("--min-altitude-deg", help="Lowest observed altitude of the Sun and of the Moon in a window [deg].")
+        float, Option("--min-altitude-deg", help="Lowest observed altitude of the Sun and of the Moon in a window [deg].")
     ] = 10.0,
     min_sun_elongation_deg: Annotated[
         float,
-        typer.Option("--min-sun-elongation-deg", help="Smallest Sun-Moon angle allowed for the instrument [deg]; never point optics near the Sun."),
+        Option("--min-sun-elongation-deg", help="Smallest Sun-Moon angle allowed for the instrument [deg]; never point optics near the Sun."),
     ] = 30.0,
     span_h: Annotated[
-        float, typer.Option("--span-h", help="Search windows this long before and after each half moon [h].")
+        float, Option("--span-h", help="Search windows this long before and after each half moon [h].")
     ] = 24.0,
     ics: Annotated[
         Path | None,
-        typer.Option("--ics", help="Write a calendar (RFC 5545): for each ranked quarter and site, the window nearest its half moon."),
+        Option("--ics", help="Write a calendar (RFC 5545): for each ranked quarter and site, the window nearest its half moon."),
     ] = None,
     site: CalendarSiteOption = None,
     json_output: JsonOption = False,
@@ -124,19 +124,19 @@ def reduce_phases(
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
     elongation_sigma_deg: Annotated[
-        float, typer.Option("--elongation-sigma-deg", help="Error of a measured Sun-Moon angle (the instrument's) [deg].")
+        float, Option("--elongation-sigma-deg", help="Error of a measured Sun-Moon angle (the instrument's) [deg].")
     ] = 0.25,
     time_sigma_min: Annotated[
-        float, typer.Option("--time-sigma-min", help="Error of judging the half moon, for rows without time_sigma_s [min].")
+        float, Option("--time-sigma-min", help="Error of judging the half moon, for rows without time_sigma_s [min].")
     ] = 120.0,
     fraction_sigma: Annotated[
-        float, typer.Option("--fraction-sigma", help="Error of an illuminated fraction measured on an image.")
+        float, Option("--fraction-sigma", help="Error of an illuminated fraction measured on an image.")
     ] = 0.01,
     zero_point_sigma: Annotated[
-        float, typer.Option("--zero-point-sigma", help="Error of the fractions shared by one photo series (zero point).")
+        float, Option("--zero-point-sigma", help="Error of the fractions shared by one photo series (zero point).")
     ] = 0.005,
     common_zero_point_sigma: Annotated[
-        float, typer.Option("--common-zero-point-sigma",
+        float, Option("--common-zero-point-sigma",
                             help="Error of the fractions shared by every photo series (one camera and processing for all).")
     ] = 0.0,
     include_flagged: IncludeFlaggedOption = False,

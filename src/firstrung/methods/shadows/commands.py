@@ -6,8 +6,8 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CalendarSiteOption,
     CampaignArgument,
@@ -39,25 +39,25 @@ def plan_shadows(
     date_from: FromOption,
     date_to: ToOption,
     min_altitude_deg: Annotated[
-        float, typer.Option("--min-altitude-deg", "--min-altitude", help="Lowest noon altitude of the Sun allowed at any site [deg].")
+        float, Option("--min-altitude-deg", "--min-altitude", help="Lowest noon altitude of the Sun allowed at any site [deg].")
     ] = 20.0,
     max_shadow_m: Annotated[
-        float | None, typer.Option("--max-shadow-m", "--max-shadow", help="Length of the board: longer shadows rule a day out [m].")
+        float | None, Option("--max-shadow-m", "--max-shadow", help="Length of the board: longer shadows rule a day out [m].")
     ] = None,
     weekdays: Annotated[
-        str | None, typer.Option("--weekdays", help="Days of the week allowed, e.g. 'mon-fri' or 'tue,thu'.")
+        str | None, Option("--weekdays", help="Days of the week allowed, e.g. 'mon-fri' or 'tue,thu'.")
     ] = None,
     exclude: Annotated[
-        list[str] | None, typer.Option("--exclude", help="Dates ruled out (repeat, or separate with commas).")
+        list[str] | None, Option("--exclude", help="Dates ruled out (repeat, or separate with commas).")
     ] = None,
-    top: Annotated[int, typer.Option("--top", min=1, help="How many of the best days to show and export.")] = 10,
+    top: Annotated[int, Option("--top", min=1, help="How many of the best days to show and export.")] = 10,
     ics: Annotated[
-        Path | None, typer.Option("--ics", help="Write the best days (--top) to this calendar file (RFC 5545).")
+        Path | None, Option("--ics", help="Write the best days (--top) to this calendar file (RFC 5545).")
     ] = None,
     site: CalendarSiteOption = None,
     json_output: JsonOption = False,
     sites_csv: Annotated[
-        Path | None, typer.Option("--sites-csv", help="Write every site's noon, altitude and shadow on the best "
+        Path | None, Option("--sites-csv", help="Write every site's noon, altitude and shadow on the best "
                                   "days (--top) to this CSV file (for many sites the table sums them up).")
     ] = None,
 ) -> None:
@@ -178,18 +178,18 @@ def reduce_shadows(
     verbose: VerboseOption = False,
     monte_carlo: Annotated[
         int,
-        typer.Option(
+        Option(
             "--samples",
             min=0,
             help="Monte Carlo draws: also redo the reduction this many times with every input drawn from its "
             "errors, and show the spread beside the linear sigma (0: off).",
         ),
     ] = 0,
-    monte_carlo_old: Annotated[int | None, typer.Option("--monte-carlo", min=0, hidden=True)] = None,
-    seed: Annotated[int, typer.Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
+    monte_carlo_old: Annotated[int | None, Option("--monte-carlo", min=0, hidden=True)] = None,
+    seed: Annotated[int, Option("--seed", help="Seed of the Monte Carlo draws.")] = 1,
     include_flagged: IncludeFlaggedOption = False,
     school_sheets: Annotated[
-        Path | None, typer.Option("--school-sheets", help="Also write every site's result sheet (one printable "
+        Path | None, Option("--school-sheets", help="Also write every site's result sheet (one printable "
                                   "page per site: its reading, its result, its partners, the network's) as HTML.")
     ] = None,
 ) -> None:
@@ -232,7 +232,7 @@ def reduce_shadows(
     report_left_out(run.rows_left_out_flagged)
     report_problems(run.problems)
     if run.problems:
-        raise typer.Exit(2)
+        raise SystemExit(2)
 
 
 def _pm(q: dict, digits: int = 1) -> str:
@@ -372,17 +372,17 @@ def simulate_shadows(
     seed: SeedOption = 1,
     blunders: Annotated[
         str | None,
-        typer.Option("--blunders", help="Mistakes to inject, comma-separated: clock, unit, longitude, edge, wild, "
+        Option("--blunders", help="Mistakes to inject, comma-separated: clock, unit, longitude, edge, wild, "
                      "duplicate (or 'all')."),
     ] = None,
     form: Annotated[
         str,
-        typer.Option("--form", help="How the noon Sun is recorded: length (shadow lengths), altitude (an angle "
+        Option("--form", help="How the noon Sun is recorded: length (shadow lengths), altitude (an angle "
                      "instrument's readings) or trace (shadow-tip positions on a turned board, with times)."),
     ] = "length",
     network: Annotated[
         int,
-        typer.Option("--network", min=0, help="Instead: an open network of this many invented schools at random "
+        Option("--network", min=0, help="Instead: an open network of this many invented schools at random "
                      "land positions, one reading each on the --from date, with the usual blunders (0: off)."),
     ] = 0,
 ) -> None:

@@ -5,8 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-import typer
 
+from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     FromOption,
@@ -33,7 +33,7 @@ def plan_transits(
     campaign: CampaignArgument,
     date_from: FromOption,
     date_to: ToOption,
-    ics: Annotated[Path | None, typer.Option("--ics", help="Also write the transits to this calendar file (RFC 5545).")] = None,
+    ics: Annotated[Path | None, Option("--ics", help="Also write the transits to this calendar file (RFC 5545).")] = None,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
 ) -> None:
@@ -102,10 +102,10 @@ def render_plan(data: dict, verbose: bool) -> None:
 
 def reduce_transit(
     campaign: CampaignArgument,
-    black_drop_sigma_s: Annotated[float | None, typer.Option(
+    black_drop_sigma_s: Annotated[float | None, Option(
         "--black-drop-sigma-s", min=0.0,
         help="Scatter of the black drop on internal contacts C2 and C3 [s] (default: 3 for Mercury, 15 for Venus).")] = None,
-    no_clock_offsets: Annotated[bool, typer.Option(
+    no_clock_offsets: Annotated[bool, Option(
         "--no-clock-offsets", help="Trust every site's clock (a time signal) instead of fitting an offset per site.")] = False,
     json_output: JsonOption = False,
     verbose: VerboseOption = False,
@@ -155,7 +155,7 @@ def simulate_transit(
     date_to: ToOption,
     output: OutputOption,
     seed: SeedOption = 1,
-    time_sigma_s: Annotated[float, typer.Option("--time-sigma-s", min=0.0, help="Timing error of one contact [s].")] = 5.0,
+    time_sigma_s: Annotated[float, Option("--time-sigma-s", min=0.0, help="Timing error of one contact [s].")] = 5.0,
 ) -> None:
     """Transit logs: C1-C4 at every site of every transit of the range where the Sun is up."""
     from firstrung.campaign import read_campaign
