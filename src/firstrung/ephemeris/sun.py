@@ -258,7 +258,6 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
     tt = _tt_jd(time_utc)
     if grid is None and getattr(_PREFER_GRID, "on", False):
         return _day_grids_sun(tt)
-    step = _GRID_STEP_H / 24.0
     start, nodes = _grid_span(tt.min(), tt.max())
     if not grid and (grid is False or not _grid_serves(time_utc.size * uses, start, nodes)):
         key = time_utc.tobytes() if time_utc.size <= _RECENT_MAX_TIMES else None
@@ -274,11 +273,36 @@ def _geocentric_sun(time_utc: np.ndarray, uses: int = 1, grid: bool | None = Non
         if key is not None:
             _RECENT_DIRECT[key] = (xyz.copy(), gast.copy())
         return xyz, gast
+    return _interpolated(tt, start, nodes)
+
+
+def _interpolated(tt: np.ndarray, start: float, nodes: int):
+    """The geocentric Sun and GAST at TT Julian dates ``tt`` from the grid of ``nodes`` from ``start``."""
+    step = _GRID_STEP_H / 24.0
     grid_values = _sun_grid_stacked(float(start), nodes, step)
     both = np.empty((4, tt.size))
     for first in range(0, tt.size, _BLOCK):  # a block at a time: the interpolation's temporaries stay small
         both[:, first:first + _BLOCK] = _lagrange4(tt[first:first + _BLOCK], start, step, grid_values)
     return both[:3], np.mod(both[3], 2.0 * np.pi)
+
+
+def _geocentric_sun_part(time_utc: np.ndarray, first, last, count: int):
+    """:func:`_geocentric_sun` of a set of ``count`` times from ``first`` to ``last``, at some of them only.
+
+    Each time gets the numbers a call on the whole set gives it (the same grid, interpolated per time),
+    or the result is None when that call would not interpolate (a direct computation is not per time:
+    the caller then computes the whole set).
+    """
+    time_utc = np.asarray(time_utc, dtype="datetime64[us]").reshape(-1)
+    if getattr(_PREFER_GRID, "on", False):
+        return _day_grids_sun(_tt_jd(time_utc))
+    ends = _tt_jd(np.array([first, last], dtype="datetime64[us]"))
+    start, nodes = _grid_span(ends[0], ends[1])
+    if not _grid_serves(count, start, nodes):
+        return None
+    if time_utc.size == 0:
+        return np.zeros((3, 0)), np.zeros(0)
+    return _interpolated(_tt_jd(time_utc), start, nodes)
 
 
 #: The last direct computations of a few times, by the times (each skyfield call costs some

@@ -62,7 +62,15 @@ from firstrung.flags import (
     SeriesDiagnosis,
     problem_flags,
 )
-from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, penumbra_width_m
+from firstrung.methods.shadows.altitude import penumbra_width_m
+from firstrung.methods.shadows.check_hypotheses import (
+    DECISIVE_IMPROVEMENT,
+    DISTINCT_MARGIN,
+    MIN_SEPARATION,
+    _in_span,
+    _Inputs,
+    _single_hypotheses,
+)
 from firstrung.methods.shadows.check_messages import (
     MIN_ROWS_FOR_SHAPE,
     NOON_ONLY_MEDIAN_H,
@@ -91,9 +99,6 @@ from firstrung.methods.shadows.check_statistics import (
     check_sites,
     distinct_sun,
     edge_groups,
-    equivalent_length_m,
-    hopeless,
-    retyped_angle_deg,
     series_statistic,
     sun_altitude_rad,
 )
@@ -116,13 +121,6 @@ __all__ = [
 ]
 
 
-#: A hypothesis is tried only when the data it predicts would score at least
-#: this under the logged reading (it changes the prediction by 4 sigma or more).
-MIN_SEPARATION = 16.0
-#: Decrease of the statistic an explanation must bring (likelihood ratio e^6, about 400).
-DECISIVE_IMPROVEMENT = 12.0
-#: The winning explanation must beat every other (not equivalent) one by this.
-DISTINCT_MARGIN = 10.0
 #: An explanation is acceptable when its fitted level is within this many sigma
 #: and its mean capped squared residual below ACCEPTABLE_MEAN_SQUARE.
 ACCEPTABLE_LEVEL_SIGMA = 4.0
@@ -231,7 +229,8 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings, *, dia
     pressure = np.where(measured_weather, rows.pressure_hpa, standard_pressure_hpa(elev))
     sign = _edge_sign(rows.edge)
     distinct0 = distinct_sun(t)
-    pred0, rate0, ha0, sd = sun_altitude_rad(t, lat, lon, distinct=distinct0)
+    sun_parts: dict = {}  # what the hypotheses that move the Sun start from
+    pred0, rate0, ha0, sd = sun_altitude_rad(t, lat, lon, distinct=distinct0, parts=sun_parts)
     pred0_deg = np.degrees(pred0)
     obs0, refr0 = _observed(rows, rows.shadow_m, sign, sd, temperature, pressure)
     edges0 = edge_groups(rows.edge)
@@ -257,7 +256,9 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings, *, dia
             return values[sel]
     sub = _Inputs(rows if sel.size == n else rows.select(sel), np.searchsorted(needy, pick(group)), needy.size,
                   pick(t), pick(lat), pick(lon), pick(sign), pick(sd), pick(temperature), pick(pressure),
-                  pick(measured_weather), pick(zone_offset_h))
+                  pick(measured_weather), pick(zone_offset_h), pick(ha0),
+                  {name: pick(values) for name, values in sun_parts.items()})
+    del sun_parts
     tried = _single_hypotheses(sub, pick(obs0 - pred0), pick(pred0), pick(rate0), pick(obs0), pick(refr0),
                                pick(rand0), pick(sys0), distinct0 if sel.size == n else None,
                                edges0 if sel.size == n else None, base_statistic=base.statistic[needy], sel=sel,
@@ -337,144 +338,6 @@ def check_shadow_rows(sites: tuple[CheckSite, ...], rows: ShadowReadings, *, dia
     return ShadowCheck(tuple(flags), tuple(series), noon_only)
 
 
-@dataclass(frozen=True)
-class _Inputs:
-    """The rows the hypotheses are tried on and what each needs of them."""
-
-    rows: ShadowReadings
-    group: np.ndarray
-    n_groups: int
-    t: np.ndarray
-    lat: np.ndarray
-    lon: np.ndarray
-    sign: np.ndarray
-    sd: np.ndarray
-    temperature: np.ndarray
-    pressure: np.ndarray
-    measured_weather: np.ndarray
-    zone_offset_h: np.ndarray
-
-
-def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, sys0, distinct0=None, edges0=None,
-                       *, base_statistic=None, sel=None, width0=None):
-    """Each single hypothesis' statistic, fit and separation from the logged reading, per series of ``x``.
-
-    ``distinct0``, ``edges0``, ``width0``: the geocentric Sun of ``x.t``, the rows' edge groups and the penumbra's
-    width at the logged reading, when known. The
-    geocentric Sun is computed once per time shift (a coordinate's sign keeps the times), the penumbra's
-    width once, and a hypothesis that separates from the logged reading in no series is not fitted
-    (:func:`_decide` never takes it).
-
-    ``base_statistic`` (per series of ``x``, as logged) and ``sel`` (the log's row of each row of ``x``):
-    each fit keeps its normalised residuals only for the series where :func:`_decide` could choose it
-    (separated and within reach of a decisive improvement, see :func:`_kept_z`), as :class:`_RowsOf`
-    indexed by the log's rows; a long log then holds a few of its rows per hypothesis, not all of them.
-    """
-    rows, n = x.rows, len(x.rows)
-    if n == 0:  # no series needs a hypothesis (a log of one reading that fits): none is tried
-        return [None] * len(HYPOTHESES), [None] * len(HYPOTHESES), [np.zeros(x.n_groups)] * len(HYPOTHESES)
-    pred0_deg = np.degrees(pred0)
-    distinct0 = distinct_sun(x.t) if distinct0 is None else distinct0
-    edges0 = edge_groups(rows.edge) if edges0 is None else edges0
-    width0 = penumbra_width_m(rows.gnomon_m, np.clip(pred0_deg, 1.0, 89.0), x.sd) if width0 is None else width0
-    time_sigma0 = (rate0 * READING_TIME_SIGMA_S) ** 2
-    sqrt_rand0 = np.sqrt(rand0)
-    series = SeriesLayout(x.group, x.n_groups)  # every fit below is over the same series
-    has_angles = bool(np.isfinite(rows.altitude_read_deg).any())
-    one_edge = edges0[0][0] if len(edges0) == 1 and edges0[0][1] is None else None  # the edge of every row
-
-    def one(h):  # a hypothesis, vectorised over every row
-        pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
-        if h.moves_time or h.longitude_sign != 1.0 or h.latitude_sign != 1.0:
-            shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
-            shift_ms = np.round(shift_h * 3600e3).astype(np.int64)
-            uniform = bool(np.all(shift_ms == shift_ms[0]))  # n > 0: the function returned early otherwise
-            t_h = distinct0[3] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
-                x.t + shift_ms.astype("timedelta64[ms]"))
-            as_logged = uniform and shift_ms[0] == 0 and h.latitude_sign == 1.0 and h.longitude_sign == 1.0
-            if as_logged and h.factor == 1.0 and h.edge is None and h.angle is None or not _in_span(t_h):
-                # the logged reading itself (local time typed as UTC where no site keeps a zone), or times
-                # outside the ephemeris: never decisive
-                return None, None, np.zeros(x.n_groups)
-            distinct = distinct_sun(None, int(shift_ms[0]), like=distinct0) if uniform else distinct_sun(t_h)
-            pred, rate, _, _ = sun_altitude_rad(None, x.lat * h.latitude_sign, x.lon * h.longitude_sign,
-                                                distinct=distinct)
-            rand = rand0 - time_sigma0 + (rate * READING_TIME_SIGMA_S) ** 2
-        if h.factor != 1.0:
-            length = rows.shadow_m / h.factor
-            obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
-                                      width_m=width0)
-            rand = rand + time_sigma0
-        if (h.angle is not None and not has_angles) or (h.edge is not None and one_edge == h.edge):
-            return None, None, np.zeros(x.n_groups)  # no angle to retype, or the edge every row marks: as logged
-        if h.angle is not None:
-            angle = np.isfinite(rows.altitude_read_deg)
-            retyped = retyped_angle_deg(rows.altitude_read_deg, h.angle) + rows.index_correction_deg
-            length = np.where(angle, equivalent_length_m(retyped), rows.shadow_m)
-            obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
-                                      width_m=width0)
-            rand = rand + time_sigma0
-        if h.edge is not None:
-            obs = obs0 - np.radians((EDGE_LIMB_SIGN[h.edge] - x.sign) * x.sd)
-            rand, sysv = _error_terms(rows, rows.shadow_m, pred0_deg, x.sd, refr0, x.measured_weather,
-                                      edge=h.edge, width_m=width0)
-            rand = rand + time_sigma0
-        residual = obs - pred
-        sigma = np.sqrt(rand)
-        # a series whose statistic under h is sure to stay above its statistic as logged less one can never
-        # choose h (see _kept_z): neither h's separation nor its fit is needed there
-        wanted = None if base_statistic is None else ~hopeless(series, residual, rate, sigma, sysv,
-                                                               base_statistic - _REACHABLE_IMPROVEMENT)
-        if wanted is not None and not wanted.any():
-            return None, None, np.zeros(x.n_groups)
-        sep = series_statistic(series, x.n_groups, residual0 - residual, rate0, sqrt_rand0, sys0,
-                               robust=False, columns=wanted).statistic
-        if wanted is not None:
-            sep[~wanted] = 0.0
-        if not (sep >= MIN_SEPARATION).any():  # the same as the logged reading everywhere: never decisive
-            return None, None, sep
-        fit = series_statistic(series, x.n_groups, residual, rate, sigma, sysv, columns=wanted)
-        if base_statistic is not None:
-            fit = _kept_z(fit, x.group, sep, base_statistic, sel)
-        return fit.statistic, fit, sep
-
-    tried = [one(h) for h in HYPOTHESES]  # one at a time: each holds some 250 bytes a row while tried
-    stats, fits, separations = (list(values) for values in zip(*tried, strict=True))
-    return stats, fits, separations
-
-
-#: A single hypothesis :func:`_decide` chooses is within DISTINCT_MARGIN of the best, whose improvement is
-#: at least DECISIVE_IMPROVEMENT: its own improvement is at least their difference (kept with a margin of 1).
-_REACHABLE_IMPROVEMENT = DECISIVE_IMPROVEMENT - DISTINCT_MARGIN - 1.0
-
-
-class _RowsOf:
-    """Per-row values known for some rows of the log (``values`` at the sorted log rows ``rows``, NaN
-    elsewhere), indexed by the log's rows: a hypothesis' residuals where they can be read, without an
-    array as long as the log per hypothesis."""
-
-    def __init__(self, values: np.ndarray, rows: np.ndarray) -> None:
-        self.values, self.rows = values, rows
-
-    def __getitem__(self, rows) -> np.ndarray:
-        rows = np.asarray(rows)
-        at = np.minimum(np.searchsorted(self.rows, rows), max(self.rows.size - 1, 0))
-        known = (self.rows[at] == rows) if self.rows.size else np.zeros(rows.shape, bool)
-        out = np.full(rows.shape, np.nan)
-        out[known] = self.values[at[known]]
-        return out
-
-
-def _kept_z(fit: SeriesStatistic, group, sep, base_statistic, sel) -> SeriesStatistic:
-    """``fit`` with its residuals kept only for the series where it could be chosen (see _RowsOf)."""
-    reachable = (sep >= MIN_SEPARATION) & (base_statistic - fit.statistic >= _REACHABLE_IMPROVEMENT)
-    kept = np.flatnonzero(reachable[group])
-    return SeriesStatistic(fit.statistic, fit.level_rad, fit.level_sigma_rad, fit.clock_s, fit.mean_square,
-                           _RowsOf(fit.z[kept], sel[kept]))
-
-
 def _widen(tried, needy, sel, n_groups: int, n: int):
     """The hypotheses' results for every series: those of ``needy`` (rows ``sel``), the others never decisive."""
     stats, fits, separations = [], [], []
@@ -491,13 +354,6 @@ def _widen(tried, needy, sel, n_groups: int, n: int):
             wide(f.clock_s, np.nan), wide(f.mean_square, np.nan), f.z))
         separations.append(wide(sep, 0.0))
     return stats, fits, separations
-
-
-def _in_span(t) -> bool:
-    from firstrung import ephemeris
-
-    first, last = ephemeris.ephemeris_span_utc()
-    return bool(np.all((t >= first) & (t <= last)))
 
 
 def _decide(base: SeriesStatistic, stats, fits, separations, count, hypotheses=HYPOTHESES):

@@ -151,15 +151,17 @@ def check_footing(rows: ShadowReadings) -> ShadowReadings:
     return replace(rows, **picked)
 
 
-def distinct_sun(time_utc, shift_ms: int = 0, like=None):
+def distinct_sun(time_utc, shift_ms: int = 0, like=None, rows=None):
     """The geocentric Sun once per distinct time: ``(xyz_km, gast_rad, inverse)`` for :func:`sun_altitude_rad`.
 
     ``like``: the distinct Sun of the same times unshifted; a whole shift of
     every time keeps which rows share a time, so its sorting is not repeated.
+    ``rows`` (with ``like``): only these rows' times are wanted; each gets the numbers the whole set of
+    times gives it (the inverse then points from these rows into the distinct times they use).
     """
     from firstrung import ephemeris
 
-    if like is not None and shift_ms == 0:
+    if like is not None and shift_ms == 0 and rows is None:
         return like
     if like is None:
         t = np.asarray(time_utc, dtype="datetime64[us]")
@@ -169,14 +171,32 @@ def distinct_sun(time_utc, shift_ms: int = 0, like=None):
         unique_t, inverse = np.unique(t, return_inverse=True)
         del t
     else:
-        unique_t = like[3] + np.timedelta64(shift_ms * 1000, "us")
+        unique_t = like[3] + np.timedelta64(shift_ms * 1000, "us") if shift_ms else like[3]
         inverse = like[2]
         ephemeris.check_in_span(unique_t)
+        if rows is not None:
+            return _distinct_part(like, unique_t, rows)
     xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
     return xyz_km, gast_rad, inverse, unique_t
 
 
-def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None):
+def _distinct_part(like, unique_t, rows):
+    """:func:`distinct_sun` of ``unique_t`` (``like``'s times moved) at some rows only (see there)."""
+    from firstrung.ephemeris import sun
+
+    used = np.zeros(unique_t.size, bool)
+    used[like[2][rows]] = True
+    at = np.flatnonzero(used)
+    if unique_t is like[3]:  # the same times: their Sun is known
+        return like[0][:, at], like[1][at], (np.cumsum(used) - 1)[like[2][rows]], unique_t[at]
+    part = sun._geocentric_sun_part(unique_t[at], unique_t[0], unique_t[-1], unique_t.size)
+    if part is None:  # the whole set is computed directly (not per time): compute it whole, keep the part
+        xyz_km, gast_rad = sun._geocentric_sun(unique_t)
+        part = xyz_km[:, at], gast_rad[at]
+    return part[0], part[1], (np.cumsum(used) - 1)[like[2][rows]], unique_t[at]
+
+
+def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, parts=None):
     """True (airless) topocentric altitude of the Sun's centre, its rate, hour angle and semi-diameter.
 
     The geocentric apparent Sun comes from the ephemeris once per distinct
@@ -194,6 +214,10 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None):
 
     distinct : optional
         The geocentric Sun of these times from :func:`distinct_sun` (computed when not given).
+    parts : dict, optional
+        Filled with what a hypothesis moving the Sun starts from (:func:`moved_altitude_bounds`): per row
+        ``sin_term`` (sin latitude sin declination), ``cos_factor`` (cos latitude cos declination) and
+        ``cos_lat``.
 
     Returns
     -------
@@ -221,6 +245,8 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None):
     cos_ha *= cos_dec
     sin_alt = np.sin(lat)
     sin_alt *= sin_dec
+    if parts is not None:
+        parts.update(sin_term=sin_alt.copy(), cos_factor=cos_lat * cos_dec, cos_lat=cos_lat)
     sin_alt += cos_ha
     del cos_ha, sin_dec, lat
     alt = np.arcsin(np.clip(sin_alt, -1.0, 1.0, out=sin_alt), out=sin_alt)
