@@ -61,17 +61,20 @@ def penumbra_width_m(gnomon_m, altitude_deg, semidiameter_deg):
     return h * (1.0 / np.tan(a - s) - 1.0 / np.tan(a + s))
 
 
-def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c, pressure_hpa):
+def centre_altitude_deg(edge_apparent_deg, edge, semidiameter_deg, temperature_c, pressure_hpa, *,
+                        refraction_deg=None):
     """True (airless) altitude of the Sun's centre from the marked edge's apparent altitude [deg].
 
     Refraction is removed from the ray of the limb that casts the edge, then
-    the limb is moved to the centre by the semi-diameter.
+    the limb is moved to the centre by the semi-diameter. ``refraction_deg``: that ray's refraction
+    when already known (:func:`~firstrung.refraction.refraction_from_apparent_deg` of the same arguments).
 
     >>> round(float(centre_altitude_deg(45.0, "middle", 0.2667, 10.0, 1010.0)), 4)
     44.9834
     """
     sign = _per_edge(edge, EDGE_LIMB_SIGN)
-    refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa)
+    refraction = refraction_from_apparent_deg(edge_apparent_deg, temperature_c, pressure_hpa) \
+        if refraction_deg is None else refraction_deg
     return np.asarray(edge_apparent_deg) - refraction - sign * np.asarray(semidiameter_deg)
 
 
@@ -130,8 +133,14 @@ def _per_edge(edge, table: dict) -> np.ndarray:
     stored = stored_part(edge)
     if stored.size < edge.size:
         return np.broadcast_to(_per_edge(stored, table), edge.shape)
-    names, inverse = np.unique(edge.astype(str), return_inverse=True)
-    unknown = [n for n in names if n not in table]
-    if unknown:
+    # one comparison of the whole column per name (a log's edges are a few names seen a million times:
+    # sorting them as text cost ten times as much)
+    values, known = np.empty(edge.shape), np.zeros(edge.shape, bool)
+    for name, value in table.items():
+        at = edge == name
+        values[at] = value
+        known |= at
+    if not known.all():
+        unknown = sorted(set(edge[~known].astype(str).tolist()))
         raise InputError(f"edge: expected one of {', '.join(table)}, got {unknown[0]!r}")
-    return np.array([table[n] for n in names], dtype=float)[inverse].reshape(edge.shape)
+    return values

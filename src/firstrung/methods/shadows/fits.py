@@ -83,43 +83,88 @@ def fit_series(
         return np.bincount(flat, weights=values.ravel(), minlength=size).reshape(n_samples, n_groups)
 
     def normal_terms(lat, u):
-        """Residuals, partial derivatives and normal-equation sums at (lat, u)."""
+        """Residuals, weighted partial derivatives and normal-equation sums at (lat, u).
+
+        The same numbers as the spherical formula written out term by term, each product formed once and
+        the arrays reused in place (a long log's fit spends its time moving whole columns): ``cos(phi)
+        sin(dec)`` and ``sin(phi) cos(dec)`` serve both partial derivatives, ``cos(phi) cos(dec)`` the model
+        and the hour angle's (``-x * y == -(x * y)`` exactly), ``weight * d_lat`` and ``weight * d_u`` every sum.
+        """
         u_k = u[:, group]
-        dec = declination_rad + declination_rate_rad_s * u_k
-        ha = hour_angle_rad + hour_angle_rate_rad_s * u_k
-        # each sine and cosine once: sin a = sin(phi) sin(dec) + cos(phi) cos(dec) cos(H), and its derivatives;
-        # the latitude's once per series, then to its readings (the same numbers as per reading)
+        dec = declination_rate_rad_s * u_k
+        dec += declination_rad
+        ha = np.multiply(hour_angle_rate_rad_s, u_k, out=u_k)
+        ha += hour_angle_rad
+        # the latitude's sine and cosine once per series, then to its readings (the same numbers as per reading)
         sin_lat, cos_lat = np.sin(lat)[:, group], np.cos(lat)[:, group]
-        sin_dec, cos_dec, cos_ha = np.sin(dec), np.cos(dec), np.cos(ha)
-        del u_k, dec
-        model = np.arcsin(np.clip(sin_lat * sin_dec + cos_lat * cos_dec * cos_ha, -1.0, 1.0))
-        cos_alt = np.maximum(np.cos(model), 1e-9)
-        d_lat = (cos_lat * sin_dec - sin_lat * cos_dec * cos_ha) / cos_alt
-        d_dec = (sin_lat * cos_dec - cos_lat * sin_dec * cos_ha) / cos_alt
-        d_ha = -cos_lat * cos_dec * np.sin(ha) / cos_alt
-        d_u = d_ha * hour_angle_rate_rad_s + d_dec * declination_rate_rad_s
-        r = alt - model
-        n11 = sums(weight * d_lat * d_lat)
-        n12 = sums(weight * d_lat * d_u)
-        n22 = sums(weight * d_u * d_u) + prior
-        return r, d_lat, d_u, n11, n12, n22
+        sin_dec = np.sin(dec)
+        cos_dec = np.cos(dec, out=dec)
+        a = cos_lat * sin_dec  # cos(phi) sin(dec)
+        b = sin_lat * cos_dec  # sin(phi) cos(dec)
+        cc = np.multiply(cos_lat, cos_dec, out=cos_lat)  # cos(phi) cos(dec)
+        ss = np.multiply(sin_lat, sin_dec, out=sin_lat)  # sin(phi) sin(dec)
+        del sin_dec, cos_dec
+        cos_ha = np.cos(ha)
+        sin_ha = np.sin(ha, out=ha)
+        # sin a = sin(phi) sin(dec) + cos(phi) cos(dec) cos(H)
+        model = np.multiply(cc, cos_ha)
+        model += ss
+        del ss
+        np.clip(model, -1.0, 1.0, out=model)
+        np.arcsin(model, out=model)
+        cos_alt = np.cos(model)
+        np.maximum(cos_alt, 1e-9, out=cos_alt)
+        # d(a)/d(phi) = (cos(phi) sin(dec) - sin(phi) cos(dec) cos(H)) / cos(a)
+        d_lat = np.multiply(b, cos_ha)
+        np.subtract(a, d_lat, out=d_lat)
+        d_lat /= cos_alt
+        # d(a)/d(dec) = (sin(phi) cos(dec) - cos(phi) sin(dec) cos(H)) / cos(a), times the declination's rate
+        a *= cos_ha
+        d_dec = np.subtract(b, a, out=b)
+        del a, cos_ha
+        d_dec /= cos_alt
+        d_dec *= declination_rate_rad_s
+        # d(a)/d(H) = -cos(phi) cos(dec) sin(H) / cos(a), times the hour angle's rate
+        d_ha = np.multiply(cc, sin_ha, out=cc)
+        del sin_ha
+        d_ha /= cos_alt
+        np.negative(d_ha, out=d_ha)
+        del cos_alt
+        d_ha *= hour_angle_rate_rad_s
+        d_u = np.add(d_ha, d_dec, out=d_ha)
+        del d_dec
+        r = np.subtract(alt, model, out=model)
+        w_lat = weight * d_lat
+        w_u = weight * d_u
+        n11 = sums(w_lat * d_lat)
+        n12 = sums(w_lat * d_u)
+        n22 = sums(w_u * d_u) + prior
+        return r, d_lat, d_u, w_lat, w_u, n11, n12, n22
 
     for _ in range(_FIT_ITERATIONS):
-        r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
-        b1 = sums(weight * d_lat * r)
-        b2 = sums(weight * d_u * r) - prior * u
+        r, d_lat, d_u, w_lat, w_u, n11, n12, n22 = normal_terms(lat, u)
+        del d_lat, d_u
+        b1 = sums(np.multiply(w_lat, r, out=w_lat))
+        b2 = sums(np.multiply(w_u, r, out=w_u)) - prior * u
+        del r, w_lat, w_u
         det = n11 * n22 - n12**2
         lat = lat + (n22 * b1 - n12 * b2) / det
         u = u + (n11 * b2 - n12 * b1) / det
     # final model, residuals and covariance
-    r, d_lat, d_u, n11, n12, n22 = normal_terms(lat, u)
+    r, d_lat, d_u, w_lat, w_u, n11, n12, n22 = normal_terms(lat, u)
+    del w_lat, w_u
     det = n11 * n22 - n12**2
     cov = np.stack([np.stack([n22, -n12], -1), np.stack([-n12, n11], -1)], -2) / det[..., None, None]
     # gain: d(latitude)/d(altitude_k) = row of C J^T W for the latitude parameter
     c11 = (n22 / det)[:, group]
     c12 = (-n12 / det)[:, group]
-    gain = (c11 * d_lat + c12 * d_u) * weight
-    chi2 = sums(weight * r**2) + prior * u**2
+    gain = np.multiply(c11, d_lat, out=c11)
+    gain += np.multiply(c12, d_u, out=c12)
+    del c12, d_lat, d_u
+    gain *= weight
+    np.square(r, out=r)
+    chi2 = sums(np.multiply(weight, r, out=r)) + prior * u**2
+    del r
     count = np.bincount(group, minlength=n_groups)
     squeeze = np.ndim(altitude_rad) == 1
     pick = (lambda a: a[0]) if squeeze else (lambda a: a)

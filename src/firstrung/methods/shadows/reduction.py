@@ -198,8 +198,11 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     if angle.any():  # an angle row has no length: a stand-in of 45 deg, replaced below
         h, length = np.where(angle, 1.0, h), np.where(angle, 1.0, length)
     edge_app = edge_altitude_deg(h, length)
-    refr = np.where(angle, forms.refraction_deg, refraction_from_apparent_deg(edge_app, temperature, pressure))
-    altitude_deg = centre_altitude_deg(edge_app, readings.edge, pos.semidiameter_deg, temperature, pressure)
+    edge_refraction = refraction_from_apparent_deg(edge_app, temperature, pressure)
+    refr = np.where(angle, forms.refraction_deg, edge_refraction)
+    altitude_deg = centre_altitude_deg(edge_app, readings.edge, pos.semidiameter_deg, temperature, pressure,
+                                       refraction_deg=edge_refraction)
+    del edge_refraction
     altitude_deg = np.where(angle, forms.altitude_deg, altitude_deg)
     # which readings the method can use
     left_out = {}
