@@ -97,6 +97,27 @@ def _candidates(day_of, longitude):
     return np.concatenate(firsts), np.concatenate(seconds), every
 
 
+def _every_pair(day_of, code, position_km):
+    """Every pair of series on the same day at least MIN_NORTH_SOUTH_KM apart north-south, as (southern,
+    northern) indices, in the order of :func:`_pair_order` (day, then the southern site's code, then the
+    northern's) as they are made: each day's series in the order of their codes, and its pairs read row by
+    row from the table of their separations (no sort of millions of pairs). A site has one series a day.
+    """
+    if day_of.size == 0:
+        return np.zeros(0, int), np.zeros(0, int)
+    order = np.lexsort((code, day_of))
+    starts = np.flatnonzero(np.r_[True, np.diff(day_of[order]) != 0, True])
+    firsts, seconds = [], []
+    for a, b in zip(starts[:-1].tolist(), starts[1:].tolist(), strict=True):
+        members = order[a:b]
+        p = position_km[members]
+        # row f, column s: how far the s-th series' site lies north of the f-th's (x[s] - x[f] = -(x[f] - x[s]))
+        south, north = np.nonzero(p[None, :] - p[:, None] >= MIN_NORTH_SOUTH_KM)
+        firsts.append(members[south])
+        seconds.append(members[north])
+    return np.concatenate(firsts), np.concatenate(seconds)
+
+
 def _pair_order(day, first, second, n_sites: int, n_days: int) -> np.ndarray:
     """``np.lexsort((second, first, day))``: by day, then first, then second site (ties kept in order), as one
     sort of a single integer key when it fits in 63 bits (a few times sooner on millions of pairs)."""
@@ -123,22 +144,28 @@ def network_pairs(sites, flagged=()) -> NetworkPairs:
     bad_a = np.array([s.outlier or s.id in flagged for s in sites], bool)[site_of]
     date_names, day_of = np.unique(days, return_inverse=True)
     day_of = day_of.reshape(-1)
-    i, j, every = _candidates(day_of, lon)
-    x, phi, sigma = pos, np.radians(lat), np.radians(sig)
-    dx = x[j] - x[i] if i.size else np.zeros(0)
-    far = np.flatnonzero(np.abs(dx) >= MIN_NORTH_SOUTH_KM)
-    i, j, dx = i[far], j[far], dx[far]
-    del far
-    south = dx > 0
-    i, j = np.where(south, i, j), np.where(south, j, i)
-    del south
     # sorted by day, then the ids as text: their ranks among the sorted ids sort the same way; every per-pair
     # value below is computed in that order (each pair's numbers are its own, whatever the order)
     _, rank = np.unique(names, return_inverse=True) if names.size else (None, np.zeros(0, int))
     code = rank.reshape(-1)[site_of]
-    order = _pair_order(day_of[i], code[i], code[j], max(names.size, 1), max(date_names.size, 1))
-    i, j, dx = i[order], j[order], np.abs(dx[order])
-    del order, code
+    x, phi, sigma = pos, np.radians(lat), np.radians(sig)
+    if day_of.size == 0 or np.bincount(day_of).max() <= ALL_PAIRS_MAX_SITES:
+        i, j = _every_pair(day_of, code, x)
+        every = True
+        dx = x[j] - x[i]
+    else:
+        i, j, every = _candidates(day_of, lon)
+        dx = x[j] - x[i] if i.size else np.zeros(0)
+        far = np.flatnonzero(np.abs(dx) >= MIN_NORTH_SOUTH_KM)
+        i, j, dx = i[far], j[far], dx[far]
+        del far
+        south = dx > 0
+        i, j = np.where(south, i, j), np.where(south, j, i)
+        del south
+        order = _pair_order(day_of[i], code[i], code[j], max(names.size, 1), max(date_names.size, 1))
+        i, j, dx = i[order], j[order], np.abs(dx[order])
+        del order
+    del code
     slope = (phi[j] - phi[i]) / dx
     slope_sigma = np.hypot(sigma[i], sigma[j]) / dx
     with np.errstate(divide="ignore", invalid="ignore"):
