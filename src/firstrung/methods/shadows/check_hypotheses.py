@@ -305,20 +305,24 @@ class _Screen:
 
     def __init__(self, group: np.ndarray, n_groups: int, beyond: np.ndarray) -> None:
         self.group = group
-        self.order = np.argsort(group, kind="stable")
+        # the rows by series (none when they come so, as a log's rows usually do)
+        self.order = None if bool(np.all(group[1:] >= group[:-1])) else np.argsort(group, kind="stable")
         self.count = np.bincount(group, minlength=n_groups)
         self.starts = np.concatenate([[0], np.cumsum(self.count)[:-1]])
         self.beyond = beyond
         self.usable = bool(self.count.size and self.count.min() > 0)
 
+    def _by_series(self, values):
+        return values if self.order is None else values[self.order]
+
     def _least(self, values):
-        return np.minimum.reduceat(values[self.order], self.starts)
+        return np.minimum.reduceat(self._by_series(values), self.starts)
 
     def _most(self, values):
-        return np.maximum.reduceat(values[self.order], self.starts)
+        return np.maximum.reduceat(self._by_series(values), self.starts)
 
     def _total(self, values):
-        return np.add.reduceat(values[self.order], self.starts)
+        return np.add.reduceat(self._by_series(values), self.starts)
 
     def hopeless(self, residual_rad, within_rad, rate_max_rad_s, variance_low, variance_high, systematic_high):
         """Per series: whether :func:`series_statistic`'s robust statistic is sure to exceed ``beyond`` for

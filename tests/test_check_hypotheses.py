@@ -1,0 +1,120 @@
+"""The check's hypotheses that move the Sun are first bounded from the logged reading's Sun, and the series
+the bound proves hopeless are left out (firstrung.methods.shadows.check_hypotheses).
+
+The bound must hold (the Sun each hypothesis puts at a row is within the stated angle of the derived
+place, checked against the check's own Sun and against skyfield's full topocentric pipeline on DE421), and
+leaving those series out must change nothing: the flags and diagnoses are those of the check with every
+row computed. No test here times anything (speed is measured by ``benchmarks/run.py``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from firstrung import ephemeris
+from firstrung.methods.shadows import check_hypotheses
+from firstrung.methods.shadows.check import CheckSite, check_shadow_rows
+from firstrung.methods.shadows.check_statistics import sun_altitude_rad
+from firstrung.methods.shadows.inputs import ShadowReadings
+from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
+
+ARCSEC_RAD = np.radians(1.0 / 3600.0)
+LATITUDES = (-66.0, -33.9, 0.0, 23.4, 46.2, 78.0)
+LONGITUDES = (-170.0, -60.0, 7.4, 151.1)
+#: (hours, longitude sign, latitude sign) of each single hypothesis that moves the Sun
+MOVES = [(h, 1.0, 1.0) for h in (-3, -2, -1, 1, 2, 3)] + [(0, -1.0, 1.0), (0, 1.0, -1.0)]
+
+
+def _site_times():
+    """Every site at times 61 h apart over 2026-2028 (all hour angles, both solstices and equinoxes)."""
+    times = np.arange(np.datetime64("2026-01-02T00:00", "ms"), np.datetime64("2028-12-28T00:00", "ms"),
+                      np.timedelta64(61, "h")) + np.timedelta64(17, "m")
+    lat, lon = (np.array(v, float).repeat(times.size) for v in zip(*[(a, b) for a in LATITUDES for b in LONGITUDES],
+                                                                       strict=True))
+    return np.tile(times, len(LATITUDES) * len(LONGITUDES)), lat, lon
+
+
+@pytest.mark.parametrize(("hours", "lon_sign", "lat_sign"), MOVES)
+def test_the_moved_sun_is_within_its_bound_of_the_check_and_of_skyfield(hours, lon_sign, lat_sign):
+    t, lat, lon = _site_times()
+    parts: dict = {}
+    _, _, ha, _ = sun_altitude_rad(t, lat, lon, parts=parts)
+    shift_s = hours * 3600.0
+    hour_angle = ha + shift_s * check_hypotheses._HOUR_ANGLE_RATE_RAD_S
+    if lon_sign != 1.0:
+        hour_angle = hour_angle - 2.0 * np.radians(lon)
+    alt, within, rate_max = check_hypotheses.moved_altitude(parts["sin_term"], parts["cos_factor"], parts["cos_lat"],
+                                                            hour_angle, shift_s, lat_sign)
+    moved_t = t + np.timedelta64(int(shift_s * 1000), "ms")
+    exact, rate, _, _ = sun_altitude_rad(moved_t, lat * lat_sign, lon * lon_sign)
+    error = np.abs(exact - alt)
+    # the bound holds at every row and is a few arcminutes at most (3 h: 6.5'); for a shift with room (for a
+    # sign the bound is the Sun's greatest parallax, which the derived place leaves out)
+    assert np.all(error <= within)
+    assert hours == 0 or error.max() < 0.9 * np.max(within)
+    assert np.max(within) < np.radians(7.0 / 60.0)
+    assert np.all(np.abs(rate) <= rate_max)
+    # Reference: skyfield's own topocentric apparent altitude (DE421, IAU 2000A nutation, airless), which
+    # sun_altitude_rad meets to 2" (it leaves out diurnal aberration, 0.3")
+    from skyfield.api import wgs84
+
+    _, _, earth, sun = ephemeris._loaded()
+    reference = np.empty(t.size)
+    for site_lat, site_lon in {(a, b) for a, b in zip(lat * lat_sign, lon * lon_sign, strict=True)}:
+        at = (lat * lat_sign == site_lat) & (lon * lon_sign == site_lon)
+        place = earth + wgs84.latlon(site_lat, site_lon)
+        reference[at] = place.at(ephemeris._skyfield_time(moved_t[at])).observe(sun).apparent().altaz()[0].radians
+    assert np.all(np.abs(reference - alt) <= within + 2.0 * ARCSEC_RAD)
+
+
+def _rows(site_index, t, shadow_m):
+    n = len(t)
+    return ShadowReadings(
+        np.asarray(site_index), t, shadow_m, np.ones(n), np.full(n, "umbra", dtype=object), np.full(n, 0.002),
+        np.full(n, 0.001), np.full(n, np.nan), np.full(n, np.nan), file=np.full(n, "a.csv", dtype=object),
+        row=np.arange(1, n + 1), time_column=np.full(n, "time_utc", dtype=object),
+        shadow_column=np.full(n, "shadow_m", dtype=object), observer=np.full(n, "", dtype=object))
+
+
+def _campaign_with_mistakes():
+    """Sites over both hemispheres, a morning and a noon series at each; a third of the series with a
+    clock shifted, a longitude's or a latitude's sign wrong (as logged), the others clean."""
+    rng = np.random.default_rng(11)
+    real, logged, parts = [], [], []
+    mistakes = [None, (1, 1, 1), None, (-2, 1, 1), None, (0, -1, 1), None, (3, 1, 1), (0, 1, -1), None, (-1, 1, 1)]
+    for k in range(22):
+        lat, lon = -50.0 + 5.3 * k, -160.0 + 14.7 * k
+        hours, lon_sign, lat_sign = mistakes[k % len(mistakes)] or (0, 1, 1)
+        real.append(CheckSite(f"s{k}", lat, lon, 100.0))
+        logged.append(CheckSite(f"s{k}", lat * lat_sign, lon * lon_sign, 100.0))
+        for day, offset_min in (("2027-03-20", -150), ("2027-06-21", 0)):
+            noon = ephemeris.solar_transit(day, lat, lon).time_utc.astype("datetime64[ms]")
+            t = noon + (offset_min + np.arange(-6, 6) * 4) * np.timedelta64(1, "m")
+            syn = simulate_shadow_readings(np.zeros(t.size, int), t, [lat], [lon], [100.0], [1.0],
+                                           np.array(["umbra"], dtype=object), ShadowErrors(), rng)
+            parts.append((np.full(t.size, k), t + np.timedelta64(hours, "h"), syn.shadow_m))
+    index, t, shadow = (np.concatenate(p) for p in zip(*parts, strict=True))
+    return tuple(logged), _rows(index, t, shadow)
+
+
+def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
+    sites, rows = _campaign_with_mistakes()
+    left_out = []
+    bounded = check_hypotheses._Screen.hopeless
+
+    def counted(self, *args):
+        hopeless = bounded(self, *args)
+        left_out.append(int(hopeless.sum()))
+        return hopeless
+
+    monkeypatch.setattr(check_hypotheses._Screen, "hopeless", counted)
+    screened = check_shadow_rows(sites, rows)
+    assert sum(left_out) > 0  # the bound did leave series out
+    monkeypatch.setattr(check_hypotheses._Screen, "hopeless", lambda self, *args: np.zeros(self.count.size, bool))
+    every = check_shadow_rows(sites, rows)
+    assert screened.flags == every.flags
+    assert screened.series == every.series
+    # the mistakes are found (the comparison covers explained series, not only clean ones)
+    codes = {f.code for f in screened.flags}
+    assert {"time-shift-hours", "longitude-sign", "latitude-sign"} <= codes
