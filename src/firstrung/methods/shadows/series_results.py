@@ -61,18 +61,19 @@ def _series_results(prep, fit, per_series, total, scale, chi2_dof):
     lon_sigma = rate_deg_s * offset_sigma
     noon_clock = transit.time_utc + np.round(offset * 1e6).astype(np.int64).astype("timedelta64[us]")
     altitude = 90.0 - zenith
-    chi2 = [None if not np.isfinite(c) else c for c in np.asarray(chi2_dof, float).tolist()]
-    budget_names = list(per_series)
-    budgets = list(zip(*(np.asarray(per_series[k], float).tolist() for k in budget_names), strict=True)) \
-        if budget_names else [()] * n_groups
-    ids = [prep.sites[i].id for i in prep.group_site.tolist()]
-    dates = prep.group_date.astype(str).tolist()
-    counts = [int(c) for c in np.asarray(fit.count).tolist()]
-    transit_times, noon_times = list(transit.time_utc), list(noon_clock)
-    columns = zip(lat.tolist(), sig.tolist(), dec.tolist(), zenith.tolist(), altitude.tolist(), offset.tolist(),
-                  offset_sigma.tolist(), lon_implied.tolist(), lon_sigma.tolist(), strict=True)
-    out = []
-    with no_cycle_collection():  # some 350,000 records for a million readings, none of them in a cycle
+    # some 400,000 records and tuples for a million readings, none of them in a cycle
+    with no_cycle_collection():
+        chi2 = [None if not np.isfinite(c) else c for c in np.asarray(chi2_dof, float).tolist()]
+        budget_names = list(per_series)
+        budgets = list(zip(*(np.asarray(per_series[k], float).tolist() for k in budget_names), strict=True)) \
+            if budget_names else [()] * n_groups
+        ids = [prep.sites[i].id for i in prep.group_site.tolist()]
+        dates = prep.group_date.astype(str).tolist()
+        counts = [int(c) for c in np.asarray(fit.count).tolist()]
+        transit_times, noon_times = list(transit.time_utc), list(noon_clock)
+        columns = zip(lat.tolist(), sig.tolist(), dec.tolist(), zenith.tolist(), altitude.tolist(), offset.tolist(),
+                      offset_sigma.tolist(), lon_implied.tolist(), lon_sigma.tolist(), strict=True)
+        out = []
         for g, (la, sg, de, ze, al, of, ofs, lo, los) in enumerate(columns):
             out.append(SeriesResult(
                 site_id=ids[g],
