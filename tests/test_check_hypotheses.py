@@ -13,9 +13,16 @@ import numpy as np
 import pytest
 
 from firstrung import ephemeris
-from firstrung.methods.shadows import check_hypotheses
+from firstrung.methods.shadows import check, check_hypotheses
+from firstrung.methods.shadows.altitude import penumbra_width_m
 from firstrung.methods.shadows.check import CheckSite, check_shadow_rows
-from firstrung.methods.shadows.check_statistics import sun_altitude_rad
+from firstrung.methods.shadows.check_statistics import (
+    LENGTH_FACTORS,
+    _edge_sign,
+    _error_terms,
+    _observed,
+    sun_altitude_rad,
+)
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
 
@@ -78,14 +85,15 @@ def _rows(site_index, t, shadow_m):
 
 
 def _campaign_with_mistakes():
-    """Sites over both hemispheres, a morning and a noon series at each; a third of the series with a
-    clock shifted, a longitude's or a latitude's sign wrong (as logged), the others clean."""
+    """Sites over both hemispheres, a morning and a noon series at each; half the series with a clock
+    shifted, a longitude's or a latitude's sign wrong (as logged) or lengths in another unit, the others clean."""
     rng = np.random.default_rng(11)
     real, logged, parts = [], [], []
-    mistakes = [None, (1, 1, 1), None, (-2, 1, 1), None, (0, -1, 1), None, (3, 1, 1), (0, 1, -1), None, (-1, 1, 1)]
-    for k in range(22):
-        lat, lon = -50.0 + 5.3 * k, -160.0 + 14.7 * k
-        hours, lon_sign, lat_sign = mistakes[k % len(mistakes)] or (0, 1, 1)
+    mistakes = [None, (1, 1, 1, 1), None, (-2, 1, 1, 1), None, (0, -1, 1, 1), (0, 1, 1, 100), (3, 1, 1, 1),
+                (0, 1, -1, 1), None, (-1, 1, 1, 1), (0, 1, 1, 0.1)]
+    for k in range(24):
+        lat, lon = -50.0 + 5.1 * k, -160.0 + 13.7 * k
+        hours, lon_sign, lat_sign, factor = mistakes[k % len(mistakes)] or (0, 1, 1, 1)
         real.append(CheckSite(f"s{k}", lat, lon, 100.0))
         logged.append(CheckSite(f"s{k}", lat * lat_sign, lon * lon_sign, 100.0))
         for day, offset_min in (("2027-03-20", -150), ("2027-06-21", 0)):
@@ -93,9 +101,40 @@ def _campaign_with_mistakes():
             t = noon + (offset_min + np.arange(-6, 6) * 4) * np.timedelta64(1, "m")
             syn = simulate_shadow_readings(np.zeros(t.size, int), t, [lat], [lon], [100.0], [1.0],
                                            np.array(["umbra"], dtype=object), ShadowErrors(), rng)
-            parts.append((np.full(t.size, k), t + np.timedelta64(hours, "h"), syn.shadow_m))
+            parts.append((np.full(t.size, k), t + np.timedelta64(hours, "h"), syn.shadow_m * factor))
     index, t, shadow = (np.concatenate(p) for p in zip(*parts, strict=True))
     return tuple(logged), _rows(index, t, shadow)
+
+
+def test_the_unit_bounds_hold_for_every_length_factor():
+    # the observed altitude less refraction from 0 to its greatest, the random variance to rounding, and the
+    # systematic variance at most its bound, for shadows of every length and each edge and weather
+    sites, rows = _campaign_with_mistakes()
+    n = len(rows)
+    rng = np.random.default_rng(5)
+    edge = rng.choice(np.array(["umbra", "middle", "outer"], dtype=object), n)
+    measured = rng.random(n) < 0.5
+    temperature, pressure = rng.uniform(-30.0, 40.0, n), np.where(measured, rng.uniform(700.0, 1050.0, n), 1013.0)
+    sd = np.full(n, 0.267)
+    sign = _edge_sign(edge)
+    rows = ShadowReadings(rows.site_index, rows.time_utc, rows.shadow_m, rows.gnomon_m * rng.uniform(0.5, 3.0, n),
+                          edge, rows.shadow_sigma_m, rows.gnomon_sigma_m, temperature, pressure, file=rows.file,
+                          row=rows.row, time_column=rows.time_column, shadow_column=rows.shadow_column,
+                          observer=rows.observer)
+    pred = np.radians(rng.uniform(5.0, 85.0, n))
+    width = penumbra_width_m(rows.gnomon_m, np.clip(np.degrees(pred), 1.0, 89.0), sd)
+    systematic_bound = check_hypotheses.unit_systematic_bound(rows, width)
+    for factor in LENGTH_FACTORS:
+        length = rows.shadow_m / factor
+        obs, refraction = _observed(rows, length, sign, sd, temperature, pressure)
+        random, systematic = _error_terms(rows, length, np.degrees(pred), sd, refraction, measured, width_m=width)
+        residual, within, variance = check_hypotheses.unit_bounds(rows, factor, sign, sd, pred, 1e-8)
+        assert np.all(np.abs(obs - pred - residual) <= within)
+        assert np.allclose(variance, random + 1e-8, rtol=1e-12, atol=0.0)
+        assert np.all(systematic <= systematic_bound)
+    # the greatest refraction: Bennett's formula at -1 deg (cot 1.15 deg = 49.8') at -90 C and 1100 hPa
+    # (Meeus 1998, eq. 16.3 and 16.4's scaling): 49.8' x 1.684 = 1.398 deg
+    assert check_hypotheses._refraction_max_deg() == pytest.approx(1.398, abs=0.001)
 
 
 def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
@@ -108,6 +147,14 @@ def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
         left_out.append(int(hopeless.sum()))
         return hopeless
 
+    tried = []
+
+    def kept(*args, **kwargs):
+        tried.append(single(*args, **kwargs))
+        return tried[-1]
+
+    single = check._single_hypotheses
+    monkeypatch.setattr(check, "_single_hypotheses", kept)
     monkeypatch.setattr(check_hypotheses._Screen, "hopeless", counted)
     screened = check_shadow_rows(sites, rows)
     assert sum(left_out) > 0  # the bound did leave series out
@@ -115,6 +162,15 @@ def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
     every = check_shadow_rows(sites, rows)
     assert screened.flags == every.flags
     assert screened.series == every.series
+    # each hypothesis' statistic, separation and fit, series by series, are the same numbers to the last bit
+    (stats, fits, separations), (stats_all, fits_all, separations_all) = tried
+    for k in range(len(stats)):
+        assert (stats[k] is None) == (stats_all[k] is None)
+        assert np.array_equal(separations[k], separations_all[k])
+        if stats[k] is not None:
+            assert np.array_equal(stats[k], stats_all[k])
+            for name in ("level_rad", "level_sigma_rad", "clock_s", "mean_square"):
+                assert np.array_equal(getattr(fits[k], name), getattr(fits_all[k], name), equal_nan=True)
     # the mistakes are found (the comparison covers explained series, not only clean ones)
     codes = {f.code for f in screened.flags}
-    assert {"time-shift-hours", "longitude-sign", "latitude-sign"} <= codes
+    assert {"time-shift-hours", "longitude-sign", "latitude-sign", "length-unit"} <= codes

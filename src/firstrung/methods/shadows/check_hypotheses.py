@@ -28,7 +28,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from firstrung.constants import ASTRONOMICAL_UNIT_KM, WGS84_SEMI_MAJOR_AXIS_M
-from firstrung.methods.shadows.altitude import EDGE_LIMB_SIGN, penumbra_width_m
+from firstrung.methods.shadows.altitude import (
+    BOARD_LEVEL_SIGMA_RAD,
+    EDGE_LIMB_SIGN,
+    EDGE_LOCATION_FRACTION,
+    GNOMON_PLUMB_SIGMA_RAD,
+    REFRACTION_SIGMA_FRACTION_MEASURED,
+    REFRACTION_SIGMA_FRACTION_STANDARD,
+    penumbra_width_m,
+)
 from firstrung.methods.shadows.check_statistics import (
     _HOUR_ANGLE_RATE_RAD_S,
     CHECK_CLOCK_SIGMA_S,
@@ -48,6 +56,12 @@ from firstrung.methods.shadows.check_statistics import (
 )
 from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.series_layout import SeriesLayout
+from firstrung.refraction import (
+    LOWEST_REFRACTED_ALTITUDE_DEG,
+    PRESSURE_RANGE_HPA,
+    TEMPERATURE_RANGE_C,
+    refraction_from_apparent_deg,
+)
 
 #: A hypothesis is tried only when the data it predicts would score at least
 #: this under the logged reading (it changes the prediction by 4 sigma or more).
@@ -109,10 +123,11 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     screen = None if beyond is None or x.sun_parts is None else _Screen(x.group, x.n_groups, beyond)
 
     def moved_sun(h, shift_ms, uniform, t_h):
-        """The Sun under a hypothesis that moves it, on the rows of the series it can matter for (the other
-        rows keep the logged reading's), and those series (None: every series)."""
+        """The Sun under a hypothesis that moves it and the series it can matter for (None: every series),
+        computed on their rows and on the rows that may hold the largest residual (see :func:`_exact_rows`);
+        the other rows get the observed altitude (a residual of zero)."""
         lat, lon = x.lat * h.latitude_sign, x.lon * h.longitude_sign
-        kept = None
+        kept = rows_exact = None
         if screen is not None:
             shift_s = shift_ms[0] / 1000.0 if uniform else shift_ms / 1000.0
             hour_angle = x.hour_angle_rad + shift_s * _HOUR_ANGLE_RATE_RAD_S if h.moves_time else x.hour_angle_rad
@@ -125,12 +140,12 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             alt *= -1.0  # the residual obs - alt
             kept = ~screen.hopeless(alt, within, rate_max, rand0 - time_sigma0,
                                     rand0 - time_sigma0 + (rate_max * READING_TIME_SIGMA_S) ** 2, sys0)
-            del alt, rate_max
+            del rate_max
             if not kept.any():
                 return None, None, kept
             kept = None if kept.all() else kept
-        rows_kept = None if kept is None else np.flatnonzero(kept[x.group])
-        pred, rate = moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_kept)
+            rows_exact = None if kept is None else _exact_rows(kept[x.group], alt, within)
+        pred, rate = moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_exact)
         return pred, rate, kept
 
     def moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_kept):
@@ -143,9 +158,22 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             whole = distinct_sun(t_h)
             distinct = (whole[0], whole[1], whole[2][rows_kept], whole[3])
         part_pred, part_rate, _, _ = sun_altitude_rad(None, lat[rows_kept], lon[rows_kept], distinct=distinct)
-        pred, rate = pred0.copy(), rate0.copy()
+        pred, rate = obs0.copy(), rate0.copy()
         pred[rows_kept], rate[rows_kept] = part_pred, part_rate
         return pred, rate
+
+    unit_systematic: list = []  # the bound of a length-unit hypothesis' systematic variance, once on first use
+
+    def unit_rows(factor, part):
+        """A length unit's observed altitude, random and systematic variance on the rows ``part``."""
+        some = rows.select(part)
+        length = some.shadow_m / factor
+        obs_part, refr = _observed(some, length, x.sign[part], x.sd[part], x.temperature[part], x.pressure[part])
+        rand_part, sys_part = _error_terms(some, length, pred0_deg[part], x.sd[part], refr,
+                                           x.measured_weather[part], width_m=width0[part])
+        obs, rand, sysv = pred0.copy(), rand0.copy(), sys0.copy()
+        obs[part], rand[part], sysv[part] = obs_part, rand_part + time_sigma0[part], sys_part
+        return obs, rand, sysv
 
     def one(h):  # a hypothesis, vectorised over every row
         pred, rate, obs, rand, sysv = pred0, rate0, obs0, rand0, sys0
@@ -166,11 +194,23 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
                 return None, None, np.zeros(x.n_groups)
             rand = rand0 - time_sigma0 + (rate * READING_TIME_SIGMA_S) ** 2
         if h.factor != 1.0:
-            length = rows.shadow_m / h.factor
-            obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
-            rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
-                                      width_m=width0)
-            rand = rand + time_sigma0
+            if screen is not None and not has_angles:  # (an angle's systematic terms are not bounded here)
+                if not unit_systematic:
+                    unit_systematic.append(unit_systematic_bound(rows, width0))
+                residual_mid, within, variance = unit_bounds(rows, h.factor, x.sign, x.sd, pred0, time_sigma0)
+                kept = ~screen.hopeless(residual_mid, within, np.abs(rate0), variance, variance,
+                                        unit_systematic[0])
+                del variance
+                if not kept.any():
+                    return None, None, np.zeros(x.n_groups)
+            if kept is None or kept.all():
+                length = rows.shadow_m / h.factor
+                obs, refr = _observed(rows, length, x.sign, x.sd, x.temperature, x.pressure)
+                rand, sysv = _error_terms(rows, length, pred0_deg, x.sd, refr, x.measured_weather, edge=edges0,
+                                          width_m=width0)
+                rand = rand + time_sigma0
+            else:  # the rows of the series it can matter for and those that may hold the largest residual
+                obs, rand, sysv = unit_rows(h.factor, _exact_rows(kept[x.group], residual_mid, within))
         if (h.angle is not None and not has_angles) or (h.edge is not None and one_edge == h.edge):
             return None, None, np.zeros(x.n_groups)  # no angle to retype, or the edge every row marks: as logged
         if h.angle is not None:
@@ -209,6 +249,17 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     tried = [one(h) for h in HYPOTHESES]  # one at a time: each holds some 250 bytes a row while tried
     stats, fits, separations = (list(values) for values in zip(*tried, strict=True))
     return stats, fits, separations
+
+
+def _exact_rows(kept_rows: np.ndarray, residual_rad: np.ndarray, within_rad) -> np.ndarray:
+    """The rows a hypothesis is computed on when it is left out of some series: those of the other series
+    (``kept_rows``), and those whose residual may be the largest in size (its bound reaches the least
+    size the largest can have). The robust fit starts from medians whose rounding depends on the largest
+    residual of all the rows (:func:`~firstrung.methods.shadows.series_layout.column_medians`); with the
+    rows left out at zero and these computed, that largest residual is the one of every row computed.
+    """
+    size = np.abs(residual_rad)
+    return np.flatnonzero(kept_rows | (size + within_rad >= np.max(size - within_rad)))
 
 
 #: A single hypothesis :func:`_decide` chooses is within DISTINCT_MARGIN of the best, whose improvement is
@@ -350,3 +401,47 @@ class _Screen:
             systematic = self._total(systematic_high) / self.count * (1.0 + _SUM_MARGIN)
             bound = reach**2 / (systematic + 2.0 * rate_max**2 / prior + 1.0 / weight_min) * (1.0 - _SUM_MARGIN)
             return np.isfinite(bound) & (bound > 1.01 * self.beyond + 2.0)
+
+
+def _refraction_max_deg() -> float:
+    """The greatest refraction :func:`refraction_from_apparent_deg` gives: at its lowest apparent altitude
+    (it decreases with the altitude), the coldest air and the highest pressure it takes (1.40 deg)."""
+    return float(refraction_from_apparent_deg(LOWEST_REFRACTED_ALTITUDE_DEG, TEMPERATURE_RANGE_C[0],
+                                              PRESSURE_RANGE_HPA[1]))
+
+
+def unit_bounds(rows: ShadowReadings, factor: float, sign, semidiameter_deg, pred_rad, time_variance):
+    """A length-unit hypothesis' residual per row, its bound and its random variance, without the refraction.
+
+    The observed altitude is :func:`_observed`'s of the lengths over ``factor`` less a refraction from 0 to
+    its greatest (:func:`_refraction_max_deg`): the residual is within ``within`` of the one returned. The
+    random variance is :func:`_error_terms`'s (the shadow's reading, less its rounding) plus ``time_variance``.
+    """
+    length = rows.shadow_m / factor
+    refraction_half = 0.5 * _refraction_max_deg()
+    residual = np.degrees(np.arctan2(rows.gnomon_m, length))
+    residual -= sign * semidiameter_deg + refraction_half
+    residual = np.radians(residual, out=residual)
+    residual -= pred_rad
+    length *= length
+    length += rows.gnomon_m**2
+    variance = rows.gnomon_m * rows.shadow_sigma_m / length
+    variance *= variance
+    variance += time_variance
+    return residual, np.radians(refraction_half) + _ROUNDING_RAD, variance
+
+
+def unit_systematic_bound(rows: ShadowReadings, width_m) -> np.ndarray:
+    """Per row, at least :func:`_error_terms`'s systematic variance for a shadow of any length (not an angle).
+
+    With h the gnomon and L the length, L / (h^2 + L^2) <= 1 / (2 h), h / (h^2 + L^2) <= 1 / h and
+    L^2, h^2 <= h^2 + L^2: each term of :func:`altitude_error_terms_rad` at most its value at that bound,
+    the edge's fraction and the refraction's at their greatest.
+    """
+    h = np.abs(rows.gnomon_m)
+    bound = (rows.gnomon_sigma_m / (2.0 * h)) ** 2
+    bound += (max(EDGE_LOCATION_FRACTION.values()) * np.abs(width_m) / h) ** 2
+    bound += (np.radians(max(REFRACTION_SIGMA_FRACTION_STANDARD, REFRACTION_SIGMA_FRACTION_MEASURED)
+                         * _refraction_max_deg()) ** 2 + BOARD_LEVEL_SIGMA_RAD**2 + GNOMON_PLUMB_SIGMA_RAD**2)
+    bound *= 1.0 + _SUM_MARGIN
+    return bound
