@@ -13,6 +13,8 @@ def checked(name: str, value, low: float, high: float, unit: str) -> np.ndarray:
         array = np.asarray(value, dtype=float)
     except (TypeError, ValueError) as error:
         raise InputError(f"{name}: received {value!r}; expected a number [{unit}]") from error
+    if array.size and np.isfinite(low) and np.isfinite(high) and array.min() >= low and array.max() <= high:
+        return array  # every element finite and inside (a NaN fails both comparisons): no mask of the rows
     bad = ~np.isfinite(array) | (array < low) | (array > high)
     if np.any(bad):
         first = array[bad].flat[0] if array.ndim else array

@@ -281,8 +281,8 @@ def _chunk(table, data, raw, start, end, number, width, wanted, raw_kept) -> Byt
         skipped[k] = is_skipped(_cells(data[start[k]:end[k]].decode("utf-8")))
     lo, hi = (int(start[0]), int(end[-1])) if n else (0, 0)
     commas = np.flatnonzero(raw[lo:hi] == 44) + lo
-    line_of = np.searchsorted(start, commas, side="right") - 1
-    count = np.bincount(line_of, minlength=n)
+    first_comma = np.searchsorted(commas, start)  # each line's commas: commas[first_comma:][:count]
+    count = np.searchsorted(commas, end) - first_comma
     counted = np.flatnonzero(~skipped)
     chunk.data_rows = counted.size
     numbers = np.empty(n, np.int64)
@@ -303,9 +303,8 @@ def _chunk(table, data, raw, start, end, number, width, wanted, raw_kept) -> Byt
     chunk.line_start, chunk.line_end = start[kept], end[kept]
     regular = count[kept] == width - 1
     # the cells of the regular rows: between the line's start, its commas and its end
-    on_regular = np.zeros(n, bool)
-    on_regular[kept[regular]] = True
-    bounds = commas[on_regular[line_of]].reshape(-1, width - 1) if width > 1 else np.zeros((int(regular.sum()), 0))
+    bounds = commas[first_comma[kept[regular]][:, None] + np.arange(width - 1)] if width > 1 else \
+        np.zeros((int(regular.sum()), 0))
     cell_start = np.concatenate([start[kept[regular]][:, None], bounds + 1], axis=1)
     cell_end = np.concatenate([bounds, end[kept[regular]][:, None]], axis=1)
     at = np.flatnonzero(regular)
@@ -352,6 +351,8 @@ def _gather(raw: np.ndarray, s: np.ndarray, e: np.ndarray) -> np.ndarray:
     width = max(1, int(length.max()) if length.size else 1)
     cells = np.lib.stride_tricks.sliding_window_view(raw, width)[s]
     short = np.flatnonzero(length < width)
-    if short.size:
+    if short.size > cells.shape[0] // 8:  # many short cells: every row at once, in place
+        cells *= np.arange(width)[None, :] < length[:, None]
+    elif short.size:
         cells[short] *= np.arange(width, dtype=np.int64)[None, :] < length[short, None]
     return cells.view(f"S{width}").reshape(-1)

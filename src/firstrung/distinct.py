@@ -64,8 +64,14 @@ def _distinct_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     for w in range(1, words):  # a 64-bit mix of the words (a collision is found below, not assumed away)
         key *= np.uint64(0x9E3779B97F4A7C15)
         key ^= block[:, w] + (key >> np.uint64(29))
-    _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
-    inverse = inverse.reshape(-1)
+    heads = np.flatnonzero(np.concatenate([[True], key[1:] != key[:-1]]))  # where a run of equal keys starts
+    if heads.size * 4 <= n:  # a log repeats a site, an observer, a note over runs of rows: only the runs sorted
+        _, first, inverse = np.unique(key[heads], return_index=True, return_inverse=True)
+        first = heads[first]  # a key's first row starts a run
+        inverse = np.repeat(inverse.reshape(-1), np.diff(np.append(heads, n)))
+    else:
+        _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+        inverse = inverse.reshape(-1)
     values = cells[first]
     if words > 1 and not np.array_equal(values[inverse], cells):
         values, inverse = np.unique(cells, return_inverse=True)

@@ -311,6 +311,8 @@ def _duplicate_flags(sites, rows) -> list[Flag]:
     t = np.asarray(rows.time_utc, dtype="datetime64[ms]").astype(np.int64)
     length_um = np.round(np.asarray(rows.shadow_m) * 1e6).astype(np.int64)
     site_key = np.asarray(rows.site_index, np.int64)
+    if n > 1 and _distinct_site_times(site_key, t):
+        return []
     # equal keys side by side, each run in the rows' order (a stable sort): its first row is the original
     order = np.lexsort((length_um, t, site_key))
     starts = np.ones(n, bool)
@@ -329,6 +331,17 @@ def _duplicate_flags(sites, rows) -> list[Flag]:
                  str(rows.observer[i] or ""), {"duplicate_of": f"{rows.file[j]}:{rows.row[j]}"})
         )
     return out
+
+
+def _distinct_site_times(site_key: np.ndarray, t: np.ndarray) -> bool:
+    """Whether the rows' (site, time) pairs are sure to be all different: one key per pair, rising from
+    row to row (a log written site by site in time order); False when that cannot be told at once."""
+    low, high = int(t.min()), int(t.max())
+    span = high - low + 1
+    if int(site_key.min()) < 0 or (int(site_key.max()) + 1) * span >= 2**62:
+        return False
+    key = site_key * span + (t - low)
+    return bool((key[1:] > key[:-1]).all())
 
 
 def _pair_flags(h: _Hypothesis, c: _Context) -> list[Flag]:

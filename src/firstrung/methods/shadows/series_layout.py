@@ -55,6 +55,11 @@ class SeriesLayout:
         padding[self.row_cell] = False
         self.padding = np.flatnonzero(padding)
         self.padding_source = self.padding % self.n_groups  # the first row of each padded cell's series
+        # each cell's row; a padded cell's is its series' first row (a gather fills the layout faster
+        # than a scatter, and the padding is then set)
+        self.cell_row = np.empty(cells, np.intp)
+        self.cell_row[self.row_cell] = np.arange(self.n)
+        self.cell_row[self.padding] = order[start[self.padding_source]] if self.padding.size else 0
         self.shape = (self.longest, self.n_groups)
         self._kept: dict = {}
 
@@ -68,8 +73,8 @@ class SeriesLayout:
         kept = self._kept.get(key)
         if kept is not None and kept[0] is values:
             return kept[1]
-        out = np.full(self.shape[0] * self.shape[1], fill)
-        out[self.row_cell] = values
+        out = np.asarray(values, float).take(self.cell_row)
+        out[self.padding] = fill
         out = out.reshape(self.shape)
         if keep and isinstance(values, np.ndarray):
             out.setflags(write=False)
@@ -246,10 +251,7 @@ def hopeless_series(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random
         finite = np.isfinite(r.sum() + d.sum() + v.sum() + sigma.sum())  # (a sum too large only spares no fit)
     if not (finite and sigma.min() > 0.0):
         return np.zeros(layout.n_groups, bool)
-    r_pad = np.empty(layout.shape[0] * layout.shape[1])
-    r_pad[layout.row_cell] = r
-    r_pad[layout.padding] = r_pad[layout.padding_source]  # a padded cell repeats its series' first row
-    r_pad = r_pad.reshape(layout.shape)
+    r_pad = r.take(layout.cell_row).reshape(layout.shape)  # a padded cell repeats its series' first row
     r_lo, r_hi = r_pad.min(axis=0), r_pad.max(axis=0)
     reach = np.where(r_lo > 0.0, r_lo, np.where(r_hi < 0.0, -r_hi, 0.0))
     rate_max = np.abs(layout.spread(d, keep=True)).max(axis=0)
