@@ -172,3 +172,17 @@ def test_rows_kept_for_the_check_from_bytes_equal_the_csv_modules(tmp_path, monk
     (header, numbers, cells, columns), = from_bytes.values()
     assert len(numbers) > 100 and "n" * 200 in columns[header[-1]] and "Zoë" in columns["observer"]
     assert columns["no such column"] == [""] * len(numbers) and ["fjell", "2027-03-22T11:00:00Z"] in cells
+
+
+def test_lengths_read_as_digits_equal_the_plain_number_check():
+    """Cells of whole digits are read from their bytes; every other cell goes through the plain-number
+    check; the values and the cells taken agree with that check on every cell."""
+    from firstrung.methods.shadows.log_columns import _digit_cells, _plain_cells
+
+    cells = ["1376", "0", "0001", "", "1.5", "15e2", "123456789012345", "12a", "-3", "999999999999999", "7", "٣"]
+    as_bytes = np.array([c.encode("utf-8") for c in cells])
+    value, whole = _digit_cells(as_bytes)
+    expected, plain = _plain_cells(cells, -1.0, 1e16, 1.0)
+    assert whole.tolist() == [True, True, True, False, False, False, True, False, False, True, True, False]
+    assert value[whole].tolist() == expected[whole].tolist() and plain[whole].all()
+    assert _digit_cells(np.array([b"1234567890123456"]))[1].tolist() == [False]  # 16 digits: the long way

@@ -43,8 +43,17 @@ _ALNUM = np.zeros(256, bool)
 _ALNUM[48:58] = _ALNUM[65:91] = _ALNUM[97:123] = True
 
 
-def plain_bytes(text: str) -> bytes | None:
-    """The text as UTF-8 when every record is one line without quotes, else None (the csv module reads it)."""
+def plain_bytes(text: str, utf8: bytes | None = None) -> bytes | None:
+    """The text as UTF-8 when every record is one line without quotes, else None (the csv module reads it).
+
+    ``utf8``: the text's own UTF-8 bytes when the file held them (looked at instead, and not encoded again).
+    """
+    if utf8 is not None:
+        if b'"' in utf8 or b"\x00" in utf8:
+            return None
+        if b"\r" in utf8 and utf8.count(b"\r") != utf8.count(b"\r\n"):
+            return None
+        return utf8 + bytes(WIDEST_CELL)
     if '"' in text or "\x00" in text:
         return None
     if "\r" in text and text.count("\r") != text.count("\r\n"):
@@ -54,7 +63,7 @@ def plain_bytes(text: str) -> bytes | None:
 
 
 def plain_chunks(table: Table, text: str, slots: Sequence[Slot], known: set[str],
-                 rows_per_chunk: int | None = None) -> Iterator[Table] | None:
+                 rows_per_chunk: int | None = None, utf8: bytes | None = None) -> Iterator[Table] | None:
     """A plain comma-separated file's rows as :class:`ByteChunk` tables (see :func:`byte_chunks`).
 
     None, with ``table`` unchanged, when the file is not plain (a quote, a NUL, a lone carriage
@@ -63,7 +72,7 @@ def plain_chunks(table: Table, text: str, slots: Sequence[Slot], known: set[str]
     """
     if not BYTE_READER or table.delimiter != ",":
         return None
-    data = plain_bytes(text)
+    data = plain_bytes(text, utf8)
     if data is None:
         return None
 
@@ -110,9 +119,10 @@ class ByteChunk(Table):
     def columns(self, value) -> None:
         self._columns = value
 
-    def distinct(self, name: str) -> tuple[list[str], np.ndarray]:
-        """The distinct texts of a column's regular cells and each kept row's index into them."""
-        values, inverse = distinct_texts(self.byte_columns[name])
+    def distinct(self, name: str, rows: np.ndarray | None = None) -> tuple[list[str], np.ndarray]:
+        """The distinct texts of a column's regular cells and each kept row's index into them (of the kept
+        rows ``rows`` only, when given)."""
+        values, inverse = distinct_texts(self.byte_columns[name] if rows is None else self.byte_columns[name][rows])
         return [v.decode("utf-8").strip() for v in values.tolist()], inverse
 
     def _text_column(self, name: str) -> list[str]:
@@ -328,16 +338,18 @@ def _chunk(table, data, raw, start, end, number, width, wanted, raw_kept) -> Byt
 
 def _stripped(raw: np.ndarray, s: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Cell spans with the ASCII white space ``str.strip`` removes taken off both ends."""
-    while True:
-        lead = np.flatnonzero((e > s) & _STRIPPED[raw[np.minimum(s, raw.size - 1)]])
-        if lead.size == 0:
-            break
-        s[lead] += 1
-    while True:
-        trail = np.flatnonzero((e > s) & _STRIPPED[raw[np.maximum(e - 1, 0)]])
-        if trail.size == 0:
-            break
-        e[trail] -= 1
+    # (``raw`` ends with NUL padding, so ``raw[s]`` is a byte even for an empty last cell; ``raw[e - 1]`` for
+    # e = 0 is a padding NUL: neither is white space)
+    at = np.flatnonzero(_STRIPPED[raw[s]])  # most cells start with no white space: one look at them all
+    while at.size:
+        at = at[e[at] > s[at]]
+        s[at] += 1
+        at = at[_STRIPPED[raw[s[at]]]]
+    at = np.flatnonzero(_STRIPPED[raw[e - 1]])
+    while at.size:
+        at = at[e[at] > s[at]]
+        e[at] -= 1
+        at = at[_STRIPPED[raw[e[at] - 1]]]
     return s, e
 
 
@@ -349,10 +361,13 @@ def _gather(raw: np.ndarray, s: np.ndarray, e: np.ndarray) -> np.ndarray:
     """
     length = e - s
     width = max(1, int(length.max()) if length.size else 1)
-    cells = np.lib.stride_tricks.sliding_window_view(raw, width)[s]
+    # a window of ``width`` bytes starting at every byte: cutting one out is one item's copy
+    windows = np.ndarray(buffer=raw, dtype=f"S{width}", shape=(raw.size - width + 1,), strides=(1,))
+    out = windows[s]
+    cells = out.view(np.uint8).reshape(-1, width)
     short = np.flatnonzero(length < width)
     if short.size > cells.shape[0] // 8:  # many short cells: every row at once, in place
         cells *= np.arange(width)[None, :] < length[:, None]
     elif short.size:
         cells[short] *= np.arange(width, dtype=np.int64)[None, :] < length[short, None]
-    return cells.view(f"S{width}").reshape(-1)
+    return out

@@ -177,7 +177,10 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
         table.problems.append(RowProblem(label, None, None, message))
         return table
     text, table.encoding, problem = decode(data, label)
-    del data  # the text alone from here (a large log is not held twice)
+    # the bytes kept only when they are the text's UTF-8 and may be read as they are (plain_chunks)
+    utf8 = data if columnar and problem is None and table.encoding is None and not data.startswith(b"\xef\xbb\xbf") \
+        else None
+    del data  # else the text alone from here (a large log is not held twice)
     if problem is not None:
         table.problems.append(problem)
         return table
@@ -187,7 +190,8 @@ def _read_table(path: Path, label: str, slots: Sequence[Slot], columnar: bool = 
     known = {name for slot in slots for name in slot.names}
     table.delimiter = sniff_delimiter(text, known)
     if columnar:
-        table.chunks = plain_chunks(table, text, slots, known)
+        table.chunks = plain_chunks(table, text, slots, known, utf8=utf8)
+        del utf8
         if table.chunks is not None:
             return table
         table.chunks = column_chunks(table, text, slots, known)

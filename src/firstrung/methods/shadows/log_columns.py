@@ -307,8 +307,9 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
                          for c in texts], dtype=object)
 
     texts, inverse = table.distinct(chosen["site"])
-    sites = site_ids(texts)[inverse]
-    ok &= sites != ""
+    ids = site_ids(texts)
+    ok &= (ids != "")[inverse]
+    sites = _site_texts(ids, inverse, ok)
     t, usual = _usual_utc_bytes(columns["time_utc"])
     other = np.flatnonzero(ok & ~usual)
     if other.size:  # other plain spellings of a UTC time, one by one as the text reader takes them
@@ -316,8 +317,15 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
     ok &= ~np.isnat(t) & (t >= _SPAN_MS[0]) & (t <= _SPAN_MS[1])
     shadow_column = chosen["shadow_m"]
     factor = _UNIT_FACTORS_M[_unit_of(shadow_column)]
-    texts, inverse = table.distinct(shadow_column)
-    shadow_m, plain = (values[inverse] for values in _plain_cells(texts, 1e-300, SHADOW_LIMIT_M, factor))
+    whole, plain = _digit_cells(columns[shadow_column])  # lengths in whole units: no text, no sort
+    shadow_m = whole * factor
+    plain &= (shadow_m >= 1e-300) & (shadow_m <= SHADOW_LIMIT_M)
+    shadow_m[~plain] = np.nan
+    rest = np.flatnonzero(~plain)
+    if rest.size:  # the others as _plain_cells takes them, each distinct text once
+        texts, inverse = table.distinct(shadow_column, rest)
+        shadow_m[rest], plain[rest] = (values[inverse] for values in _plain_cells(texts, 1e-300, SHADOW_LIMIT_M,
+                                                                                   factor))
     ok &= plain & (shadow_m > 0.0)
     gnomon_m = np.full(n, np.nan)
     gnomon_column = chosen.get("gnomon_m")
@@ -348,6 +356,30 @@ def fast_shadow_bytes(table, campaign: Campaign) -> tuple[dict | None, np.ndarra
     observer, note = (blank if chosen.get(slot) is None else _distinct_column(table, chosen[slot])
                       for slot in ("observer", "note"))
     return _length_rows(ok, sites, t, shadow_m, shadow_column, gnomon_m, edge, weather, observer, note), ok
+
+
+def _site_texts(ids: np.ndarray, inverse: np.ndarray, ok: np.ndarray) -> np.ndarray:
+    """Each row's site id (``ids[inverse]``) as a text array as wide as the longest id of the rows kept
+    (``ok``), as ``ids[inverse][ok].astype(str)`` makes it, without a Python object per row."""
+    kept = np.flatnonzero(np.bincount(inverse[ok], minlength=ids.size)) if ok.any() else np.zeros(0, np.int64)
+    width = max([len(ids[k]) for k in kept.tolist()] + [1])
+    return np.array(ids.tolist(), dtype=f"<U{width}")[inverse] if ids.size else np.zeros(inverse.size, "<U1")
+
+
+def _digit_cells(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Fixed-width byte cells (NUL after the text) made of 1 to 15 ASCII digits: their values as floats
+    (exact, as ``float(text)`` gives them) and which cells they are (others: 0 and False)."""
+    n, width = cells.size, cells.dtype.itemsize
+    if n == 0 or width > 15:
+        return np.zeros(n), np.zeros(n, bool)
+    codes = cells.view(np.uint8).reshape(n, width)
+    digits = codes - np.uint8(48)
+    filled = codes != 0
+    good = filled[:, 0] & ((digits < 10) | ~filled).all(axis=1)  # a NUL only ever follows the text
+    value = np.zeros(n, np.int64)
+    for p in range(width):
+        value = np.where(filled[:, p], value * 10 + digits[:, p], value)
+    return np.where(good, value, 0).astype(float), good
 
 
 def _distinct_column(table, name: str) -> np.ndarray:
