@@ -174,3 +174,15 @@ def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
     # the mistakes are found (the comparison covers explained series, not only clean ones)
     codes = {f.code for f in screened.flags}
     assert {"time-shift-hours", "longitude-sign", "latitude-sign", "length-unit"} <= codes
+
+
+def test_the_hour_angle_is_wrapped_as_by_the_complex_exponential():
+    # sun_altitude_rad wraps the hour angle with arctan2(sin, cos): the same numbers as np.angle(np.exp(1j x)),
+    # whose complex exponential is that cosine and sine (numpy's own identity, held here on this platform);
+    # the check's hour angles run from -2 pi to 4 pi before the wrap
+    x = np.concatenate([np.linspace(-2.0 * np.pi, 4.0 * np.pi, 200_001),
+                        np.random.default_rng(3).uniform(-2.0 * np.pi, 4.0 * np.pi, 200_000)])
+    assert np.array_equal(np.arctan2(np.sin(x), np.cos(x)), np.angle(np.exp(1j * x)))
+    t, lat, lon = _site_times()
+    _, _, ha, _ = sun_altitude_rad(t, lat, lon)
+    assert np.all((-np.pi <= ha) & (ha <= np.pi))

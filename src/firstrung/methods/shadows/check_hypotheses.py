@@ -145,19 +145,23 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
                 return None, None, kept
             kept = None if kept.all() else kept
             rows_exact = None if kept is None else _exact_rows(kept[x.group], alt, within)
-        pred, rate = moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_exact)
+        same_lat = h.latitude_sign == 1.0 and x.sun_parts is not None  # the latitudes' sine and cosine are known
+        terms = (x.sun_parts["sin_lat"], x.sun_parts["cos_lat"]) if same_lat else None
+        pred, rate = moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_exact, terms)
         return pred, rate, kept
 
-    def moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_kept):
+    def moved_sun_rows(shift_ms, uniform, t_h, lat, lon, rows_kept, terms):
         if rows_kept is None:
             distinct = distinct_sun(None, int(shift_ms[0]), like=distinct0) if uniform else distinct_sun(t_h)
-            return sun_altitude_rad(None, lat, lon, distinct=distinct)[:2]
+            return sun_altitude_rad(None, lat, lon, distinct=distinct, latitude_terms=terms)[:2]
         if uniform:
             distinct = distinct_sun(None, int(shift_ms[0]), like=distinct0, rows=rows_kept)
         else:
             whole = distinct_sun(t_h)
             distinct = (whole[0], whole[1], whole[2][rows_kept], whole[3])
-        part_pred, part_rate, _, _ = sun_altitude_rad(None, lat[rows_kept], lon[rows_kept], distinct=distinct)
+        part_terms = None if terms is None else (terms[0][rows_kept], terms[1][rows_kept])
+        part_pred, part_rate, _, _ = sun_altitude_rad(None, lat[rows_kept], lon[rows_kept], distinct=distinct,
+                                                      latitude_terms=part_terms)
         pred, rate = obs0.copy(), rate0.copy()
         pred[rows_kept], rate[rows_kept] = part_pred, part_rate
         return pred, rate

@@ -196,7 +196,7 @@ def _distinct_part(like, unique_t, rows):
     return part[0], part[1], (np.cumsum(used) - 1)[like[2][rows]], unique_t[at]
 
 
-def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, parts=None):
+def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, parts=None, latitude_terms=None):
     """True (airless) topocentric altitude of the Sun's centre, its rate, hour angle and semi-diameter.
 
     The geocentric apparent Sun comes from the ephemeris once per distinct
@@ -217,7 +217,9 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, pa
     parts : dict, optional
         Filled with what a hypothesis moving the Sun starts from (:func:`moved_altitude_bounds`): per row
         ``sin_term`` (sin latitude sin declination), ``cos_factor`` (cos latitude cos declination) and
-        ``cos_lat``.
+        ``cos_lat`` and ``sin_lat``.
+    latitude_terms : (sin, cos) of the latitudes, optional
+        When known (``parts``' ``sin_lat`` and ``cos_lat`` of the same rows): the same numbers, not again.
 
     Returns
     -------
@@ -237,18 +239,24 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, pa
     distance_km = distance_km[inverse]
     del inverse
     ha += np.radians(np.asarray(longitude_deg, float))
-    ha = np.angle(np.exp(1j * ha))
-    lat = np.radians(np.asarray(latitude_deg, float))
-    cos_lat = np.cos(lat)
+    # wrapped to (-pi, pi]: the same numbers as np.angle(np.exp(1j * ha)), whose complex exponential is this
+    # cosine and sine (a test holds it), without the complex arrays
     cos_ha = np.cos(ha)
+    ha = np.arctan2(np.sin(ha, out=ha), cos_ha, out=ha)
+    if latitude_terms is None:
+        lat = np.radians(np.asarray(latitude_deg, float))
+        sin_lat, cos_lat = np.sin(lat), np.cos(lat)
+        del lat
+    else:
+        sin_lat, cos_lat = latitude_terms
+    np.cos(ha, out=cos_ha)
     cos_ha *= cos_lat
     cos_ha *= cos_dec
-    sin_alt = np.sin(lat)
-    sin_alt *= sin_dec
+    sin_alt = sin_lat * sin_dec
     if parts is not None:
-        parts.update(sin_term=sin_alt.copy(), cos_factor=cos_lat * cos_dec, cos_lat=cos_lat)
+        parts.update(sin_term=sin_alt.copy(), cos_factor=cos_lat * cos_dec, cos_lat=cos_lat, sin_lat=sin_lat)
     sin_alt += cos_ha
-    del cos_ha, sin_dec, lat
+    del cos_ha, sin_dec, sin_lat
     alt = np.arcsin(np.clip(sin_alt, -1.0, 1.0, out=sin_alt), out=sin_alt)
     alt -= (WGS84_SEMI_MAJOR_AXIS_M / 1000.0 / distance_km) * np.cos(alt)
     rate = np.sin(ha)
