@@ -235,6 +235,15 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
     unique_keys, group = np.unique(keys_kept, return_inverse=True)
     group_site = unique_keys // span
     group_date = (unique_keys % span + first_day).astype("datetime64[D]")
+    every = bool(keep.all())
+
+    def kept(values, view=False):
+        """The kept readings' values: when every reading is kept, the array itself (twenty columns of a
+        million-row log not copied), or a copy of ``view``s of the track's larger arrays (not kept whole)."""
+        if not every:
+            return values[keep]
+        return values.copy() if view else values
+
     return _Prepared(
         sites=sites,
         baselines=baselines,
@@ -244,22 +253,22 @@ def _prepare(sites, baselines, readings: ShadowReadings) -> _Prepared:
         group=group,
         group_site=group_site,
         group_date=group_date,
-        altitude_rad=np.radians(altitude_deg[keep]),
-        sigma_reading_rad=sigma_reading[keep],
-        dalt_dgnomon_rad_per_m=dalt_dgnomon[keep],
-        edge_sigma_rad=edge_sigma[keep],
-        refraction_sigma_rad=refraction_sigma[keep],
-        declination_rad=np.radians(pos.declination_deg[keep]),
-        hour_angle_rad=np.radians(pos.hour_angle_deg[keep]),
-        declination_rate=np.radians(track.declination_rate_deg_per_s[keep]),
-        hour_angle_rate=np.radians(track.hour_angle_rate_deg_per_s[keep]),
-        semidiameter_deg=pos.semidiameter_deg[keep],
-        refraction_deg=refr[keep],
-        board_level_sigma_rad=np.where(angle, 0.0, terms["board level"])[keep],
-        gnomon_plumb_sigma_rad=np.where(angle | (np.asarray(readings.form) == "trace"), 0.0, terms["gnomon plumb"])[keep],
-        common_rad={name: term[keep] for name, term in forms.common_rad.items()},
-        reading_source=reading_sources(readings.form, readings.timed)[keep],
-        sun_azimuth_deg=pos.azimuth_deg[keep],
+        altitude_rad=np.radians(kept(altitude_deg)),
+        sigma_reading_rad=kept(sigma_reading),
+        dalt_dgnomon_rad_per_m=kept(dalt_dgnomon),
+        edge_sigma_rad=kept(edge_sigma),
+        refraction_sigma_rad=kept(refraction_sigma),
+        declination_rad=np.radians(kept(pos.declination_deg)),
+        hour_angle_rad=np.radians(kept(pos.hour_angle_deg)),
+        declination_rate=np.radians(kept(track.declination_rate_deg_per_s)),
+        hour_angle_rate=np.radians(kept(track.hour_angle_rate_deg_per_s)),
+        semidiameter_deg=kept(pos.semidiameter_deg, view=True),
+        refraction_deg=kept(refr),
+        board_level_sigma_rad=kept(np.where(angle, 0.0, terms["board level"])),
+        gnomon_plumb_sigma_rad=kept(np.where(angle | (np.asarray(readings.form) == "trace"), 0.0, terms["gnomon plumb"])),
+        common_rad={name: kept(term) for name, term in forms.common_rad.items()},
+        reading_source=kept(reading_sources(readings.form, readings.timed)),
+        sun_azimuth_deg=kept(pos.azimuth_deg, view=True),
     )
 
 
