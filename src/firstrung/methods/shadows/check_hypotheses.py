@@ -121,6 +121,9 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     one_edge = edges0[0][0] if len(edges0) == 1 and edges0[0][1] is None else None  # the edge of every row
     beyond = None if base_statistic is None else base_statistic - _REACHABLE_IMPROVEMENT
     screen = None if beyond is None or x.sun_parts is None else _Screen(x.group, x.n_groups, beyond)
+    reading_variance, rate_size = rand0 - time_sigma0, np.abs(rate0)
+    if screen is not None:
+        screen.share(reading_variance, rate_size, sys0)
 
     def moved_sun(h, shift_ms, uniform, t_h):
         """The Sun under a hypothesis that moves it and the series it can matter for (None: every series),
@@ -138,8 +141,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
                                                    hour_angle, shift_s, h.latitude_sign)
             alt -= obs0
             alt *= -1.0  # the residual obs - alt
-            kept = ~screen.hopeless(alt, within, rate_max, rand0 - time_sigma0,
-                                    rand0 - time_sigma0 + (rate_max * READING_TIME_SIGMA_S) ** 2, sys0)
+            kept = ~screen.hopeless(alt, within, rate_max, reading_variance,
+                                    reading_variance + (rate_max * READING_TIME_SIGMA_S) ** 2, sys0)
             del rate_max
             if not kept.any():
                 return None, None, kept
@@ -201,8 +204,9 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             if screen is not None and not has_angles:  # (an angle's systematic terms are not bounded here)
                 if not unit_systematic:
                     unit_systematic.append(unit_systematic_bound(rows, width0))
+                    screen.share(unit_systematic[0])
                 residual_mid, within, variance = unit_bounds(rows, h.factor, x.sign, x.sd, pred0, time_sigma0)
-                kept = ~screen.hopeless(residual_mid, within, np.abs(rate0), variance, variance,
+                kept = ~screen.hopeless(residual_mid, within, rate_size, variance, variance,
                                         unit_systematic[0])
                 del variance
                 if not kept.any():
@@ -366,6 +370,25 @@ class _Screen:
         self.starts = np.concatenate([[0], np.cumsum(self.count)[:-1]])
         self.beyond = beyond
         self.usable = bool(self.count.size and self.count.min() > 0)
+        self._known: dict = {}
+
+    def share(self, *arrays) -> None:
+        """Arrays every hypothesis of a kind passes again (the logged reading's errors and rates): their
+        per-series summaries are kept (by identity)."""
+        for values in arrays:
+            self._known[id(values)] = (values, {})
+
+    def _kept(self, per_series, values):
+        """``per_series(values)``, computed once for a shared array."""
+        known = self._known.get(id(values))
+        if known is None or known[0] is not values:
+            return per_series(values)
+        if per_series.__name__ not in known[1]:
+            known[1][per_series.__name__] = per_series(values)
+        return known[1][per_series.__name__]
+
+    def _weight_total(self, variance):
+        return self._total(1.0 / (np.maximum(variance, 0.0) * (1.0 - _SUM_MARGIN)))
 
     def _by_series(self, values):
         return values if self.order is None else values[self.order]
@@ -390,19 +413,23 @@ class _Screen:
             return np.zeros(self.count.size, bool)
         prior = 1.0 / CHECK_CLOCK_SIGMA_S**2
         with np.errstate(all="ignore"):
-            low = self._least(residual_rad - within_rad)
-            high = self._most(residual_rad + within_rad)
+            if np.ndim(within_rad) == 0:  # one bound for every row: the least and the greatest residual moved
+                low = self._least(residual_rad) - within_rad
+                high = self._most(residual_rad) + within_rad
+            else:
+                low = self._least(residual_rad - within_rad)
+                high = self._most(residual_rad + within_rad)
             reach = np.where(low > 0.0, low, np.where(high < 0.0, -high, 0.0))
-            rate_max = self._most(rate_max_rad_s)
+            rate_max = self._kept(self._most, rate_max_rad_s)
             weight_low = 1.0 / (variance_high * (1.0 + _SUM_MARGIN))
-            weight_high = 1.0 / (np.maximum(variance_low, 0.0) * (1.0 - _SUM_MARGIN))
-            clock_max = (high - low) * np.sqrt(self._total(weight_high) * (1.0 + _SUM_MARGIN) / prior)
+            weight_high = self._kept(self._weight_total, variance_low)
+            clock_max = (high - low) * np.sqrt(weight_high * (1.0 + _SUM_MARGIN) / prior)
             z_max = np.sqrt(weight_low)
             z_max *= ((high - low) + 2.0 * rate_max * clock_max)[self.group]
             huber_weight = np.minimum(1.0, HUBER_SIGMA / np.maximum(z_max, 1e-300))
             huber_weight *= weight_low
             weight_min = self._total(huber_weight) * (1.0 - _SUM_MARGIN)
-            systematic = self._total(systematic_high) / self.count * (1.0 + _SUM_MARGIN)
+            systematic = self._kept(self._total, systematic_high) / self.count * (1.0 + _SUM_MARGIN)
             bound = reach**2 / (systematic + 2.0 * rate_max**2 / prior + 1.0 / weight_min) * (1.0 - _SUM_MARGIN)
             return np.isfinite(bound) & (bound > 1.01 * self.beyond + 2.0)
 
