@@ -119,6 +119,12 @@ def test_distinct_bytes_is_numpys_unique():
         values, inverse = distinct_texts(cells)
         expected, expected_inverse = np.unique(cells, return_inverse=True)
         assert values.tolist() == expected.tolist() and inverse.tolist() == expected_inverse.tolist()
+        # cells in runs, as a log repeats its sites and observers row after row (sorted a run at a time)
+        runs = np.repeat(cells[:300], rng.integers(1, 40, 300))
+        for column in (runs, runs.astype(str)):
+            values, inverse = distinct_texts(column)
+            expected, expected_inverse = np.unique(column, return_inverse=True)
+            assert values.tolist() == expected.tolist() and inverse.tolist() == expected_inverse.tolist()
 
 
 def test_usual_utc_times_from_bytes_agree_with_numpys_calendar():

@@ -27,7 +27,6 @@ NIMA TR8350.2 (2000), Department of Defense World Geodetic System 1984, 3rd ed.
 from __future__ import annotations
 
 import numpy as np
-from geographiclib.geodesic import Geodesic
 
 from firstrung.arguments import checked as _checked
 from firstrung.arguments import scalar_or_array as _output
@@ -268,6 +267,8 @@ def geodesic_inverse(latitude1_deg, longitude1_deg, latitude2_deg, longitude2_de
     latitude2 = _latitude("latitude2_deg", latitude2_deg)
     longitude2 = _checked("longitude2_deg", longitude2_deg, *LONGITUDE_RANGE_DEG, "deg")
     arrays = np.broadcast_arrays(latitude1, longitude1, latitude2, longitude2)
+    from geographiclib.geodesic import Geodesic  # only here: most commands solve no geodesic
+
     geodesic = Geodesic(WGS84_SEMI_MAJOR_AXIS_M, WGS84_FLATTENING)
     mask = Geodesic.DISTANCE | Geodesic.AZIMUTH
     solutions = [

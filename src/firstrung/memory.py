@@ -9,8 +9,6 @@ hands it back, so a million-row reduction holds its arrays, not its read's lefto
 from __future__ import annotations
 
 import contextlib
-import ctypes
-import ctypes.util
 import functools
 import gc
 
@@ -19,13 +17,16 @@ __all__ = ["no_cycle_collection", "release_free_memory", "repeated_object", "res
 
 @functools.cache
 def _trim():
-    """glibc's ``malloc_trim``, or None elsewhere (musl, macOS, Windows: nothing to do there)."""
-    name = ctypes.util.find_library("c")
-    if name is None:
-        return None
+    """glibc's ``malloc_trim``, or None elsewhere (musl, macOS, Windows: nothing to do there).
+
+    Looked up among the symbols the process already has (the C library it runs on), not by
+    ``ctypes.util.find_library``, which starts ``ldconfig`` to find the library's file.
+    """
+    import ctypes  # only when memory is given back (after a large read)
+
     try:
-        trim = ctypes.CDLL(name).malloc_trim
-    except (OSError, AttributeError):
+        trim = ctypes.CDLL(None).malloc_trim
+    except (OSError, AttributeError, TypeError):
         return None
     trim.argtypes = [ctypes.c_size_t]
     trim.restype = ctypes.c_int

@@ -17,7 +17,7 @@ import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.csv_cells import cell_text
-from firstrung.distinct import shared_texts
+from firstrung.distinct import distinct_texts, shared_texts
 from firstrung.errors import RowProblem
 from firstrung.log_record import TimedRows
 from firstrung.methods.shadows.inputs import ShadowReadings
@@ -246,7 +246,7 @@ def shadow_instruments(campaign: Campaign, log: ShadowLog) -> ShadowInstruments:
     from firstrung.campaign_model import DEFAULT_HEIGHT_SIGMA_M, DEFAULT_SHADOW_SIGMA_M
 
     index = {s.id: i for i, s in enumerate(campaign.sites)}
-    ids, inverse = np.unique(np.asarray(log.site, dtype=str), return_inverse=True)
+    ids, inverse = distinct_texts(np.asarray(log.site, dtype=str))
     site_index = np.array([index[s] for s in ids], dtype=int)[inverse] if len(log) else np.zeros(0, int)
     gnomons = [s.gnomon for s in campaign.sites]
     has = np.array([g is not None for g in gnomons], bool)
