@@ -15,7 +15,6 @@ they did not write themselves.
 from __future__ import annotations
 
 import os
-import tempfile
 from collections.abc import Iterable
 from pathlib import Path
 
@@ -244,6 +243,8 @@ def write_atomic(path, data: str | bytes, *, inputs: Iterable = ()) -> Path:
     payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
     mode = _creation_mode(out)
     try:
+        import tempfile  # only when a file is written (most commands print)
+
         fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=PART_SUFFIX, dir=folder)
     except OSError as error:
         raise InputError(f"cannot write {out}: {error.strerror or error}") from None
