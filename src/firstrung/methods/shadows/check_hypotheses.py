@@ -189,7 +189,8 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             shift_h = -x.zone_offset_h if h.local_as_utc else np.full(n, h.hours)
             shift_ms = np.round(shift_h * 3600e3).astype(np.int64)
             uniform = bool(np.all(shift_ms == shift_ms[0]))  # n > 0: the function returned early otherwise
-            t_h = distinct0[3] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
+            # the times moved (of one shift: the ends of the distinct times, which are sorted)
+            t_h = distinct0[3][[0, -1]] + np.timedelta64(int(shift_ms[0]) * 1000, "us") if uniform else (
                 x.t + shift_ms.astype("timedelta64[ms]"))
             as_logged = uniform and shift_ms[0] == 0 and h.latitude_sign == 1.0 and h.longitude_sign == 1.0
             if as_logged and h.factor == 1.0 and h.edge is None and h.angle is None or not _in_span(t_h):

@@ -170,30 +170,36 @@ def distinct_sun(time_utc, shift_ms: int = 0, like=None, rows=None):
         ephemeris.check_in_span(t)
         unique_t, inverse = np.unique(t, return_inverse=True)
         del t
+    elif rows is not None:
+        return _distinct_part(like, shift_ms, rows)
     else:
-        unique_t = like[3] + np.timedelta64(shift_ms * 1000, "us") if shift_ms else like[3]
+        unique_t = like[3] + np.timedelta64(shift_ms * 1000, "us")
         inverse = like[2]
         ephemeris.check_in_span(unique_t)
-        if rows is not None:
-            return _distinct_part(like, unique_t, rows)
     xyz_km, gast_rad = ephemeris._geocentric_sun(unique_t)
     return xyz_km, gast_rad, inverse, unique_t
 
 
-def _distinct_part(like, unique_t, rows):
-    """:func:`distinct_sun` of ``unique_t`` (``like``'s times moved) at some rows only (see there)."""
+def _distinct_part(like, shift_ms: int, rows):
+    """:func:`distinct_sun` of ``like``'s times moved by ``shift_ms`` at some rows only (see there)."""
+    from firstrung import ephemeris
     from firstrung.ephemeris import sun
 
-    used = np.zeros(unique_t.size, bool)
+    used = np.zeros(like[3].size, bool)
     used[like[2][rows]] = True
     at = np.flatnonzero(used)
-    if unique_t is like[3]:  # the same times: their Sun is known
-        return like[0][:, at], like[1][at], (np.cumsum(used) - 1)[like[2][rows]], unique_t[at]
-    part = sun._geocentric_sun_part(unique_t[at], unique_t[0], unique_t[-1], unique_t.size)
+    inverse = (np.cumsum(used) - 1)[like[2][rows]]
+    if not shift_ms:  # the same times: their Sun is known
+        return like[0][:, at], like[1][at], inverse, like[3][at]
+    shift = np.timedelta64(shift_ms * 1000, "us")
+    ends = like[3][[0, -1]] + shift  # the distinct times are sorted: within the span when their ends are
+    ephemeris.check_in_span(ends)
+    unique_t = like[3][at] + shift
+    part = sun._geocentric_sun_part(unique_t, ends[0], ends[1], like[3].size)
     if part is None:  # the whole set is computed directly (not per time): compute it whole, keep the part
-        xyz_km, gast_rad = sun._geocentric_sun(unique_t)
+        xyz_km, gast_rad = sun._geocentric_sun(like[3] + shift)
         part = xyz_km[:, at], gast_rad[at]
-    return part[0], part[1], (np.cumsum(used) - 1)[like[2][rows]], unique_t[at]
+    return part[0], part[1], inverse, unique_t
 
 
 def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, parts=None, latitude_terms=None):
