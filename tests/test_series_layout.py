@@ -91,3 +91,28 @@ def test_hopeless_is_never_sure_of_rows_that_are_not_finite():
     sure = hopeless(SeriesLayout(group, 30), residual, np.zeros(150), np.full(150, 1e-3), np.full(150, 1e-8),
                     np.full(30, 10.0))
     assert not sure.any()
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_hopeless_by_runs_of_rows_agrees_with_the_layout(seed):
+    """Rows that come series by series are bounded over each run of rows (sums added pairwise); the series
+    found hopeless are those the laid-out bound finds, on the statistic's own thresholds and near them."""
+    rng = np.random.default_rng(300 + seed)
+    n_groups = int(rng.integers(20, 300))
+    group, residual, rate, sigma, systematic = _series(rng, n_groups, int(rng.integers(2, 25)), False)
+    order = np.argsort(group, kind="stable")
+    group, residual, rate, sigma, systematic = (x[order] for x in (group, residual, rate, sigma, systematic))
+    residual = residual + rng.normal(0.0, 10.0 ** rng.uniform(-4, 0), n_groups)[group]
+    residual[group % 3 == 0] += 1.0  # a third of the series a radian off: hopeless
+    by_runs = SeriesLayout(group, n_groups)
+    laid_out = SeriesLayout(group, n_groups)
+    laid_out.starts = None
+    assert by_runs.starts is not None
+    fit = series_statistic(group, n_groups, residual, rate, sigma, systematic)
+    found = 0
+    for beyond in (fit.statistic - 1e-9, fit.statistic * 0.5, fit.statistic * 0.9, np.full(n_groups, 20.0)):
+        sure = hopeless(by_runs, residual, rate, sigma, systematic, beyond)
+        assert sure.tolist() == hopeless(laid_out, residual, rate, sigma, systematic, beyond).tolist()
+        assert (fit.statistic[sure] > beyond[sure]).all()
+        found += int(sure.sum())
+    assert found > 0

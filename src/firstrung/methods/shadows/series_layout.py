@@ -62,6 +62,9 @@ class SeriesLayout:
         self.cell_row[self.padding] = order[start[self.padding_source]] if self.padding.size else 0
         self.shape = (self.longest, self.n_groups)
         self._kept: dict = {}
+        # the rows come series by series, none empty: a per-series bound is a reduction over each run of
+        # rows (:func:`hopeless_series`), nothing laid out
+        self.starts = start if (self.count > 0).all() and (group[1:] >= group[:-1]).all() else None
 
     def spread(self, values, fill: float = 0.0, keep: bool = False) -> np.ndarray:
         """Per-row ``values`` in the layout; the padding holds ``fill``.
@@ -242,6 +245,10 @@ def hopeless_series(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random
 
     so the statistic, at least m^2 / (V_sys + var m) + prior u^2, is at least
     R^2 / (V_sys + 2 D^2 / prior + 1 / A). A series any input of which is not finite is never hopeless.
+
+    When the rows come series by series (``layout.starts``), each series' least, greatest and sums are
+    taken over its run of rows (nothing laid out); the sums are then added pairwise, not row after row,
+    which changes the bound by a rounding far inside its margin.
     """
     r = np.asarray(residual_rad, float)
     d = np.asarray(rate_rad_s, float)
@@ -251,17 +258,28 @@ def hopeless_series(layout: SeriesLayout, residual_rad, rate_rad_s, sigma_random
         finite = np.isfinite(r.sum() + d.sum() + v.sum() + sigma.sum())  # (a sum too large only spares no fit)
     if not (finite and sigma.min() > 0.0):
         return np.zeros(layout.n_groups, bool)
-    r_pad = r.take(layout.cell_row).reshape(layout.shape)  # a padded cell repeats its series' first row
-    r_lo, r_hi = r_pad.min(axis=0), r_pad.max(axis=0)
+    if layout.starts is not None:  # rows by series: each series' least, greatest and sums over its run of rows
+        starts = layout.starts
+        least, most, total = (lambda x: np.minimum.reduceat(x, starts), lambda x: np.maximum.reduceat(x, starts),
+                              lambda x: np.add.reduceat(x, starts))
+        r_lo, r_hi, rate_max = least(r), most(r), most(np.abs(d))
+        w = 1.0 / sigma**2
+        expand = layout.group
+    else:
+        r_pad = r.take(layout.cell_row).reshape(layout.shape)  # a padded cell repeats its series' first row
+        least, most, total = (lambda x: x.min(axis=0), lambda x: x.max(axis=0), lambda x: x.sum(axis=0))
+        r_lo, r_hi = least(r_pad), most(r_pad)
+        rate_max = most(np.abs(layout.spread(d, keep=True)))
+        w = layout.spread(1.0 / sigma**2)  # the padding weighs nothing
+        v = layout.spread(v, keep=True)
+        expand = (None, slice(None))
     reach = np.where(r_lo > 0.0, r_lo, np.where(r_hi < 0.0, -r_hi, 0.0))
-    rate_max = np.abs(layout.spread(d, keep=True)).max(axis=0)
-    w = layout.spread(1.0 / sigma**2)  # the padding weighs nothing
-    clock_max = (r_hi - r_lo) * np.sqrt(w.sum(axis=0) / prior)
+    clock_max = (r_hi - r_lo) * np.sqrt(total(w) / prior)
     z_max = np.sqrt(w)
-    z_max *= (r_hi - r_lo + 2.0 * rate_max * clock_max)[None, :]
+    z_max *= (r_hi - r_lo + 2.0 * rate_max * clock_max)[expand]
     np.maximum(z_max, 1e-300, out=z_max)
-    weight_min = (w * np.minimum(1.0, huber / z_max)).sum(axis=0)
-    v_sys = layout.spread(v, keep=True).sum(axis=0) / np.maximum(layout.count, 1)
+    weight_min = total(w * np.minimum(1.0, huber / z_max))
+    v_sys = total(v) / np.maximum(layout.count, 1)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         bound = reach**2 / (v_sys + 2.0 * rate_max**2 / prior + 1.0 / weight_min)
     # a wide margin for the rounding of the fit and of this bound
