@@ -98,7 +98,8 @@ def altitude_error_terms_rad(
     """
     h = np.asarray(gnomon_m, float)
     length = np.asarray(shadow_m, float)
-    denom = h**2 + length**2
+    h2, length2 = h**2, length**2  # each square once (the check calls this for every hypothesis)
+    denom = h2 + length2
     fraction = _per_edge(edge, EDGE_LOCATION_FRACTION)
     width = penumbra_width_m(h, np.clip(altitude_deg, 1.0, 89.0), semidiameter_deg) if width_m is None else width_m
     refraction_fraction = np.where(
@@ -108,8 +109,8 @@ def altitude_error_terms_rad(
         "shadow reading": h * np.asarray(shadow_sigma_m, float) / denom,
         "gnomon height": length * np.asarray(gnomon_sigma_m, float) / denom,
         "edge location": h * fraction * np.abs(width) / denom,
-        "board level": BOARD_LEVEL_SIGMA_RAD * length**2 / denom,
-        "gnomon plumb": GNOMON_PLUMB_SIGMA_RAD * h**2 / denom,
+        "board level": BOARD_LEVEL_SIGMA_RAD * length2 / denom,
+        "gnomon plumb": GNOMON_PLUMB_SIGMA_RAD * h2 / denom,
         "refraction": np.radians(refraction_fraction * np.asarray(refraction_deg, float)),
     }
 
