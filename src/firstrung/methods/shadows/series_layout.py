@@ -86,6 +86,20 @@ class SeriesLayout:
             self._kept[key] = (values, out)
         return out
 
+    def columns(self, index: np.ndarray, inputs) -> list[np.ndarray]:
+        """``spread(values, fill)[:, index]`` of each (values, fill) of ``inputs``, contiguous, without laying
+        out the other columns."""
+        rows = self.cell_row.reshape(self.shape)[:, index]
+        padding = np.zeros(self.shape[0] * self.shape[1], bool)
+        padding[self.padding] = True
+        padding = np.flatnonzero(padding.reshape(self.shape)[:, index])
+        out = []
+        for values, fill in inputs:
+            laid_out = np.asarray(values, float).take(rows)
+            laid_out.reshape(-1)[padding] = fill
+            out.append(laid_out)
+        return out
+
     def rows(self, laid_out: np.ndarray) -> np.ndarray:
         """Back from the layout to one value per row."""
         return laid_out.reshape(-1)[self.row_cell]
@@ -189,17 +203,19 @@ def series_fit(layout: SeriesLayout | FlatSeries, residual_rad, rate_rad_s, sigm
     ``columns``: the series to fit (bool per series; default all; a layout only). Returns (statistic, level,
     level variance, clock, mean square, z in the arrangement's form) for those series.
     """
-    r = layout.spread(np.asarray(residual_rad, float))
-    d = layout.spread(np.asarray(rate_rad_s, float), keep=True)
-    sigma = layout.spread(np.asarray(sigma_random_rad, float), fill=1.0, keep=True)
-    v = layout.spread(np.asarray(variance_systematic_rad2, float), keep=True)
+    residual = np.asarray(residual_rad, float)
     count = layout.count
     index = np.arange(layout.n_groups)
-    gap = 2.0 * float(np.max(np.abs(r))) + 1.0 if robust and r.size else 0.0  # padding never raises the maximum
-    if columns is not None and not columns.all():
+    gap = 2.0 * float(np.max(np.abs(residual))) + 1.0 if robust and residual.size else 0.0  # (the padding's zeros
+    # never raise the maximum)
+    inputs = ((residual, 0.0), (rate_rad_s, 0.0), (sigma_random_rad, 1.0), (variance_systematic_rad2, 0.0))
+    if columns is not None and not columns.all():  # only these series' columns laid out
         index = np.flatnonzero(columns)
-        r, d, sigma, v = (np.ascontiguousarray(x[:, index]) for x in (r, d, sigma, v))
+        r, d, sigma, v = layout.columns(index, inputs)
         count = count[index]
+    else:
+        r = layout.spread(residual)
+        d, sigma, v = (layout.spread(np.asarray(x, float), fill=fill, keep=True) for x, fill in inputs[1:])
     w = 1.0 / sigma**2
     layout.unweight_padding(w, count)
     sqrt_w = np.sqrt(w)
