@@ -142,10 +142,17 @@ def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
     left_out = []
     bounded = check_hypotheses._Screen.hopeless
 
-    def counted(self, *args):
-        hopeless = bounded(self, *args)
+    def counted(self, *args, **kwargs):
+        hopeless = bounded(self, *args, **kwargs)
         left_out.append(int(hopeless.sum()))
         return hopeless
+
+    parts = []  # the hypotheses computed on part of the rows
+    exact = check_hypotheses._exact_rows
+
+    def exact_rows(*args):
+        parts.append(exact(*args))
+        return parts[-1]
 
     tried = []
 
@@ -156,9 +163,11 @@ def test_series_left_out_by_the_bound_change_no_flag_or_diagnosis(monkeypatch):
     single = check._single_hypotheses
     monkeypatch.setattr(check, "_single_hypotheses", kept)
     monkeypatch.setattr(check_hypotheses._Screen, "hopeless", counted)
+    monkeypatch.setattr(check_hypotheses, "_exact_rows", exact_rows)
     screened = check_shadow_rows(sites, rows)
-    assert sum(left_out) > 0  # the bound did leave series out
-    monkeypatch.setattr(check_hypotheses._Screen, "hopeless", lambda self, *args: np.zeros(self.count.size, bool))
+    assert sum(left_out) > 0 and parts  # the bound did leave series out, and some hypotheses ran on a part
+    monkeypatch.setattr(check_hypotheses._Screen, "hopeless",
+                        lambda self, *args, **kwargs: np.zeros(self.count.size, bool))
     every = check_shadow_rows(sites, rows)
     assert screened.flags == every.flags
     assert screened.series == every.series

@@ -131,7 +131,7 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
         the other rows get the observed altitude (a residual of zero)."""
         lat, lon = x.lat * h.latitude_sign, x.lon * h.longitude_sign
         kept = rows_exact = None
-        if screen is not None:
+        if screen is not None and _worth_bounding(h, screen):
             shift_s = shift_ms[0] / 1000.0 if uniform else shift_ms / 1000.0
             hour_angle = x.hour_angle_rad + shift_s * _HOUR_ANGLE_RATE_RAD_S if h.moves_time else x.hour_angle_rad
             if h.longitude_sign != 1.0:
@@ -142,11 +142,13 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
             alt -= obs0
             alt *= -1.0  # the residual obs - alt
             kept = ~screen.hopeless(alt, within, rate_max, reading_variance,
-                                    reading_variance + (rate_max * READING_TIME_SIGMA_S) ** 2, sys0)
+                                    reading_variance + (rate_max * READING_TIME_SIGMA_S) ** 2, sys0,
+                                    key=h.hours if h.moves_time and uniform else None)
             del rate_max
             if not kept.any():
                 return None, None, kept
-            kept = None if kept.all() else kept
+            # most rows kept: all of them computed (the same numbers; a part costs copies for little)
+            kept = None if screen.count[kept].sum() > _MOST_ROWS * n else kept
             rows_exact = None if kept is None else _exact_rows(kept[x.group], alt, within)
         same_lat = h.latitude_sign == 1.0 and x.sun_parts is not None  # the latitudes' sine and cosine are known
         terms = (x.sun_parts["sin_lat"], x.sun_parts["cos_lat"]) if same_lat else None
@@ -258,6 +260,21 @@ def _single_hypotheses(x: _Inputs, residual0, pred0, rate0, obs0, refr0, rand0, 
     tried = [one(h) for h in HYPOTHESES]  # one at a time: each holds some 250 bytes a row while tried
     stats, fits, separations = (list(values) for values in zip(*tried, strict=True))
     return stats, fits, separations
+
+
+#: A hypothesis left out of series holding less than this fraction of the rows is computed on all of them.
+_MOST_ROWS = 0.6
+
+
+def _worth_bounding(h, screen: _Screen) -> bool:
+    """Whether to bound a hypothesis that moves the Sun before computing it (the answer changes only the
+    time taken): a clock an hour off is not bounded when the bound of two hours the same way could leave
+    out less than a sixth of the rows with four times its margin (the Sun moves about half as far in one
+    hour as in two, and the bound goes with the square of that)."""
+    if abs(h.hours) != 1.0 or h.local_as_utc:
+        return True
+    ratio = screen.bound_ratio.get(2.0 * h.hours)
+    return ratio is None or screen.count[ratio > 4.0].sum() >= screen.count.sum() / 6.0
 
 
 def _exact_rows(kept_rows: np.ndarray, residual_rad: np.ndarray, within_rad) -> np.ndarray:
@@ -372,6 +389,7 @@ class _Screen:
         self.beyond = beyond
         self.usable = bool(self.count.size and self.count.min() > 0)
         self._known: dict = {}
+        self.bound_ratio: dict = {}
 
     def share(self, *arrays) -> None:
         """Arrays every hypothesis of a kind passes again (the logged reading's errors and rates): their
@@ -403,12 +421,14 @@ class _Screen:
     def _total(self, values):
         return np.add.reduceat(self._by_series(values), self.starts)
 
-    def hopeless(self, residual_rad, within_rad, rate_max_rad_s, variance_low, variance_high, systematic_high):
+    def hopeless(self, residual_rad, within_rad, rate_max_rad_s, variance_low, variance_high, systematic_high,
+                 key=None):
         """Per series: whether :func:`series_statistic`'s robust statistic is sure to exceed ``beyond`` for
         every residual within ``within_rad`` of ``residual_rad``, rates at most ``rate_max_rad_s`` in size,
         random variances from ``variance_low`` to ``variance_high`` and systematic ones at most
         ``systematic_high`` (per row). The bound of :func:`hopeless_series`, with each input at the end of
-        its interval that lowers it; a series with an input not finite is never hopeless.
+        its interval that lowers it; a series with an input not finite is never hopeless. ``key``: keep each
+        series' bound over the least that is hopeless in :attr:`bound_ratio` under this key.
         """
         if not self.usable:
             return np.zeros(self.count.size, bool)
@@ -432,6 +452,8 @@ class _Screen:
             weight_min = self._total(huber_weight) * (1.0 - _SUM_MARGIN)
             systematic = self._kept(self._total, systematic_high) / self.count * (1.0 + _SUM_MARGIN)
             bound = reach**2 / (systematic + 2.0 * rate_max**2 / prior + 1.0 / weight_min) * (1.0 - _SUM_MARGIN)
+            if key is not None:
+                self.bound_ratio[key] = np.where(np.isfinite(bound), bound, 0.0) / (1.01 * self.beyond + 2.0)
             return np.isfinite(bound) & (bound > 1.01 * self.beyond + 2.0)
 
 
