@@ -182,7 +182,8 @@ def test_plain_values_are_typers_values(annotation, text, minimum, maximum):
     """Each value the plain conversion accepts is the value typer's own converter gives; each it
     does not recognise (or finds out of range) is left to typer's converter, which refuses it or
     converts it with its own rules and messages."""
-    from firstrung.cli.direct import UNSURE as _UNSURE, plain_value as _plain
+    from firstrung.cli.direct import UNSURE as _UNSURE
+    from firstrung.cli.direct import plain_value as _plain
 
     ours = _plain(annotation, _Limits(minimum, maximum), text)
     theirs = _typers_own(annotation, text, minimum, maximum)
@@ -196,7 +197,8 @@ def test_plain_values_are_typers_values(annotation, text, minimum, maximum):
 
 def test_plain_values_take_the_usual_values_themselves():
     """The conversion does its work: the values a user types go no further (else nothing is gained)."""
-    from firstrung.cli.direct import UNSURE as _UNSURE, plain_value as _plain
+    from firstrung.cli.direct import UNSURE as _UNSURE
+    from firstrung.cli.direct import plain_value as _plain
 
     assert _plain(int, _Limits(1), "10") == 10
     assert _plain(float, _Limits(), "20.5") == 20.5

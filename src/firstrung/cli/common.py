@@ -8,7 +8,6 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-
 from firstrung.cli.direct import Argument, Option
 from firstrung.patterns import CONTROL_CHARACTERS, pattern
 

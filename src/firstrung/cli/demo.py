@@ -5,9 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import console, handles_errors, progress_bar
+from firstrung.cli.direct import Option
 
 
 def register(app) -> None:

@@ -4,8 +4,6 @@ from __future__ import annotations
 
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     JsonOption,
@@ -14,6 +12,7 @@ from firstrung.cli.common import (
     print_json,
     report_problems,
 )
+from firstrung.cli.direct import Option
 
 
 def register(app) -> None:

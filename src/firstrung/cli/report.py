@@ -5,8 +5,6 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     console,
@@ -15,6 +13,7 @@ from firstrung.cli.common import (
     progress_bar,
     report_problems,
 )
+from firstrung.cli.direct import Option
 
 
 def register(app) -> None:

@@ -5,9 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import CampaignArgument, console, handles_errors
+from firstrung.cli.direct import Option
 
 
 def register(app) -> None:

@@ -7,9 +7,8 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import CampaignArgument, console, handles_errors, html_output
+from firstrung.cli.direct import Option
 
 PaperOption = Annotated[str, Option("--paper", help="Page size for printing: a4 or letter.")]
 

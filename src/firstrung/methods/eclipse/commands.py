@@ -5,8 +5,6 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CalendarSiteOption,
     CampaignArgument,
@@ -28,6 +26,7 @@ from firstrung.cli.common import (
     simulation_range,
     write_simulated,
 )
+from firstrung.cli.direct import Option
 
 ConventionOption = Annotated[
     str,

@@ -5,8 +5,6 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CampaignArgument,
     FromOption,
@@ -28,6 +26,7 @@ from firstrung.cli.common import (
     simulation_range,
     write_simulated,
 )
+from firstrung.cli.direct import Option
 
 StarOption = Annotated[str | None, Option("--star", help="Only this star (its id or name in the campaign file).")]
 

@@ -6,8 +6,6 @@ import sys
 from pathlib import Path
 from typing import Annotated
 
-
-from firstrung.cli.direct import Option
 from firstrung.cli.common import (
     CalendarSiteOption,
     CampaignArgument,
@@ -31,6 +29,7 @@ from firstrung.cli.common import (
     terminal_text,
     write_simulated,
 )
+from firstrung.cli.direct import Option
 from firstrung.numbers import plural
 
 
