@@ -192,3 +192,22 @@ def test_lengths_read_as_digits_equal_the_plain_number_check():
     assert whole.tolist() == [True, True, True, False, False, False, True, False, False, True, True, False]
     assert value[whole].tolist() == expected[whole].tolist() and plain[whole].all()
     assert _digit_cells(np.array([b"1234567890123456"]))[1].tolist() == [False]  # 16 digits: the long way
+
+
+def test_usual_utc_times_read_once_a_date_give_what_row_by_row_gives():
+    """Rows in runs of one date (a log's day) are read a date at a time; the same cells in a random
+    order (no runs) are read row by row; both give the same instants and the same refusals."""
+    rng = np.random.default_rng(11)
+    dates = [f"{y:04d}-{m:02d}-{d:02d}" for y, m, d in zip(rng.integers(1550, 2651, 400), rng.integers(0, 14, 400),
+                                                           rng.integers(0, 33, 400), strict=True)]
+    dates += ["2024-02-29", "2023-02-29", "1900-02-29", "2000-02-29", "2027-O3-20", "2027/03/20"]
+    text = [f"{date}T{h:02d}:{mi:02d}:{s:02d}Z" for date in dates
+            for h, mi, s in zip(rng.integers(0, 26, 8), rng.integers(0, 61, 8), rng.integers(0, 61, 8), strict=True)]
+    text += ["2027-03-20T11:38:00z", "2027-03-20 11:38:00Z", "2027-03-20T11-38:00Z"] * 3
+    cells = np.array(text, dtype="S20")
+    t, usual = _usual_utc_bytes(cells)
+    order = rng.permutation(cells.size)
+    t_rows, usual_rows = _usual_utc_bytes(cells[order])
+    assert usual[order].tolist() == usual_rows.tolist() and 0 < usual.sum() < cells.size
+    assert np.array_equal(t[order], t_rows, equal_nan=True)
+    assert all(t[k] == np.datetime64(text[k][:-1], "ms") for k in np.flatnonzero(usual).tolist())

@@ -242,41 +242,54 @@ def _usual_utc_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """``YYYY-MM-DDTHH:MM:SSZ`` cells (fixed-width bytes) as datetime64[ms], and which were of that form.
 
     The civil date and time are checked (month, day of the month, leap years, hours to 23, minutes and
-    seconds to 59) and converted with integer arithmetic; other cells give NaT and False.
+    seconds to 59) and converted with integer arithmetic; other cells give NaT and False. A log's rows
+    come day by day: a date is read once for each run of rows that share it.
     """
     n = cells.size
     t = np.full(n, np.datetime64("NaT"), dtype="datetime64[ms]")
     if n == 0 or cells.dtype.itemsize != 20:
         return t, np.zeros(n, bool)
     codes = cells.view(np.uint8).reshape(n, 20)
-    d = codes - np.uint8(48)  # a digit is 0-9, anything else wraps above
-    at = [0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18]
-    usual = ((d[:, at] < 10).all(axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45) & (codes[:, 10] == 84)
-             & (codes[:, 13] == 58) & (codes[:, 16] == 58) & (codes[:, 19] == 90))
+    heads = np.flatnonzero(np.concatenate([[True], (codes[1:, :10] != codes[:-1, :10]).any(axis=1)]))
+    if heads.size * 4 <= n:
+        runs = np.diff(np.append(heads, n))
+        usual, days = (np.repeat(x, runs) for x in _civil_days(codes[heads]))
+    else:
+        usual, days = _civil_days(codes)
+    d = codes[:, 11:19] - np.uint8(48)  # a digit is 0-9, anything else wraps above
+    usual &= ((d[:, [0, 1, 3, 4, 6, 7]] < 10).all(axis=1) & (codes[:, 10] == 84) & (codes[:, 13] == 58)
+              & (codes[:, 16] == 58) & (codes[:, 19] == 90))
+    hour, minute, second = (_number(d, p, p + 1) for p in (0, 3, 6))
+    usual &= (hour <= 23) & (minute <= 59) & (second <= 59)
+    ms = ((days * 24 + hour) * 60 + minute) * 60_000 + second * 1000
+    t[usual] = ms[usual].astype("datetime64[ms]")
+    return t, usual
 
-    def number(*places):
-        value = np.zeros(n, np.int64)
-        for p in places:
-            value *= 10
-            value += d[:, p]
-        return value
 
-    year, month, day = number(0, 1, 2, 3), number(5, 6), number(8, 9)
-    hour, minute, second = number(11, 12), number(14, 15), number(17, 18)
+def _number(digits: np.ndarray, *places: int) -> np.ndarray:
+    """The decimal number written by the digits (0-9 each, uint8) in columns ``places`` of each row."""
+    value = np.zeros(digits.shape[0], np.int64)
+    for p in places:
+        value *= 10
+        value += digits[:, p]
+    return value
+
+
+def _civil_days(codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Whether each row's first ten bytes are a valid ``YYYY-MM-DD``, and its days since 1970-01-01 (the
+    proleptic Gregorian calendar, as numpy's)."""
+    d = codes[:, :10] - np.uint8(48)
+    valid = (d[:, [0, 1, 2, 3, 5, 6, 8, 9]] < 10).all(axis=1) & (codes[:, 4] == 45) & (codes[:, 7] == 45)
+    year, month, day = _number(d, 0, 1, 2, 3), _number(d, 5, 6), _number(d, 8, 9)
     leap = (year % 4 == 0) & ((year % 100 != 0) | (year % 400 == 0))
     month_days = _MONTH_DAYS[np.clip(month - 1, 0, 11)] + ((month == 2) & leap)
-    usual &= (month >= 1) & (month <= 12) & (day >= 1) & (day <= month_days) & (hour <= 23) & (minute <= 59)
-    usual &= second <= 59
-    # days since 1970-01-01 of the civil date (the proleptic Gregorian calendar, as numpy's)
+    valid &= (month >= 1) & (month <= 12) & (day >= 1) & (day <= month_days)
     y = year - (month <= 2)
     era = np.floor_divide(y, 400)
     yoe = y - era * 400
     doy = (153 * (month + np.where(month > 2, -3, 9)) + 2) // 5 + day - 1
     doe = yoe * 365 + yoe // 4 - yoe // 100 + doy
-    days = era * 146097 + doe - 719468
-    ms = ((days * 24 + hour) * 60 + minute) * 60_000 + second * 1000
-    t[usual] = ms[usual].astype("datetime64[ms]")
-    return t, usual
+    return valid, era * 146097 + doe - 719468
 
 
 def _weather(cell: str, slot: str, low: float, high: float) -> tuple[bool, float]:
