@@ -182,9 +182,10 @@ def report_problems(problems) -> None:
 
 
 def print_json(obj: dict) -> None:
-    from firstrung.jsonout import dumps
+    """The result as JSON on stdout, written as it is made (a million pairs are never one text)."""
+    from firstrung.jsonout import write_json
 
-    sys.stdout.write(dumps(obj) + "\n")
+    write_json(obj, sys.stdout)
 
 
 IncludeFlaggedOption = Annotated[

@@ -202,7 +202,7 @@ def reduce_shadows(
 
     run = run_shadows(campaign, include_flagged=include_flagged)
     # the terminal shows the pairs' summary only, and the days of the sites it shows
-    data = shadow_run_to_json(run, pairs=json_output, lazy_days=not json_output)
+    data = shadow_run_to_json(run, pairs="as-written" if json_output else False, lazy_days=not json_output)
     if school_sheets is not None:
         from firstrung.methods.shadows.commands_network import write_school_sheets
 

@@ -10,9 +10,10 @@ from firstrung.jsonout import quantity as _q
 from firstrung.jsonout import time_z as _time
 
 
-def shadow_run_to_json(run, *, pairs: bool = True, lazy_days: bool = False) -> dict:
+def shadow_run_to_json(run, *, pairs: bool | str = True, lazy_days: bool = False) -> dict:
     """The ``reduce shadows`` result (see DESIGN section 4); ``pairs=False`` leaves out the list of pairs
-    (their summary stays), for the terminal and the report. ``lazy_days``: each site's ``days`` a
+    (their summary stays), for the terminal and the report; ``pairs="as-written"`` makes them one at a
+    time as the JSON text is written (:func:`firstrung.jsonout.write_json`). ``lazy_days``: each site's ``days`` a
     sequence that builds a day's dictionary when it is read (the terminal reads the days of the sites
     it shows; not for JSON text)."""
     from firstrung.methods.shadows.pairs import partners_of

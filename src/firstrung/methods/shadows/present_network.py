@@ -20,8 +20,12 @@ def _float(x: float) -> float | None:
     return x if math.isfinite(x) else None
 
 
-def pairs_json(pairs) -> list[dict]:
-    """``pairs[]``: every pair as the Contract lists it, the radius a measured quantity."""
+def pairs_json(pairs, *, as_written: bool = False) -> list[dict]:
+    """``pairs[]``: every pair as the Contract lists it, the radius a measured quantity.
+
+    ``as_written``: the pairs made one at a time as the JSON text is written
+    (:class:`firstrung.jsonout.JsonRows`), for a campaign with millions of them.
+    """
     if pairs is None:
         return []
     value = np.round(pairs.radius_km, 1)
@@ -29,17 +33,32 @@ def pairs_json(pairs) -> list[dict]:
     low = np.round(pairs.low_km, 1)
     high = np.round(pairs.high_km, 1)
     ns = np.round(pairs.north_south_km, 1)
-    return [
-        {"sites": [a, b], "date": d, "north_south_km": _float(n),
-         "radius_km": {"value": _float(v), "sigma": _float(s), "low": _float(lo), "high": _float(hi), "unit": "km"},
-         "flagged": bool(f)}
-        for a, b, d, n, v, s, lo, hi, f in zip(
-            pairs.first.tolist(), pairs.second.tolist(), pairs.date.tolist(), ns.tolist(), value.tolist(),
-            sigma.tolist(), low.tolist(), high.tolist(), pairs.flagged.tolist(), strict=True)
-    ]
+
+    def rows(start: int = 0, stop: int | None = None):
+        stop = len(value) if stop is None else stop
+        return (
+            {"sites": [a, b], "date": d, "north_south_km": _float(n),
+             "radius_km": {"value": _float(v), "sigma": _float(s), "low": _float(lo), "high": _float(hi), "unit": "km"},
+             "flagged": bool(f)}
+            for a, b, d, n, v, s, lo, hi, f in zip(
+                pairs.first[start:stop].tolist(), pairs.second[start:stop].tolist(), pairs.date[start:stop].tolist(),
+                ns[start:stop].tolist(), value[start:stop].tolist(), sigma[start:stop].tolist(),
+                low[start:stop].tolist(), high[start:stop].tolist(), pairs.flagged[start:stop].tolist(), strict=True)
+        )
+
+    if not as_written:
+        return list(rows())
+
+    def in_blocks(block: int = 65536):
+        for start in range(0, len(value), block):
+            yield from rows(start, start + block)
+
+    from firstrung.jsonout import JsonRows
+
+    return JsonRows(len(value), in_blocks)
 
 
-def network_json(run, pairs: bool = True) -> dict:
+def network_json(run, pairs: bool | str = True) -> dict:
     """The top-level keys the network method adds (``method`` and the rest)."""
     from firstrung.methods.shadows.pairs import pairs_summary
 
@@ -58,7 +77,7 @@ def network_json(run, pairs: bool = True) -> dict:
         out["pairs_selection"] = run.pairs.selection
         out["pairs_summary"] = {k: (_num(v, 1) if k != "count" else v) for k, v in summary.items()}
         if pairs:
-            out["pairs"] = pairs_json(run.pairs)
+            out["pairs"] = pairs_json(run.pairs, as_written=pairs == "as-written")
     return out
 
 
