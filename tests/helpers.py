@@ -1,4 +1,4 @@
-"""Shared test helpers: running the command line in process."""
+"""Shared test helpers: running the command line in process, campaigns and rows made for a test."""
 
 from __future__ import annotations
 
@@ -38,3 +38,19 @@ def write_network(tmp_path, rows, campaign_extra=""):
     camp = tmp_path / "network.toml"
     camp.write_text('[campaign]\nname = "Equinox network"\n' + campaign_extra + '[logs]\nshadows = ["logs/schools.csv"]\n')
     return camp
+
+
+def umbra_rows(site_index, t, shadow_m):
+    """Shadow readings of a 1 m gnomon marked at the umbra's edge, with the usual stated errors (the
+    check's input as the log reader gives it), for tests that make their own rows."""
+    import numpy as np
+
+    from firstrung.methods.shadows.inputs import ShadowReadings
+
+    n = len(t)
+    return ShadowReadings(
+        np.asarray(site_index), t, shadow_m, np.ones(n), np.full(n, "umbra", dtype=object), np.full(n, 0.002),
+        np.full(n, 0.001), np.full(n, np.nan), np.full(n, np.nan), file=np.full(n, "a.csv", dtype=object),
+        row=np.arange(1, n + 1), time_column=np.full(n, "time_utc", dtype=object),
+        shadow_column=np.full(n, "shadow_m", dtype=object), observer=np.full(n, "", dtype=object))
+

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from tests.helpers import umbra_rows
 
 from firstrung import ephemeris
 from firstrung.methods.shadows import check, check_hypotheses
@@ -75,15 +76,6 @@ def test_the_moved_sun_is_within_its_bound_of_the_check_and_of_skyfield(hours, l
     assert np.all(np.abs(reference - alt) <= within + 2.0 * ARCSEC_RAD)
 
 
-def _rows(site_index, t, shadow_m):
-    n = len(t)
-    return ShadowReadings(
-        np.asarray(site_index), t, shadow_m, np.ones(n), np.full(n, "umbra", dtype=object), np.full(n, 0.002),
-        np.full(n, 0.001), np.full(n, np.nan), np.full(n, np.nan), file=np.full(n, "a.csv", dtype=object),
-        row=np.arange(1, n + 1), time_column=np.full(n, "time_utc", dtype=object),
-        shadow_column=np.full(n, "shadow_m", dtype=object), observer=np.full(n, "", dtype=object))
-
-
 def _campaign_with_mistakes():
     """Sites over both hemispheres, a morning and a noon series at each; half the series with a clock
     shifted, a longitude's or a latitude's sign wrong (as logged) or lengths in another unit, the others clean."""
@@ -103,7 +95,7 @@ def _campaign_with_mistakes():
                                            np.array(["umbra"], dtype=object), ShadowErrors(), rng)
             parts.append((np.full(t.size, k), t + np.timedelta64(hours, "h"), syn.shadow_m * factor))
     index, t, shadow = (np.concatenate(p) for p in zip(*parts, strict=True))
-    return tuple(logged), _rows(index, t, shadow)
+    return tuple(logged), umbra_rows(index, t, shadow)
 
 
 def test_the_unit_bounds_hold_for_every_length_factor():

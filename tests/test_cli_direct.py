@@ -16,6 +16,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from tests.helpers import run_cli
 
 from firstrung.cli import direct, main
 from firstrung.cli.app import GROUPS, TOP_LEVEL_HELP
@@ -146,14 +147,9 @@ def _run(args, capsys, monkeypatch, typer_only: bool):
     if typer_only:
         monkeypatch.setattr(direct, "run_direct", lambda args: False)
     try:
-        main([str(a) for a in args])
-        code = 0
-    except SystemExit as exit_:
-        code = exit_.code
+        return run_cli(args, capsys, monkeypatch, columns=80)
     finally:
         monkeypatch.undo()
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 @pytest.mark.parametrize("args", [
@@ -164,9 +160,7 @@ def _run(args, capsys, monkeypatch, typer_only: bool):
     ["reduce", "shadows", "/no/such/campaign.toml"],
 ])
 def test_a_command_run_directly_prints_and_exits_as_under_typer(args, capsys, monkeypatch):
-    monkeypatch.setenv("COLUMNS", "80")
     direct_run = _run(args, capsys, monkeypatch, typer_only=False)
-    monkeypatch.setenv("COLUMNS", "80")
     typer_run = _run(args, capsys, monkeypatch, typer_only=True)
     assert direct_run == typer_run
     assert direct_run[0] in (0, 1, 2)

@@ -12,21 +12,12 @@ from collections import Counter
 from pathlib import Path
 
 import numpy as np
+from tests.helpers import umbra_rows
 
 from firstrung.campaign import read_campaign
 from firstrung.flags import Flag, summarize_columns
 from firstrung.methods.shadows.check import CheckSite, check_shadow_rows
-from firstrung.methods.shadows.inputs import ShadowReadings
 from firstrung.methods.shadows.rehearsal import ShadowErrors, simulate_shadow_readings
-
-
-def _rows(site_index, t, shadow_m, sites, rng):
-    n = len(t)
-    return ShadowReadings(
-        np.asarray(site_index), t, shadow_m, np.ones(n), np.full(n, "umbra", dtype=object), np.full(n, 0.002),
-        np.full(n, 0.001), np.full(n, np.nan), np.full(n, np.nan), file=np.full(n, "a.csv", dtype=object),
-        row=np.arange(1, n + 1), time_column=np.full(n, "time_utc", dtype=object),
-        shadow_column=np.full(n, "shadow_m", dtype=object), observer=np.full(n, "", dtype=object))
 
 
 def _day(site: CheckSite, k: int, day: str, noon_utc: str, rng):
@@ -45,9 +36,9 @@ def test_a_series_verdict_does_not_depend_on_the_other_series():
     parts = [_day(sites[k], k, "2027-03-20", f"{11 - k // 3:02d}:{40 - 12 * (k % 3):02d}", rng) for k in range(6)]
     index, t, shadow = (np.concatenate(p) for p in zip(*parts, strict=True))
     shadow[index == 2] *= 100.0  # centimetres typed in a metre column at the third site
-    every = check_shadow_rows(sites, _rows(index, t, shadow, sites, rng))
+    every = check_shadow_rows(sites, umbra_rows(index, t, shadow))
     alone_pick = index == 2
-    alone = check_shadow_rows(sites, _rows(index[alone_pick], t[alone_pick], shadow[alone_pick], sites, rng))
+    alone = check_shadow_rows(sites, umbra_rows(index[alone_pick], t[alone_pick], shadow[alone_pick]))
     codes = {(f.code, f.fields.get("factor")) for f in every.flags if f.site == "s2"}
     assert codes == {("length-unit", 100.0)}
     assert codes == {(f.code, f.fields.get("factor")) for f in alone.flags}
