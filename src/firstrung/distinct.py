@@ -8,7 +8,7 @@ import numpy as np
 
 from firstrung.memory import repeated_object
 
-__all__ = ["distinct_texts", "shared_texts"]
+__all__ = ["distinct_texts", "runs", "shared_texts"]
 
 
 def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
@@ -34,14 +34,8 @@ def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
     if values.dtype.kind == "S":
         return _distinct_bytes(values.reshape(-1))
     if values.dtype.kind != "O":
-        texts = values.astype(str).reshape(-1)
-        if texts.size > 1:  # runs of one text (a log's sites, row after row): only the runs sorted
-            heads = np.flatnonzero(np.concatenate([[True], texts[1:] != texts[:-1]]))
-            if heads.size * 4 <= texts.size:
-                names, inverse = np.unique(texts[heads], return_inverse=True)
-                return names, np.repeat(inverse.reshape(-1), np.diff(np.append(heads, texts.size)))
-        names, inverse = np.unique(texts, return_inverse=True)
-        return names, inverse.reshape(-1)
+        names, _, inverse = _unique_by_runs(values.astype(str).reshape(-1))
+        return names, inverse
     values = values.reshape(-1)
     listed = values.tolist()
     distinct = set(listed)
@@ -54,6 +48,36 @@ def distinct_texts(values) -> tuple[np.ndarray, np.ndarray]:
         return names, np.zeros(len(listed), np.int64)
     code = {name: k for k, name in enumerate(names.tolist())}
     return names, np.array(list(map(code.__getitem__, listed)), np.int64)
+
+
+def runs(differs: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """Where the runs of equal rows start and how long each is, given whether each row after the first
+    differs from the one before; None for fewer than two rows or runs shorter than four rows on average
+    (working row by row then costs no more). A log repeats a site, an observer, a date over runs of rows.
+
+    >>> heads, lengths = runs(np.array([False, False, False, True, False, False, False]))
+    >>> heads.tolist(), lengths.tolist()
+    ([0, 4], [4, 4])
+    """
+    n = differs.size + 1
+    if n < 2:
+        return None
+    heads = np.flatnonzero(np.concatenate([[True], differs]))
+    if heads.size * 4 > n:
+        return None
+    return heads, np.diff(np.append(heads, n))
+
+
+def _unique_by_runs(values: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``np.unique(values, return_index=True, return_inverse=True)`` of a 1-d array, its inverse flat;
+    over runs of equal values only the runs' first values are sorted."""
+    found = runs(values[1:] != values[:-1]) if values.size > 1 else None
+    if found is None:
+        unique, first, inverse = np.unique(values, return_index=True, return_inverse=True)
+        return unique, first, inverse.reshape(-1)
+    heads, lengths = found
+    unique, first, inverse = np.unique(values[heads], return_index=True, return_inverse=True)
+    return unique, heads[first], np.repeat(inverse.reshape(-1), lengths)  # a value's first row starts a run
 
 
 def _distinct_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -70,14 +94,7 @@ def _distinct_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     for w in range(1, words):  # a 64-bit mix of the words (a collision is found below, not assumed away)
         key *= np.uint64(0x9E3779B97F4A7C15)
         key ^= block[:, w] + (key >> np.uint64(29))
-    heads = np.flatnonzero(np.concatenate([[True], key[1:] != key[:-1]]))  # where a run of equal keys starts
-    if heads.size * 4 <= n:  # a log repeats a site, an observer, a note over runs of rows: only the runs sorted
-        _, first, inverse = np.unique(key[heads], return_index=True, return_inverse=True)
-        first = heads[first]  # a key's first row starts a run
-        inverse = np.repeat(inverse.reshape(-1), np.diff(np.append(heads, n)))
-    else:
-        _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
-        inverse = inverse.reshape(-1)
+    _, first, inverse = _unique_by_runs(key)
     values = cells[first]
     if words > 1 and not np.array_equal(values[inverse], cells):
         values, inverse = np.unique(cells, return_inverse=True)

@@ -14,7 +14,7 @@ import numpy as np
 
 from firstrung.campaign_model import EDGES, Campaign
 from firstrung.constants import EPHEMERIS_FIRST_UTC, EPHEMERIS_LAST_UTC
-from firstrung.distinct import distinct_texts
+from firstrung.distinct import distinct_texts, runs
 from firstrung.memory import repeated_object
 from firstrung.methods.shadows.log_forms import (
     LENGTH_FORM,
@@ -250,10 +250,10 @@ def _usual_utc_bytes(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     if n == 0 or cells.dtype.itemsize != 20:
         return t, np.zeros(n, bool)
     codes = cells.view(np.uint8).reshape(n, 20)
-    heads = np.flatnonzero(np.concatenate([[True], (codes[1:, :10] != codes[:-1, :10]).any(axis=1)]))
-    if heads.size * 4 <= n:
-        runs = np.diff(np.append(heads, n))
-        usual, days = (np.repeat(x, runs) for x in _civil_days(codes[heads]))
+    found = runs((codes[1:, :10] != codes[:-1, :10]).any(axis=1))
+    if found is not None:
+        heads, lengths = found
+        usual, days = (np.repeat(x, lengths) for x in _civil_days(codes[heads]))
     else:
         usual, days = _civil_days(codes)
     d = codes[:, 11:19] - np.uint8(48)  # a digit is 0-9, anything else wraps above
