@@ -17,7 +17,8 @@ MAX_MODULE_LINES = 660
 #: Modules of the shared machinery: they may import each other, never a method or the application.
 SHARED = ("arguments", "blunders", "calendar_export", "campaign", "campaign_model", "constants", "errors",
           "figures", "flags", "geodesy", "jsonout", "output", "refraction", "safety", "tabular", "times",
-          "uncertainty", "ephemeris", "campaign_stars", "star_catalogue", "star_rows", "star_checks", "toml_plain")
+          "uncertainty", "ephemeris", "campaign_stars", "star_catalogue", "star_rows", "star_checks", "toml_plain",
+          "angles")
 
 
 def _module_name(path: Path) -> str:

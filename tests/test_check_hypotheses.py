@@ -14,6 +14,7 @@ import pytest
 from tests.helpers import umbra_rows
 
 from firstrung import ephemeris
+from firstrung.angles import wrapped_rad
 from firstrung.methods.shadows import check, check_hypotheses
 from firstrung.methods.shadows.altitude import penumbra_width_m
 from firstrung.methods.shadows.check import CheckSite, check_shadow_rows
@@ -184,6 +185,7 @@ def test_the_hour_angle_is_wrapped_as_by_the_complex_exponential():
     x = np.concatenate([np.linspace(-2.0 * np.pi, 4.0 * np.pi, 200_001),
                         np.random.default_rng(3).uniform(-2.0 * np.pi, 4.0 * np.pi, 200_000)])
     assert np.array_equal(np.arctan2(np.sin(x), np.cos(x)), np.angle(np.exp(1j * x)))
+    assert np.array_equal(wrapped_rad(x), np.angle(np.exp(1j * x)))  # the project's one wrap
     t, lat, lon = _site_times()
     _, _, ha, _ = sun_altitude_rad(t, lat, lon)
     assert np.all((-np.pi <= ha) & (ha <= np.pi))

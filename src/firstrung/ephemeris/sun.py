@@ -24,6 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from firstrung.angles import wrapped_rad
 from firstrung.bounded import Bounded
 from firstrung.constants import (
     ASTRONOMICAL_UNIT_KM,
@@ -442,7 +443,7 @@ def _topocentric(sun_xyz_km, gast_rad, lat_deg, lon_deg, elev_m, wanted: tuple |
     u = u / np.sqrt(np.sum(u**2, axis=0))
     ra_rad = np.arctan2(u[1], u[0])
     ha_rad = gast_rad + np.radians(lon_deg) - ra_rad
-    ha_rad = np.arctan2(np.sin(ha_rad), np.cos(ha_rad))  # the same numbers as np.angle(np.exp(1j * ha)), sooner
+    ha_rad = wrapped_rad(ha_rad)
     if wanted == _HOUR_ANGLE:
         return {"hour_angle_deg": np.degrees(ha_rad)}
     dec_rad = np.arcsin(np.clip(u[2], -1.0, 1.0))
@@ -493,7 +494,7 @@ def sun_track(time_utc, latitude_deg, longitude_deg, elevation_m=0.0) -> SunTrac
     stacked_t = np.stack([t_b - step, t_b, t_b + step])
     # every field at the readings' times, the hour angle and declination alone beside them
     p = _sun_position(stacked_t, lat_b[None], lon_b[None], elev_b[None], full_rows=slice(t_b.size, 2 * t_b.size))
-    dha = np.angle(np.exp(1j * np.radians(p.hour_angle_deg[2] - p.hour_angle_deg[0])))
+    dha = wrapped_rad(np.radians(p.hour_angle_deg[2] - p.hour_angle_deg[0]))
     mid = SunPosition(*(getattr(p, f)[1] for f in SunPosition.__dataclass_fields__))
     return SunTrack(
         position=mid,
@@ -575,7 +576,7 @@ def sun_greenwich_hour_angle_deg(time_utc) -> np.ndarray:
     unique_t, inverse = np.unique(t.ravel(), return_inverse=True)
     xyz, gast = _geocentric_sun(unique_t)
     ra = np.arctan2(xyz[1], xyz[0])
-    gha = np.angle(np.exp(1j * (gast - ra)))
+    gha = wrapped_rad(gast - ra)
     return np.degrees(gha)[inverse].reshape(shape)
 
 

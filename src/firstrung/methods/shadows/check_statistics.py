@@ -245,8 +245,7 @@ def sun_altitude_rad(time_utc, latitude_deg, longitude_deg, *, distinct=None, pa
     distance_km = distance_km[inverse]
     del inverse
     ha += np.radians(np.asarray(longitude_deg, float))
-    # wrapped to (-pi, pi]: the same numbers as np.angle(np.exp(1j * ha)), whose complex exponential is this
-    # cosine and sine (a test holds it), without the complex arrays
+    # wrapped to [-pi, pi] as angles.wrapped_rad wraps, in place, its cosine kept as the next product's buffer
     cos_ha = np.cos(ha)
     ha = np.arctan2(np.sin(ha, out=ha), cos_ha, out=ha)
     if latitude_terms is None:

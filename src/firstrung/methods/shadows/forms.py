@@ -31,6 +31,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from firstrung.angles import wrapped_rad
 from firstrung.refraction import refraction_from_apparent_deg
 
 #: Signed multiple of the semi-diameter from the Sun's centre to the limb an instrument is set on.
@@ -396,7 +397,7 @@ def board_orientation(tip_x_m, tip_y_m, sun_azimuth_deg, azimuth_rate_deg_per_s,
     for mirrored, sign in ((False, 1.0), (True, -1.0)):
         orientation = shadow_azimuth + sign * board_angle
         mean = np.angle(np.mean(np.exp(1j * np.radians(orientation))))
-        spread = np.degrees(np.angle(np.exp(1j * (np.radians(orientation) - mean))))
+        spread = np.degrees(wrapped_rad(np.radians(orientation) - mean))
         rms = float(np.sqrt(np.mean(spread**2)))
         if best is None or rms < best[0]:
             best = (rms, mirrored, np.degrees(mean), spread)
@@ -434,7 +435,7 @@ def azimuth_rate_deg_per_s(latitude_rad, declination_rad, hour_angle_rad, hour_a
                           - np.cos(declination_rad) * np.sin(latitude_rad) * np.cos(h))
 
     step = hour_angle_rate_rad_s * 30.0
-    change = np.angle(np.exp(1j * (azimuth(hour_angle_rad + step) - azimuth(hour_angle_rad - step))))
+    change = wrapped_rad(azimuth(hour_angle_rad + step) - azimuth(hour_angle_rad - step))
     return np.degrees(change) / 60.0
 
 
