@@ -318,14 +318,11 @@ def _kept_z(fit: SeriesStatistic, group, sep, base_statistic, sel) -> SeriesStat
                            _RowsOf(fit.z[kept], sel[kept]))
 
 
-
 def _in_span(t) -> bool:
     from firstrung import ephemeris
 
     first, last = ephemeris.ephemeris_span_utc()
     return bool(np.all((t >= first) & (t <= last)))
-
-
 
 
 #: Greatest rate of the Sun's declination [rad/s]: about 0.40 deg a day at the equinoxes (from memory),
